@@ -1,0 +1,65 @@
+import express, { type Express } from "express";
+import path from "node:path";
+import { existsSync } from "node:fs";
+import type { Sequelize } from "sequelize";
+import { createLucia } from "./auth/lucia.ts";
+import { originCheck, sessionLoader } from "./auth/middleware.ts";
+import { authRouter } from "./auth/routes.ts";
+import { SignInLimiter } from "./auth/sign-in-limiter.ts";
+import type { Config } from "./config.ts";
+import type { AppContext } from "./context.ts";
+import { errorHandler, notFoundHandler } from "./errors.ts";
+import type { ApiRouter, RouteSpec } from "./http/api-router.ts";
+import { armsRouter } from "./modules/arms/routes.ts";
+import { healthRouter } from "./modules/health/routes.ts";
+import { usersRouter } from "./modules/users/routes.ts";
+
+export interface BuiltApp {
+  app: Express;
+  ctx: AppContext;
+  /** Every API route with its access rule (the role matrix test walks this). */
+  routes: RouteSpec[];
+}
+
+export function createApp(config: Config, db: Sequelize): BuiltApp {
+  const ctx: AppContext = { db, config, lucia: createLucia(db), signInLimiter: new SignInLimiter(config.signIn) };
+  const app = express();
+  app.disable("x-powered-by");
+  app.set("trust proxy", config.trustProxy ? 1 : false);
+
+  const api = express.Router();
+  api.use(express.json({ limit: "256kb", strict: true }));
+  api.use((req, _res, next) => {
+    // JSON only: a body of another type is refused rather than silently ignored.
+    if (req.headers["content-length"] && req.headers["content-length"] !== "0" && !req.is("application/json")) {
+      res415(next);
+      return;
+    }
+    next();
+  });
+  api.use(originCheck(ctx));
+  api.use(sessionLoader(ctx));
+  const routers: ApiRouter[] = [healthRouter(ctx), authRouter(ctx), usersRouter(ctx), armsRouter(ctx)];
+  for (const r of routers) api.use(r.mountPath, r.router);
+  api.use(notFoundHandler);
+  api.use(errorHandler);
+  app.use((req, res, next) => {
+    if (req.path !== "/api" && !req.path.startsWith("/api/")) return next();
+    res.set("Cache-Control", "no-store");
+    api(req, res, next);
+  });
+
+  const dist = config.consoleDist ?? path.resolve(import.meta.dirname, "../../console/dist");
+  if (existsSync(dist)) {
+    app.use(express.static(dist, { index: false, maxAge: "1h" }));
+    app.get("/{*splat}", (_req, res) => {
+      res.set("Cache-Control", "no-cache");
+      res.sendFile(path.join(dist, "index.html"));
+    });
+  }
+  return { app, ctx, routes: routers.flatMap((r) => r.routes) };
+}
+
+function res415(next: (err: unknown) => void) {
+  next(Object.assign(new Error("Send JSON with Content-Type: application/json."), { status: 415 }));
+}

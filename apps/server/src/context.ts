@@ -1,0 +1,12 @@
+import type { Sequelize } from "sequelize";
+import type { AppLucia } from "./auth/lucia.ts";
+import type { Config } from "./config.ts";
+import type { SignInLimiter } from "./auth/sign-in-limiter.ts";
+
+/** What every module gets: the database, the session store, the settings. */
+export interface AppContext {
+  db: Sequelize;
+  lucia: AppLucia;
+  config: Config;
+  signInLimiter: SignInLimiter;
+}

@@ -1,0 +1,21 @@
+import { createUserSchema, idParamSchema, updateUserSchema } from "@jogwright/shared";
+import { ApiRouter, requireAccount } from "../../http/api-router.ts";
+import { parseBody, parseParams } from "../../http/validate.ts";
+import type { AppContext } from "../../context.ts";
+import * as service from "./service.ts";
+
+export function usersRouter(ctx: AppContext): ApiRouter {
+  return new ApiRouter("/api/users")
+    .add("get", "/", ["admin"], async (_req, res) => {
+      res.json({ users: await service.listUsers(ctx.db) });
+    })
+    .add("post", "/", ["admin"], async (req, res) => {
+      const input = parseBody(req, createUserSchema);
+      res.status(201).json({ user: await service.createUser(ctx.db, input) });
+    })
+    .add("patch", "/:id", ["admin"], async (req, res) => {
+      const { id } = parseParams(req, idParamSchema);
+      const input = parseBody(req, updateUserSchema);
+      res.json({ user: await service.updateUser(ctx.db, ctx.lucia, requireAccount(res), id, input) });
+    });
+}

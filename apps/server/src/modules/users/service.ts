@@ -1,0 +1,65 @@
+import { generateIdFromEntropySize } from "lucia";
+import { UniqueConstraintError, type Sequelize } from "sequelize";
+import type { CreateUserInput, UpdateUserInput, User } from "@jogwright/shared";
+import { AppError } from "../../errors.ts";
+import { hashPassword } from "../../auth/password.ts";
+import type { AppLucia } from "../../auth/lucia.ts";
+import * as model from "./model.ts";
+
+export const listUsers = (db: Sequelize) => model.listUsers(db);
+
+export async function createUser(db: Sequelize, input: CreateUserInput): Promise<User> {
+  const id = generateIdFromEntropySize(10);
+  const passwordHash = await hashPassword(input.password);
+  try {
+    await db.transaction(async (transaction) => {
+      await model.insertUser(db, { ...input, id, passwordHash }, transaction);
+    });
+  } catch (error) {
+    if (error instanceof UniqueConstraintError) {
+      throw new AppError(409, "conflict", `The user name "${input.username}" is taken.`, [
+        { path: "username", message: "this user name is taken" },
+      ]);
+    }
+    throw error;
+  }
+  return (await model.findUserById(db, id))!;
+}
+
+/**
+ * Change an account. Deactivating it (or changing its password) ends its sessions. An admin cannot take
+ * away their own admin role or deactivate themselves, and the last active admin always stays.
+ */
+export async function updateUser(
+  db: Sequelize,
+  lucia: AppLucia,
+  actor: User,
+  id: string,
+  input: UpdateUserInput,
+): Promise<User> {
+  const passwordHash = input.password === undefined ? undefined : await hashPassword(input.password);
+  await db.transaction(async (transaction) => {
+    const existing = await model.findUserById(db, id, transaction);
+    if (!existing) throw new AppError(404, "not_found", "No such user.");
+    if (actor.id === id && input.isActive === false) {
+      throw new AppError(409, "conflict", "You cannot deactivate your own account.");
+    }
+    if (actor.id === id && input.roles && !input.roles.includes("admin")) {
+      throw new AppError(409, "conflict", "You cannot remove your own admin role; ask another admin.", [
+        { path: "roles", message: "keep your own admin role" },
+      ]);
+    }
+    await model.updateUserRow(
+      db,
+      id,
+      { displayName: input.displayName, email: input.email, passwordHash, isActive: input.isActive },
+      transaction,
+    );
+    if (input.roles) await model.replaceRoles(db, id, input.roles, transaction);
+    if ((await model.countActiveAdmins(db, transaction)) === 0) {
+      throw new AppError(409, "conflict", "At least one active admin must remain.");
+    }
+  });
+  if (input.isActive === false || passwordHash !== undefined) await lucia.invalidateUserSessions(id);
+  return (await model.findUserById(db, id))!;
+}

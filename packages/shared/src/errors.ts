@@ -1,0 +1,29 @@
+import { z } from "zod";
+
+/** The one error shape every API route answers with. */
+export const apiErrorSchema = z.object({
+  error: z.object({
+    code: z.string(),
+    message: z.string(),
+    issues: z
+      .array(z.object({ path: z.string(), message: z.string() }))
+      .optional(),
+  }),
+});
+export type ApiError = z.infer<typeof apiErrorSchema>;
+
+export const ERROR_CODES = [
+  "bad_request",
+  "validation_failed",
+  "unauthenticated",
+  "forbidden",
+  "not_found",
+  "conflict",
+  "rate_limited",
+  "bad_origin",
+  "invalid_credentials",
+  "account_inactive",
+  "internal",
+  "unavailable",
+] as const;
+export type ErrorCode = (typeof ERROR_CODES)[number];

@@ -1,0 +1,48 @@
+// `npm start`: everything needed to run Jogwright on a fresh Debian machine with Node.js 20 and root.
+// pnpm, Debian packages, dependencies, a private MariaDB, the console build, then the server (which
+// migrates and seeds on boot). Ctrl-C stops the server and the database cleanly.
+import { spawn } from "node:child_process";
+import path from "node:path";
+import { buildConsole, log, portFromEnv, prepare, ROOT, SetupError } from "./lib/setup.mjs";
+
+async function main() {
+  const port = portFromEnv("PORT", 3000);
+  const db = await prepare({ withChromium: false, dbName: "mariadb", defaultDbPort: 3407, database: "jogwright" });
+  let shuttingDown = false;
+  const shutdownDb = async () => {
+    if (process.env.DATABASE_URL) return;
+    log("stopping the private MariaDB");
+    await db.stop();
+  };
+  try {
+    buildConsole();
+  } catch (error) {
+    await shutdownDb();
+    throw error;
+  }
+  const serverDir = path.join(ROOT, "apps/server");
+  const server = spawn(path.join(serverDir, "node_modules/.bin/tsx"), ["src/server.ts"], {
+    cwd: serverDir,
+    stdio: "inherit",
+    env: { ...process.env, PORT: String(port), DATABASE_URL: db.url, NODE_ENV: process.env.NODE_ENV ?? "production" },
+  });
+  const stop = (signal) => {
+    if (shuttingDown) return;
+    shuttingDown = true;
+    server.kill(signal);
+  };
+  process.on("SIGINT", () => stop("SIGINT"));
+  process.on("SIGTERM", () => stop("SIGTERM"));
+  const code = await new Promise((resolve) => server.on("exit", (c) => resolve(c ?? 0)));
+  await shutdownDb();
+  process.exit(shuttingDown ? 0 : code);
+}
+
+main().catch((error) => {
+  if (error instanceof SetupError) {
+    console.error(`[jogwright] cannot start: ${error.message}`);
+  } else {
+    console.error("[jogwright] cannot start:", error);
+  }
+  process.exit(1);
+});

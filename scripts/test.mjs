@@ -1,0 +1,107 @@
+// `npm test`: the same set-up as `npm start` on a separate test database, then every suite — type
+// checks, unit tests, API tests against the real MariaDB, browser tests in real Chromium against the
+// real server — and one closing line with the totals: `N passed, N failed`.
+import { spawn, spawnSync } from "node:child_process";
+import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
+import path from "node:path";
+import { buildConsole, isPortFree, log, portFromEnv, prepare, recreateDatabase, ROOT, SetupError } from "./lib/setup.mjs";
+
+const REPORTS = path.join(ROOT, ".data", "test-reports");
+const results = [];
+
+function record(name, passed, failed, note = "") {
+  results.push({ name, passed, failed, note });
+}
+
+/** Run one Vitest project and read its JSON report; a crash without a report counts as one failure. */
+function vitestSuite(name, dir, env = {}) {
+  const report = path.join(REPORTS, `${name}.json`);
+  rmSync(report, { force: true });
+  log(`suite: ${name}`);
+  const run = spawnSync(
+    path.join(ROOT, dir, "node_modules/.bin/vitest"),
+    ["run", "--reporter=default", "--reporter=json", `--outputFile.json=${report}`],
+    { cwd: path.join(ROOT, dir), stdio: "inherit", env: { ...process.env, ...env } },
+  );
+  if (!existsSync(report)) {
+    record(name, 0, 1, `vitest ended (exit ${run.status}) without a report`);
+    return;
+  }
+  const json = JSON.parse(readFileSync(report, "utf8"));
+  const failedSuites = (json.testResults ?? []).filter((f) => f.status === "failed" && (f.assertionResults ?? []).length === 0).length;
+  record(name, json.numPassedTests, json.numFailedTests + failedSuites, failedSuites ? `${failedSuites} file(s) failed to load` : "");
+  if (run.status !== 0 && json.numFailedTests + failedSuites === 0) record(`${name} (runner)`, 0, 1, `exit ${run.status}`);
+}
+
+function typecheckSuite() {
+  log("suite: typecheck (tsc --noEmit in every package)");
+  const run = spawnSync("pnpm", ["-r", "--no-bail", "typecheck"], { cwd: ROOT, stdio: "inherit" });
+  record("typecheck", run.status === 0 ? 1 : 0, run.status === 0 ? 0 : 1);
+}
+
+async function waitForHealth(url, server, timeoutMs = 60_000) {
+  const deadline = Date.now() + timeoutMs;
+  while (Date.now() < deadline) {
+    if (server.exitCode !== null) throw new SetupError(`the test server exited early (code ${server.exitCode}).`);
+    try {
+      const res = await fetch(`${url}/api/health`);
+      if (res.ok) return;
+    } catch {
+      /* not up yet */
+    }
+    await new Promise((r) => setTimeout(r, 250));
+  }
+  throw new SetupError(`the test server did not answer ${url}/api/health within ${timeoutMs / 1000} s.`);
+}
+
+async function main() {
+  mkdirSync(REPORTS, { recursive: true });
+  const db = await prepare({ withChromium: true, dbName: "mariadb-test", defaultDbPort: 3408, database: "jogwright_test" });
+  if (db.socket) recreateDatabase(db.socket, "jogwright_test");
+  const dbEnv = { DATABASE_URL: db.url };
+  let server = null;
+  try {
+    typecheckSuite();
+    vitestSuite("kinematics", "packages/kinematics");
+    vitestSuite("shared", "packages/shared");
+    vitestSuite("console", "apps/console");
+    vitestSuite("server (unit + API on MariaDB)", "apps/server", { ...dbEnv, NODE_ENV: "test" });
+
+    buildConsole();
+    const port = portFromEnv("TEST_PORT", 3100);
+    if (!(await isPortFree(port))) throw new SetupError(`TEST_PORT ${port} is in use; set TEST_PORT to a free port.`);
+    const serverDir = path.join(ROOT, "apps/server");
+    server = spawn(path.join(serverDir, "node_modules/.bin/tsx"), ["src/server.ts"], {
+      cwd: serverDir,
+      stdio: ["ignore", "ignore", "inherit"],
+      env: { ...process.env, ...dbEnv, PORT: String(port), NODE_ENV: "test" },
+    });
+    const url = `http://127.0.0.1:${port}`;
+    await waitForHealth(url, server);
+    vitestSuite("browser and whole-system", "tests", { ...dbEnv, JOGWRIGHT_URL: url, CHROMIUM_PATH: "/usr/bin/chromium" });
+  } finally {
+    if (server && server.exitCode === null) {
+      server.kill("SIGTERM");
+      await new Promise((r) => server.once("exit", r));
+    }
+    if (db.socket) await db.stop();
+  }
+}
+
+function summary() {
+  console.log("\nSuites:");
+  for (const r of results) console.log(`  ${r.failed ? "FAIL" : "ok  "} ${r.name}: ${r.passed} passed, ${r.failed} failed${r.note ? ` (${r.note})` : ""}`);
+  const passed = results.reduce((s, r) => s + r.passed, 0);
+  const failed = results.reduce((s, r) => s + r.failed, 0);
+  console.log(`${passed} passed, ${failed} failed`);
+  return failed;
+}
+
+main()
+  .then(() => process.exit(summary() > 0 ? 1 : 0))
+  .catch((error) => {
+    console.error(`[jogwright] tests could not run: ${error instanceof SetupError ? error.message : error?.stack ?? error}`);
+    record("set-up", 0, 1, "see the message above");
+    summary();
+    process.exit(1);
+  });
