@@ -8,7 +8,7 @@ export function createSequelize(databaseUrl: string): Sequelize {
     dialect: "mariadb",
     logging: false,
     timezone: "+00:00",
-    dialectOptions: { connectTimeout: 5000, timezone: "Etc/GMT0" },
+    dialectOptions: { connectTimeout: 5000 },
     pool: { max: 10, min: 0, idle: 10_000, acquire: 10_000 },
     define: { underscored: true },
   });

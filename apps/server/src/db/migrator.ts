@@ -1,5 +1,5 @@
-import { SequelizeStorage, Umzug } from "umzug";
-import type { Sequelize } from "sequelize";
+import { Umzug, type UmzugStorage } from "umzug";
+import { QueryTypes, type Sequelize } from "sequelize";
 import * as m0001 from "./migrations/0001-accounts.ts";
 import * as m0002 from "./migrations/0002-arms.ts";
 
@@ -9,11 +9,41 @@ const MIGRATIONS = [
   { name: "0002-arms", ...m0002 },
 ];
 
+/** The record of applied migrations, in a table this storage creates itself with plain SQL. */
+class MigrationTable implements UmzugStorage<Sequelize> {
+  constructor(private readonly db: Sequelize) {}
+
+  private async ensure(): Promise<void> {
+    await this.db.query(
+      `CREATE TABLE IF NOT EXISTS schema_migrations (
+         name VARCHAR(190) NOT NULL PRIMARY KEY,
+         applied_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3)
+       ) ENGINE=InnoDB`,
+    );
+  }
+
+  async logMigration({ name }: { name: string }): Promise<void> {
+    await this.ensure();
+    await this.db.query("INSERT INTO schema_migrations (name) VALUES (?)", { replacements: [name] });
+  }
+
+  async unlogMigration({ name }: { name: string }): Promise<void> {
+    await this.ensure();
+    await this.db.query("DELETE FROM schema_migrations WHERE name = ?", { replacements: [name] });
+  }
+
+  async executed(): Promise<string[]> {
+    await this.ensure();
+    const rows = await this.db.query<{ name: string }>("SELECT name FROM schema_migrations ORDER BY name", { type: QueryTypes.SELECT });
+    return rows.map((r) => r.name);
+  }
+}
+
 export function createMigrator(sequelize: Sequelize) {
   return new Umzug({
     migrations: MIGRATIONS.map(({ name, up, down }) => ({ name, up, down })),
     context: sequelize,
-    storage: new SequelizeStorage({ sequelize, tableName: "schema_migrations" }),
+    storage: new MigrationTable(sequelize),
     logger: undefined,
   });
 }

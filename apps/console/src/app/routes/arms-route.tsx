@@ -1,0 +1,10 @@
+import { ArmsPage } from "../../features/arms/components/arms-page.tsx";
+
+export default function ArmsRoute() {
+  return (
+    <>
+      <title>Arms · Jogwright</title>
+      <ArmsPage />
+    </>
+  );
+}

@@ -1,0 +1,12 @@
+import { useCurrentUser } from "../../features/auth/hooks/use-session.ts";
+import { UsersPage } from "../../features/users/components/users-page.tsx";
+
+export default function UsersRoute() {
+  const user = useCurrentUser();
+  return (
+    <>
+      <title>Users · Jogwright</title>
+      <UsersPage currentUserId={user.id} />
+    </>
+  );
+}

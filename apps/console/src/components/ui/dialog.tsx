@@ -1,0 +1,68 @@
+import { useEffect, useId, useRef, type ReactNode } from "react";
+import { X } from "lucide-react";
+import { cn } from "../../lib/cn.ts";
+
+interface DialogProps {
+  open: boolean;
+  onClose: () => void;
+  title: string;
+  description?: ReactNode;
+  children: ReactNode;
+  className?: string;
+}
+
+/**
+ * A modal built on the native <dialog> element: the browser traps focus, closes on Escape and restores
+ * focus to the opener. Rendered only while open.
+ */
+export function Dialog({ open, onClose, title, description, children, className }: DialogProps) {
+  const ref = useRef<HTMLDialogElement>(null);
+  const titleId = useId();
+  const descriptionId = useId();
+
+  useEffect(() => {
+    const dialog = ref.current;
+    if (!dialog) return;
+    if (open && !dialog.open) dialog.showModal();
+    if (!open && dialog.open) dialog.close();
+  }, [open]);
+
+  if (!open) return null;
+  return (
+    <dialog
+      ref={ref}
+      aria-labelledby={titleId}
+      aria-describedby={description ? descriptionId : undefined}
+      onCancel={(event) => {
+        event.preventDefault();
+        onClose();
+      }}
+      className={cn(
+        "m-auto w-[min(34rem,calc(100vw-2rem))] rounded-lg border border-ink-700 bg-ink-850 p-0 text-ink-100 shadow-2xl",
+        className,
+      )}
+    >
+      <div className="flex items-start justify-between gap-4 border-b border-ink-700 px-5 py-4">
+        <div className="flex flex-col gap-1">
+          <h2 id={titleId} className="text-lg font-bold">
+            {title}
+          </h2>
+          {description ? (
+            <p id={descriptionId} className="text-sm text-ink-300">
+              {description}
+            </p>
+          ) : null}
+        </div>
+        <button
+          type="button"
+          onClick={onClose}
+          aria-label="Close"
+          className="rounded-md p-1 text-ink-300 hover:bg-ink-800 hover:text-ink-100"
+        >
+          <X aria-hidden className="size-5" />
+        </button>
+      </div>
+      <div className="px-5 py-4">{children}</div>
+    </dialog>
+  );
+}

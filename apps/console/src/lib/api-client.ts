@@ -1,0 +1,116 @@
+import type { z } from "zod";
+import { apiErrorSchema } from "@jogwright/shared";
+
+/** One field problem reported by the server; `path` is dot-separated, e.g. "roles" or "roles.0". */
+export interface ApiIssue {
+  path: string;
+  message: string;
+}
+
+/**
+ * Every failed API call throws this. `status` is the HTTP status (0 when the server could not be reached);
+ * `code`, `message` and `issues` come from the server's `{ error: { code, message, issues? } }` body.
+ */
+export class ApiRequestError extends Error {
+  readonly status: number;
+  readonly code: string;
+  readonly issues: readonly ApiIssue[];
+
+  constructor(status: number, code: string, message: string, issues: readonly ApiIssue[] = []) {
+    super(message);
+    this.name = "ApiRequestError";
+    this.status = status;
+    this.code = code;
+    this.issues = issues;
+  }
+}
+
+export function isApiRequestError(error: unknown): error is ApiRequestError {
+  return error instanceof ApiRequestError;
+}
+
+type Method = "GET" | "POST" | "PATCH" | "PUT" | "DELETE";
+
+interface RequestOptions<S extends z.ZodType | undefined> {
+  method?: Method;
+  body?: unknown;
+  /** Parses the JSON answer; the result type follows the schema. */
+  schema?: S;
+  signal?: AbortSignal;
+}
+
+type Result<S> = S extends z.ZodType ? z.output<S> : void;
+
+/**
+ * Fetch wrapper for the same-origin Jogwright API. Sends and expects JSON, carries the session cookie,
+ * validates the answer with the given shared schema and turns every failure into an ApiRequestError.
+ */
+export async function apiRequest<S extends z.ZodType | undefined = undefined>(
+  path: string,
+  options: RequestOptions<S> = {},
+): Promise<Result<S>> {
+  const { method = "GET", body, schema, signal } = options;
+  const headers: Record<string, string> = { Accept: "application/json" };
+  // State-changing requests always send JSON (the server refuses other content types there).
+  if (method !== "GET") headers["Content-Type"] = "application/json";
+
+  let response: Response;
+  try {
+    response = await fetch(path, {
+      method,
+      headers,
+      credentials: "same-origin",
+      body: method === "GET" ? undefined : JSON.stringify(body ?? {}),
+      signal,
+    });
+  } catch (cause) {
+    if (cause instanceof DOMException && cause.name === "AbortError") throw cause;
+    throw new ApiRequestError(0, "unavailable", "Cannot reach the Jogwright server. Check your connection and try again.");
+  }
+
+  if (!response.ok) throw await errorFromResponse(response);
+  if (response.status === 204 || schema === undefined) return undefined as Result<S>;
+
+  let json: unknown;
+  try {
+    json = await response.json();
+  } catch {
+    throw new ApiRequestError(response.status, "bad_response", "The server sent an answer the console cannot read.");
+  }
+  const parsed = schema.safeParse(json);
+  if (!parsed.success) {
+    throw new ApiRequestError(
+      response.status,
+      "bad_response",
+      `The server's answer to ${method} ${path} does not have the expected shape.`,
+    );
+  }
+  return parsed.data as Result<S>;
+}
+
+async function errorFromResponse(response: Response): Promise<ApiRequestError> {
+  let json: unknown = undefined;
+  try {
+    json = await response.json();
+  } catch {
+    // Not JSON (a proxy error page, say): fall through to a generic message.
+  }
+  const parsed = apiErrorSchema.safeParse(json);
+  if (parsed.success) {
+    const { code, message, issues } = parsed.data.error;
+    return new ApiRequestError(response.status, code, message, issues ?? []);
+  }
+  const code = response.status >= 500 ? "unavailable" : "bad_request";
+  return new ApiRequestError(
+    response.status,
+    code,
+    `The server answered ${response.status}${response.statusText ? ` ${response.statusText}` : ""}.`,
+  );
+}
+
+/** A message a person can read, for any thrown value. */
+export function describeError(error: unknown): string {
+  if (error instanceof ApiRequestError) return error.message;
+  if (error instanceof Error && error.message) return error.message;
+  return "Something went wrong.";
+}

@@ -1,0 +1,16 @@
+import { StrictMode } from "react";
+import { createRoot } from "react-dom/client";
+import { Providers } from "./app/providers.tsx";
+import { AppRouter } from "./app/router.tsx";
+import "./styles/index.css";
+
+const container = document.getElementById("root");
+if (!container) throw new Error("index.html has no #root element.");
+
+createRoot(container).render(
+  <StrictMode>
+    <Providers>
+      <AppRouter />
+    </Providers>
+  </StrictMode>,
+);
