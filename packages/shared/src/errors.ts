@@ -23,6 +23,10 @@ export const ERROR_CODES = [
   "bad_origin",
   "invalid_credentials",
   "account_inactive",
+  "stale_parent",
+  "ceiling_exceeded",
+  "locked",
+  "invalid_transition",
   "internal",
   "unavailable",
 ] as const;

@@ -4,3 +4,6 @@ export * from "./arm.ts";
 export * from "./users.ts";
 export * from "./health.ts";
 export * from "./units.ts";
+export * from "./profile.ts";
+export * from "./profile-api.ts";
+export * from "./canonical-json.ts";

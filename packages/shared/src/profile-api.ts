@@ -1,0 +1,122 @@
+import { z } from "zod";
+import { ceilingsSchema, profileParamsSchema, versionStateSchema } from "./profile.ts";
+
+/** Request and response shapes of the profiles, versions, ceilings, approvals, mail and audit API. */
+
+const note = z.string().trim().max(2000, "at most 2000 characters");
+
+export const createProfileSchema = z.object({
+  name: z.string().trim().min(1, "a profile needs a name").max(120, "at most 120 characters"),
+  operatorId: z.string().min(1, "pick an operator"),
+  armId: z.number().int().positive("pick an arm"),
+  params: profileParamsSchema,
+  note: note.default(""),
+});
+export type CreateProfileInput = z.infer<typeof createProfileSchema>;
+
+/** Every save is a new version; parentVersionId must be the profile's latest version (optimistic concurrency). */
+export const saveVersionSchema = z.object({
+  parentVersionId: z.number().int().positive(),
+  params: profileParamsSchema,
+  note: note.default(""),
+});
+export type SaveVersionInput = z.infer<typeof saveVersionSchema>;
+
+export const approveVersionSchema = z.object({
+  comment: z.string().trim().min(3, "an approval needs a comment").max(2000),
+  /** The SHA-256 the reviewer saw; approval is refused if the version's hash differs. */
+  paramsSha256: z.string().regex(/^[0-9a-f]{64}$/, "a SHA-256 in hex"),
+});
+export const rejectVersionSchema = z.object({ reason: z.string().trim().min(3, "say why it is rejected").max(2000) });
+export const retireVersionSchema = z.object({ reason: z.string().trim().min(3, "say why it is retired").max(2000) });
+
+export const profileVersionSchema = z.object({
+  id: z.number().int(),
+  profileId: z.number().int(),
+  number: z.number().int(),
+  parentVersionId: z.number().int().nullable(),
+  state: versionStateSchema,
+  params: profileParamsSchema,
+  paramsSha256: z.string(),
+  note: z.string(),
+  authorId: z.string(),
+  authorName: z.string(),
+  createdAt: z.string(),
+  submittedAt: z.string().nullable(),
+  decidedById: z.string().nullable(),
+  decidedByName: z.string().nullable(),
+  decidedAt: z.string().nullable(),
+  /** The approval comment, the rejection reason or the retirement reason. */
+  decisionComment: z.string().nullable(),
+  /** Set when site ceilings were lowered below this approved version: it cannot be driven. */
+  exceedsCeilings: z.boolean(),
+});
+export type ProfileVersion = z.infer<typeof profileVersionSchema>;
+
+export const profileSummarySchema = z.object({
+  id: z.number().int(),
+  name: z.string(),
+  operatorId: z.string(),
+  operatorName: z.string(),
+  armId: z.number().int(),
+  armName: z.string(),
+  createdAt: z.string(),
+  latestVersion: profileVersionSchema,
+  /** The one version its operator may drive, if any (approved, not flagged by lowered ceilings). */
+  driveableVersionId: z.number().int().nullable(),
+});
+export type ProfileSummary = z.infer<typeof profileSummarySchema>;
+
+export const ceilingsRecordSchema = z.object({
+  revision: z.number().int(),
+  ceilings: ceilingsSchema,
+  updatedById: z.string().nullable(),
+  updatedByName: z.string().nullable(),
+  updatedAt: z.string(),
+});
+export type CeilingsRecord = z.infer<typeof ceilingsRecordSchema>;
+
+export const updateCeilingsSchema = z.object({
+  /** The revision the safety officer edited; a newer one in the database → 409. */
+  revision: z.number().int().min(0),
+  ceilings: ceilingsSchema,
+  note: note.default(""),
+});
+
+export const auditEntrySchema = z.object({
+  id: z.number().int(),
+  at: z.string(),
+  actorId: z.string().nullable(),
+  actorName: z.string().nullable(),
+  entity: z.enum(["user", "arm", "profile", "version", "ceilings", "approval", "session"]),
+  entityId: z.string(),
+  action: z.string(),
+  summary: z.string(),
+  sha256Before: z.string().nullable(),
+  sha256After: z.string().nullable(),
+});
+export type AuditEntry = z.infer<typeof auditEntrySchema>;
+
+export const auditQuerySchema = z.object({
+  entity: auditEntrySchema.shape.entity.optional(),
+  actorId: z.string().optional(),
+  action: z.string().max(60).optional(),
+  from: z.iso.datetime({ offset: true }).optional(),
+  to: z.iso.datetime({ offset: true }).optional(),
+  page: z.coerce.number().int().min(1).default(1),
+  pageSize: z.coerce.number().int().min(1).max(200).default(50),
+});
+
+export const mailMessageSchema = z.object({
+  id: z.number().int(),
+  createdAt: z.string(),
+  to: z.array(z.string()),
+  subject: z.string(),
+  text: z.string(),
+  kind: z.string(),
+  status: z.enum(["pending", "sent", "failed"]),
+  attempts: z.number().int(),
+  lastError: z.string().nullable(),
+  sentAt: z.string().nullable(),
+});
+export type MailMessage = z.infer<typeof mailMessageSchema>;
