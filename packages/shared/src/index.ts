@@ -7,3 +7,4 @@ export * from "./units.ts";
 export * from "./profile.ts";
 export * from "./profile-api.ts";
 export * from "./canonical-json.ts";
+export * from "./jog-protocol.ts";

@@ -1,0 +1,141 @@
+import { z } from "zod";
+
+/**
+ * The live-jogging WebSocket protocol (path /ws/jog). JSON text frames, one message each, every one
+ * validated on arrival with these schemas. SI units (m, rad, s) unless a name says otherwise; times the
+ * client sends are its own clock in ms (performance.now()), echoed back for latency measurement.
+ */
+const finite = z.number().refine(Number.isFinite, "must be a finite number");
+/** A normalised command axis: −1 … +1 of the profile's cap (after the client's own stick mapping). */
+const axis = finite.refine((v) => v >= -1 && v <= 1, "an axis value must lie in −1 … 1");
+
+// ----------------------------------------------------------------------------------------------------
+// Client → server
+// ----------------------------------------------------------------------------------------------------
+
+/** Start driving (or switch to) a profile version. Drafts only for engineers; operators only their approved version. */
+export const jogStartSchema = z.object({ type: z.literal("start"), versionId: z.number().int().positive() });
+
+/** Watch another live session read-only (engineers and safety officers). */
+export const jogWatchSchema = z.object({ type: z.literal("watch"), sessionId: z.string().min(1).max(64) });
+
+/**
+ * The whole input state, sent at up to 120 Hz while anything is held and at least every 50 ms while the
+ * enabling control is held (so the watchdog sees a live stream). Raw stick values: the server applies
+ * the profile's deadband, expo and slew limits.
+ */
+export const jogInputSchema = z.object({
+  type: z.literal("input"),
+  seq: z.number().int().nonnegative(),
+  /** Client clock (ms) when sampled. */
+  clientTimeMs: finite,
+  /** The hold-to-run enabling control: released → controlled stop. */
+  enabling: z.boolean(),
+  mode: z.enum(["cartesian", "joint"]),
+  /** Cartesian: the frame of the twist. */
+  frame: z.enum(["world", "tool"]),
+  /** Cartesian: [vx, vy, vz, wx, wy, wz] as fractions of the TCP caps; joint: one per joint as fractions of the joint caps. */
+  axes: z.array(axis).min(1).max(12),
+  /** Speed override, % of the caps (bounded by the profile's maximum). */
+  overridePercent: z.number().min(0).max(100),
+});
+
+export const jogCommandSchema = z.object({
+  type: z.enum(["estop", "reset-estop", "acknowledge", "ready-pose", "stop"]),
+});
+
+export const jogPingSchema = z.object({ type: z.literal("ping"), id: z.number().int().nonnegative(), clientTimeMs: finite });
+
+export const jogClientMessageSchema = z.discriminatedUnion("type", [
+  jogStartSchema,
+  jogWatchSchema,
+  jogInputSchema,
+  jogPingSchema,
+  z.object({ type: z.literal("estop") }),
+  z.object({ type: z.literal("reset-estop") }),
+  z.object({ type: z.literal("acknowledge") }),
+  z.object({ type: z.literal("ready-pose") }),
+  z.object({ type: z.literal("stop") }),
+]);
+export type JogClientMessage = z.infer<typeof jogClientMessageSchema>;
+export type JogInput = z.infer<typeof jogInputSchema>;
+
+// ----------------------------------------------------------------------------------------------------
+// Server → client
+// ----------------------------------------------------------------------------------------------------
+
+export const STOP_REASONS = [
+  "none",
+  "enabling-released",
+  "watchdog",
+  "emergency-stop",
+  "singularity-guard",
+  "session-ended",
+  "profile-not-driveable",
+] as const;
+export type StopReason = (typeof STOP_REASONS)[number];
+
+export const BINDING_LIMITS = ["none", "joint-rate", "tcp-linear", "tcp-angular", "joint-limit", "singularity-guard"] as const;
+export const GUARD_STATES = ["off", "clear", "stopped", "backing-out", "acknowledged"] as const;
+
+export const jogSessionInfoSchema = z.object({
+  sessionId: z.string(),
+  versionId: z.number().int(),
+  versionNumber: z.number().int(),
+  versionState: z.string(),
+  /** True when an engineer drives a version that is not approved: the page marks it plainly. */
+  isUnapproved: z.boolean(),
+  profileId: z.number().int(),
+  profileName: z.string(),
+  armId: z.number().int(),
+  armName: z.string(),
+  driverId: z.string(),
+  driverName: z.string(),
+  tickRateHz: z.number(),
+  frameRateHz: z.number(),
+  watchdogMs: z.number(),
+  /** Read-only watcher of somebody else's session. */
+  isWatching: z.boolean(),
+});
+export type JogSessionInfo = z.infer<typeof jogSessionInfoSchema>;
+
+/** One state frame, sent at the frame rate (default 60 Hz). */
+export const jogStateSchema = z.object({
+  type: z.literal("state"),
+  sessionId: z.string(),
+  /** Simulation time since the session started [s]. */
+  t: finite,
+  q: z.array(finite),
+  qdot: z.array(finite),
+  /** TCP pose, 4x4 row-major. */
+  pose: z.array(finite).length(16),
+  twistCommanded: z.array(finite).length(6),
+  twistAchieved: z.array(finite).length(6),
+  sigmaMin: finite,
+  manipulability: finite,
+  lambda: finite,
+  scales: z.object({ jointRate: finite, tcpLinear: finite, tcpAngular: finite, jointLimit: finite }),
+  binding: z.enum(BINDING_LIMITS),
+  /** 0-based joint index for joint-rate / joint-limit bindings, else −1. */
+  bindingJoint: z.number().int(),
+  guardState: z.enum(GUARD_STATES),
+  enabled: z.boolean(),
+  estopLatched: z.boolean(),
+  stopReason: z.enum(STOP_REASONS),
+  overridePercent: finite,
+  warnings: z.array(z.string()),
+  /** The last input seq applied, and its client time, for the client's input-to-state latency. */
+  lastInputSeq: z.number().int(),
+  lastInputClientTimeMs: finite,
+});
+export type JogState = z.infer<typeof jogStateSchema>;
+
+export const jogServerMessageSchema = z.discriminatedUnion("type", [
+  z.object({ type: z.literal("welcome"), userId: z.string(), roles: z.array(z.string()) }),
+  z.object({ type: z.literal("session"), session: jogSessionInfoSchema }),
+  jogStateSchema,
+  z.object({ type: z.literal("pong"), id: z.number().int(), clientTimeMs: finite, serverTimeMs: finite }),
+  z.object({ type: z.literal("ended"), sessionId: z.string(), reason: z.string(), recordingId: z.number().int().nullable() }),
+  z.object({ type: z.literal("error"), code: z.string(), message: z.string() }),
+]);
+export type JogServerMessage = z.infer<typeof jogServerMessageSchema>;
