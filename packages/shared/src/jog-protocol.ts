@@ -139,3 +139,98 @@ export const jogServerMessageSchema = z.discriminatedUnion("type", [
   z.object({ type: z.literal("error"), code: z.string(), message: z.string() }),
 ]);
 export type JogServerMessage = z.infer<typeof jogServerMessageSchema>;
+
+// ----------------------------------------------------------------------------------------------------
+// REST around live jogging: live sessions, recordings, gamepad mappings
+// ----------------------------------------------------------------------------------------------------
+
+export const liveSessionSchema = z.object({
+  sessionId: z.string(),
+  driverId: z.string(),
+  driverName: z.string(),
+  profileName: z.string(),
+  versionId: z.number().int(),
+  versionNumber: z.number().int(),
+  armName: z.string(),
+  startedAt: z.string(),
+  isUnapproved: z.boolean(),
+});
+export type LiveSession = z.infer<typeof liveSessionSchema>;
+
+export const recordingSummarySchema = z.object({
+  durationS: finite,
+  frames: z.number().int(),
+  maxTcpSpeedMPerS: finite,
+  minSigma: finite,
+  maxJointRateFraction: finite,
+  /** How often each stop reason occurred. */
+  stops: z.record(z.string(), z.number().int()),
+});
+
+export const recordingSchema = z.object({
+  id: z.number().int(),
+  sessionId: z.string(),
+  driverId: z.string(),
+  driverName: z.string(),
+  armId: z.number().int(),
+  armName: z.string(),
+  profileId: z.number().int(),
+  profileName: z.string(),
+  versionId: z.number().int(),
+  versionNumber: z.number().int(),
+  startedAt: z.string(),
+  endedAt: z.string().nullable(),
+  endReason: z.string().nullable(),
+  summary: recordingSummarySchema.nullable(),
+});
+export type Recording = z.infer<typeof recordingSchema>;
+
+/** One recorded frame (frame rate): the state frame without the session id and latency fields. */
+export const recordedFrameSchema = jogStateSchema.omit({ type: true, sessionId: true, lastInputSeq: true, lastInputClientTimeMs: true });
+export type RecordedFrame = z.infer<typeof recordedFrameSchema>;
+
+export const TWIST_TARGETS = ["vx", "vy", "vz", "wx", "wy", "wz"] as const;
+
+/**
+ * A user's gamepad set-up (browser Gamepad API, standard mapping). Stick deadband and expo here
+ * calibrate the device; the profile's own shaping is applied on the server on top.
+ */
+export const gamepadMappingSchema = z.object({
+  axes: z
+    .array(
+      z.object({
+        target: z.enum(TWIST_TARGETS),
+        /** Gamepad axis index (standard mapping: 0/1 left stick x/y, 2/3 right stick x/y), or a button pair. */
+        source: z.discriminatedUnion("kind", [
+          z.object({ kind: z.literal("axis"), index: z.number().int().min(0).max(15) }),
+          z.object({ kind: z.literal("buttons"), positive: z.number().int().min(0).max(31), negative: z.number().int().min(0).max(31) }),
+        ]),
+        invert: z.boolean(),
+      }),
+    )
+    .max(6)
+    .refine((a) => new Set(a.map((x) => x.target)).size === a.length, "each twist component once"),
+  deadband: finite.refine((v) => v >= 0 && v <= 0.5, "the deadband must be 0–50 %"),
+  expo: finite.refine((v) => v >= 0 && v <= 1, "the expo must be 0–1"),
+  /** Button held as the enabling control (hold-to-run). */
+  enablingButton: z.number().int().min(0).max(31),
+  /** Button that triggers the emergency stop, or null. */
+  estopButton: z.number().int().min(0).max(31).nullable(),
+});
+export type GamepadMapping = z.infer<typeof gamepadMappingSchema>;
+
+/** Standard mapping defaults: left stick x/y → vx/vy, triggers-as-buttons → vz, right stick → wx/wy, bumpers → wz; LB… */
+export const DEFAULT_GAMEPAD_MAPPING: GamepadMapping = {
+  axes: [
+    { target: "vx", source: { kind: "axis", index: 1 }, invert: true },
+    { target: "vy", source: { kind: "axis", index: 0 }, invert: true },
+    { target: "vz", source: { kind: "buttons", positive: 12, negative: 13 }, invert: false },
+    { target: "wx", source: { kind: "axis", index: 3 }, invert: true },
+    { target: "wy", source: { kind: "axis", index: 2 }, invert: false },
+    { target: "wz", source: { kind: "buttons", positive: 4, negative: 5 }, invert: false },
+  ],
+  deadband: 0.1,
+  expo: 0.3,
+  enablingButton: 7,
+  estopButton: 1,
+};
