@@ -1,0 +1,135 @@
+/**
+ * Damped least-squares inverse (Wampler 1986; Nakamura & Hanafusa 1986 — both from memory):
+ *   qdot = Jᵀ (J Jᵀ + λ² I)⁻¹ · twist  =  (Jᵀ J + λ² I)⁻¹ Jᵀ · twist
+ * solved with a Cholesky factor of the smaller Gram matrix (rows ≤ cols: J Jᵀ, else Jᵀ J). λ = 0 gives the
+ * plain inverse (pseudo-inverse for a full-rank non-square J).
+ * Numerical filtering (Maciejewski & Klein 1988, from memory; METHODS.md §2d): damp only the direction x
+ * of the smallest singular value: replace λ² I by λ² x xᵀ, giving gain 1/σ_i on the other directions and
+ * σ_m/(σ_m² + λ²) on the last.
+ * Units: twist in m/s and rad/s, qdot in rad/s (or m/s for a prismatic joint), λ in the units of σ.
+ */
+
+import { KinematicsInputError, requireFiniteVector, requireMatrix } from "./arm.ts";
+import { choleskyInto, choleskySolveInPlace, gramInto } from "./cholesky.ts";
+
+let gram = new Float64Array(144);
+let factor = new Float64Array(144);
+let rhs = new Float64Array(12);
+
+function ensure(k: number): void {
+  if (gram.length < k * k) {
+    gram = new Float64Array(k * k);
+    factor = new Float64Array(k * k);
+  }
+  if (rhs.length < k) rhs = new Float64Array(k);
+}
+
+const lambdaBox = new Float64Array(1);
+
+/**
+ * DLS solve from a precomputed Gram matrix G (from gramInto, k = min(rows, cols)). `filterDir`, when given
+ * (unit k-vector), switches to numerical filtering along it. `L` and `y` are caller scratch (k·k and k).
+ * Writes qdot (cols) into `out`. Returns false when the damped Gram matrix is singular to working
+ * precision, e.g. λ = 0 at a singularity, or the result is not finite. Allocation-free.
+ */
+export function dampedLeastSquaresFromGramInto(
+  J: ArrayLike<number>, rows: number, cols: number, G: Float64Array, twist: ArrayLike<number>,
+  lambda: number, filterDir: ArrayLike<number> | null, L: Float64Array, y: Float64Array, out: Float64Array,
+): boolean {
+  lambdaBox[0] = lambda;
+  return dlsFromGramBoxed(J, rows, cols, G, twist, lambdaBox, filterDir, L, y, out);
+}
+
+/**
+ * As dampedLeastSquaresFromGramInto with λ passed in lambdaBox[0]: a computed number passed to a call
+ * that V8 does not inline is boxed on the heap, a typed-array slot is not (keeps the control step
+ * allocation-free).
+ */
+export function dlsFromGramBoxed(
+  J: ArrayLike<number>, rows: number, cols: number, G: Float64Array, twist: ArrayLike<number>,
+  lambdaBox: Float64Array, filterDir: ArrayLike<number> | null, L: Float64Array, y: Float64Array, out: Float64Array,
+): boolean {
+  const k = rows <= cols ? rows : cols;
+  const lambda = lambdaBox[0]!;
+  const l2 = lambda * lambda;
+  // Add the damping onto G in place, factor, then restore G (so the caller can reuse it).
+  if (filterDir) {
+    for (let i = 0; i < k; i++) for (let j = 0; j < k; j++) G[i * k + j] = G[i * k + j]! + l2 * filterDir[i]! * filterDir[j]!;
+  } else {
+    for (let i = 0; i < k; i++) G[i * k + i] = G[i * k + i]! + l2;
+  }
+  const ok = choleskyInto(G, k, L);
+  if (filterDir) {
+    for (let i = 0; i < k; i++) for (let j = 0; j < k; j++) G[i * k + j] = G[i * k + j]! - l2 * filterDir[i]! * filterDir[j]!;
+  } else {
+    for (let i = 0; i < k; i++) G[i * k + i] = G[i * k + i]! - l2;
+  }
+  if (!ok) return false;
+  return dlsSolveWithFactor(J, rows, cols, L, twist, y, out);
+}
+
+/**
+ * The solve half of the DLS given a Cholesky factor L of the damped Gram matrix (k = min(rows, cols)):
+ * rows ≤ cols: out = Jᵀ (L Lᵀ)⁻¹ twist; else out = (L Lᵀ)⁻¹ Jᵀ twist. False if the result is not finite.
+ */
+export function dlsSolveWithFactor(
+  J: ArrayLike<number>, rows: number, cols: number, L: Float64Array, twist: ArrayLike<number>, y: Float64Array,
+  out: Float64Array,
+): boolean {
+  const k = rows <= cols ? rows : cols;
+  if (rows <= cols) {
+    for (let i = 0; i < rows; i++) y[i] = twist[i]!;
+    choleskySolveInPlace(L, k, y);
+    for (let c = 0; c < cols; c++) {
+      let s = 0;
+      for (let r = 0; r < rows; r++) s += J[r * cols + c]! * y[r]!;
+      out[c] = s;
+    }
+  } else {
+    for (let c = 0; c < cols; c++) {
+      let s = 0;
+      for (let r = 0; r < rows; r++) s += J[r * cols + c]! * twist[r]!;
+      y[c] = s;
+    }
+    choleskySolveInPlace(L, k, y);
+    for (let c = 0; c < cols; c++) out[c] = y[c]!;
+  }
+  let ok = true;
+  for (let c = 0; c < cols; c++) if (!(Math.abs(out[c]!) < Infinity)) ok = false;
+  return ok;
+}
+
+/**
+ * Allocation-free DLS (module scratch): writes qdot (cols numbers) into `out`; returns false when the
+ * damped system is singular (then `out` is zeroed). Inputs are not validated.
+ */
+export function dampedLeastSquaresInto(
+  J: ArrayLike<number>, rows: number, cols: number, twist: ArrayLike<number>, lambda: number, out: Float64Array,
+  filterDir: ArrayLike<number> | null = null,
+): boolean {
+  const k = Math.min(rows, cols);
+  ensure(k);
+  gramInto(J, rows, cols, gram);
+  const ok = dampedLeastSquaresFromGramInto(J, rows, cols, gram, twist, lambda, filterDir, factor, rhs, out);
+  if (!ok) out.fill(0, 0, cols);
+  return ok;
+}
+
+/**
+ * qdot = Jᵀ (J Jᵀ + λ² I)⁻¹ · twist. Validates its inputs and throws KinematicsInputError for bad input or
+ * when λ = 0 (or tiny) and J is singular.
+ */
+export function dampedLeastSquares(
+  J: ArrayLike<number>, rows: number, cols: number, twist: ArrayLike<number>, lambda: number,
+): Float64Array {
+  requireMatrix(J, rows, cols);
+  requireFiniteVector(twist, rows, "twist");
+  if (typeof lambda !== "number" || !Number.isFinite(lambda) || lambda < 0) {
+    throw new KinematicsInputError("lambda", `must be a finite number ≥ 0, got ${String(lambda)}`);
+  }
+  const out = new Float64Array(cols);
+  if (!dampedLeastSquaresInto(J, rows, cols, twist, lambda, out)) {
+    throw new KinematicsInputError("J", "J Jᵀ + λ²I is singular to working precision; use lambda > 0");
+  }
+  return out;
+}
