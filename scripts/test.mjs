@@ -4,9 +4,9 @@
 import { spawn, spawnSync } from "node:child_process";
 import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import path from "node:path";
-import { buildConsole, isPortFree, log, portFromEnv, prepare, recreateDatabase, ROOT, SetupError } from "./lib/setup.mjs";
+import { buildConsole, DATA_DIR, isPortFree, log, portFromEnv, prepare, recreateDatabase, ROOT, SetupError } from "./lib/setup.mjs";
 
-const REPORTS = path.join(ROOT, ".data", "test-reports");
+const REPORTS = path.join(DATA_DIR, "test-reports");
 const results = [];
 
 function record(name, passed, failed, note = "") {
@@ -20,7 +20,7 @@ function vitestSuite(name, dir, env = {}) {
   log(`suite: ${name}`);
   const run = spawnSync(
     path.join(ROOT, dir, "node_modules/.bin/vitest"),
-    ["run", "--reporter=default", "--reporter=json", `--outputFile.json=${report}`],
+    ["run", "--passWithNoTests", "--reporter=default", "--reporter=json", `--outputFile.json=${report}`],
     { cwd: path.join(ROOT, dir), stdio: "inherit", env: { ...process.env, ...env } },
   );
   if (!existsSync(report)) {
@@ -74,7 +74,7 @@ async function main() {
     server = spawn(path.join(serverDir, "node_modules/.bin/tsx"), ["src/server.ts"], {
       cwd: serverDir,
       stdio: ["ignore", "ignore", "inherit"],
-      env: { ...process.env, ...dbEnv, PORT: String(port), NODE_ENV: "test" },
+      env: { ...process.env, ...dbEnv, PORT: String(port), SMTP_PORT: String(portFromEnv("TEST_SMTP_PORT", 2626)), NODE_ENV: "test" },
     });
     const url = `http://127.0.0.1:${port}`;
     await waitForHealth(url, server);

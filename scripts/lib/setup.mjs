@@ -8,6 +8,8 @@ import { fileURLToPath } from "node:url";
 
 export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../..");
 export const PNPM_VERSION = "12.4.2";
+/** Where the private databases and test reports live (git-ignored); JOGWRIGHT_DATA_DIR moves it. */
+export const DATA_DIR = process.env.JOGWRIGHT_DATA_DIR ? path.resolve(process.env.JOGWRIGHT_DATA_DIR) : path.join(ROOT, ".data");
 
 export class SetupError extends Error {}
 
@@ -140,7 +142,7 @@ function processAlive(pid) {
  * Reuses a server this project already started on that data folder. Returns { url, stop }.
  */
 export async function startPrivateMariadb({ name, port, database }) {
-  const dataRoot = path.join(ROOT, ".data", name);
+  const dataRoot = path.join(DATA_DIR, name);
   const dataDir = path.join(dataRoot, "db");
   const socket = path.join(dataRoot, "mariadb.sock");
   const pidFile = path.join(dataRoot, "mariadb.pid");
@@ -153,8 +155,13 @@ export async function startPrivateMariadb({ name, port, database }) {
 
   let owned = false;
   const runningPid = existsSync(pidFile) ? Number(readFileSync(pidFile, "utf8").trim()) : NaN;
-  if (Number.isInteger(runningPid) && processAlive(runningPid) && (await canConnect(port))) {
+  const alive = Number.isInteger(runningPid) && processAlive(runningPid);
+  if (alive && (await canConnect(port))) {
     log(`reusing the private MariaDB already running on 127.0.0.1:${port} (pid ${runningPid})`);
+  } else if (alive) {
+    throw new SetupError(
+      `a private MariaDB (pid ${runningPid}) already runs on ${path.relative(ROOT, dataDir) || dataDir} but does not answer on port ${port}; stop it (kill ${runningPid}) or use the port it was started with.`,
+    );
   } else {
     if (!(await isPortFree(port))) {
       throw new SetupError(
