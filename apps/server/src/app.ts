@@ -13,6 +13,14 @@ import type { ApiRouter, RouteSpec } from "./http/api-router.ts";
 import { armsRouter } from "./modules/arms/routes.ts";
 import { healthRouter } from "./modules/health/routes.ts";
 import { usersRouter } from "./modules/users/routes.ts";
+import { auditRouter } from "./modules/audit/routes.ts";
+import { ceilingsRouter } from "./modules/ceilings/routes.ts";
+import { mailRouter } from "./modules/mail/routes.ts";
+import { profileRouters } from "./modules/profiles/routes.ts";
+import { Mailer } from "./mail/mailer.ts";
+import { jogRouter } from "./modules/jog/routes.ts";
+import { recordingsRouter } from "./modules/recordings/routes.ts";
+import { gamepadRouter } from "./modules/gamepad/routes.ts";
 
 export interface BuiltApp {
   app: Express;
@@ -22,7 +30,8 @@ export interface BuiltApp {
 }
 
 export function createApp(config: Config, db: Sequelize): BuiltApp {
-  const ctx: AppContext = { db, config, lucia: createLucia(db), signInLimiter: new SignInLimiter(config.signIn) };
+  const mailer = new Mailer(db, { host: config.mail.smtpHost, port: config.mail.smtpPort, from: config.mail.from });
+  const ctx: AppContext = { db, config, lucia: createLucia(db), signInLimiter: new SignInLimiter(config.signIn), mailer };
   const app = express();
   app.disable("x-powered-by");
   app.set("trust proxy", config.trustProxy ? 1 : false);
@@ -39,7 +48,19 @@ export function createApp(config: Config, db: Sequelize): BuiltApp {
   });
   api.use(originCheck(ctx));
   api.use(sessionLoader(ctx));
-  const routers: ApiRouter[] = [healthRouter(ctx), authRouter(ctx), usersRouter(ctx), armsRouter(ctx)];
+  const routers: ApiRouter[] = [
+    healthRouter(ctx),
+    authRouter(ctx),
+    usersRouter(ctx),
+    armsRouter(ctx),
+    ...profileRouters(ctx),
+    ceilingsRouter(ctx),
+    auditRouter(ctx),
+    mailRouter(ctx),
+    jogRouter(ctx),
+    recordingsRouter(ctx),
+    gamepadRouter(ctx),
+  ];
   for (const r of routers) api.use(r.mountPath, r.router);
   api.use(notFoundHandler);
   api.use(errorHandler);

@@ -1,3 +1,4 @@
+import path from "node:path";
 import { z } from "zod";
 
 /**
@@ -43,7 +44,23 @@ const envSchema = z.object({
   SIGN_IN_MAX_FAILURES_PER_ADDRESS: z.coerce.number().int().min(1).max(10_000).default(50),
   CONSOLE_DIST: z.string().optional(),
   SEED_DEMO: z.enum(["0", "1"]).default("1"),
-});
+  /** Where mail goes: an SMTP server without TLS or authentication (by default our own fake, below). */
+  SMTP_HOST: z.string().min(1).default("127.0.0.1"),
+  /** 0 is allowed only with FAKE_SMTP=1: the fake then takes any free port (the test command uses it). */
+  SMTP_PORT: z.coerce
+    .number({ error: "must be a port number" })
+    .int("must be a whole number")
+    .min(0, "must be 0-65535")
+    .max(65535, "must be 0-65535")
+    .default(2525),
+  /** "1": server.ts starts the local fake SMTP server (mail/fake-smtp.ts) in-process on SMTP_PORT. */
+  FAKE_SMTP: z.enum(["0", "1"]).default("1"),
+  /** Folder where the fake SMTP server keeps each message as an .eml file. */
+  MAIL_DIR: z.string().optional(),
+  MAIL_FROM: z.string().min(3).default("Jogwright <jogwright@localhost>"),
+  /** State frames per second sent to each live-jogging client (the simulation ticks at the profile's rate). */
+  JOG_FRAME_RATE_HZ: z.coerce.number().int("a whole number of hertz").min(10, "must be 10-120").max(120, "must be 10-120").default(60),
+}).refine((v) => v.SMTP_PORT !== 0 || v.FAKE_SMTP === "1", { message: "may be 0 only with FAKE_SMTP=1", path: ["SMTP_PORT"] });
 
 export type Config = {
   env: "development" | "production" | "test";
@@ -55,6 +72,9 @@ export type Config = {
   signIn: { maxFailures: number; windowS: number; maxFailuresPerAddress: number };
   consoleDist: string | undefined;
   seedDemo: boolean;
+  mail: { smtpHost: string; smtpPort: number; fakeSmtp: boolean; dir: string; from: string };
+  /** Live jogging: state frames per second to each client. */
+  jogFrameRateHz: number;
 };
 
 export class ConfigError extends Error {}
@@ -85,5 +105,13 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     },
     consoleDist: v.CONSOLE_DIST,
     seedDemo: v.SEED_DEMO === "1",
+    mail: {
+      smtpHost: v.SMTP_HOST,
+      smtpPort: v.SMTP_PORT,
+      fakeSmtp: v.FAKE_SMTP === "1",
+      dir: v.MAIL_DIR ?? path.resolve(import.meta.dirname, "../../../.data/mail"),
+      from: v.MAIL_FROM,
+    },
+    jogFrameRateHz: v.JOG_FRAME_RATE_HZ,
   };
 }

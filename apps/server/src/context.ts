@@ -2,11 +2,13 @@ import type { Sequelize } from "sequelize";
 import type { AppLucia } from "./auth/lucia.ts";
 import type { Config } from "./config.ts";
 import type { SignInLimiter } from "./auth/sign-in-limiter.ts";
+import type { Mailer } from "./mail/mailer.ts";
 
-/** What every module gets: the database, the session store, the settings. */
+/** What every module gets: the database, the session store, the settings, the outgoing mail. */
 export interface AppContext {
   db: Sequelize;
   lucia: AppLucia;
   config: Config;
   signInLimiter: SignInLimiter;
+  mailer: Mailer;
 }

@@ -1,9 +1,11 @@
 import http from "node:http";
 import { ConfigError, loadConfig, type Config } from "./config.ts";
 import { createApp } from "./app.ts";
+import { attachJogSockets } from "./modules/jog/socket.ts";
 import { createSequelize, describeConnectionError } from "./db/connection.ts";
 import { migrate } from "./db/migrator.ts";
 import { DEMO_ACCOUNTS, DEMO_PASSWORD, seedDemo } from "./db/seed.ts";
+import { SmtpPortInUseError, startFakeSmtp, type FakeSmtp } from "./mail/fake-smtp.ts";
 
 /** Start-up ends with one clear sentence on a bad environment, an unreachable database or a busy port. */
 class StartupError extends Error {}
@@ -26,8 +28,24 @@ async function main(): Promise<void> {
   if (applied.length) console.log(`[jogwright] migrations applied: ${applied.join(", ")}`);
   if (config.seedDemo) await seedDemo(db);
 
-  const { app } = createApp(config, db);
+  const { app, ctx } = createApp(config, db);
+  let fakeSmtp: FakeSmtp | null = null;
+  if (config.mail.fakeSmtp) {
+    try {
+      fakeSmtp = await startFakeSmtp({ host: config.mail.smtpHost, port: config.mail.smtpPort, dir: config.mail.dir });
+    } catch (error) {
+      if (error instanceof SmtpPortInUseError) {
+        throw new StartupError(
+          `SMTP port ${config.mail.smtpPort} on ${config.mail.smtpHost} is already in use; set SMTP_PORT to a free port (or FAKE_SMTP=0 to use that server).`,
+        );
+      }
+      throw error;
+    }
+    ctx.mailer.setPort(fakeSmtp.port);
+  }
+  ctx.mailer.start();
   const server = http.createServer(app);
+  const jogSockets = attachJogSockets(server, ctx);
   await new Promise<void>((resolve, reject) => {
     server.once("error", (error: NodeJS.ErrnoException) => {
       reject(
@@ -48,6 +66,7 @@ async function main(): Promise<void> {
     for (const a of DEMO_ACCOUNTS) console.log(`    ${a.username.padEnd(8)} ${a.displayName.padEnd(14)} ${a.roles.join(", ")}`);
     console.log("");
   }
+  if (fakeSmtp) console.log(`  Mail is caught by the local fake SMTP server on port ${fakeSmtp.port} (files in ${config.mail.dir}).`);
   console.log("  Simulation only: Jogwright never commands real hardware. Press Ctrl-C to stop.\n");
 
   let stopping = false;
@@ -55,8 +74,11 @@ async function main(): Promise<void> {
     if (stopping) return;
     stopping = true;
     console.log(`[jogwright] ${signal}: stopping the server`);
+    await jogSockets.close(); // ends live sessions, flushes their recordings
     server.closeAllConnections();
     await new Promise((r) => server.close(r));
+    await ctx.mailer.stop();
+    await fakeSmtp?.close();
     await db.close();
     process.exit(0);
   };

@@ -53,8 +53,21 @@ describe("start-up with a bad environment ends with one clear message", () => {
     const blocker = net.createServer();
     const port = await new Promise<number>((resolve) => blocker.listen(0, "127.0.0.1", () => resolve((blocker.address() as net.AddressInfo).port)));
     try {
-      const r = await startServer({ DATABASE_URL: process.env.DATABASE_URL!, PORT: String(port), SEED_DEMO: "0" });
+      // SMTP_PORT=0: the fake SMTP server takes any free port, so only the HTTP port is busy.
+      const r = await startServer({ DATABASE_URL: process.env.DATABASE_URL!, PORT: String(port), SEED_DEMO: "0", SMTP_PORT: "0" });
       expectOneClearLine(r, new RegExp(`^\\[jogwright\\] cannot start: port ${port} on 127\\.0\\.0\\.1 is already in use; set PORT to a free port\\.$`));
+    } finally {
+      blocker.close();
+    }
+  });
+
+  it("an SMTP port already in use for the fake mail server", async () => {
+    const blocker = net.createServer();
+    const port = await new Promise<number>((resolve) => blocker.listen(0, "127.0.0.1", () => resolve((blocker.address() as net.AddressInfo).port)));
+    try {
+      // The fake SMTP server starts before the HTTP listener, so PORT is never reached.
+      const r = await startServer({ DATABASE_URL: process.env.DATABASE_URL!, PORT: "65000", SEED_DEMO: "0", SMTP_PORT: String(port) });
+      expectOneClearLine(r, new RegExp(`^\\[jogwright\\] cannot start: SMTP port ${port} on 127\\.0\\.0\\.1 is already in use; set SMTP_PORT to a free port`));
     } finally {
       blocker.close();
     }

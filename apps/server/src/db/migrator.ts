@@ -2,11 +2,25 @@ import { Umzug, type UmzugStorage } from "umzug";
 import { QueryTypes, type Sequelize } from "sequelize";
 import * as m0001 from "./migrations/0001-accounts.ts";
 import * as m0002 from "./migrations/0002-arms.ts";
+import * as m0003 from "./migrations/0003-profiles.ts";
+import * as m0004 from "./migrations/0004-approvals.ts";
+import * as m0005 from "./migrations/0005-site-ceilings.ts";
+import * as m0006 from "./migrations/0006-audit-log.ts";
+import * as m0007 from "./migrations/0007-mail-outbox.ts";
+import * as m0010 from "./migrations/0010-jog-recordings.ts";
+import * as m0011 from "./migrations/0011-gamepad-mappings.ts";
 
 /** Versioned migrations, applied in order and recorded in `schema_migrations`. Never sync(). */
 const MIGRATIONS = [
   { name: "0001-accounts", ...m0001 },
   { name: "0002-arms", ...m0002 },
+  { name: "0003-profiles", ...m0003 },
+  { name: "0004-approvals", ...m0004 },
+  { name: "0005-site-ceilings", ...m0005 },
+  { name: "0006-audit-log", ...m0006 },
+  { name: "0007-mail-outbox", ...m0007 },
+  { name: "0010-jog-recordings", ...m0010 },
+  { name: "0011-gamepad-mappings", ...m0011 },
 ];
 
 /** The record of applied migrations, in a table this storage creates itself with plain SQL. */

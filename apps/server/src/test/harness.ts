@@ -1,3 +1,5 @@
+import http from "node:http";
+import type { AddressInfo } from "node:net";
 import supertest from "supertest";
 import type { Sequelize } from "sequelize";
 import type { Role } from "@jogwright/shared";
@@ -6,6 +8,8 @@ import { loadConfig } from "../config.ts";
 import { createSequelize } from "../db/connection.ts";
 import { DEMO_PASSWORD } from "../db/seed.ts";
 import { createUser } from "../modules/users/service.ts";
+import { attachJogSockets, JOG_SOCKET_PATH, type JogSockets } from "../modules/jog/socket.ts";
+import { startFakeSmtp, type FakeSmtp } from "../mail/fake-smtp.ts";
 
 /** The real app on the real test database; supertest talks to it in-process. */
 export const ORIGIN = "http://127.0.0.1";
@@ -16,11 +20,38 @@ export interface Harness extends BuiltApp {
   close(): Promise<void>;
 }
 
+/**
+ * `env` overrides the environment, e.g. SMTP_PORT to point the mailer at a test's own fake SMTP server.
+ * close() waits for mail deliveries under way, then closes the database.
+ */
 export function createHarness(env: Record<string, string> = {}): Harness {
   const config = loadConfig({ ...process.env, SIGN_IN_MAX_FAILURES: "5", ...env });
   const db = createSequelize(config.databaseUrl);
   const built = createApp(config, db);
-  return { ...built, db, request: supertest(built.app), close: () => db.close() };
+  return {
+    ...built,
+    db,
+    request: supertest(built.app),
+    close: async () => {
+      await built.ctx.mailer.stop();
+      await db.close();
+    },
+  };
+}
+
+/** A harness whose mail goes to its own fake SMTP server on a free port (closed with the harness). */
+export async function createMailHarness(env: Record<string, string> = {}): Promise<Harness & { smtp: FakeSmtp }> {
+  const smtp = await startFakeSmtp({ port: 0, dir: null });
+  const h = createHarness({ SIGN_IN_MAX_FAILURES: "1000", SMTP_PORT: String(smtp.port), ...env });
+  const close = h.close;
+  return {
+    ...h,
+    smtp,
+    close: async () => {
+      await close();
+      await smtp.close();
+    },
+  };
 }
 
 export const DEMO_BY_ROLE: Record<Role, string> = {
@@ -52,4 +83,27 @@ export async function freshUser(h: Harness, roles: Role[], password = "fresh-pas
 export function call(h: Harness, method: "get" | "post" | "put" | "patch" | "delete", path: string, cookie?: string) {
   const r = h.request[method](path).set("Host", "127.0.0.1").set("Origin", ORIGIN);
   return cookie ? r.set("Cookie", cookie) : r;
+}
+
+/**
+ * The harness's app on a real http.Server listening on an ephemeral loopback port, with the live-jogging
+ * WebSocket attached (as server.ts does), for tests with real network clients. close() ends live sessions,
+ * flushes their recordings and stops listening (the harness itself is closed separately).
+ */
+export async function listenHarness(h: Harness): Promise<{ baseUrl: string; wsUrl: string; jog: JogSockets; close(): Promise<void> }> {
+  const server = http.createServer(h.app);
+  const jog = attachJogSockets(server, h.ctx);
+  await new Promise<void>((resolve) => server.listen(0, "127.0.0.1", resolve));
+  const { port } = server.address() as AddressInfo;
+  const baseUrl = `http://127.0.0.1:${port}`;
+  return {
+    baseUrl,
+    wsUrl: `ws://127.0.0.1:${port}${JOG_SOCKET_PATH}`,
+    jog,
+    close: async () => {
+      await jog.close();
+      server.closeAllConnections();
+      await new Promise((r) => server.close(r));
+    },
+  };
 }

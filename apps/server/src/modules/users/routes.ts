@@ -11,7 +11,7 @@ export function usersRouter(ctx: AppContext): ApiRouter {
     })
     .add("post", "/", ["admin"], async (req, res) => {
       const input = parseBody(req, createUserSchema);
-      res.status(201).json({ user: await service.createUser(ctx.db, input) });
+      res.status(201).json({ user: await service.createUser(ctx.db, input, requireAccount(res)) });
     })
     .add("patch", "/:id", ["admin"], async (req, res) => {
       const { id } = parseParams(req, idParamSchema);

@@ -4,16 +4,27 @@ import type { CreateUserInput, UpdateUserInput, User } from "@jogwright/shared";
 import { AppError } from "../../errors.ts";
 import { hashPassword } from "../../auth/password.ts";
 import type { AppLucia } from "../../auth/lucia.ts";
+import { recordAudit } from "../audit/service.ts";
 import * as model from "./model.ts";
 
 export const listUsers = (db: Sequelize) => model.listUsers(db);
 
-export async function createUser(db: Sequelize, input: CreateUserInput): Promise<User> {
+/** `actor` is the admin doing it (null for the seed and test set-up); the change is audited either way. */
+export async function createUser(db: Sequelize, input: CreateUserInput, actor: User | null = null): Promise<User> {
   const id = generateIdFromEntropySize(10);
   const passwordHash = await hashPassword(input.password);
   try {
     await db.transaction(async (transaction) => {
       await model.insertUser(db, { ...input, id, passwordHash }, transaction);
+      const created = (await model.findUserById(db, id, transaction))!;
+      await recordAudit(db, transaction, {
+        actorId: actor?.id ?? null,
+        entity: "user",
+        entityId: id,
+        action: "create",
+        summary: `created ${created.username} (${created.displayName}) with roles ${created.roles.join(", ")}`,
+        after: created,
+      });
     });
   } catch (error) {
     if (error instanceof UniqueConstraintError) {
@@ -59,6 +70,29 @@ export async function updateUser(
     if ((await model.countActiveAdmins(db, transaction)) === 0) {
       throw new AppError(409, "conflict", "At least one active admin must remain.");
     }
+    const after = (await model.findUserById(db, id, transaction))!;
+    const changes: string[] = [];
+    if (input.displayName !== undefined && input.displayName !== existing.displayName) changes.push(`name → ${after.displayName}`);
+    if (input.email !== undefined && input.email !== existing.email) changes.push(`e-mail → ${after.email}`);
+    if (input.roles && after.roles.join() !== existing.roles.join()) changes.push(`roles ${existing.roles.join(", ")} → ${after.roles.join(", ")}`);
+    if (input.isActive !== undefined && input.isActive !== existing.isActive) changes.push(input.isActive ? "reactivated" : "deactivated");
+    if (passwordHash !== undefined) changes.push("password changed");
+    // The most telling action names the entry; the summary lists every change.
+    const action =
+      input.isActive === false && existing.isActive ? "deactivate"
+      : input.isActive === true && !existing.isActive ? "reactivate"
+      : input.roles && after.roles.join() !== existing.roles.join() ? "roles"
+      : passwordHash !== undefined ? "password"
+      : "edit";
+    await recordAudit(db, transaction, {
+      actorId: actor.id,
+      entity: "user",
+      entityId: id,
+      action,
+      summary: `${existing.username}: ${changes.length ? changes.join("; ") : "no change"}`,
+      before: existing,
+      after,
+    });
   });
   if (input.isActive === false || passwordHash !== undefined) await lucia.invalidateUserSessions(id);
   return (await model.findUserById(db, id))!;

@@ -1,0 +1,73 @@
+/**
+ * The server half of the jog load benchmark (started by jog-load.ts as a child process so the clients do
+ * not share its event loop): the real app on the real database (DATABASE_URL), with the jog WebSocket,
+ * on an ephemeral loopback port. Creates a bench engineer, an operator and a profile at a 1 kHz tick rate
+ * through the profiles service, then reports {port, cookie, versionId} over IPC and answers "reset" and
+ * "stats" requests (tick lateness histogram, CPU use).
+ */
+import http from "node:http";
+import type { AddressInfo } from "node:net";
+import { performance } from "node:perf_hooks";
+import { defaultProfileParams } from "@jogwright/shared";
+import { createApp } from "../src/app.ts";
+import { loadConfig } from "../src/config.ts";
+import { createSequelize } from "../src/db/connection.ts";
+import { migrate } from "../src/db/migrator.ts";
+import { listArms } from "../src/modules/arms/model.ts";
+import { attachJogSockets } from "../src/modules/jog/socket.ts";
+import { createProfile } from "../src/modules/profiles/service.ts";
+import { createUser } from "../src/modules/users/service.ts";
+
+const config = loadConfig({ ...process.env, SEED_DEMO: "0", FAKE_SMTP: "0" });
+const db = createSequelize(config.databaseUrl);
+await migrate(db);
+const { app, ctx } = createApp(config, db);
+const server = http.createServer(app);
+const jog = attachJogSockets(server, ctx);
+await new Promise<void>((resolve) => server.listen(0, "127.0.0.1", resolve));
+const { port } = server.address() as AddressInfo;
+
+const stamp = `b${Date.now().toString(36)}`;
+const engineer = await createUser(db, { username: `${stamp}e`, displayName: `Bench engineer ${stamp}`, email: `${stamp}e@bench.example`, password: "bench-password-1", roles: ["engineer"] });
+const operator = await createUser(db, { username: `${stamp}o`, displayName: `Bench operator ${stamp}`, email: `${stamp}o@bench.example`, password: "bench-password-1", roles: ["operator"] });
+const arm = (await listArms(db)).find((a) => a.model.joints.length === 6)!;
+const params = { ...defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!)), tickRateHz: 1000 };
+const profile = await createProfile(ctx, engineer, { name: `Bench 1 kHz ${stamp}`, operatorId: operator.id, armId: arm.id, params, note: "load benchmark" });
+const session = await ctx.lucia.createSession(engineer.id, {});
+
+let cpuAt = process.cpuUsage();
+let wallAt = performance.now();
+process.on("message", async (msg: { type: string }) => {
+  const hub = jog.hub;
+  if (msg.type === "reset") {
+    hub.scheduler.lateness.reset();
+    hub.scheduler.overrunTicks = 0;
+    cpuAt = process.cpuUsage();
+    wallAt = performance.now();
+    process.send!({ type: "reset-done" });
+  } else if (msg.type === "stats") {
+    const cpu = process.cpuUsage(cpuAt);
+    const wallMs = performance.now() - wallAt;
+    const h = hub.scheduler.lateness;
+    process.send!({
+      type: "stats",
+      sessions: hub.sessions.size,
+      ticks: h.total,
+      latenessP50Ms: h.quantileMs(0.5),
+      latenessP99Ms: h.quantileMs(0.99),
+      latenessP999Ms: h.quantileMs(0.999),
+      latenessMaxMs: h.maxMs,
+      overrunTicks: hub.scheduler.overrunTicks,
+      cpuPercent: ((cpu.user + cpu.system) / 1000 / wallMs) * 100,
+      recordingFailures: hub.writer.failures,
+      chunksWritten: hub.writer.chunksWritten,
+    });
+  } else if (msg.type === "close") {
+    await jog.close();
+    server.closeAllConnections();
+    server.close();
+    await db.close();
+    process.exit(0);
+  }
+});
+process.send!({ type: "ready", port, cookie: `jogwright_session=${session.id}`, versionId: profile.latestVersion.id });

@@ -1,0 +1,101 @@
+import { QueryTypes, type Sequelize } from "sequelize";
+import { checkCeilings, defaultProfileParams, type ProfileParams } from "@jogwright/shared";
+import { findArm } from "../modules/arms/model.ts";
+import { recordAudit } from "../modules/audit/service.ts";
+import { findLatestCeilings } from "../modules/ceilings/model.ts";
+import * as profiles from "../modules/profiles/model.ts";
+import { paramsSha256, ratedJointSpeeds } from "../modules/profiles/service.ts";
+
+/**
+ * The demo's profiles (idempotent; a profile that exists is left alone, so locked rows are never
+ * touched): Olena's pack-opening profile on the six-axis arm with version 1 approved by Sigrid (written
+ * by Emeka), so she can drive out of the box, and version 2 waiting for review; Tomás's cover-plate
+ * profile on the seven-axis arm as a draft.
+ */
+async function userId(db: Sequelize, username: string): Promise<string | null> {
+  const rows = await db.query<{ id: string }>("SELECT id FROM users WHERE username = ?", { replacements: [username], type: QueryTypes.SELECT });
+  return rows[0]?.id ?? null;
+}
+
+async function armIdBySlug(db: Sequelize, slug: string): Promise<number | null> {
+  const rows = await db.query<{ id: number }>("SELECT id FROM arms WHERE slug = ?", { replacements: [slug], type: QueryTypes.SELECT });
+  return rows[0]?.id ?? null;
+}
+
+export async function seedDemoProfiles(db: Sequelize): Promise<void> {
+  const [olena, tomas, emeka, sigrid] = await Promise.all(["olena", "tomas", "emeka", "sigrid"].map((u) => userId(db, u)));
+  const [arm6Id, arm7Id] = await Promise.all([armIdBySlug(db, "cell-arm-6"), armIdBySlug(db, "cell-arm-7")]);
+  if (!olena || !tomas || !emeka || !sigrid || !arm6Id || !arm7Id) return;
+  const arm6 = (await findArm(db, arm6Id))!;
+  const arm7 = (await findArm(db, arm7Id))!;
+  const ceilings = (await findLatestCeilings(db)).ceilings;
+
+  const olenaName = "Olena — pack opening";
+  if (!(await profiles.findProfileByName(db, olenaName, olena))) {
+    // Defaults: half of each rated joint speed, 250 mm/s TCP (the ISO 10218-1 reduced-speed limit).
+    const v1: ProfileParams = defaultProfileParams(ratedJointSpeeds(arm6).map((s) => s!));
+    // Version 2: more damping at the wrist singularity and a slower tool for unbolting module covers.
+    const v2: ProfileParams = {
+      ...v1,
+      damping: { kind: "singular-value", epsilonM: 0.05, lambdaMaxM: 0.06 },
+      tcpLinearCapMPerS: 0.2,
+      shaping: { ...v1.shaping, expo: 0.45 },
+    };
+    await db.transaction(async (t) => {
+      const profileId = await profiles.insertProfile(db, { name: olenaName, operatorId: olena, armId: arm6Id, createdBy: emeka }, t);
+      await recordAudit(db, t, {
+        actorId: emeka,
+        entity: "profile",
+        entityId: profileId,
+        action: "create",
+        summary: `created profile "${olenaName}" (demo seed)`,
+        after: { id: profileId, name: olenaName, operatorId: olena, armId: arm6Id, createdBy: emeka },
+      });
+      const v1Id = await profiles.insertVersion(
+        db,
+        { profileId, number: 1, parentVersionId: null, params: v1, paramsSha256: paramsSha256(v1), note: "Starting point: defaults for the six-axis arm.", authorId: emeka },
+        t,
+      );
+      await profiles.updateStatus(db, v1Id, { state: "submitted", submittedAt: "now" }, t);
+      await profiles.lockVersionRow(db, v1Id, t);
+      const comment = "Checked on the wrist-flip trial; damping and caps are within the site ceilings.";
+      await profiles.updateStatus(
+        db,
+        v1Id,
+        { state: "approved", decidedBy: sigrid, decidedAt: "now", decisionComment: comment, exceedsCeilings: checkCeilings(v1, ceilings, ratedJointSpeeds(arm6)).length > 0 },
+        t,
+      );
+      const approvalId = await profiles.insertApproval(db, { versionId: v1Id, approverId: sigrid, comment, paramsSha256: paramsSha256(v1) }, t);
+      await recordAudit(db, t, { actorId: emeka, entity: "version", entityId: v1Id, action: "save", summary: `saved "${olenaName}" v1 (demo seed)`, after: { id: v1Id, paramsSha256: paramsSha256(v1) } });
+      await recordAudit(db, t, { actorId: sigrid, entity: "approval", entityId: approvalId, action: "create", summary: `approved "${olenaName}" v1 (demo seed): ${comment}`, after: { versionId: v1Id, paramsSha256: paramsSha256(v1) } });
+      const v2Id = await profiles.insertVersion(
+        db,
+        { profileId, number: 2, parentVersionId: v1Id, params: v2, paramsSha256: paramsSha256(v2), note: "More damping near the wrist singularity; slower tool for cover bolts.", authorId: emeka },
+        t,
+      );
+      await profiles.updateStatus(db, v2Id, { state: "submitted", submittedAt: "now" }, t);
+      await recordAudit(db, t, { actorId: emeka, entity: "version", entityId: v2Id, action: "submit", summary: `saved and submitted "${olenaName}" v2 (demo seed)`, after: { id: v2Id, paramsSha256: paramsSha256(v2) } });
+    });
+  }
+
+  const tomasName = "Tomás — cover plates";
+  if (!(await profiles.findProfileByName(db, tomasName, tomas))) {
+    const params: ProfileParams = { ...defaultProfileParams(ratedJointSpeeds(arm7).map((s) => s!)), watchdogMs: 150 };
+    await db.transaction(async (t) => {
+      const profileId = await profiles.insertProfile(db, { name: tomasName, operatorId: tomas, armId: arm7Id, createdBy: emeka }, t);
+      const versionId = await profiles.insertVersion(
+        db,
+        { profileId, number: 1, parentVersionId: null, params, paramsSha256: paramsSha256(params), note: "First try on the seven-axis arm.", authorId: emeka },
+        t,
+      );
+      await recordAudit(db, t, {
+        actorId: emeka,
+        entity: "profile",
+        entityId: profileId,
+        action: "create",
+        summary: `created profile "${tomasName}" with draft v1 (demo seed)`,
+        after: { id: profileId, name: tomasName, operatorId: tomas, armId: arm7Id, createdBy: emeka, versionId },
+      });
+    });
+  }
+}

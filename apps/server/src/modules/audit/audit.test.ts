@@ -1,0 +1,101 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { auditEntrySchema, type Arm } from "@jogwright/shared";
+import { call, createMailHarness, DEMO_BY_ROLE, signIn, type Harness } from "../../test/harness.ts";
+import { approvedProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
+import { createUser } from "../users/service.ts";
+import { csvCell } from "./service.ts";
+
+let h: Harness;
+let team: Team;
+let arm: Arm;
+let admin: string;
+let officer: string;
+beforeAll(async () => {
+  h = await createMailHarness();
+  team = await freshTeam(h);
+  arm = await sixAxisArm(h);
+  admin = await signIn(h, DEMO_BY_ROLE.admin);
+  officer = await signIn(h, DEMO_BY_ROLE.safety_officer);
+});
+afterAll(async () => {
+  await retireTeam(h, team);
+  await h.close();
+});
+
+const HEX64 = /^[0-9a-f]{64}$/;
+
+describe("the audit trail", () => {
+  it("records each workflow step with who did it and the record's hash before and after", async () => {
+    const { profile, version } = await approvedProfile(h, team, arm);
+    const res = await call(h, "get", `/api/audit?actorId=${team.engineer.id}`, officer);
+    expect(res.status).toBe(200);
+    const entries = res.body.entries.map((e: unknown) => auditEntrySchema.parse(e));
+    const created = entries.find((e: { entity: string; entityId: string }) => e.entity === "profile" && e.entityId === String(profile.id));
+    expect(created).toMatchObject({ action: "create", actorId: team.engineer.id, actorName: team.engineer.displayName, sha256Before: null });
+    expect(created.sha256After).toMatch(HEX64);
+    const submit = entries.find((e: { action: string; entityId: string }) => e.action === "submit" && e.entityId === String(version.id));
+    expect(submit.sha256Before).toMatch(HEX64);
+    expect(submit.sha256After).toMatch(HEX64);
+    expect(submit.sha256After).not.toBe(submit.sha256Before);
+
+    const byOfficer = (await call(h, "get", `/api/audit?actorId=${team.officer.id}`, admin)).body.entries;
+    expect(byOfficer.map((e: { entity: string; action: string }) => `${e.entity}:${e.action}`)).toEqual(expect.arrayContaining(["version:approve", "approval:create"]));
+  });
+
+  it("filters by entity, action and time, and pages through the result", async () => {
+    await approvedProfile(h, team, arm);
+    await approvedProfile(h, team, arm);
+    const from = new Date(Date.now() - 60 * 60 * 1000).toISOString();
+    const base = `entity=version&action=approve&actorId=${team.officer.id}`;
+    const q = `${base}&from=${encodeURIComponent(from)}`;
+    const page1 = (await call(h, "get", `/api/audit?${q}&page=1&pageSize=1`, officer)).body;
+    const page2 = (await call(h, "get", `/api/audit?${q}&page=2&pageSize=1`, officer)).body;
+    expect(page1.total).toBeGreaterThanOrEqual(2);
+    expect(page1).toMatchObject({ page: 1, pageSize: 1 });
+    expect(page1.entries).toHaveLength(1);
+    expect(page2.entries).toHaveLength(1);
+    expect(page2.entries[0].id).toBeLessThan(page1.entries[0].id);
+    for (const e of [...page1.entries, ...page2.entries]) expect(e).toMatchObject({ entity: "version", action: "approve" });
+    const future = new Date(Date.now() + 60 * 60 * 1000).toISOString();
+    expect((await call(h, "get", `/api/audit?${base}&from=${encodeURIComponent(future)}`, officer)).body.total).toBe(0);
+    expect((await call(h, "get", "/api/audit?entity=spaceship", officer)).status).toBe(400);
+  });
+
+  it("records account changes by admins without password hashes", async () => {
+    const username = `aud${Date.now().toString(36)}`;
+    const created = await call(h, "post", "/api/users", admin).send({ username, displayName: "Audit Subject", email: `${username}@test.example`, password: "a-long-password-1", roles: ["operator"] });
+    const id = created.body.user.id;
+    await call(h, "patch", `/api/users/${id}`, admin).send({ roles: ["operator", "engineer"] }).expect(200);
+    await call(h, "patch", `/api/users/${id}`, admin).send({ isActive: false }).expect(200);
+    const entries = (await call(h, "get", `/api/audit?entity=user`, admin)).body.entries.filter((e: { entityId: string }) => e.entityId === id);
+    expect(entries.map((e: { action: string }) => e.action)).toEqual(["deactivate", "roles", "create"]);
+    expect(entries[1].summary).toContain("roles operator → operator, engineer");
+    expect(entries[1].sha256Before).toMatch(HEX64);
+  });
+
+  it("exports the filtered trail as CSV, quoted per RFC 4180 and safe against formula injection", async () => {
+    const user = await createUser(h.db, { username: `csv${Date.now().toString(36)}`, displayName: '=HYPERLINK("x",1)', email: "csv@test.example", password: "a-long-password-1", roles: ["engineer"] });
+    await call(h, "patch", `/api/users/${user.id}`, admin).send({ isActive: false }).expect(200);
+    const res = await call(h, "get", `/api/audit/export.csv?entity=user&action=deactivate`, admin);
+    expect(res.status).toBe(200);
+    expect(res.headers["content-type"]).toMatch(/^text\/csv/);
+    expect(res.headers["content-disposition"]).toMatch(/^attachment; filename="jogwright-audit-.*\.csv"$/);
+    const lines = res.text.split("\r\n");
+    expect(lines[0]).toBe("id,at,actor_id,actor_name,entity,entity_id,action,summary,sha256_before,sha256_after");
+    const line = lines.find((l) => l.includes(user.id))!;
+    expect(line).toContain(",user,");
+    // csvCell is the one quoting rule; the cases below are RFC 4180 §2 (quotes doubled) and OWASP CSV injection.
+    expect(csvCell('=HYPERLINK("x",1)')).toBe(`"'=HYPERLINK(""x"",1)"`);
+    expect(csvCell("+1")).toBe("'+1");
+    expect(csvCell("@SUM(A1)")).toBe("'@SUM(A1)");
+    expect(csvCell("-2")).toBe("'-2");
+    expect(csvCell("line\nbreak")).toBe('"line\nbreak"');
+    expect(csvCell(42)).toBe("42");
+    expect(csvCell(null)).toBe("");
+  });
+
+  it("entries cannot be updated or deleted, even with raw SQL", async () => {
+    await expect(h.db.query("UPDATE audit_log SET summary = 'rewritten' ORDER BY id DESC LIMIT 1")).rejects.toThrow(/append-only/);
+    await expect(h.db.query("DELETE FROM audit_log ORDER BY id DESC LIMIT 1")).rejects.toThrow(/append-only/);
+  });
+});

@@ -1,0 +1,115 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { ceilingsRecordSchema, DEFAULT_CEILINGS, ISO_10218_REDUCED_SPEED_M_PER_S, type Arm, type Ceilings } from "@jogwright/shared";
+import { call, createMailHarness, signIn, type Harness } from "../../test/harness.ts";
+import { approvedProfile, compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
+import type { FakeSmtp } from "../../mail/fake-smtp.ts";
+import { findUserById } from "../users/model.ts";
+import { loadVersionForDriving } from "../profiles/service.ts";
+
+let h: Harness & { smtp: FakeSmtp };
+let team: Team;
+let arm: Arm;
+let original: Ceilings;
+beforeAll(async () => {
+  h = await createMailHarness();
+  team = await freshTeam(h);
+  arm = await sixAxisArm(h);
+  original = (await call(h, "get", "/api/ceilings", team.operator.cookie)).body.ceilings;
+});
+afterAll(async () => {
+  // Put the site back as it was, so other tests see the ceilings they expect.
+  const now = (await call(h, "get", "/api/ceilings", team.officer.cookie)).body;
+  if (JSON.stringify(now.ceilings) !== JSON.stringify(original)) {
+    await call(h, "put", "/api/ceilings", team.officer.cookie).send({ revision: now.revision, ceilings: original, note: "test: restore" });
+  }
+  await retireTeam(h, team);
+  await h.close();
+});
+
+async function setCeilings(ceilings: Ceilings, note = "test") {
+  const current = (await call(h, "get", "/api/ceilings", team.officer.cookie)).body;
+  const res = await call(h, "put", "/api/ceilings", team.officer.cookie).send({ revision: current.revision, ceilings, note });
+  if (res.status !== 200) throw new Error(`put ceilings: ${res.status} ${JSON.stringify(res.body)}`);
+  return res.body as { record: { revision: number }; flaggedVersionIds: number[] };
+}
+
+describe("site ceilings", () => {
+  it("every signed-in person reads the ceilings in force; the TCP linear default is the ISO 10218-1 reduced speed", async () => {
+    const res = await call(h, "get", "/api/ceilings", team.operator.cookie);
+    expect(res.status).toBe(200);
+    const record = ceilingsRecordSchema.parse(res.body);
+    expect(record.revision).toBeGreaterThanOrEqual(1);
+    // ISO 10218-1:2011, manual reduced speed: at most 250 mm/s at the TCP.
+    expect(DEFAULT_CEILINGS.tcpLinearMaxMPerS).toBe(ISO_10218_REDUCED_SPEED_M_PER_S);
+    expect(ISO_10218_REDUCED_SPEED_M_PER_S).toBe(0.25);
+  });
+
+  it("a change from a revision that is no longer the latest is refused with stale_parent", async () => {
+    const current = (await call(h, "get", "/api/ceilings", team.officer.cookie)).body;
+    const ok = await call(h, "put", "/api/ceilings", team.officer.cookie).send({ revision: current.revision, ceilings: current.ceilings, note: "same values" });
+    expect(ok.status).toBe(200);
+    expect(ok.body.record.revision).toBe(current.revision + 1);
+    expect(ok.body.record.updatedById).toBe(team.officer.id);
+    const stale = await call(h, "put", "/api/ceilings", team.officer2.cookie).send({ revision: current.revision, ceilings: current.ceilings });
+    expect(stale.status).toBe(409);
+    expect(stale.body.error.code).toBe("stale_parent");
+    expect(stale.body.error.message).toContain(`revision ${current.revision + 1}`);
+  });
+
+  it("invalid ceilings are refused field by field", async () => {
+    const current = (await call(h, "get", "/api/ceilings", team.officer.cookie)).body;
+    const res = await call(h, "put", "/api/ceilings", team.officer.cookie).send({ revision: current.revision, ceilings: { ...current.ceilings, allowedGuardPolicies: [] } });
+    expect(res.status).toBe(400);
+    expect(res.body.error.issues[0].path).toBe("ceilings.allowedGuardPolicies");
+  });
+
+  it("lowering a ceiling flags approved versions above it: not driveable, engineers mailed; raising it back clears them", async () => {
+    // A watchdog of 295 ms is within the 300 ms default and above the lowered 290 ms.
+    const params = { ...compliantParams(arm), watchdogMs: 295 };
+    const { profile, version: v1 } = await approvedProfile(h, team, arm, params);
+    // engineer2 writes and gets approved a v2, so both engineers are engineers of the profile.
+    const v2 = (await call(h, "post", `/api/profiles/${profile.id}/versions`, team.engineer2.cookie).send({ parentVersionId: v1.id, params })).body.version;
+    await call(h, "post", `/api/versions/${v2.id}/submit`, team.engineer2.cookie).expect(200);
+    await call(h, "post", `/api/versions/${v2.id}/approve`, team.officer.cookie).send({ comment: "same as v1", paramsSha256: v2.paramsSha256 }).expect(200);
+    await h.ctx.mailer.settled();
+    const mailsBefore = h.smtp.messages.length;
+
+    const lowered = await setCeilings({ ...original, watchdogMaxMs: 290 }, "shorter watchdog for the new cell door");
+    expect(lowered.flaggedVersionIds).toContain(v2.id);
+    const detail = await call(h, "get", `/api/profiles/${profile.id}`, team.operator.cookie);
+    expect(detail.body.versions[0]).toMatchObject({ id: v2.id, state: "approved", exceedsCeilings: true });
+    expect(detail.body.profile.driveableVersionId).toBeNull();
+    const operator = (await findUserById(h.db, team.operator.id))!;
+    await expect(loadVersionForDriving(h.db, operator, v2.id)).rejects.toMatchObject({ status: 403, message: expect.stringContaining("ceilings") });
+
+    await h.ctx.mailer.settled();
+    const mail = h.smtp.messages.slice(mailsBefore).find((m) => m.subject.includes("Site ceilings lowered") && m.text.includes(`(id ${v2.id})`));
+    expect(mail).toBeDefined();
+    expect(mail!.to).toEqual(expect.arrayContaining([team.engineer.email, team.engineer2.email]));
+    expect(mail!.to).not.toContain(team.operator.email);
+
+    const raised = await setCeilings(original, "back to the site defaults");
+    expect(raised.flaggedVersionIds).not.toContain(v2.id);
+    const after = await call(h, "get", `/api/profiles/${profile.id}`, team.operator.cookie);
+    expect(after.body.profile.driveableVersionId).toBe(v2.id);
+    const flags = await call(h, "get", `/api/audit?entity=version&actorId=${team.officer.id}`, await signIn(h, "sigrid"));
+    const actions = flags.body.entries.filter((e: { entityId: string }) => e.entityId === String(v2.id)).map((e: { action: string }) => e.action);
+    expect(actions).toEqual(expect.arrayContaining(["flag", "unflag"]));
+  });
+
+  it("a submitted version that a lowered ceiling now exceeds cannot be approved", async () => {
+    const profile = await createProfile(h, team, arm, { ...compliantParams(arm), watchdogMs: 295 });
+    const v = profile.latestVersion;
+    await call(h, "post", `/api/versions/${v.id}/submit`, team.engineer.cookie).expect(200);
+    await setCeilings({ ...original, watchdogMaxMs: 290 });
+    try {
+      const res = await call(h, "post", `/api/versions/${v.id}/approve`, team.officer.cookie).send({ comment: "looks fine", paramsSha256: v.paramsSha256 });
+      expect(res.status).toBe(422);
+      expect(res.body.error.code).toBe("ceiling_exceeded");
+      expect(res.body.error.issues).toEqual([{ path: "watchdogMs", message: expect.stringContaining("watchdogMaxMs") }]);
+      expect((await call(h, "get", `/api/versions/${v.id}`, team.officer.cookie)).body.version.state).toBe("submitted");
+    } finally {
+      await setCeilings(original);
+    }
+  });
+});

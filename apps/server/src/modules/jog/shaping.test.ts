@@ -1,0 +1,31 @@
+import { describe, expect, it } from "vitest";
+import { applyDeadband, applyExpo, shapeAxis, slewVector3 } from "./shaping.ts";
+
+describe("input shaping", () => {
+  it("the deadband with rescaling gives the METHODS.md §8 check values (d = 0.1)", () => {
+    // METHODS.md §8 [CALC]: 0.05 → 0, 0.10 → 0, 0.55 → 0.500, 1.0 → 1.0 (common practice, no source).
+    expect(applyDeadband(0.05, 0.1)).toBe(0);
+    expect(applyDeadband(0.1, 0.1)).toBe(0);
+    expect(applyDeadband(0.55, 0.1)).toBeCloseTo(0.5, 12);
+    expect(applyDeadband(1, 0.1)).toBeCloseTo(1, 12);
+    expect(applyDeadband(-0.55, 0.1)).toBeCloseTo(-0.5, 12);
+  });
+
+  it("the expo curve keeps ±1 and 0 and bends the middle: e = 0.5, x = 0.5 → 0.3125", () => {
+    // (1 − e)·x + e·x³ = 0.25 + 0.0625 (derived).
+    expect(applyExpo(0.5, 0.5)).toBeCloseTo(0.3125, 12);
+    expect(applyExpo(1, 0.7)).toBeCloseTo(1, 12);
+    expect(applyExpo(-1, 0.7)).toBeCloseTo(-1, 12);
+    expect(shapeAxis(0, 0.1, 0.3)).toBe(0);
+  });
+
+  it("the slew limit moves a vector by at most the step, keeping the direction of the change", () => {
+    const cur = new Float64Array([0, 0, 0]);
+    const target = new Float64Array([3, 4, 0]);
+    slewVector3(cur, target, 0, 1); // |Δ| = 5 → one unit along (0.6, 0.8) (derived)
+    expect(cur[0]).toBeCloseTo(0.6, 12);
+    expect(cur[1]).toBeCloseTo(0.8, 12);
+    for (let i = 0; i < 10; i++) slewVector3(cur, target, 0, 1);
+    expect([...cur]).toEqual([3, 4, 0]);
+  });
+});

@@ -1,0 +1,29 @@
+import { hasAnyRole, numericIdParamSchema, type User } from "@jogwright/shared";
+import type { AppContext } from "../../context.ts";
+import { AppError } from "../../errors.ts";
+import { ApiRouter, requireAccount } from "../../http/api-router.ts";
+import { parseParams } from "../../http/validate.ts";
+import { findRecording, listRecordings, readFrames } from "./model.ts";
+
+/** Operators see their own recordings; engineers and safety officers see all; admins none (403). */
+const MAY_SEE_ALL = ["engineer", "safety_officer"] as const;
+
+function seesAll(user: User): boolean {
+  return hasAnyRole(user.roles, MAY_SEE_ALL);
+}
+
+export function recordingsRouter(ctx: AppContext): ApiRouter {
+  return new ApiRouter("/api/recordings")
+    .add("get", "/", ["operator", "engineer", "safety_officer"], async (_req, res) => {
+      const user = requireAccount(res);
+      res.json({ recordings: await listRecordings(ctx.db, seesAll(user) ? null : user.id) });
+    })
+    .add("get", "/:id", ["operator", "engineer", "safety_officer"], async (req, res) => {
+      const user = requireAccount(res);
+      const { id } = parseParams(req, numericIdParamSchema);
+      const recording = await findRecording(ctx.db, id);
+      // Somebody else's recording is "not found" for an operator (no hint that it exists).
+      if (!recording || (!seesAll(user) && recording.driverId !== user.id)) throw new AppError(404, "not_found", "No such recording.");
+      res.json({ recording, frames: await readFrames(ctx.db, id) });
+    });
+}

@@ -1,0 +1,111 @@
+import type { Sequelize } from "sequelize";
+import { finishRecording, insertChunk } from "./model.ts";
+
+/**
+ * Buffered recording writer: the simulation hands over each frame's JSON (a string, built anyway for the
+ * socket) and never waits; a flush every ~1 s writes one chunk per recording. When the database is slow
+ * or down, frames stay queued and go out with a later flush (a failed chunk is retried, kept in order);
+ * nothing here throws into the tick path. A recording's end (summary) is written after its last chunk.
+ */
+
+export const FLUSH_INTERVAL_MS = 1000;
+/** Above this many queued frames per recording the oldest are dropped (and counted): memory stays bounded. */
+export const MAX_QUEUED_FRAMES = 60 * 600;
+
+interface Pending {
+  recordingId: number;
+  nextChunk: number;
+  frames: string[];
+  dropped: number;
+  end: { endedAt: Date; reason: string; summary: object } | null;
+}
+
+export class RecordingWriter {
+  private readonly pending = new Map<number, Pending>();
+  private timer: NodeJS.Timeout | null = null;
+  private flushing: Promise<void> | null = null;
+  failures = 0;
+  chunksWritten = 0;
+
+  constructor(private readonly db: Sequelize, private readonly flushIntervalMs = FLUSH_INTERVAL_MS) {}
+
+  private entry(recordingId: number): Pending {
+    let p = this.pending.get(recordingId);
+    if (!p) {
+      p = { recordingId, nextChunk: 0, frames: [], dropped: 0, end: null };
+      this.pending.set(recordingId, p);
+    }
+    this.ensureTimer();
+    return p;
+  }
+
+  private ensureTimer(): void {
+    if (this.timer) return;
+    this.timer = setInterval(() => void this.flush(), this.flushIntervalMs);
+    this.timer.unref();
+  }
+
+  /** Queues one recorded frame (JSON object text). O(1), never touches the database. */
+  push(recordingId: number, frameJson: string): void {
+    const p = this.entry(recordingId);
+    p.frames.push(frameJson);
+    if (p.frames.length > MAX_QUEUED_FRAMES) {
+      p.frames.shift();
+      p.dropped++;
+    }
+  }
+
+  /** Marks the recording ended; written after its remaining frames, by the next flush (or flushNow). */
+  end(recordingId: number, endedAt: Date, reason: string, summary: object): void {
+    this.entry(recordingId).end = { endedAt, reason, summary };
+  }
+
+  /** One flush at a time; a call during a flush waits for it and then flushes again. */
+  flush(): Promise<void> {
+    if (this.flushing) return this.flushing.then(() => this.flush());
+    this.flushing = this.flushOnce().finally(() => {
+      this.flushing = null;
+    });
+    return this.flushing;
+  }
+
+  private async flushOnce(): Promise<void> {
+    for (const p of [...this.pending.values()]) {
+      try {
+        if (p.frames.length > 0) {
+          const frames = p.frames;
+          const count = frames.length;
+          await insertChunk(this.db, p.recordingId, p.nextChunk, count, `[${frames.slice(0, count).join(",")}]`);
+          // Only now drop them: frames pushed meanwhile stay queued.
+          p.frames.splice(0, count);
+          p.nextChunk++;
+          this.chunksWritten++;
+        }
+        if (p.end && p.frames.length === 0) {
+          const summary = p.dropped > 0 ? { ...p.end.summary, droppedFrames: p.dropped } : p.end.summary;
+          await finishRecording(this.db, p.recordingId, p.end.endedAt, p.end.reason, summary);
+          this.pending.delete(p.recordingId);
+        }
+      } catch (error) {
+        this.failures++;
+        // Logged and kept; the next flush retries. Never thrown into the simulation.
+        console.error(`[jogwright] recording ${p.recordingId}: write failed, will retry:`, (error as Error).message);
+      }
+    }
+    if (this.pending.size === 0 && this.timer) {
+      clearInterval(this.timer);
+      this.timer = null;
+    }
+  }
+
+  /** Flushes until nothing is pending (or attempts run out); used on shutdown and in tests. */
+  async drain(maxAttempts = 5): Promise<void> {
+    for (let i = 0; i < maxAttempts && this.pending.size > 0; i++) await this.flush();
+  }
+
+  async close(): Promise<void> {
+    await this.drain();
+    if (this.timer) clearInterval(this.timer);
+    this.timer = null;
+  }
+}

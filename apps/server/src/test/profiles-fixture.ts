@@ -1,0 +1,65 @@
+import { QueryTypes } from "sequelize";
+import { defaultProfileParams, type Arm, type ProfileParams, type Role } from "@jogwright/shared";
+import { call, freshUser, signIn, type Harness } from "./harness.ts";
+
+/** Fresh people for one test: two engineers, two safety officers, an operator; each signed in. */
+export async function freshTeam(h: Harness) {
+  const make = async (roles: Role[]) => {
+    const u = await freshUser(h, roles);
+    return { ...u.user, cookie: await signIn(h, u.username, u.password) };
+  };
+  return {
+    engineer: await make(["engineer"]),
+    engineer2: await make(["engineer"]),
+    officer: await make(["safety_officer"]),
+    officer2: await make(["safety_officer"]),
+    operator: await make(["operator"]),
+  };
+}
+export type Team = Awaited<ReturnType<typeof freshTeam>>;
+
+/**
+ * Deactivate a test's people afterwards, so "all active safety officers" (the submit mail) stays the
+ * demo officer plus the running test's own. Plain SQL: this is test cleanup, not an audited change.
+ */
+export async function retireTeam(h: Harness, team: Team | undefined): Promise<void> {
+  if (!team) return;
+  const ids = Object.values(team).map((p) => p.id);
+  await h.db.query("UPDATE users SET is_active = 0 WHERE id IN (?)", { replacements: [ids] });
+}
+
+export async function sixAxisArm(h: Harness): Promise<Arm> {
+  const rows = await h.db.query<{ id: number }>("SELECT id FROM arms WHERE slug = 'cell-arm-6'", { type: QueryTypes.SELECT });
+  const res = await call(h, "get", `/api/arms/${rows[0]!.id}`, (await adminlessCookie(h)));
+  return res.body.arm as Arm;
+}
+
+let cachedCookie: string | null = null;
+async function adminlessCookie(h: Harness): Promise<string> {
+  cachedCookie ??= await signIn(h, "olena");
+  return cachedCookie;
+}
+
+/** Parameters within the default ceilings (half of each rated joint speed, 250 mm/s TCP). */
+export const compliantParams = (arm: Arm): ProfileParams => defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
+
+let n = 0;
+export const uniqueName = (what: string) => `${what} ${Date.now().toString(36)}-${++n}`;
+
+/** Create a profile (version 1 draft) through the API; returns the profile summary. */
+export async function createProfile(h: Harness, team: Team, arm: Arm, params = compliantParams(arm), name = uniqueName("Test profile")) {
+  const res = await call(h, "post", "/api/profiles", team.engineer.cookie).send({ name, operatorId: team.operator.id, armId: arm.id, params, note: "v1" });
+  if (res.status !== 201) throw new Error(`create profile: ${res.status} ${JSON.stringify(res.body)}`);
+  return res.body.profile as { id: number; name: string; latestVersion: { id: number; number: number; paramsSha256: string } };
+}
+
+/** Create, submit and approve version 1; returns the profile and the approved version. */
+export async function approvedProfile(h: Harness, team: Team, arm: Arm, params = compliantParams(arm)) {
+  const profile = await createProfile(h, team, arm, params);
+  const v = profile.latestVersion;
+  const s = await call(h, "post", `/api/versions/${v.id}/submit`, team.engineer.cookie);
+  if (s.status !== 200) throw new Error(`submit: ${s.status} ${JSON.stringify(s.body)}`);
+  const a = await call(h, "post", `/api/versions/${v.id}/approve`, team.officer.cookie).send({ comment: "looks right", paramsSha256: v.paramsSha256 });
+  if (a.status !== 200) throw new Error(`approve: ${a.status} ${JSON.stringify(a.body)}`);
+  return { profile, version: a.body.version as { id: number; number: number; paramsSha256: string } };
+}
