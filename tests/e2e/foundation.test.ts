@@ -6,13 +6,15 @@ import { baseUrl, launchBrowser, saveScreenshot } from "../support/browser.ts";
 // navigation, the cautions banner, creating a user as admin, sign-out and a wrong password.
 
 const DEMO_PASSWORD = "demo-pass-2026";
-const ALL = ["Overview", "Arms"];
+// Menu order follows NAV_ITEMS in apps/console/src/app/navigation.ts.
+const OPERATOR_NAV = ["Overview", "Drive", "Recordings", "Arms", "Profiles"];
+const ENGINEER_NAV = ["Overview", "Drive", "Live", "Recordings", "Arms", "Profiles", "Ceilings"];
 const DEMO_ACCOUNTS: { username: string; nav: string[] }[] = [
-  { username: "olena", nav: ALL },
-  { username: "tomas", nav: ALL },
-  { username: "emeka", nav: ALL },
-  { username: "sigrid", nav: ALL },
-  { username: "adele", nav: [...ALL, "Users"] },
+  { username: "olena", nav: OPERATOR_NAV },
+  { username: "tomas", nav: OPERATOR_NAV },
+  { username: "emeka", nav: ENGINEER_NAV },
+  { username: "sigrid", nav: ["Overview", "Live", "Recordings", "Arms", "Profiles", "Reviews", "Ceilings", "Audit"] },
+  { username: "adele", nav: ["Overview", "Arms", "Audit", "Users", "Outbox"] },
 ];
 const TIMEOUT_MS = 15_000;
 
@@ -146,7 +148,8 @@ describe("console foundation", { timeout: 90_000 }, () => {
 
     await signIn(page, username, "browser-test-pass");
     await page.getByRole("heading", { level: 1, name: `Hello, ${displayName}` }).waitFor();
-    expect(await navLabels(page)).toEqual(ALL);
+    // The new user was given the engineer role.
+    expect(await navLabels(page)).toEqual(ENGINEER_NAV);
     await expectCautions(page);
     expect(await page.getByTestId("current-user").innerText()).toContain(displayName);
     await saveScreenshot(page, "new-user-overview");

@@ -8,3 +8,4 @@ export * from "./profile.ts";
 export * from "./profile-api.ts";
 export * from "./canonical-json.ts";
 export * from "./jog-protocol.ts";
+export * from "./profile-fields.ts";

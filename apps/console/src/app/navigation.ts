@@ -1,4 +1,4 @@
-import { Boxes, LayoutDashboard, Users, type LucideIcon } from "lucide-react";
+import { Boxes, ClipboardCheck, Eye, Film, Gamepad2, Gauge, LayoutDashboard, Mail, ScrollText, SlidersHorizontal, Users, type LucideIcon } from "lucide-react";
 import type { ComponentType } from "react";
 import { hasAnyRole, type Role } from "@jogwright/shared";
 
@@ -17,14 +17,47 @@ export interface NavItem {
   roles: readonly Role[];
   /** Loads the route module lazily; its default export is the page. */
   load: () => Promise<{ default: ComponentType }>;
+  /** Pages below this one (e.g. ":profileId"), same roles, not in the menu. */
+  children?: readonly { path: string; load: () => Promise<{ default: ComponentType }> }[];
 }
 
 const ALL_ROLES: readonly Role[] = ["operator", "engineer", "safety_officer", "admin"];
 
 export const NAV_ITEMS: readonly NavItem[] = [
   { label: "Overview", path: "/", icon: LayoutDashboard, roles: ALL_ROLES, load: () => import("./routes/overview-route.tsx") },
+  { label: "Drive", path: "/drive", icon: Gamepad2, roles: ["operator", "engineer"], load: () => import("./routes/drive-route.tsx") },
+  { label: "Live", path: "/live", icon: Eye, roles: ["engineer", "safety_officer"], load: () => import("./routes/live-route.tsx") },
+  {
+    label: "Recordings",
+    path: "/recordings",
+    icon: Film,
+    roles: ["operator", "engineer", "safety_officer"],
+    load: () => import("./routes/recordings-route.tsx"),
+  },
   { label: "Arms", path: "/arms", icon: Boxes, roles: ALL_ROLES, load: () => import("./routes/arms-route.tsx") },
+  {
+    label: "Profiles",
+    path: "/profiles",
+    icon: SlidersHorizontal,
+    roles: ["operator", "engineer", "safety_officer"],
+    load: () => import("./routes/profiles-route.tsx"),
+    children: [
+      { path: "new", load: () => import("./routes/new-profile-route.tsx") },
+      { path: ":profileId", load: () => import("./routes/profile-detail-route.tsx") },
+    ],
+  },
+  {
+    label: "Reviews",
+    path: "/reviews",
+    icon: ClipboardCheck,
+    roles: ["safety_officer"],
+    load: () => import("./routes/reviews-route.tsx"),
+    children: [{ path: ":versionId", load: () => import("./routes/review-route.tsx") }],
+  },
+  { label: "Ceilings", path: "/ceilings", icon: Gauge, roles: ["engineer", "safety_officer"], load: () => import("./routes/ceilings-route.tsx") },
+  { label: "Audit", path: "/audit", icon: ScrollText, roles: ["safety_officer", "admin"], load: () => import("./routes/audit-route.tsx") },
   { label: "Users", path: "/admin/users", icon: Users, roles: ["admin"], load: () => import("./routes/users-route.tsx") },
+  { label: "Outbox", path: "/admin/outbox", icon: Mail, roles: ["admin"], load: () => import("./routes/outbox-route.tsx") },
 ];
 
 export function navItemsFor(roles: readonly Role[]): NavItem[] {

@@ -19,6 +19,11 @@ const pageRoutes: RouteObject[] = NAV_ITEMS.map((item) => ({
       ErrorBoundary: RouteError,
       lazy: async () => ({ Component: (await item.load()).default }),
     },
+    ...(item.children ?? []).map((child) => ({
+      path: child.path,
+      ErrorBoundary: RouteError,
+      lazy: async () => ({ Component: (await child.load()).default }),
+    })),
   ],
 }));
 

@@ -1,0 +1,9 @@
+import { useCurrentUser } from "../../features/auth/hooks/use-session.ts";
+import { NewProfilePage } from "../../features/profiles/components/new-profile-page.tsx";
+import { NotAvailable } from "./not-available.tsx";
+
+export default function NewProfileRoute() {
+  const user = useCurrentUser();
+  if (!user.roles.includes("engineer")) return <NotAvailable pageRoles={["engineer"]} userRoles={user.roles} />;
+  return <NewProfilePage />;
+}

@@ -1,0 +1,277 @@
+import { useMemo, useState } from "react";
+import { Link } from "react-router";
+import { useForm, type FieldErrors, type Resolver } from "react-hook-form";
+import { Save } from "lucide-react";
+import {
+  ceilingsSchema,
+  GUARD_POLICIES,
+  GUARD_POLICY_LABELS,
+  roundTo,
+  UNITS,
+  type Ceilings,
+  type CeilingsRecord,
+  type GuardPolicy,
+} from "@jogwright/shared";
+import { PageHeader } from "../../../components/layout/page-header.tsx";
+import { Button } from "../../../components/ui/button.tsx";
+import { Card } from "../../../components/ui/card.tsx";
+import { Checkbox } from "../../../components/ui/checkbox.tsx";
+import { Loading } from "../../../components/ui/loading.tsx";
+import { Message } from "../../../components/ui/message.tsx";
+import { NumberField } from "../../../components/ui/number-field.tsx";
+import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
+import { isApiRequestError } from "../../../lib/api-client.ts";
+import { formatDateTime } from "../../../lib/format.ts";
+import { useProfiles } from "../../profiles/hooks/use-profiles.ts";
+import { ISO_CEILING_CITATION } from "../../profiles/components/profile-params-form.tsx";
+import { useCeilings, useUpdateCeilings } from "../hooks/use-ceilings.ts";
+
+/** The ceilings in the units people set them in. */
+interface CeilingsFormValues {
+  tcpLinearMaxMmPerS: number;
+  tcpAngularMaxDegPerS: number;
+  jointSpeedFractionMaxPercent: number;
+  watchdogMaxMs: number;
+  allowedGuardPolicies: GuardPolicy[];
+  lambdaMaxMinM: number;
+  note: string;
+}
+
+const PATH_TO_KEY: Record<keyof Ceilings, keyof CeilingsFormValues> = {
+  tcpLinearMaxMPerS: "tcpLinearMaxMmPerS",
+  tcpAngularMaxRadPerS: "tcpAngularMaxDegPerS",
+  jointSpeedFractionMax: "jointSpeedFractionMaxPercent",
+  watchdogMaxMs: "watchdogMaxMs",
+  allowedGuardPolicies: "allowedGuardPolicies",
+  lambdaMaxMinM: "lambdaMaxMinM",
+};
+
+const toUi = (c: Ceilings): Omit<CeilingsFormValues, "note"> => ({
+  tcpLinearMaxMmPerS: roundTo(UNITS.mPerSToMmPerS.toUi(c.tcpLinearMaxMPerS), 1),
+  tcpAngularMaxDegPerS: roundTo(UNITS.radPerSToDegPerS.toUi(c.tcpAngularMaxRadPerS), 2),
+  jointSpeedFractionMaxPercent: roundTo(UNITS.fractionToPercent.toUi(c.jointSpeedFractionMax), 1),
+  watchdogMaxMs: c.watchdogMaxMs,
+  allowedGuardPolicies: [...c.allowedGuardPolicies],
+  lambdaMaxMinM: c.lambdaMaxMinM,
+});
+
+const fromUi = (v: CeilingsFormValues): Record<keyof Ceilings, unknown> => ({
+  tcpLinearMaxMPerS: UNITS.mPerSToMmPerS.toSi(v.tcpLinearMaxMmPerS),
+  tcpAngularMaxRadPerS: UNITS.radPerSToDegPerS.toSi(v.tcpAngularMaxDegPerS),
+  jointSpeedFractionMax: UNITS.fractionToPercent.toSi(v.jointSpeedFractionMaxPercent),
+  watchdogMaxMs: v.watchdogMaxMs,
+  // An unticked group of checkboxes reads as false in react-hook-form.
+  allowedGuardPolicies: Array.isArray(v.allowedGuardPolicies) ? v.allowedGuardPolicies : [],
+  lambdaMaxMinM: v.lambdaMaxMinM,
+});
+
+/** The UI values are converted to SI and checked with the shared ceilingsSchema, as the server does. */
+const resolver: Resolver<CeilingsFormValues> = async (values) => {
+  const errors: Record<string, { type: string; message: string }> = {};
+  const parsed = ceilingsSchema.safeParse(fromUi(values));
+  if (!parsed.success) {
+    for (const issue of parsed.error.issues) {
+      const key = PATH_TO_KEY[issue.path[0] as keyof Ceilings] ?? "note";
+      const message = issue.code === "invalid_type" ? "Enter a number" : issue.message.charAt(0).toUpperCase() + issue.message.slice(1);
+      errors[key] ??= { type: issue.code, message };
+    }
+  }
+  if (values.note.length > 2000) errors.note = { type: "max", message: "At most 2000 characters" };
+  return Object.keys(errors).length === 0 ? { values, errors: {} } : { values: {}, errors: errors as FieldErrors<CeilingsFormValues> };
+};
+
+export function CeilingsPage({ canEdit }: { canEdit: boolean }) {
+  const record = useCeilings();
+  return (
+    <>
+      <PageHeader
+        title="Site ceilings"
+        description="Limits no profile version may exceed. A version above a ceiling cannot be submitted or approved; lowering a ceiling marks approved versions above it, which then cannot be driven until a compliant version is approved."
+      />
+      {record.isPending ? <Loading label="Loading the ceilings…" /> : null}
+      {record.isError ? (
+        <Message tone="stop" title="Could not load the ceilings">
+          {record.error.message}
+        </Message>
+      ) : null}
+      {record.data ? <CeilingsEditor latest={record.data} canEdit={canEdit} /> : null}
+    </>
+  );
+}
+
+/**
+ * Edits the revision it was loaded with; a background refetch never replaces what is being typed. A save
+ * over a newer revision is refused by the server (409 stale_parent) and the values stay in the form.
+ */
+function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: boolean }) {
+  const update = useUpdateCeilings();
+  const profiles = useProfiles();
+  const [loaded, setLoaded] = useState(latest);
+  const [flagged, setFlagged] = useState<number[] | null>(null);
+  // Only the first render counts for react-hook-form; later revisions arrive through reset().
+  const defaultValues = useMemo(() => ({ ...toUi(loaded.ceilings), note: "" }), [loaded]);
+  const { register, handleSubmit, formState, reset } = useForm<CeilingsFormValues>({ resolver, mode: "onChange", defaultValues });
+  const errors = formState.errors;
+  const isStale = isApiRequestError(update.error) && update.error.code === "stale_parent";
+
+  const onSubmit = handleSubmit((values) => {
+    setFlagged(null);
+    snapshotNames();
+    const ceilings = ceilingsSchema.parse(fromUi(values));
+    update.mutate({ revision: loaded.revision, ceilings, note: values.note.trim() }, {
+      onSuccess: (r) => {
+        setLoaded(r.record);
+        reset({ ...toUi(r.record.ceilings), note: "" });
+        setFlagged(r.flaggedVersionIds);
+      },
+    });
+  });
+
+  // Names for flagged versions, from the profiles as they were before the save (a flagged version stops
+  // being driveable, so afterwards the list no longer points at it).
+  const [namesBeforeSave, setNamesBeforeSave] = useState<Map<number, { text: string; profileId: number }>>(new Map());
+  const snapshotNames = () => {
+    const names = new Map<number, { text: string; profileId: number }>();
+    for (const p of profiles.data ?? []) {
+      if (p.driveableVersionId !== null) names.set(p.driveableVersionId, { text: `${p.name} (its driveable version)`, profileId: p.id });
+      names.set(p.latestVersion.id, { text: `${p.name} v${p.latestVersion.number}`, profileId: p.id });
+    }
+    setNamesBeforeSave(names);
+  };
+  const describeVersion = (id: number) => namesBeforeSave.get(id) ?? { text: `version id ${id}`, profileId: null };
+
+  return (
+    <div className="flex max-w-4xl flex-col gap-6">
+      {flagged ? (
+        flagged.length === 0 ? (
+          <Message tone="ok" title="Ceilings saved">
+            No approved version is above the new ceilings.
+          </Message>
+        ) : (
+          <Message tone="warn" title={`Ceilings saved — ${flagged.length} approved ${flagged.length === 1 ? "version is" : "versions are"} now above them`}>
+            <p>These cannot be driven until a compliant version is approved:</p>
+            <ul className="list-disc pl-4" data-testid="flagged-versions">
+              {flagged.map((id) => {
+                const v = describeVersion(id);
+                return (
+                  <li key={id}>
+                    {v.profileId !== null ? (
+                      <Link to={`/profiles/${v.profileId}`} className="text-iris-300 hover:underline">
+                        {v.text}
+                      </Link>
+                    ) : (
+                      v.text
+                    )}
+                  </li>
+                );
+              })}
+            </ul>
+          </Message>
+        )
+      ) : null}
+      <Card
+        title={canEdit ? "Edit the ceilings" : "Ceilings in force"}
+        description={
+          <>
+            Revision <span className="num text-ink-100">{loaded.revision}</span>
+            {loaded.updatedByName ? (
+              <>
+                , set by <strong className="text-ink-100">{loaded.updatedByName}</strong> on <span className="num">{formatDateTime(loaded.updatedAt)}</span>
+              </>
+            ) : (
+              " (site defaults)"
+            )}
+            .{canEdit ? "" : " Only a safety officer can change them."}
+          </>
+        }
+      >
+        <form onSubmit={onSubmit} noValidate className="flex flex-col gap-5" aria-label="Site ceilings">
+          <div className="grid gap-4 md:grid-cols-2">
+            <NumberField
+              label="TCP linear speed, at most"
+              unit="mm/s"
+              hint={<>Default 250 mm/s. Reference: {ISO_CEILING_CITATION}.</>}
+              disabled={!canEdit}
+              error={errors.tcpLinearMaxMmPerS?.message}
+              {...register("tcpLinearMaxMmPerS", { valueAsNumber: true })}
+            />
+            <NumberField
+              label="TCP angular speed, at most"
+              unit="deg/s"
+              disabled={!canEdit}
+              error={errors.tcpAngularMaxDegPerS?.message}
+              {...register("tcpAngularMaxDegPerS", { valueAsNumber: true })}
+            />
+            <NumberField
+              label="Joint rate cap, at most"
+              unit="%"
+              hint="Of each joint's rated speed (the arm's maxSpeed)."
+              disabled={!canEdit}
+              error={errors.jointSpeedFractionMaxPercent?.message}
+              {...register("jointSpeedFractionMaxPercent", { valueAsNumber: true })}
+            />
+            <NumberField
+              label="Input watchdog, at most"
+              unit="ms"
+              hint="The longest time without input before a controlled stop."
+              disabled={!canEdit}
+              error={errors.watchdogMaxMs?.message}
+              {...register("watchdogMaxMs", { valueAsNumber: true })}
+            />
+            <NumberField
+              label="Damping at the singularity, at least"
+              unit="m"
+              hint="The smallest λmax (or λ0, or fixed λ) a profile may use near singularities."
+              disabled={!canEdit}
+              error={errors.lambdaMaxMinM?.message}
+              {...register("lambdaMaxMinM", { valueAsNumber: true })}
+            />
+            <fieldset className="flex flex-col gap-2" aria-describedby={errors.allowedGuardPolicies ? "guard-policies-error" : undefined}>
+              <legend className="mb-1 text-sm font-semibold">Allowed guard policies</legend>
+              {GUARD_POLICIES.map((p) => (
+                <Checkbox key={p} label={GUARD_POLICY_LABELS[p]} value={p} disabled={!canEdit} {...register("allowedGuardPolicies")} />
+              ))}
+              {errors.allowedGuardPolicies ? (
+                <p id="guard-policies-error" className="text-sm text-stop-400">
+                  {errors.allowedGuardPolicies.message}
+                </p>
+              ) : null}
+            </fieldset>
+          </div>
+          {canEdit ? (
+            <>
+              <TextAreaField label="Note" hint="Why the ceilings change; kept in the audit trail." error={errors.note?.message} {...register("note")} />
+              {isStale ? (
+                <Message tone="stop" title="Not saved: the ceilings changed since you loaded them">
+                  <p>{update.error?.message}</p>
+                  <p>Nothing was overwritten and your values are still in the form. Load the current ceilings, then make your change again.</p>
+                  <Button
+                    size="sm"
+                    className="mt-2"
+                    onClick={() => {
+                      setLoaded(latest);
+                      reset({ ...toUi(latest.ceilings), note: "" });
+                      update.reset();
+                    }}
+                  >
+                    Load the current ceilings (revision {latest.revision}, discards my values)
+                  </Button>
+                </Message>
+              ) : update.isError ? (
+                <Message tone="stop" title="Not saved">
+                  {update.error.message}
+                </Message>
+              ) : null}
+              <div className="flex justify-end">
+                <Button type="submit" variant="primary" disabled={update.isPending}>
+                  <Save aria-hidden className="size-4" />
+                  {update.isPending ? "Saving…" : "Save ceilings"}
+                </Button>
+              </div>
+            </>
+          ) : null}
+        </form>
+      </Card>
+    </div>
+  );
+}

@@ -1,0 +1,25 @@
+import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import type { Ceilings } from "@jogwright/shared";
+import { ceilingKeys, ceilingsQueryOptions, updateCeilings } from "../api/ceilings-api.ts";
+import { profileKeys, versionKeys } from "../../profiles/api/profiles-api.ts";
+import { auditKeys } from "../../audit/api/audit-api.ts";
+
+export const useCeilings = () => useQuery(ceilingsQueryOptions());
+
+/** Lowering a ceiling can flag approved versions, so profiles and versions are refetched too. */
+export function useUpdateCeilings() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (input: { revision: number; ceilings: Ceilings; note: string }) => updateCeilings(input),
+    onSuccess: (result) => {
+      queryClient.setQueryData(ceilingKeys.current(), result.record);
+      return Promise.all([
+        queryClient.invalidateQueries({ queryKey: ceilingKeys.all }),
+        queryClient.invalidateQueries({ queryKey: profileKeys.all }),
+        queryClient.invalidateQueries({ queryKey: versionKeys.all }),
+        queryClient.invalidateQueries({ queryKey: auditKeys.all }),
+      ]);
+    },
+    onError: () => queryClient.invalidateQueries({ queryKey: ceilingKeys.all }),
+  });
+}

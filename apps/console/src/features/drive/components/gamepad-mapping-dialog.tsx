@@ -1,0 +1,305 @@
+import { useEffect, useRef, useState } from "react";
+import { useMutation, useQueryClient } from "@tanstack/react-query";
+import {
+  DEFAULT_GAMEPAD_MAPPING,
+  TWIST_TARGETS,
+  gamepadMappingSchema,
+  type GamepadMapping,
+} from "@jogwright/shared";
+import { Button } from "../../../components/ui/button.tsx";
+import { Dialog } from "../../../components/ui/dialog.tsx";
+import { Message } from "../../../components/ui/message.tsx";
+import { describeError } from "../../../lib/api-client.ts";
+import { driveKeys, saveGamepadMapping } from "../api/drive-api.ts";
+import { firstGamepad } from "../input/shaping.ts";
+
+// Which stick or button pair drives each twist component, inversion, the device's deadband and expo,
+// the enabling and e-stop buttons; saved per user (PUT /api/gamepad-mapping).
+
+const TARGET_LABELS: Record<(typeof TWIST_TARGETS)[number], string> = {
+  vx: "X (linear)",
+  vy: "Y (linear)",
+  vz: "Z (linear)",
+  wx: "Rx (turn about x)",
+  wy: "Ry (turn about y)",
+  wz: "Rz (turn about z)",
+};
+
+type Entry = GamepadMapping["axes"][number];
+type Capture = { kind: "axis"; target: Entry["target"] } | { kind: "button"; field: "enablingButton" | "estopButton" | `${Entry["target"]}.positive` | `${Entry["target"]}.negative` };
+
+const selectClass = "h-8 rounded-md border border-ink-600 bg-ink-800 px-2 text-sm text-ink-100";
+const numberClass = "num h-8 w-16 rounded-md border border-ink-600 bg-ink-800 px-2 text-sm text-ink-100";
+
+/** Waits for a stick pushed past half or a button pressed on the first gamepad. */
+function useCapture(capture: Capture | null, onCaptured: (index: number) => void) {
+  const callback = useRef(onCaptured);
+  callback.current = onCaptured;
+  useEffect(() => {
+    if (!capture) return;
+    const start = firstGamepad();
+    const restingButtons = start ? start.buttons.map((b) => b.pressed) : [];
+    const timer = setInterval(() => {
+      const pad = firstGamepad();
+      if (!pad) return;
+      if (capture.kind === "axis") {
+        const index = pad.axes.findIndex((v) => Math.abs(v) > 0.5);
+        if (index >= 0) callback.current(index);
+      } else {
+        const index = pad.buttons.findIndex((b, i) => b.pressed && !restingButtons[i]);
+        if (index >= 0) callback.current(index);
+      }
+    }, 30);
+    return () => clearInterval(timer);
+  }, [capture]);
+}
+
+export function GamepadMappingDialog({ open, onClose, mapping }: { open: boolean; onClose: () => void; mapping: GamepadMapping }) {
+  const [draft, setDraft] = useState<GamepadMapping>(mapping);
+  const [capture, setCapture] = useState<Capture | null>(null);
+  const queryClient = useQueryClient();
+  const save = useMutation({
+    mutationFn: saveGamepadMapping,
+    onSuccess: (saved) => {
+      queryClient.setQueryData(driveKeys.gamepadMapping(), saved);
+      onClose();
+    },
+  });
+
+  useEffect(() => {
+    if (open) {
+      setDraft(mapping);
+      setCapture(null);
+      save.reset();
+    }
+    // Reset only when (re)opened.
+  }, [open]);
+
+  const entryFor = (target: Entry["target"]): Entry | undefined => draft.axes.find((a) => a.target === target);
+  const setEntry = (target: Entry["target"], entry: Entry | null) =>
+    setDraft((d) => ({ ...d, axes: [...d.axes.filter((a) => a.target !== target), ...(entry ? [entry] : [])] }));
+
+  useCapture(capture, (index) => {
+    const c = capture;
+    setCapture(null);
+    if (!c) return;
+    if (c.kind === "axis") {
+      setEntry(c.target, { target: c.target, source: { kind: "axis", index }, invert: entryFor(c.target)?.invert ?? false });
+    } else if (c.field === "enablingButton" || c.field === "estopButton") {
+      setDraft((d) => ({ ...d, [c.field]: index }));
+    } else {
+      const [target, side] = c.field.split(".") as [Entry["target"], "positive" | "negative"];
+      const current = entryFor(target);
+      const source = current?.source.kind === "buttons" ? current.source : { kind: "buttons" as const, positive: 0, negative: 0 };
+      setEntry(target, { target, source: { ...source, [side]: index }, invert: current?.invert ?? false });
+    }
+  });
+
+  const parsed = gamepadMappingSchema.safeParse(draft);
+  const captureLabel = (c: Capture) => (c.kind === "axis" ? "Move a stick…" : "Press a button…");
+  const isCapturing = (c: Capture) => capture !== null && JSON.stringify(capture) === JSON.stringify(c);
+
+  function CaptureButton({ target }: { target: Capture }) {
+    return (
+      <Button size="sm" variant="ghost" onClick={() => setCapture(isCapturing(target) ? null : target)}>
+        {isCapturing(target) ? captureLabel(target) : "Assign"}
+      </Button>
+    );
+  }
+
+  return (
+    <Dialog
+      open={open}
+      onClose={onClose}
+      title="Gamepad mapping"
+      description="Saved for your account. Device deadband and expo calibrate the stick; the profile's own shaping applies on top."
+      className="w-[min(46rem,calc(100vw-2rem))]"
+    >
+      <form
+        className="flex flex-col gap-4"
+        onSubmit={(event) => {
+          event.preventDefault();
+          if (parsed.success) save.mutate(parsed.data);
+        }}
+      >
+        <table className="w-full text-sm">
+          <thead className="text-left text-xs text-ink-300">
+            <tr>
+              <th className="py-1 font-semibold">Motion</th>
+              <th className="py-1 font-semibold">Source</th>
+              <th className="py-1 font-semibold">Index</th>
+              <th className="py-1 font-semibold">Invert</th>
+              <th />
+            </tr>
+          </thead>
+          <tbody>
+            {TWIST_TARGETS.map((target) => {
+              const entry = entryFor(target);
+              const kind = entry?.source.kind ?? "none";
+              return (
+                <tr key={target} className="border-t border-ink-700">
+                  <td className="py-1.5 pr-2">{TARGET_LABELS[target]}</td>
+                  <td className="py-1.5 pr-2">
+                    <select
+                      aria-label={`${TARGET_LABELS[target]} source`}
+                      className={selectClass}
+                      value={kind}
+                      onChange={(event) => {
+                        const k = event.target.value;
+                        if (k === "none") setEntry(target, null);
+                        else if (k === "axis") setEntry(target, { target, source: { kind: "axis", index: 0 }, invert: entry?.invert ?? false });
+                        else setEntry(target, { target, source: { kind: "buttons", positive: 12, negative: 13 }, invert: entry?.invert ?? false });
+                      }}
+                    >
+                      <option value="none">Not used</option>
+                      <option value="axis">Stick axis</option>
+                      <option value="buttons">Button pair</option>
+                    </select>
+                  </td>
+                  <td className="py-1.5 pr-2">
+                    {entry?.source.kind === "axis" ? (
+                      <span className="flex items-center gap-1">
+                        <input
+                          type="number"
+                          min={0}
+                          max={15}
+                          aria-label={`${TARGET_LABELS[target]} axis index`}
+                          className={numberClass}
+                          value={entry.source.index}
+                          onChange={(event) => setEntry(target, { ...entry, source: { kind: "axis", index: Number(event.target.value) } })}
+                        />
+                        <CaptureButton target={{ kind: "axis", target }} />
+                      </span>
+                    ) : entry?.source.kind === "buttons" ? (
+                      <span className="flex flex-wrap items-center gap-1 text-xs text-ink-300">
+                        +
+                        <input
+                          type="number"
+                          min={0}
+                          max={31}
+                          aria-label={`${TARGET_LABELS[target]} positive button`}
+                          className={numberClass}
+                          value={entry.source.positive}
+                          onChange={(event) =>
+                            entry.source.kind === "buttons" &&
+                            setEntry(target, { ...entry, source: { ...entry.source, positive: Number(event.target.value) } })
+                          }
+                        />
+                        <CaptureButton target={{ kind: "button", field: `${target}.positive` }} />−
+                        <input
+                          type="number"
+                          min={0}
+                          max={31}
+                          aria-label={`${TARGET_LABELS[target]} negative button`}
+                          className={numberClass}
+                          value={entry.source.negative}
+                          onChange={(event) =>
+                            entry.source.kind === "buttons" &&
+                            setEntry(target, { ...entry, source: { ...entry.source, negative: Number(event.target.value) } })
+                          }
+                        />
+                        <CaptureButton target={{ kind: "button", field: `${target}.negative` }} />
+                      </span>
+                    ) : (
+                      <span className="text-xs text-ink-400">—</span>
+                    )}
+                  </td>
+                  <td className="py-1.5">
+                    <input
+                      type="checkbox"
+                      aria-label={`Invert ${TARGET_LABELS[target]}`}
+                      className="size-4 accent-iris-400"
+                      disabled={!entry}
+                      checked={entry?.invert ?? false}
+                      onChange={(event) => entry && setEntry(target, { ...entry, invert: event.target.checked })}
+                    />
+                  </td>
+                  <td />
+                </tr>
+              );
+            })}
+          </tbody>
+        </table>
+        <div className="grid grid-cols-2 gap-4 text-sm">
+          <label className="flex items-center justify-between gap-2">
+            Deadband (%)
+            <input
+              type="number"
+              min={0}
+              max={50}
+              step={1}
+              className={numberClass}
+              value={Math.round(draft.deadband * 100)}
+              onChange={(event) => setDraft((d) => ({ ...d, deadband: Number(event.target.value) / 100 }))}
+            />
+          </label>
+          <label className="flex items-center justify-between gap-2">
+            Expo (0 linear … 1 cubic)
+            <input
+              type="number"
+              min={0}
+              max={1}
+              step={0.05}
+              className={numberClass}
+              value={draft.expo}
+              onChange={(event) => setDraft((d) => ({ ...d, expo: Number(event.target.value) }))}
+            />
+          </label>
+          <div className="flex items-center justify-between gap-2">
+            <label htmlFor="enabling-button">Enabling button (hold to run)</label>
+            <span className="flex items-center gap-1">
+              <input
+                id="enabling-button"
+                type="number"
+                min={0}
+                max={31}
+                className={numberClass}
+                value={draft.enablingButton}
+                onChange={(event) => setDraft((d) => ({ ...d, enablingButton: Number(event.target.value) }))}
+              />
+              <CaptureButton target={{ kind: "button", field: "enablingButton" }} />
+            </span>
+          </div>
+          <div className="flex items-center justify-between gap-2">
+            <label htmlFor="estop-button">Emergency-stop button</label>
+            <span className="flex items-center gap-1">
+              <input
+                id="estop-button"
+                type="number"
+                min={0}
+                max={31}
+                placeholder="none"
+                className={numberClass}
+                value={draft.estopButton ?? ""}
+                onChange={(event) => setDraft((d) => ({ ...d, estopButton: event.target.value === "" ? null : Number(event.target.value) }))}
+              />
+              <CaptureButton target={{ kind: "button", field: "estopButton" }} />
+            </span>
+          </div>
+        </div>
+        <p className="text-xs text-ink-400">
+          Standard layout: axes 0/1 left stick x/y, 2/3 right stick x/y; buttons 4/5 bumpers, 6/7 triggers, 12–15 d-pad.
+        </p>
+        {!parsed.success ? (
+          <Message tone="warn">{parsed.error.issues.map((i) => i.message).join("; ")}</Message>
+        ) : null}
+        {save.isError ? (
+          <Message tone="stop" title="Could not save the mapping">
+            {describeError(save.error)}
+          </Message>
+        ) : null}
+        <div className="flex justify-between gap-2">
+          <Button variant="ghost" onClick={() => setDraft(DEFAULT_GAMEPAD_MAPPING)}>
+            Restore defaults
+          </Button>
+          <div className="flex gap-2">
+            <Button onClick={onClose}>Cancel</Button>
+            <Button type="submit" variant="primary" disabled={!parsed.success || save.isPending}>
+              Save mapping
+            </Button>
+          </div>
+        </div>
+      </form>
+    </Dialog>
+  );
+}

@@ -1,0 +1,221 @@
+import type { ReactNode } from "react";
+import type { Arm, ProfileParams, RecordedFrame } from "@jogwright/shared";
+import { cn } from "../../../lib/cn.ts";
+import { formatFixed } from "../../../lib/format.ts";
+import { GUARD_WORDS, bindingInWords, motionInWords, type MotionTone } from "./limit-words.ts";
+
+// The panels beside the 3D view. They take a frame (live or replayed) and the profile version's
+// parameters; SI in, mm / deg / deg/s out.
+
+const RAD_TO_DEG = 180 / Math.PI;
+
+export function Panel({ title, children, className }: { title: string; children: ReactNode; className?: string }) {
+  return (
+    <section aria-label={title} className={cn("flex flex-col gap-2 rounded-lg border border-ink-700 bg-ink-850 p-3", className)}>
+      <h2 className="text-xs font-semibold tracking-wide text-ink-300 uppercase">{title}</h2>
+      {children}
+    </section>
+  );
+}
+
+const toneText: Record<MotionTone, string> = {
+  ok: "text-ok-400",
+  warn: "text-warn-400",
+  stop: "text-stop-400",
+  neutral: "text-ink-100",
+};
+const toneBox: Record<MotionTone, string> = {
+  ok: "border-ok-400/60 bg-ok-950",
+  warn: "border-warn-400/60 bg-warn-950",
+  stop: "border-stop-400/60 bg-stop-950",
+  neutral: "border-ink-600 bg-ink-850",
+};
+
+const toneDot: Record<MotionTone, string> = { ok: "bg-ok-400", warn: "bg-warn-400", stop: "bg-stop-400", neutral: "bg-ink-400" };
+
+export function MotionState({ frame }: { frame: RecordedFrame | null }) {
+  const { text, tone } = motionInWords(frame);
+  return (
+    <p
+      role="status"
+      data-testid="motion-state"
+      data-tone={tone}
+      className={cn("rounded-md border px-3 py-2 text-sm font-semibold text-ink-100", toneBox[tone])}
+    >
+      <span className={cn("mr-2 inline-block size-2 rounded-full align-middle", toneDot[tone])} aria-hidden />
+      {text}
+    </p>
+  );
+}
+
+/** The threshold σ_min is compared against: ε of the singular-value schedule, else the guard threshold. */
+export function singularityThresholdM(params: ProfileParams | null): number | null {
+  if (!params) return null;
+  return params.damping.kind === "singular-value" ? params.damping.epsilonM : params.guard.sigmaStopM;
+}
+
+export function SingularityIndicator({ frame, params }: { frame: RecordedFrame | null; params: ProfileParams | null }) {
+  const epsilon = singularityThresholdM(params);
+  const stop = params?.guard.policy === "stop-before" ? params.guard.sigmaStopM : null;
+  const sigma = frame?.sigmaMin ?? null;
+  // Scale: 0 … 3ε (or 0.15 m without a profile); σ beyond it pins the marker at the right end.
+  const full = epsilon ? 3 * epsilon : 0.15;
+  const at = (v: number) => `${Math.min(100, Math.max(0, (v / full) * 100))}%`;
+  const tone: MotionTone =
+    sigma === null ? "neutral" : stop !== null && sigma < stop ? "stop" : epsilon !== null && sigma < epsilon ? "warn" : "ok";
+  const label =
+    sigma === null ? "—" : tone === "stop" ? "At the guard" : tone === "warn" ? "Inside the damped region" : "Clear of singularities";
+  return (
+    <Panel title="Singularity">
+      <div className="flex items-baseline justify-between gap-2">
+        <span className={cn("text-sm font-semibold", toneText[tone])} data-testid="singularity-state">
+          {label}
+        </span>
+        <span className="num text-sm text-ink-100">
+          σ<sub>min</sub> {sigma === null ? "—" : formatFixed(sigma * 1000, 1)} <span className="text-ink-400">mm</span>
+        </span>
+      </div>
+      <div className="relative h-3 rounded-sm bg-ink-800" aria-hidden>
+        {epsilon !== null ? <div className="absolute inset-y-0 left-0 rounded-l-sm bg-warn-950" style={{ width: at(epsilon) }} /> : null}
+        {stop !== null ? <div className="absolute inset-y-0 left-0 rounded-l-sm bg-stop-950" style={{ width: at(stop) }} /> : null}
+        {epsilon !== null ? <div className="absolute inset-y-0 w-px bg-warn-400" style={{ left: at(epsilon) }} /> : null}
+        {stop !== null ? <div className="absolute inset-y-0 w-px bg-stop-400" style={{ left: at(stop) }} /> : null}
+        {sigma !== null ? (
+          <div className="absolute -inset-y-0.5 w-1 -translate-x-1/2 rounded-sm bg-ink-100" style={{ left: at(sigma) }} />
+        ) : null}
+      </div>
+      <dl className="grid grid-cols-2 gap-x-3 text-xs text-ink-300">
+        <dt>ε (damping region)</dt>
+        <dd className="num text-right text-ink-100">{epsilon === null ? "—" : `${formatFixed(epsilon * 1000, 1)} mm`}</dd>
+        <dt>λ now</dt>
+        <dd className="num text-right text-ink-100">{frame ? `${formatFixed(frame.lambda * 1000, 1)} mm` : "—"}</dd>
+        <dt>Guard</dt>
+        <dd className="text-right text-ink-100" data-testid="guard-state">
+          {frame ? GUARD_WORDS[frame.guardState] : "—"}
+          {stop !== null ? <span className="num text-ink-400"> (stops at {formatFixed(stop * 1000, 1)} mm)</span> : null}
+        </dd>
+        <dt>Manipulability w</dt>
+        <dd className="num text-right text-ink-100">{frame ? formatFixed(frame.manipulability * 1e3, 2) : "—"}<span className="text-ink-400"> ×10⁻³ m³</span></dd>
+      </dl>
+    </Panel>
+  );
+}
+
+export function BindingLimit({ frame, params }: { frame: RecordedFrame | null; params: ProfileParams | null }) {
+  const text = frame ? bindingInWords(frame, params) : "—";
+  const tone: MotionTone = !frame || frame.binding === "none" ? "neutral" : frame.binding === "singularity-guard" ? "stop" : "warn";
+  return (
+    <Panel title="Binding limit">
+      <p className={cn("text-sm font-semibold", toneText[tone])} data-testid="binding-limit">
+        {text}
+      </p>
+      {frame && frame.warnings.length > 0 ? (
+        <ul className="flex flex-col gap-1 text-xs text-warn-400">
+          {frame.warnings.map((w) => (
+            <li key={w}>{w}</li>
+          ))}
+        </ul>
+      ) : null}
+    </Panel>
+  );
+}
+
+export function TcpReadout({ frame }: { frame: RecordedFrame | null }) {
+  const p = frame?.pose;
+  const speed = (t: readonly number[] | undefined) => (t ? formatFixed(Math.hypot(t[0]!, t[1]!, t[2]!) * 1000, 0) : "—");
+  return (
+    <Panel title="TCP">
+      <dl className="grid grid-cols-3 gap-x-3 text-xs text-ink-300" data-testid="tcp-readout">
+        {(["x", "y", "z"] as const).map((axis, i) => (
+          <div key={axis} className="flex flex-col">
+            <dt>{axis} (mm)</dt>
+            <dd className="num text-sm text-ink-100" data-testid={`tcp-${axis}`}>
+              {p ? formatFixed(p[4 * i + 3]! * 1000, 1) : "—"}
+            </dd>
+          </div>
+        ))}
+      </dl>
+      <p className="text-xs text-ink-300">
+        Speed commanded <span className="num text-ink-100">{speed(frame?.twistCommanded)}</span> · achieved{" "}
+        <span className="num text-ink-100">{speed(frame?.twistAchieved)}</span> <span className="text-ink-400">mm/s</span>
+      </p>
+    </Panel>
+  );
+}
+
+export function JointPositionBars({ arm, frame }: { arm: Arm; frame: RecordedFrame | null }) {
+  return (
+    <Panel title="Joint positions">
+      <ul className="flex flex-col gap-1.5" data-testid="joint-positions">
+        {arm.model.joints.map((joint, i) => {
+          const isRevolute = joint.type === "revolute";
+          const k = isRevolute ? RAD_TO_DEG : 1000;
+          const unit = isRevolute ? "deg" : "mm";
+          const q = frame?.q[i];
+          const min = joint.min ?? -Math.PI;
+          const max = joint.max ?? Math.PI;
+          const fraction = q === undefined ? null : (q - min) / (max - min);
+          const isNearLimit = fraction !== null && (fraction < 0.05 || fraction > 0.95);
+          const isBinding = frame?.binding === "joint-limit" && frame.bindingJoint === i;
+          return (
+            <li key={i} className="grid grid-cols-[2rem_1fr_4.5rem] items-center gap-2 text-xs">
+              <span className="text-ink-300">J{i + 1}</span>
+              <div
+                className="relative h-2.5 rounded-sm bg-ink-800"
+                title={`range ${formatFixed(min * k, 0)} … ${formatFixed(max * k, 0)} ${unit}`}
+                aria-hidden
+              >
+                <div className="absolute inset-y-0 left-1/2 w-px bg-ink-600" style={{ left: `${(-min / (max - min)) * 100}%` }} />
+                {fraction !== null ? (
+                  <div
+                    className={cn("absolute -inset-y-0.5 w-1 -translate-x-1/2 rounded-sm", isBinding || isNearLimit ? "bg-warn-400" : "bg-iris-400")}
+                    style={{ left: `${Math.min(100, Math.max(0, fraction * 100))}%` }}
+                  />
+                ) : null}
+              </div>
+              <span className="num text-right text-ink-100" data-testid={`joint-${i + 1}-position`}>
+                {q === undefined ? "—" : formatFixed(q * k, 1)}
+                <span className="text-ink-400"> {unit === "deg" ? "°" : unit}</span>
+              </span>
+            </li>
+          );
+        })}
+      </ul>
+      <p className="text-xs text-ink-400">Bars span each joint's range; amber within 5 % of a limit.</p>
+    </Panel>
+  );
+}
+
+export function JointRateBars({ arm, frame, params }: { arm: Arm; frame: RecordedFrame | null; params: ProfileParams | null }) {
+  return (
+    <Panel title="Joint rates">
+      <ul className="flex flex-col gap-1.5" data-testid="joint-rates">
+        {arm.model.joints.map((joint, i) => {
+          const isRevolute = joint.type === "revolute";
+          const k = isRevolute ? RAD_TO_DEG : 1000;
+          const cap = params?.jointRateCapsRadPerS[i] ?? joint.maxSpeed ?? 1;
+          const v = frame?.qdot[i] ?? 0;
+          const fraction = Math.min(1, Math.abs(v) / cap);
+          const isBinding = frame?.binding === "joint-rate" && frame.bindingJoint === i;
+          return (
+            <li key={i} className="grid grid-cols-[2rem_1fr_6.5rem] items-center gap-2 text-xs">
+              <span className="text-ink-300">J{i + 1}</span>
+              <div className="relative h-2.5 rounded-sm bg-ink-800" aria-hidden>
+                <div className="absolute inset-y-0 left-1/2 w-px bg-ink-600" />
+                <div
+                  className={cn("absolute inset-y-0", isBinding || fraction > 0.98 ? "bg-warn-400" : "bg-iris-400")}
+                  style={v >= 0 ? { left: "50%", width: `${fraction * 50}%` } : { right: "50%", width: `${fraction * 50}%` }}
+                />
+              </div>
+              <span className="num text-right text-ink-100">
+                {formatFixed(v * k, 0)}
+                <span className="text-ink-400"> / {formatFixed(cap * k, 0)}</span>
+              </span>
+            </li>
+          );
+        })}
+      </ul>
+      <p className="text-xs text-ink-400">{arm.model.joints.every((j) => j.type === "revolute") ? "deg/s" : "deg/s or mm/s"} against each joint's cap.</p>
+    </Panel>
+  );
+}

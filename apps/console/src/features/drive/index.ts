@@ -1,0 +1,3 @@
+// The drive feature's public pieces, reused by the recordings replay.
+export { DriveWorkspace } from "./components/drive-workspace.tsx";
+export { profileDetailQueryOptions } from "./api/drive-api.ts";

@@ -1,0 +1,342 @@
+import { useMemo, useRef, useState } from "react";
+import { Link } from "react-router";
+import { ArrowLeft, Save } from "lucide-react";
+import {
+  checkCeilings,
+  labelForProfilePath,
+  type Arm,
+  type Ceilings,
+  type ProfileParams,
+  type ProfileVersion,
+  type User,
+} from "@jogwright/shared";
+import { PageHeader } from "../../../components/layout/page-header.tsx";
+import { Button } from "../../../components/ui/button.tsx";
+import { Card } from "../../../components/ui/card.tsx";
+import { Loading } from "../../../components/ui/loading.tsx";
+import { Message } from "../../../components/ui/message.tsx";
+import { isApiRequestError, type ApiIssue } from "../../../lib/api-client.ts";
+import { formatDateTime } from "../../../lib/format.ts";
+import { useArms } from "../../arms/hooks/use-arms.ts";
+import { useCeilings } from "../../ceilings/hooks/use-ceilings.ts";
+import type { ProfileDetail } from "../api/profiles-api.ts";
+import { useProfile, useSaveVersion, useSubmitVersion } from "../hooks/use-profiles.ts";
+import { jointKindsOf, ratedSpeedsOf } from "./arm-joints.ts";
+import { CompareVersions, type ComparePair } from "./compare-versions.tsx";
+import { ParamsDiffTable, ParamsTable } from "./params-table.tsx";
+import { ProfileParamsForm } from "./profile-params-form.tsx";
+import { VersionHistoryTable } from "./version-history-table.tsx";
+import { VersionLabel } from "./version-state-badge.tsx";
+
+export function ProfileDetailPage({ profileId, user }: { profileId: number; user: User }) {
+  const profile = useProfile(profileId);
+  const arms = useArms();
+  const ceilings = useCeilings();
+
+  if (profile.isPending || arms.isPending) return <Loading label="Loading the profile…" />;
+  if (profile.isError) {
+    return (
+      <Message tone="stop" title="Could not load the profile">
+        {profile.error.message}
+      </Message>
+    );
+  }
+  if (arms.isError) {
+    return (
+      <Message tone="stop" title="Could not load the arms">
+        {arms.error.message}
+      </Message>
+    );
+  }
+  const arm = arms.data.find((a) => a.id === profile.data.profile.armId);
+  if (!arm) {
+    return <Message tone="stop" title="This profile's arm is missing">The arm {profile.data.profile.armName} is not in the arm list.</Message>;
+  }
+  return <ProfileDetail detail={profile.data} arm={arm} ceilings={ceilings.data?.ceilings} user={user} />;
+}
+
+function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail; arm: Arm; ceilings: Ceilings | undefined; user: User }) {
+  const { profile, versions } = detail;
+  const isEngineer = user.roles.includes("engineer");
+  const isSafetyOfficer = user.roles.includes("safety_officer");
+  const jointKinds = jointKindsOf(arm);
+  const driveable = versions.find((v) => v.id === profile.driveableVersionId) ?? null;
+  const latest = versions[0]!;
+
+  const submit = useSubmitVersion();
+  const [notice, setNotice] = useState<string | null>(null);
+  const [pair, setPair] = useState<ComparePair>(() => ({ fromId: (versions[1] ?? latest).id, toId: latest.id }));
+  const compareRef = useRef<HTMLDivElement>(null);
+
+  const submitBlockers = useMemo(() => {
+    const out = new Map<number, string>();
+    if (!ceilings) return out;
+    for (const v of versions) {
+      if (v.state !== "draft") continue;
+      const violations = checkCeilings(v.params, ceilings, ratedSpeedsOf(arm));
+      if (violations.length > 0) out.set(v.id, `Above the site ceilings: ${violations.map((x) => x.message).join("; ")}`);
+    }
+    return out;
+  }, [versions, ceilings, arm]);
+
+  const onSubmit = (version: ProfileVersion) => {
+    setNotice(null);
+    submit.mutate(version.id, { onSuccess: (v) => setNotice(`v${v.number} is submitted for review. A safety officer decides next.`) });
+  };
+
+  return (
+    <>
+      <title>{`${profile.name} · Jogwright`}</title>
+      <Link to="/profiles" className="mb-3 inline-flex items-center gap-1 text-sm font-semibold text-iris-300 hover:underline">
+        <ArrowLeft aria-hidden className="size-4" /> All profiles
+      </Link>
+      <PageHeader
+        title={profile.name}
+        description={
+          <span className="flex flex-wrap items-center gap-x-4 gap-y-1 text-sm">
+            <span>
+              Operator <strong className="text-ink-100">{profile.operatorName}</strong>
+            </span>
+            <span>
+              Arm <strong className="text-ink-100">{profile.armName}</strong>
+            </span>
+            <span className="flex items-center gap-2" data-testid="driveable-version">
+              Driveable {driveable ? <VersionLabel version={driveable} /> : <strong className="text-ink-100">none yet</strong>}
+            </span>
+          </span>
+        }
+      />
+      <div className="flex flex-col gap-6">
+        {notice ? <Message tone="ok">{notice}</Message> : null}
+        {submit.isError ? <SubmitError error={submit.error} /> : null}
+
+        <Card title="Versions" description="Every save is a new version. Approved versions are locked.">
+          <VersionHistoryTable
+            versions={versions}
+            submitBlockers={submitBlockers}
+            canSubmit={isEngineer}
+            canReview={isSafetyOfficer}
+            isSubmitting={submit.isPending}
+            onSubmit={onSubmit}
+            onCompare={(v) => {
+              setPair({ fromId: v.parentVersionId ?? v.id, toId: v.id });
+              compareRef.current?.scrollIntoView({ block: "start" });
+            }}
+          />
+        </Card>
+
+        {isEngineer ? (
+          <NewVersionCard
+            key={profile.id}
+            profileId={profile.id}
+            versions={versions}
+            arm={arm}
+            ceilings={ceilings}
+            onSaved={(v) => {
+              setNotice(null);
+              setPair({ fromId: v.parentVersionId ?? v.id, toId: v.id });
+            }}
+            onSubmit={onSubmit}
+            isSubmitting={submit.isPending}
+            submitBlockers={submitBlockers}
+          />
+        ) : driveable ? (
+          <Card
+            title={`Parameters of v${driveable.number}`}
+            description={user.id === profile.operatorId ? "The approved version you drive with." : `The approved version ${profile.operatorName} drives with.`}
+          >
+            <ParamsTable params={driveable.params} jointKinds={jointKinds} caption={`Parameters of v${driveable.number}`} />
+          </Card>
+        ) : null}
+
+        <div ref={compareRef} className="scroll-mt-4">
+          <Card title="Compare versions" description="Any two versions side by side, field by field, in the units of the form.">
+            <CompareVersions versions={versions} pair={pair} onPairChange={setPair} jointKinds={jointKinds} />
+          </Card>
+        </div>
+      </div>
+    </>
+  );
+}
+
+function SubmitError({ error }: { error: Error }) {
+  const issues = isApiRequestError(error) ? error.issues : [];
+  return (
+    <Message tone="stop" title="Not submitted">
+      {error.message}
+      {issues.length > 0 ? (
+        <ul className="mt-1 list-disc pl-4">
+          {issues.map((i) => (
+            <li key={i.path}>
+              <strong>{labelForProfilePath(i.path)}</strong>: {i.message}
+            </li>
+          ))}
+        </ul>
+      ) : null}
+    </Message>
+  );
+}
+
+interface StaleConflict {
+  message: string;
+  params: ProfileParams;
+}
+
+/**
+ * The form for the next version. It is loaded from one version (the parent) and keeps it until the user
+ * saves or chooses to load a newer one: a background refetch never replaces what is being edited. The
+ * server refuses a save whose parent is no longer the latest (409 stale_parent); the edits then stay in
+ * the form and the newer version can be compared or loaded.
+ */
+function NewVersionCard({
+  profileId,
+  versions,
+  arm,
+  ceilings,
+  onSaved,
+  onSubmit,
+  isSubmitting,
+  submitBlockers,
+}: {
+  profileId: number;
+  versions: ProfileVersion[];
+  arm: Arm;
+  ceilings: Ceilings | undefined;
+  onSaved: (version: ProfileVersion) => void;
+  onSubmit: (version: ProfileVersion) => void;
+  isSubmitting: boolean;
+  submitBlockers: Map<number, string>;
+}) {
+  const [parent, setParent] = useState<ProfileVersion>(versions[0]!);
+  const [saved, setSaved] = useState<ProfileVersion | null>(null);
+  const [conflict, setConflict] = useState<StaleConflict | null>(null);
+  const [isComparingConflict, setComparingConflict] = useState(false);
+  const [serverIssues, setServerIssues] = useState<ApiIssue[]>([]);
+  const save = useSaveVersion(profileId);
+  const latest = versions[0]!;
+  const savedNow = saved ? (versions.find((v) => v.id === saved.id) ?? saved) : null;
+  const jointKinds = jointKindsOf(arm);
+
+  const onSave = (params: ProfileParams, note: string) => {
+    setConflict(null);
+    setSaved(null);
+    setServerIssues([]);
+    save.mutate(
+      { parentVersionId: parent.id, params, note },
+      {
+        onSuccess: (version) => {
+          setSaved(version);
+          setParent(version);
+          onSaved(version);
+        },
+        onError: (error) => {
+          if (isApiRequestError(error) && error.code === "stale_parent") {
+            setConflict({ message: error.message, params });
+            setComparingConflict(false);
+          } else if (isApiRequestError(error)) {
+            setServerIssues([...error.issues]);
+          }
+        },
+      },
+    );
+  };
+
+  const otherError = save.isError && !conflict ? save.error : null;
+  const isNewerAvailable = latest.id !== parent.id;
+
+  return (
+    <Card
+      title="New version"
+      description={
+        <>
+          Loaded from <span className="num text-ink-100">v{parent.number}</span> ({formatDateTime(parent.createdAt)}). Values are in the units shown; they are
+          stored in SI units.
+        </>
+      }
+    >
+      <div className="flex flex-col gap-4">
+        {savedNow ? (
+          <Message tone="ok" title={`Saved as v${savedNow.number} (draft)`}>
+            <div className="mt-1 flex flex-wrap items-center gap-2">
+              {savedNow.state === "draft" ? (
+                <Button
+                  size="sm"
+                  variant="primary"
+                  disabled={isSubmitting || submitBlockers.has(savedNow.id)}
+                  title={submitBlockers.get(savedNow.id)}
+                  onClick={() => onSubmit(savedNow)}
+                >
+                  Submit v{savedNow.number} for review
+                </Button>
+              ) : (
+                <span>
+                  Now <strong>{savedNow.state}</strong>.
+                </span>
+              )}
+            </div>
+          </Message>
+        ) : null}
+        {conflict ? (
+          <Message tone="stop" title={`Not saved: a newer version exists (v${latest.number})`}>
+            <p>{conflict.message}</p>
+            <p>
+              Someone saved <strong>v{latest.number}</strong> after you loaded <strong>v{parent.number}</strong>. Nothing was overwritten, and your edits are still
+              in the form below. Compare them with v{latest.number}, or load v{latest.number} and make your changes again.
+            </p>
+            <div className="mt-2 flex flex-wrap gap-2">
+              <Button size="sm" onClick={() => setComparingConflict((x) => !x)} aria-expanded={isComparingConflict}>
+                {isComparingConflict ? "Hide the comparison" : `Compare my edits with v${latest.number}`}
+              </Button>
+              <Button
+                size="sm"
+                variant="ghost"
+                onClick={() => {
+                  setParent(latest);
+                  setConflict(null);
+                  save.reset();
+                }}
+              >
+                Load v{latest.number} (discards my edits)
+              </Button>
+            </div>
+          </Message>
+        ) : isNewerAvailable && !savedNow ? (
+          <Message tone="warn" title={`v${latest.number} was saved after you loaded v${parent.number}`}>
+            <Button size="sm" variant="ghost" onClick={() => setParent(latest)}>
+              Load v{latest.number} (discards my edits)
+            </Button>
+          </Message>
+        ) : null}
+        {conflict && isComparingConflict ? (
+          <ParamsDiffTable before={latest.params} after={conflict.params} beforeLabel={`v${latest.number} (saved)`} afterLabel="Your edits" jointKinds={jointKinds} />
+        ) : null}
+
+        <ProfileParamsForm
+          key={parent.id}
+          formId="new-version-form"
+          arm={arm}
+          ceilings={ceilings}
+          initialParams={parent.params}
+          serverIssues={serverIssues}
+          onSave={onSave}
+          footer={({ violations }) => (
+            <div className="flex flex-col gap-3">
+              {otherError ? (
+                <Message tone="stop" title="Not saved">
+                  {otherError.message}
+                </Message>
+              ) : null}
+              <div className="flex flex-wrap items-center justify-end gap-3">
+                {violations.length > 0 ? <span className="text-sm text-warn-400">Saves as a draft only; fix the ceilings before submitting.</span> : null}
+                <Button type="submit" variant="primary" disabled={save.isPending}>
+                  <Save aria-hidden className="size-4" />
+                  {save.isPending ? "Saving…" : "Save new version"}
+                </Button>
+              </div>
+            </div>
+          )}
+        />
+      </div>
+    </Card>
+  );
+}

@@ -1,0 +1,28 @@
+import { queryOptions } from "@tanstack/react-query";
+import { z } from "zod";
+import { recordedFrameSchema, recordingSchema } from "@jogwright/shared";
+import { apiRequest } from "../../../lib/api-client.ts";
+
+const recordingListSchema = z.object({ recordings: z.array(recordingSchema) });
+const recordingDetailSchema = z.object({ recording: recordingSchema, frames: z.array(recordedFrameSchema) });
+
+export const recordingKeys = {
+  all: ["recordings"] as const,
+  list: () => [...recordingKeys.all, "list"] as const,
+  detail: (id: number) => [...recordingKeys.all, "detail", id] as const,
+};
+
+export const recordingListQueryOptions = () =>
+  queryOptions({
+    queryKey: recordingKeys.list(),
+    queryFn: async ({ signal }) => (await apiRequest("/api/recordings", { schema: recordingListSchema, signal })).recordings,
+    staleTime: 10_000,
+  });
+
+/** A recording with all its frames; recordings never change once ended, so this stays cached. */
+export const recordingDetailQueryOptions = (id: number) =>
+  queryOptions({
+    queryKey: recordingKeys.detail(id),
+    queryFn: ({ signal }) => apiRequest(`/api/recordings/${id}`, { schema: recordingDetailSchema, signal }),
+    staleTime: 5 * 60_000,
+  });

@@ -1,0 +1,207 @@
+import { useEffect, useMemo, useRef, useState } from "react";
+import { useSearchParams } from "react-router";
+import { useQuery } from "@tanstack/react-query";
+import { ArrowLeft, Pause, Play } from "lucide-react";
+import type { Arm, ProfileParams, RecordedFrame, Recording } from "@jogwright/shared";
+import { PageHeader } from "../../../components/layout/page-header.tsx";
+import { Badge } from "../../../components/ui/badge.tsx";
+import { Button } from "../../../components/ui/button.tsx";
+import { Loading } from "../../../components/ui/loading.tsx";
+import { Message } from "../../../components/ui/message.tsx";
+import { describeError } from "../../../lib/api-client.ts";
+import { formatDateTime, formatFixed } from "../../../lib/format.ts";
+import { useArms } from "../../arms/hooks/use-arms.ts";
+import { DriveWorkspace, profileDetailQueryOptions } from "../../drive/index.ts";
+import { recordingDetailQueryOptions, recordingListQueryOptions } from "../api/recordings-api.ts";
+import { ReplaySource } from "../replay-source.ts";
+
+// The recordings list and the replay of one (?recording=<id>): a timeline to scrub and play/pause at
+// real time, driving the same 3D view, panels and charts as the drive page.
+
+function durationText(r: Recording): string {
+  if (r.summary) return `${formatFixed(r.summary.durationS, 1)} s`;
+  if (!r.endedAt) return "running";
+  return `${formatFixed((Date.parse(r.endedAt) - Date.parse(r.startedAt)) / 1000, 1)} s`;
+}
+
+function summaryText(r: Recording): string {
+  const s = r.summary;
+  if (!s) return "—";
+  const stops = Object.entries(s.stops)
+    .filter(([, n]) => n > 0)
+    .map(([reason, n]) => `${reason} ×${n}`)
+    .join(", ");
+  return `max ${formatFixed(s.maxTcpSpeedMPerS * 1000, 0)} mm/s · min σ ${formatFixed(s.minSigma * 1000, 1)} mm · ${formatFixed(s.maxJointRateFraction * 100, 0)} % of a joint cap${stops ? ` · stops: ${stops}` : ""}`;
+}
+
+export function RecordingsPage() {
+  const [search, setSearch] = useSearchParams();
+  const selected = Number(search.get("recording"));
+  const recordings = useQuery(recordingListQueryOptions());
+  if (Number.isInteger(selected) && selected > 0) {
+    return <ReplayView recordingId={selected} onBack={() => setSearch({})} />;
+  }
+  return (
+    <>
+      <PageHeader title="Recordings" description="Every driven session is recorded. Open one to replay it: scrub the timeline or play it at real time." />
+      {recordings.isPending ? <Loading label="Loading recordings…" /> : null}
+      {recordings.isError ? (
+        <Message tone="stop" title="Could not load the recordings">
+          {describeError(recordings.error)}
+        </Message>
+      ) : null}
+      {recordings.data?.length === 0 ? <Message>No session has been recorded yet.</Message> : null}
+      {recordings.data && recordings.data.length > 0 ? (
+        <div className="overflow-x-auto rounded-lg border border-ink-700">
+          <table className="w-full text-sm" data-testid="recordings-table">
+            <thead className="bg-ink-800 text-left text-ink-300">
+              <tr>
+                <th className="px-3 py-2 font-semibold">Driver</th>
+                <th className="px-3 py-2 font-semibold">Arm</th>
+                <th className="px-3 py-2 font-semibold">Profile version</th>
+                <th className="px-3 py-2 font-semibold">Started</th>
+                <th className="px-3 py-2 font-semibold">Duration</th>
+                <th className="px-3 py-2 font-semibold">Ended by</th>
+                <th className="px-3 py-2 font-semibold">Summary</th>
+                <th />
+              </tr>
+            </thead>
+            <tbody>
+              {recordings.data.map((r) => (
+                <tr key={r.id} className="border-t border-ink-700 hover:bg-ink-850">
+                  <td className="px-3 py-2 font-mono">{r.driverName}</td>
+                  <td className="px-3 py-2">{r.armName}</td>
+                  <td className="px-3 py-2">
+                    {r.profileName} <span className="num text-ink-400">v{r.versionNumber}</span>
+                  </td>
+                  <td className="px-3 py-2 whitespace-nowrap text-ink-300">{formatDateTime(r.startedAt)}</td>
+                  <td className="num px-3 py-2 text-right whitespace-nowrap">{durationText(r)}</td>
+                  <td className="px-3 py-2">{r.endReason ?? <Badge tone="accent">live</Badge>}</td>
+                  <td className="px-3 py-2 text-xs text-ink-300">{summaryText(r)}</td>
+                  <td className="px-3 py-2 text-right">
+                    <Button size="sm" onClick={() => setSearch({ recording: String(r.id) })} aria-label={`Replay recording ${r.id}`}>
+                      <Play aria-hidden className="size-3.5" /> Replay
+                    </Button>
+                  </td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+      ) : null}
+    </>
+  );
+}
+
+function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () => void }) {
+  const detail = useQuery(recordingDetailQueryOptions(recordingId));
+  const arms = useArms();
+  const recording = detail.data?.recording;
+  const arm = arms.data?.find((a) => a.id === recording?.armId) ?? null;
+  const profile = useQuery({ ...profileDetailQueryOptions(recording?.profileId ?? 0), enabled: recording !== undefined, retry: false });
+  const params = profile.data?.versions.find((v) => v.id === recording?.versionId)?.params ?? null;
+
+  return (
+    <>
+      <PageHeader
+        title={`Replay of recording ${recordingId}`}
+        description={
+          recording ? (
+            <>
+              <span className="font-mono">{recording.driverName}</span> drove {recording.profileName} v{recording.versionNumber} on{" "}
+              {recording.armName}, {formatDateTime(recording.startedAt)}.
+            </>
+          ) : undefined
+        }
+        actions={
+          <Button variant="ghost" onClick={onBack}>
+            <ArrowLeft aria-hidden className="size-4" /> All recordings
+          </Button>
+        }
+      />
+      {detail.isPending || arms.isPending ? <Loading label="Loading the recording…" /> : null}
+      {detail.isError ? (
+        <Message tone="stop" title="Could not load the recording">
+          {describeError(detail.error)}
+        </Message>
+      ) : null}
+      {detail.data && detail.data.frames.length === 0 ? <Message>This recording has no frames.</Message> : null}
+      {detail.data && arm && detail.data.frames.length > 0 ? <ReplayPlayer arm={arm} frames={detail.data.frames} params={params} /> : null}
+    </>
+  );
+}
+
+function ReplayPlayer({ arm, frames, params }: { arm: Arm; frames: readonly RecordedFrame[]; params: ProfileParams | null }) {
+  const source = useMemo(() => {
+    const s = new ReplaySource(frames, arm.model.joints.map((j) => j.type));
+    s.seek(0);
+    return s;
+  }, [frames, arm]);
+  const [index, setIndex] = useState(0);
+  const [isPlaying, setPlaying] = useState(false);
+  const playRef = useRef<{ startWallMs: number; startT: number } | null>(null);
+  const t0 = frames[0]!.t;
+  const tEnd = frames[frames.length - 1]!.t;
+
+  // Real-time playback: the wall clock picks the frame; React state follows at ~15 Hz for the panels.
+  useEffect(() => {
+    if (!isPlaying) return;
+    let raf = 0;
+    let lastPublish = 0;
+    const startIndex = source.index >= frames.length - 1 ? 0 : source.index;
+    playRef.current = { startWallMs: performance.now(), startT: frames[startIndex]!.t };
+    const step = (now: number) => {
+      const play = playRef.current!;
+      const t = play.startT + (now - play.startWallMs) / 1000;
+      const i = source.indexAtTime(t);
+      source.seek(i);
+      if (now - lastPublish > 66 || i >= frames.length - 1) {
+        lastPublish = now;
+        setIndex(i);
+      }
+      if (i >= frames.length - 1) {
+        setPlaying(false);
+        return;
+      }
+      raf = requestAnimationFrame(step);
+    };
+    raf = requestAnimationFrame(step);
+    return () => cancelAnimationFrame(raf);
+  }, [isPlaying, source, frames]);
+
+  const frame = source.frameAt(index);
+  return (
+    <DriveWorkspace
+      arm={arm}
+      params={params}
+      frame={frame}
+      source={source}
+      controls={
+        <section aria-label="Replay" className="flex items-center gap-3 rounded-lg border border-ink-700 bg-ink-850 p-3">
+          <Button variant="primary" onClick={() => setPlaying((p) => !p)} aria-label={isPlaying ? "Pause" : "Play"}>
+            {isPlaying ? <Pause aria-hidden className="size-4" /> : <Play aria-hidden className="size-4" />}
+            {isPlaying ? "Pause" : "Play"}
+          </Button>
+          <input
+            type="range"
+            min={0}
+            max={frames.length - 1}
+            step={1}
+            value={index}
+            aria-label="Timeline"
+            className="flex-1 accent-iris-400"
+            onChange={(event) => {
+              setPlaying(false);
+              const i = Number(event.target.value);
+              source.seek(i);
+              setIndex(i);
+            }}
+          />
+          <span className="num text-sm whitespace-nowrap text-ink-100" data-testid="replay-time">
+            {formatFixed((frame?.t ?? t0) - t0, 2)} / {formatFixed(tEnd - t0, 2)} s
+          </span>
+        </section>
+      }
+    />
+  );
+}

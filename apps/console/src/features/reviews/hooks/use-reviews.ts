@@ -1,0 +1,10 @@
+import { useMutation, useQuery } from "@tanstack/react-query";
+import { decideVersion, reviewQueueQueryOptions, type DecisionInput } from "../api/reviews-api.ts";
+import { useInvalidateProfiles } from "../../profiles/hooks/use-profiles.ts";
+
+export const useReviewQueue = () => useQuery(reviewQueueQueryOptions());
+
+export function useDecideVersion(versionId: number) {
+  const invalidate = useInvalidateProfiles();
+  return useMutation({ mutationFn: (input: DecisionInput) => decideVersion(versionId, input), onSettled: () => invalidate() });
+}

@@ -1,0 +1,331 @@
+import { useSyncExternalStore } from "react";
+import {
+  jogServerMessageSchema,
+  type JogClientMessage,
+  type JogInput,
+  type JogSessionInfo,
+  type JogState,
+  type RecordedFrame,
+} from "@jogwright/shared";
+import { FrameTrace, type FrameSource } from "./frame-trace.ts";
+
+/**
+ * The one client of the live-jogging socket (/ws/jog, same origin; the browser sends the session cookie
+ * and Origin itself). It parses and validates every server frame with the shared schema and feeds a
+ * small external store; components read the store (useJogSnapshot) and call the command methods, never
+ * the socket. The newest state frame and the chart trace are read without React renders by the 3D view
+ * and the charts (FrameSource); the React snapshot follows state frames at most ~15 times a second,
+ * and at once when a stop, the enabling state or the guard changes.
+ */
+
+export type ConnectionState = "idle" | "connecting" | "open" | "reconnecting" | "closed";
+
+export interface JogError {
+  code: string;
+  message: string;
+  /** performance.now() when it arrived, so the same message twice still shows as new. */
+  atMs: number;
+}
+
+export interface JogEnded {
+  sessionId: string;
+  reason: string;
+  recordingId: number | null;
+}
+
+export interface JogSnapshot {
+  connection: ConnectionState;
+  /** Reconnect attempts since the last open socket. */
+  reconnectAttempt: number;
+  roles: readonly string[];
+  session: JogSessionInfo | null;
+  /** The newest state, refreshed at most ~15 Hz (at once on stop/enable/guard changes). */
+  state: JogState | null;
+  /** State frames received in this session. */
+  frameCount: number;
+  /** Round trip of the last ping [ms]. */
+  roundTripMs: number | null;
+  /** From sampling an input to the state frame that applied it [ms]. */
+  inputToStateMs: number | null;
+  error: JogError | null;
+  ended: JogEnded | null;
+}
+
+const INITIAL: JogSnapshot = {
+  connection: "idle",
+  reconnectAttempt: 0,
+  roles: [],
+  session: null,
+  state: null,
+  frameCount: 0,
+  roundTripMs: null,
+  inputToStateMs: null,
+  error: null,
+  ended: null,
+};
+
+const PING_INTERVAL_MS = 1000;
+const SNAPSHOT_INTERVAL_MS = 66;
+const BACKOFF_MS = [500, 1000, 2000, 4000, 8000];
+
+function socketUrl(): string {
+  const scheme = window.location.protocol === "https:" ? "wss" : "ws";
+  return `${scheme}://${window.location.host}/ws/jog`;
+}
+
+export class JogSocketClient implements FrameSource {
+  readonly trace = new FrameTrace();
+  private snapshot: JogSnapshot = INITIAL;
+  private listeners = new Set<() => void>();
+  private socket: WebSocket | null = null;
+  private wantOpen = false;
+  private reconnectTimer: ReturnType<typeof setTimeout> | null = null;
+  private pingTimer: ReturnType<typeof setInterval> | null = null;
+  private pingId = 0;
+  private inputSeq = 0;
+  private latest: JogState | null = null;
+  private serial = 0;
+  private framesInSession = 0;
+  private lastSnapshotMs = 0;
+  private snapshotTimer: ReturnType<typeof setTimeout> | null = null;
+  /** Messages asked for before the socket opened (start/watch), sent on open. */
+  private pending: JogClientMessage[] = [];
+
+  // ---- store ---------------------------------------------------------------------------------------
+
+  subscribe = (listener: () => void): (() => void) => {
+    this.listeners.add(listener);
+    return () => this.listeners.delete(listener);
+  };
+
+  getSnapshot = (): JogSnapshot => this.snapshot;
+
+  private update(patch: Partial<JogSnapshot>): void {
+    this.snapshot = { ...this.snapshot, ...patch };
+    for (const listener of this.listeners) listener();
+  }
+
+  // ---- FrameSource -----------------------------------------------------------------------------------
+
+  latestFrame(): RecordedFrame | null {
+    return this.latest;
+  }
+
+  frameSerial(): number {
+    return this.serial;
+  }
+
+  /** The newest state frame, unthrottled (for the input loop and tests). */
+  latestState(): JogState | null {
+    return this.latest;
+  }
+
+  // ---- connection -------------------------------------------------------------------------------------
+
+  /** Opens the socket (idempotent) and keeps it open, reconnecting with backoff, until disconnect(). */
+  connect(): void {
+    this.wantOpen = true;
+    if (this.socket || this.reconnectTimer) return;
+    this.open();
+  }
+
+  disconnect(): void {
+    this.wantOpen = false;
+    this.pending = [];
+    if (this.reconnectTimer) clearTimeout(this.reconnectTimer);
+    this.reconnectTimer = null;
+    this.stopPing();
+    const socket = this.socket;
+    this.socket = null;
+    socket?.close(1000, "page closed");
+    this.latest = null;
+    this.update({ ...INITIAL, connection: "closed" });
+  }
+
+  private open(): void {
+    const attempt = this.snapshot.reconnectAttempt;
+    this.update({ connection: attempt > 0 ? "reconnecting" : "connecting" });
+    let socket: WebSocket;
+    try {
+      socket = new WebSocket(socketUrl());
+    } catch {
+      this.scheduleReconnect();
+      return;
+    }
+    this.socket = socket;
+    socket.onopen = () => {
+      if (this.socket !== socket) return;
+      this.update({ connection: "open", reconnectAttempt: 0, error: null });
+      this.startPing();
+      const queued = this.pending;
+      this.pending = [];
+      for (const message of queued) this.send(message);
+    };
+    socket.onmessage = (event) => {
+      if (this.socket === socket) this.receive(event.data);
+    };
+    socket.onclose = (event) => {
+      if (this.socket !== socket) return;
+      this.socket = null;
+      this.stopPing();
+      const hadSession = this.snapshot.session;
+      this.update({
+        connection: this.wantOpen ? "reconnecting" : "closed",
+        session: null,
+        ended: hadSession
+          ? { sessionId: hadSession.sessionId, reason: event.reason || "connection lost", recordingId: null }
+          : this.snapshot.ended,
+      });
+      if (this.wantOpen) this.scheduleReconnect();
+    };
+  }
+
+  private scheduleReconnect(): void {
+    const attempt = this.snapshot.reconnectAttempt;
+    const delay = BACKOFF_MS[Math.min(attempt, BACKOFF_MS.length - 1)]!;
+    this.update({ connection: "reconnecting", reconnectAttempt: attempt + 1 });
+    this.reconnectTimer = setTimeout(() => {
+      this.reconnectTimer = null;
+      if (this.wantOpen) this.open();
+    }, delay);
+  }
+
+  private startPing(): void {
+    this.stopPing();
+    const ping = () => this.send({ type: "ping", id: ++this.pingId, clientTimeMs: performance.now() });
+    ping();
+    this.pingTimer = setInterval(ping, PING_INTERVAL_MS);
+  }
+
+  private stopPing(): void {
+    if (this.pingTimer) clearInterval(this.pingTimer);
+    this.pingTimer = null;
+  }
+
+  private send(message: JogClientMessage): boolean {
+    const socket = this.socket;
+    if (!socket || socket.readyState !== WebSocket.OPEN) return false;
+    socket.send(JSON.stringify(message));
+    return true;
+  }
+
+  private sendOrQueue(message: JogClientMessage): void {
+    if (!this.send(message)) {
+      this.pending = [message];
+      this.connect();
+    }
+  }
+
+  // ---- commands ---------------------------------------------------------------------------------------
+
+  /** Start driving (or switch to) a profile version. */
+  start(versionId: number): void {
+    this.update({ ended: null, error: null });
+    this.sendOrQueue({ type: "start", versionId });
+  }
+
+  /** Watch somebody else's live session, read-only. */
+  watch(sessionId: string): void {
+    this.update({ ended: null, error: null });
+    this.sendOrQueue({ type: "watch", sessionId });
+  }
+
+  /** One input frame; the seq is assigned here. Returns false when the socket is not open. */
+  sendInput(input: Omit<JogInput, "type" | "seq">): boolean {
+    return this.send({ type: "input", seq: ++this.inputSeq, ...input });
+  }
+
+  command(type: "estop" | "reset-estop" | "acknowledge" | "ready-pose" | "stop"): boolean {
+    return this.send({ type });
+  }
+
+  // ---- receiving --------------------------------------------------------------------------------------
+
+  private receive(raw: unknown): void {
+    if (typeof raw !== "string") return;
+    let json: unknown;
+    try {
+      json = JSON.parse(raw);
+    } catch {
+      this.update({ error: { code: "bad_frame", message: "The server sent a frame that is not JSON.", atMs: performance.now() } });
+      return;
+    }
+    const parsed = jogServerMessageSchema.safeParse(json);
+    if (!parsed.success) {
+      this.update({
+        error: { code: "bad_frame", message: "The server sent a frame the console cannot read.", atMs: performance.now() },
+      });
+      return;
+    }
+    const message = parsed.data;
+    switch (message.type) {
+      case "welcome":
+        this.update({ roles: message.roles });
+        break;
+      case "session":
+        this.latest = null;
+        this.serial++;
+        this.framesInSession = 0;
+        this.update({ session: message.session, state: null, frameCount: 0, ended: null, error: null });
+        break;
+      case "state":
+        this.receiveState(message);
+        break;
+      case "pong":
+        this.update({ roundTripMs: performance.now() - message.clientTimeMs });
+        break;
+      case "ended":
+        this.update({ ended: { sessionId: message.sessionId, reason: message.reason, recordingId: message.recordingId }, session: null });
+        break;
+      case "error":
+        this.update({ error: { code: message.code, message: message.message, atMs: performance.now() } });
+        break;
+    }
+  }
+
+  private receiveState(state: JogState): void {
+    const previous = this.latest;
+    if (previous === null || this.trace.joints !== state.q.length) {
+      this.trace.reset(state.q.map(() => "revolute"));
+    }
+    this.latest = state;
+    this.serial++;
+    this.framesInSession++;
+    this.trace.push(state);
+    const isUrgent =
+      previous === null ||
+      previous.estopLatched !== state.estopLatched ||
+      previous.enabled !== state.enabled ||
+      previous.stopReason !== state.stopReason ||
+      previous.guardState !== state.guardState;
+    const now = performance.now();
+    if (isUrgent || now - this.lastSnapshotMs >= SNAPSHOT_INTERVAL_MS) {
+      this.publishState();
+    } else if (!this.snapshotTimer) {
+      // Make sure the last frame of a burst reaches the panels too.
+      this.snapshotTimer = setTimeout(() => this.publishState(), SNAPSHOT_INTERVAL_MS);
+    }
+  }
+
+  private publishState(): void {
+    if (this.snapshotTimer) clearTimeout(this.snapshotTimer);
+    this.snapshotTimer = null;
+    const state = this.latest;
+    if (!state) return;
+    this.lastSnapshotMs = performance.now();
+    const inputToStateMs = state.lastInputSeq > 0 ? this.lastSnapshotMs - state.lastInputClientTimeMs : this.snapshot.inputToStateMs;
+    this.update({ state, frameCount: this.framesInSession, inputToStateMs });
+  }
+
+  /** Tells the trace which joints slide (mm/s instead of deg/s); call once the arm is known. */
+  setJointTypes(types: readonly ("revolute" | "prismatic")[]): void {
+    this.trace.reset(types);
+  }
+}
+
+/** The console's one jog socket client. */
+export const jogClient = new JogSocketClient();
+
+export function useJogSnapshot(): JogSnapshot {
+  return useSyncExternalStore(jogClient.subscribe, jogClient.getSnapshot);
+}

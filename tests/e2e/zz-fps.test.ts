@@ -1,0 +1,21 @@
+import { it } from "vitest";
+import { launchBrowser } from "../support/browser.ts";
+import { fakeGamepadScript, signIn, measureFps } from "../support/drive.ts";
+it("fps", async () => {
+  const browser = await launchBrowser();
+  const context = await browser.newContext({ viewport: { width: 1400, height: 1000 } });
+  await context.addInitScript(fakeGamepadScript());
+  const page = await context.newPage();
+  await signIn(page, "http://127.0.0.1:3102", "olena", "/arms");
+  await page.waitForTimeout(1000);
+  console.log("arms page fps", (await measureFps(page, 2000)).toFixed(1));
+  await page.goto("http://127.0.0.1:3102/drive");
+  const sel = page.locator("select").first();
+  await sel.selectOption({ index: 3 });
+  await page.waitForTimeout(1500);
+  console.log("drive idle fps", (await measureFps(page, 2000)).toFixed(1));
+  await page.getByRole("button", { name: /Start driving/ }).click();
+  await page.waitForTimeout(1500);
+  console.log("drive session fps", (await measureFps(page, 2000)).toFixed(1));
+  await browser.close();
+}, 60000);

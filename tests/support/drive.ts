@@ -1,0 +1,90 @@
+import type { Page } from "playwright-core";
+
+/**
+ * Helpers for the drive-page browser tests: a simulated gamepad (navigator.getGamepads stubbed before
+ * any page script runs), sign-in, and an in-page frame-rate measurement.
+ */
+
+export const DEMO_PASSWORD = "demo-pass-2026";
+
+/** Standard-mapping button count (W3C Gamepad "standard" layout: 17 buttons, 4 axes). */
+const STANDARD_BUTTONS = 17;
+
+/**
+ * Installs a fake "standard" gamepad on every page of the context. The test changes it with
+ * setGamepad(); the page reads it through navigator.getGamepads() like a real pad.
+ */
+export function fakeGamepadScript(): string {
+  return `(() => {
+    const state = { axes: [0, 0, 0, 0], pressed: new Array(${STANDARD_BUTTONS}).fill(false) };
+    window.__jogTestPad = state;
+    const snapshot = () => ({
+      id: "Jogwright test pad (STANDARD GAMEPAD)",
+      index: 0,
+      connected: true,
+      mapping: "standard",
+      timestamp: performance.now(),
+      axes: state.axes.slice(),
+      buttons: state.pressed.map((p) => ({ pressed: p, touched: p, value: p ? 1 : 0 })),
+      vibrationActuator: null,
+    });
+    Object.defineProperty(Navigator.prototype, "getGamepads", {
+      configurable: true,
+      value: () => [snapshot(), null, null, null],
+    });
+  })();`;
+}
+
+export async function setGamepad(page: Page, update: { axes?: number[]; pressed?: Record<number, boolean> }): Promise<void> {
+  await page.evaluate((u) => {
+    const pad = (window as unknown as { __jogTestPad: { axes: number[]; pressed: boolean[] } }).__jogTestPad;
+    if (u.axes) pad.axes = u.axes.slice();
+    for (const [i, p] of Object.entries(u.pressed ?? {})) pad.pressed[Number(i)] = p;
+  }, update);
+}
+
+export async function signIn(page: Page, url: string, username: string, next = "/"): Promise<void> {
+  await page.goto(`${url}${next}`);
+  await page.waitForURL(/\/sign-in/);
+  await page.getByLabel("User name").fill(username);
+  await page.getByLabel("Password").fill(DEMO_PASSWORD);
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await page.waitForURL((u) => !u.pathname.startsWith("/sign-in"));
+}
+
+/** Counts requestAnimationFrame callbacks in the page over `durationMs`: frames per second. */
+export async function measureFps(page: Page, durationMs: number): Promise<number> {
+  return page.evaluate(
+    (ms) =>
+      new Promise<number>((resolve) => {
+        let frames = 0;
+        let start = 0;
+        const step = (now: number) => {
+          if (start === 0) start = now;
+          else frames++;
+          if (now - start < ms) requestAnimationFrame(step);
+          else resolve((frames * 1000) / (now - start));
+        };
+        requestAnimationFrame(step);
+      }),
+    durationMs,
+  );
+}
+
+/** The TCP position shown beside the 3D view, mm. */
+export async function readTcpMm(page: Page): Promise<{ x: number; y: number; z: number }> {
+  const read = async (axis: string) => Number(await page.getByTestId(`tcp-${axis}`).innerText());
+  return { x: await read("x"), y: await read("y"), z: await read("z") };
+}
+
+export async function readJointPositions(page: Page): Promise<string[]> {
+  return page.getByTestId("joint-positions").locator("[data-testid$='-position']").allInnerTexts();
+}
+
+export async function chartPoints(page: Page, key: "jointRates" | "sigma" | "speed"): Promise<number> {
+  return Number(await page.getByTestId(`chart-${key}`).getAttribute("data-points"));
+}
+
+export async function drawnFrames(page: Page): Promise<number> {
+  return Number(await page.getByTestId("arm-view").getAttribute("data-drawn-frames"));
+}
