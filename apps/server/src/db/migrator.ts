@@ -7,6 +7,7 @@ import * as m0004 from "./migrations/0004-approvals.ts";
 import * as m0005 from "./migrations/0005-site-ceilings.ts";
 import * as m0006 from "./migrations/0006-audit-log.ts";
 import * as m0007 from "./migrations/0007-mail-outbox.ts";
+import * as m0008 from "./migrations/0008-version-status-guard.ts";
 import * as m0010 from "./migrations/0010-jog-recordings.ts";
 import * as m0011 from "./migrations/0011-gamepad-mappings.ts";
 
@@ -19,6 +20,7 @@ const MIGRATIONS = [
   { name: "0005-site-ceilings", ...m0005 },
   { name: "0006-audit-log", ...m0006 },
   { name: "0007-mail-outbox", ...m0007 },
+  { name: "0008-version-status-guard", ...m0008 },
   { name: "0010-jog-recordings", ...m0010 },
   { name: "0011-gamepad-mappings", ...m0011 },
 ];

@@ -63,7 +63,7 @@ describe("site ceilings", () => {
     expect(res.body.error.issues[0].path).toBe("ceilings.allowedGuardPolicies");
   });
 
-  it("lowering a ceiling flags approved versions above it: not driveable, engineers mailed; raising it back clears them", async () => {
+  it("lowering a ceiling flags approved versions above it: not driveable, engineers mailed; the flag stays until a compliant version is approved", async () => {
     // A watchdog of 295 ms is within the 300 ms default and above the lowered 290 ms.
     const params = { ...compliantParams(arm), watchdogMs: 295 };
     const { profile, version: v1 } = await approvedProfile(h, team, arm, params);
@@ -88,13 +88,23 @@ describe("site ceilings", () => {
     expect(mail!.to).toEqual(expect.arrayContaining([team.engineer.email, team.engineer2.email]));
     expect(mail!.to).not.toContain(team.operator.email);
 
+    // Raising the ceilings again does not silently re-enable the flagged version.
     const raised = await setCeilings(original, "back to the site defaults");
-    expect(raised.flaggedVersionIds).not.toContain(v2.id);
-    const after = await call(h, "get", `/api/profiles/${profile.id}`, team.operator.cookie);
-    expect(after.body.profile.driveableVersionId).toBe(v2.id);
+    expect(raised.flaggedVersionIds).toContain(v2.id);
+    const stillFlagged = await call(h, "get", `/api/profiles/${profile.id}`, team.operator.cookie);
+    expect(stillFlagged.body.profile.driveableVersionId).toBeNull();
     const flags = await call(h, "get", `/api/audit?entity=version&actorId=${team.officer.id}`, await signIn(h, "sigrid"));
     const actions = flags.body.entries.filter((e: { entityId: string }) => e.entityId === String(v2.id)).map((e: { action: string }) => e.action);
-    expect(actions).toEqual(expect.arrayContaining(["flag", "unflag"]));
+    expect(actions).toContain("flag");
+    expect(actions).not.toContain("unflag");
+
+    // A compliant version approved deliberately is what makes the profile driveable again.
+    const v3 = (await call(h, "post", `/api/profiles/${profile.id}/versions`, team.engineer.cookie).send({ parentVersionId: v2.id, params: { ...params, watchdogMs: 250 } })).body.version;
+    await call(h, "post", `/api/versions/${v3.id}/submit`, team.engineer.cookie).expect(200);
+    await call(h, "post", `/api/versions/${v3.id}/approve`, team.officer.cookie).send({ comment: "watchdog shortened", paramsSha256: v3.paramsSha256 }).expect(200);
+    const after = await call(h, "get", `/api/profiles/${profile.id}`, team.operator.cookie);
+    expect(after.body.profile.driveableVersionId).toBe(v3.id);
+    expect(after.body.versions.find((v: { id: number }) => v.id === v2.id).state).toBe("superseded");
   });
 
   it("a submitted version that a lowered ceiling now exceeds cannot be approved", async () => {

@@ -253,6 +253,16 @@ describe("locked versions in the database itself", () => {
     await expect(h.db.query("UPDATE profile_versions SET params_sha256 = REPEAT('0', 64) WHERE id = ?", { replacements: [profile.latestVersion.id] })).rejects.toThrow(/immutable/);
   });
 
+  it("the lifecycle holds under raw SQL: an approved version cannot go back to draft, a flag cannot be cleared, status rows cannot be deleted", async () => {
+    const { version } = await approvedProfile(h, team, arm);
+    await expect(h.db.query("UPDATE version_status SET state = 'draft' WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/only be superseded or retired/);
+    await h.db.query("UPDATE version_status SET exceeds_ceilings = 1 WHERE version_id = ?", { replacements: [version.id] });
+    await expect(h.db.query("UPDATE version_status SET exceeds_ceilings = 0 WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/flag stays/);
+    await expect(h.db.query("DELETE FROM version_status WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/never deleted/);
+    await h.db.query("UPDATE version_status SET state = 'retired' WHERE version_id = ?", { replacements: [version.id] });
+    await expect(h.db.query("UPDATE version_status SET state = 'approved' WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/stays retired/);
+  });
+
   it("approvals cannot be updated or deleted", async () => {
     const { version } = await approvedProfile(h, team, arm);
     await expect(h.db.query("UPDATE approvals SET comment = 'changed' WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/append-only/);

@@ -439,9 +439,11 @@ async function mailDecision(
 // ---------------------------------------------------------------------------------------------------
 
 /**
- * Re-check every approved version against `ceilings`: flag those now above them (not driveable until a
- * compliant version is approved) and clear those now within them. Audited per version; returns the
- * versions flagged by this call and every version above the ceilings now.
+ * Re-check every approved version against `ceilings` and flag those now above them. A flag is sticky:
+ * the version stays not driveable until a compliant version of the profile is approved (PRODUCT brief,
+ * issue 5), even if the ceilings are later raised again — a safety officer re-approves deliberately
+ * rather than a ceiling edit silently re-enabling an old version. Audited per version; returns the
+ * versions flagged by this call and every flagged approved version now.
  */
 export async function reflagApprovedVersions(
   db: Sequelize,
@@ -459,22 +461,20 @@ export async function reflagApprovedVersions(
     if (!arms.has(profile.armId)) arms.set(profile.armId, await armFor(db, profile.armId));
     const violations = checkCeilings(version.params, ceilings, ratedJointSpeeds(arms.get(profile.armId)!));
     const exceeds = violations.length > 0;
-    if (exceeds) flaggedIds.push(version.id);
-    if (exceeds === version.exceedsCeilings) continue;
-    await model.updateStatus(db, version.id, { exceedsCeilings: exceeds }, t);
+    if (exceeds || version.exceedsCeilings) flaggedIds.push(version.id);
+    if (!exceeds || version.exceedsCeilings) continue;
+    await model.updateStatus(db, version.id, { exceedsCeilings: true }, t);
     const after = (await model.findVersion(db, version.id, t))!;
     await recordAudit(db, t, {
       actorId: actor.id,
       entity: "version",
       entityId: version.id,
-      action: exceeds ? "flag" : "unflag",
-      summary: exceeds
-        ? `${versionLabel(profile, version)} exceeds ceilings revision ${revision} (${violations.map((v) => v.field).join(", ")}); not driveable`
-        : `${versionLabel(profile, version)} is within ceilings revision ${revision} again; driveable`,
+      action: "flag",
+      summary: `${versionLabel(profile, version)} exceeds ceilings revision ${revision} (${violations.map((v) => v.field).join(", ")}); not driveable until a compliant version is approved`,
       before: model.publicVersion(version),
       after: model.publicVersion(after),
     });
-    if (exceeds) newlyFlagged.push({ ...after, params: version.params });
+    newlyFlagged.push({ ...after, params: version.params });
   }
   return { newlyFlagged, flaggedIds };
 }
