@@ -2,7 +2,8 @@
  * Benchmark (not a test): one full Cartesian control step of the six-axis demo arm with the singular-value
  * damping schedule (σ_min estimated every step), against the same step written plainly with mathjs and with
  * ml-matrix. Prints medians (ns/step) over batches, allocation evidence, ratios and the throughput of a
- * 10-s trial at 1 kHz. Run: pnpm bench   (tsx bench/control-step.bench.ts; add --quick for a short run)
+ * 10-s trial at 1 kHz. Run: pnpm bench   (tsx bench/control-step.bench.ts; add --quick for fewer
+ * batches and shorter library runs; the warm-up is the same)
  * Units: SI; times in ns per step.
  */
 
@@ -43,14 +44,7 @@ const ws = createControlWorkspace(arm6.model);
 const state = createControlState(arm6.model, arm6.readyPose);
 const report = createControlReport();
 let tick = 0;
-function runOurs(steps: number): void {
-  for (let s = 0; s < steps; s++) {
-    const o = 6 * (tick % PERIOD);
-    controlStep(ws, state, params, twists.subarray(o, o + 6), DT, report);
-    tick++;
-  }
-}
-// subarray allocates a view; use preallocated views for the timed loop instead.
+// Preallocated views of the command table (subarray allocates), so the timed loop allocates nothing.
 const views: Float64Array[] = [];
 for (let i = 0; i < PERIOD; i++) views.push(twists.subarray(6 * i, 6 * i + 6));
 function runOursNoAlloc(steps: number): void {
@@ -165,12 +159,20 @@ function plainRunner(step: typeof plainMathjsStep): (n: number) => void {
 
 async function main(): Promise<void> {
   console.log(`node ${process.version}, ${process.platform}/${process.arch}${quick ? ", quick run" : ""}`);
-  // Warm-up (JIT).
-  runOurs(quick ? 20_000 : 200_000);
-  const batch = quick ? 20_000 : 100_000;
-  const ours = timeBatches(runOursNoAlloc, batch, quick ? 5 : 15);
+  // Warm-up (JIT), the same in both modes: the timed function itself (so its loop is optimised too),
+  // at least 200k steps and at least 1 s, so every function on the path is in TurboFan code and one full
+  // σ refresh cycle (250 steps) has run many times. --quick only shortens what follows.
+  const w0 = process.hrtime.bigint();
+  let warmSteps = 0;
+  while (warmSteps < 200_000 || Number(process.hrtime.bigint() - w0) < 1e9) {
+    runOursNoAlloc(50_000);
+    warmSteps += 50_000;
+  }
+  const batch = 100_000;
+  const ours = timeBatches(runOursNoAlloc, batch, quick ? 7 : 15);
   const oursMedian = median(ours);
   console.log(`ours:      median ${oursMedian.toFixed(0)} ns/step over ${ours.length} batches of ${batch} ` +
+    `after ${warmSteps} warm-up steps ` +
     `(min ${Math.min(...ours).toFixed(0)}, max ${Math.max(...ours).toFixed(0)})`);
 
   // Allocation check: count GC events and heap growth over 1e6 steps (no allocation → no scavenge).

@@ -391,17 +391,25 @@ function limitAndIntegrate(
   const qdot = state.qdot;
   const J = ws.J;
   const caps = ws.caps;
+  // Per-joint limits into the workspace's Float64Arrays, so the loops below read one array type only.
+  // Params may change between steps, so they are copied every step (6–12 numbers), not cached.
   const userCaps = params.jointRateCaps;
-  for (let i = 0; i < n; i++) {
-    const c = userCaps ? userCaps[i]! : Infinity;
-    caps[i] = c < k.maxSpeed[i]! ? c : k.maxSpeed[i]!;
+  const maxSpeed = k.maxSpeed;
+  if (userCaps) {
+    for (let i = 0; i < n; i++) {
+      const c = userCaps[i]!;
+      caps[i] = c < maxSpeed[i]! ? c : maxSpeed[i]!;
+    }
+  } else {
+    for (let i = 0; i < n; i++) caps[i] = maxSpeed[i]!;
   }
   const margin = params.jointLimitMargin;
   const zone = params.jointLimitSlowZone;
-  for (let i = 0; i < n; i++) {
-    ws.margins[i] = typeof margin === "number" ? margin : margin[i]!;
-    ws.zones[i] = typeof zone === "number" ? zone : zone[i]!;
-  }
+  const margins = ws.margins, zones = ws.zones;
+  if (typeof margin === "number") for (let i = 0; i < n; i++) margins[i] = margin;
+  else for (let i = 0; i < n; i++) margins[i] = margin[i]!;
+  if (typeof zone === "number") for (let i = 0; i < n; i++) zones[i] = zone;
+  else for (let i = 0; i < n; i++) zones[i] = zone[i]!;
 
   // Joint-rate caps.
   const box = ws.box;
@@ -409,19 +417,22 @@ function limitAndIntegrate(
   const sJoint = box[0]!;
   const jointBind = ws.bind[0]!;
   // Achieved twist with the unscaled qdot; it scales linearly with s.
+  // One pass over the columns with the six row sums in locals (same summation order as row by row).
   const a = report.achievedTwist;
-  for (let r = 0; r < 6; r++) {
-    let s = 0;
-    for (let c = 0; c < n; c++) s += J[r * n + c]! * qdot[c]!;
-    a[r] = s;
+  let a0 = 0, a1 = 0, a2 = 0, a3 = 0, a4 = 0, a5 = 0;
+  for (let c = 0; c < n; c++) {
+    const v = qdot[c]!;
+    a0 += J[c]! * v; a1 += J[n + c]! * v; a2 += J[2 * n + c]! * v;
+    a3 += J[3 * n + c]! * v; a4 += J[4 * n + c]! * v; a5 += J[5 * n + c]! * v;
   }
-  const lin = Math.sqrt(a[0]! * a[0]! + a[1]! * a[1]! + a[2]! * a[2]!);
-  const ang = Math.sqrt(a[3]! * a[3]! + a[4]! * a[4]! + a[5]! * a[5]!);
+  a[0] = a0; a[1] = a1; a[2] = a2; a[3] = a3; a[4] = a4; a[5] = a5;
+  const lin = Math.sqrt(a0 * a0 + a1 * a1 + a2 * a2);
+  const ang = Math.sqrt(a3 * a3 + a4 * a4 + a5 * a5);
   const sLin = lin > params.tcpLinearCap ? params.tcpLinearCap / lin : 1;
   const sAng = ang > params.tcpAngularCap ? params.tcpAngularCap / ang : 1;
   // Joint limits.
   box[0] = dt;
-  jointLimitScaleInto(state.q, qdot, k.min, k.max, caps, n, ws.margins, ws.zones, box, ws.bind);
+  jointLimitScaleInto(state.q, qdot, k.min, k.max, caps, n, margins, zones, box, ws.bind);
   const sLimit = box[0]!;
   const limitBind = ws.bind[0]!;
 

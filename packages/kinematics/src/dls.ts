@@ -10,7 +10,7 @@
  */
 
 import { KinematicsInputError, requireFiniteVector, requireMatrix } from "./arm.ts";
-import { choleskyInto, choleskySolveInPlace, gramInto } from "./cholesky.ts";
+import { choleskyInto, choleskySolve6InPlace, choleskySolveInPlace, gramInto } from "./cholesky.ts";
 
 let gram = new Float64Array(144);
 let factor = new Float64Array(144);
@@ -77,6 +77,7 @@ export function dlsSolveWithFactor(
   out: Float64Array,
 ): boolean {
   const k = rows <= cols ? rows : cols;
+  if (rows === 6 && cols >= 6) return dlsSolve6WithFactor(J, cols, L, twist, y, out);
   if (rows <= cols) {
     for (let i = 0; i < rows; i++) y[i] = twist[i]!;
     choleskySolveInPlace(L, k, y);
@@ -96,6 +97,27 @@ export function dlsSolveWithFactor(
   }
   let ok = true;
   for (let c = 0; c < cols; c++) if (!(Math.abs(out[c]!) < Infinity)) ok = false;
+  return ok;
+}
+
+/**
+ * dlsSolveWithFactor for a 6-row J with cols ≥ 6 (the control step of every arm with six or more joints):
+ * y = (L Lᵀ)⁻¹ twist by the written-out 6x6 substitution, then out = Jᵀ y with y in locals. Same operations
+ * in the same order as the general loops, so bit-identical (derived).
+ */
+function dlsSolve6WithFactor(
+  J: ArrayLike<number>, cols: number, L: Float64Array, twist: ArrayLike<number>, y: Float64Array, out: Float64Array,
+): boolean {
+  for (let i = 0; i < 6; i++) y[i] = twist[i]!;
+  choleskySolve6InPlace(L, y);
+  const y0 = y[0]!, y1 = y[1]!, y2 = y[2]!, y3 = y[3]!, y4 = y[4]!, y5 = y[5]!;
+  const c2 = 2 * cols, c3 = 3 * cols, c4 = 4 * cols, c5 = 5 * cols;
+  let ok = true;
+  for (let c = 0; c < cols; c++) {
+    const v = 0 + J[c]! * y0 + J[cols + c]! * y1 + J[c2 + c]! * y2 + J[c3 + c]! * y3 + J[c4 + c]! * y4 + J[c5 + c]! * y5;
+    out[c] = v;
+    if (!(Math.abs(v) < Infinity)) ok = false;
+  }
   return ok;
 }
 

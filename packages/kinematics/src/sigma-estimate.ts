@@ -31,6 +31,7 @@ export interface SigmaTracker {
   readonly x1: Float64Array;
   readonly x2: Float64Array;
   readonly L: Float64Array;
+  /** Scratch of the general-k iteration (the written-out k = 6 path keeps these in locals). */
   readonly y1: Float64Array;
   readonly y2: Float64Array;
   readonly g1: Float64Array;
@@ -115,6 +116,10 @@ export function estimateSigmaMin(t: SigmaTracker, G: ArrayLike<number>): void {
   t.factorValid = false;
   if (k < 2 || !t.warm || (t.refreshInterval > 0 && t.callsSinceRefresh >= t.refreshInterval)) {
     fullDecomposition(t, G);
+    return;
+  }
+  if (k === 6) {
+    estimate6(t, G);
     return;
   }
   let trace = 0;
@@ -213,6 +218,158 @@ export function estimateSigmaMin(t: SigmaTracker, G: ArrayLike<number>): void {
       r2 += r * r;
     }
     const res = Math.sqrt(r2);
+    if (res <= 1e-3 * Math.max(mu1, 0) + tol) {
+      t.sigmaMin = Math.sqrt(Math.max(0, mu1));
+      t.sigmaSecond = Math.sqrt(Math.max(0, mu2));
+      t.iterations = it;
+      t.usedFullDecomposition = false;
+      return;
+    }
+  }
+  fullDecomposition(t, G);
+}
+
+/**
+ * estimateSigmaMin for k = 6 (every arm with six or more joints): the same algorithm written out with the
+ * factor, the two iterates and the Ritz vectors in locals. Every operation is the general loop's, in the
+ * same order (JS has no fused multiply-add), so the results are bit-identical; only index arithmetic,
+ * loop overhead and bounds checks go (derived; sigma-estimate.test.ts and control-step.test.ts cover it).
+ * The scratch arrays y1, y2, g1, g2 are not written on this path.
+ */
+function estimate6(t: SigmaTracker, G: ArrayLike<number>): void {
+  const g00 = G[0]!, g11 = G[7]!, g22 = G[14]!, g33 = G[21]!, g44 = G[28]!, g55 = G[35]!;
+  const trace = 0 + g00 + g11 + g22 + g33 + g44 + g55;
+  const delta = 1e-14 * trace + 1e-300;
+  t.shift = delta;
+  // Cholesky of G + δI (cholesky.ts cholesky6Into with the shift; lower triangle of G read).
+  let d = g00 + delta;
+  let ajj = d;
+  if (!(d > 1e-15 * ajj) || !(d < Infinity)) return fullDecomposition(t, G);
+  const l00 = Math.sqrt(d);
+  let inv = 1 / l00;
+  const l10 = G[6]! * inv, l20 = G[12]! * inv, l30 = G[18]! * inv, l40 = G[24]! * inv, l50 = G[30]! * inv;
+  d = g11 + delta;
+  ajj = d;
+  d -= l10 * l10;
+  if (!(d > 1e-15 * ajj) || !(d < Infinity)) return fullDecomposition(t, G);
+  const l11 = Math.sqrt(d);
+  inv = 1 / l11;
+  const l21 = (G[13]! - l20 * l10) * inv;
+  const l31 = (G[19]! - l30 * l10) * inv;
+  const l41 = (G[25]! - l40 * l10) * inv;
+  const l51 = (G[31]! - l50 * l10) * inv;
+  d = g22 + delta;
+  ajj = d;
+  d -= l20 * l20; d -= l21 * l21;
+  if (!(d > 1e-15 * ajj) || !(d < Infinity)) return fullDecomposition(t, G);
+  const l22 = Math.sqrt(d);
+  inv = 1 / l22;
+  const l32 = (G[20]! - l30 * l20 - l31 * l21) * inv;
+  const l42 = (G[26]! - l40 * l20 - l41 * l21) * inv;
+  const l52 = (G[32]! - l50 * l20 - l51 * l21) * inv;
+  d = g33 + delta;
+  ajj = d;
+  d -= l30 * l30; d -= l31 * l31; d -= l32 * l32;
+  if (!(d > 1e-15 * ajj) || !(d < Infinity)) return fullDecomposition(t, G);
+  const l33 = Math.sqrt(d);
+  inv = 1 / l33;
+  const l43 = (G[27]! - l40 * l30 - l41 * l31 - l42 * l32) * inv;
+  const l53 = (G[33]! - l50 * l30 - l51 * l31 - l52 * l32) * inv;
+  d = g44 + delta;
+  ajj = d;
+  d -= l40 * l40; d -= l41 * l41; d -= l42 * l42; d -= l43 * l43;
+  if (!(d > 1e-15 * ajj) || !(d < Infinity)) return fullDecomposition(t, G);
+  const l44 = Math.sqrt(d);
+  inv = 1 / l44;
+  const l54 = (G[34]! - l50 * l40 - l51 * l41 - l52 * l42 - l53 * l43) * inv;
+  d = g55 + delta;
+  ajj = d;
+  d -= l50 * l50; d -= l51 * l51; d -= l52 * l52; d -= l53 * l53; d -= l54 * l54;
+  if (!(d > 1e-15 * ajj) || !(d < Infinity)) return fullDecomposition(t, G);
+  const l55 = Math.sqrt(d);
+  const L = t.L;
+  L[0] = l00; L[1] = 0; L[2] = 0; L[3] = 0; L[4] = 0; L[5] = 0;
+  L[6] = l10; L[7] = l11; L[8] = 0; L[9] = 0; L[10] = 0; L[11] = 0;
+  L[12] = l20; L[13] = l21; L[14] = l22; L[15] = 0; L[16] = 0; L[17] = 0;
+  L[18] = l30; L[19] = l31; L[20] = l32; L[21] = l33; L[22] = 0; L[23] = 0;
+  L[24] = l40; L[25] = l41; L[26] = l42; L[27] = l43; L[28] = l44; L[29] = 0;
+  L[30] = l50; L[31] = l51; L[32] = l52; L[33] = l53; L[34] = l54; L[35] = l55;
+  t.factorValid = true;
+  t.manipulability = l00 * l11 * l22 * l33 * l44 * l55;
+
+  const x1 = t.x1, x2 = t.x2;
+  let a0 = x1[0]!, a1 = x1[1]!, a2 = x1[2]!, a3 = x1[3]!, a4 = x1[4]!, a5 = x1[5]!;
+  let b0 = x2[0]!, b1 = x2[1]!, b2 = x2[2]!, b3 = x2[3]!, b4 = x2[4]!, b5 = x2[5]!;
+  const tol = 1e-13 * trace;
+  for (let it = 1; it <= t.maxIterations; it++) {
+    // y1 = (G + δI)⁻¹ x1, y2 = (G + δI)⁻¹ x2: forward (L z = x) and back (Lᵀ y = z) substitution.
+    const u0 = a0 / l00, v0 = b0 / l00;
+    const u1 = (a1 - l10 * u0) / l11, v1 = (b1 - l10 * v0) / l11;
+    const u2 = (a2 - l20 * u0 - l21 * u1) / l22, v2 = (b2 - l20 * v0 - l21 * v1) / l22;
+    const u3 = (a3 - l30 * u0 - l31 * u1 - l32 * u2) / l33;
+    const v3 = (b3 - l30 * v0 - l31 * v1 - l32 * v2) / l33;
+    const u4 = (a4 - l40 * u0 - l41 * u1 - l42 * u2 - l43 * u3) / l44;
+    const v4 = (b4 - l40 * v0 - l41 * v1 - l42 * v2 - l43 * v3) / l44;
+    const u5 = (a5 - l50 * u0 - l51 * u1 - l52 * u2 - l53 * u3 - l54 * u4) / l55;
+    const v5 = (b5 - l50 * v0 - l51 * v1 - l52 * v2 - l53 * v3 - l54 * v4) / l55;
+    let p5 = u5 / l55, q5 = v5 / l55;
+    let p4 = (u4 - l54 * p5) / l44, q4 = (v4 - l54 * q5) / l44;
+    let p3 = (u3 - l43 * p4 - l53 * p5) / l33, q3 = (v3 - l43 * q4 - l53 * q5) / l33;
+    let p2 = (u2 - l32 * p3 - l42 * p4 - l52 * p5) / l22;
+    let q2 = (v2 - l32 * q3 - l42 * q4 - l52 * q5) / l22;
+    let p1 = (u1 - l21 * p2 - l31 * p3 - l41 * p4 - l51 * p5) / l11;
+    let q1 = (v1 - l21 * q2 - l31 * q3 - l41 * q4 - l51 * q5) / l11;
+    let p0 = (u0 - l10 * p1 - l20 * p2 - l30 * p3 - l40 * p4 - l50 * p5) / l00;
+    let q0 = (v0 - l10 * q1 - l20 * q2 - l30 * q3 - l40 * q4 - l50 * q5) / l00;
+    // Orthonormalise (modified Gram–Schmidt): p = y1/n1, q = (y2 − d·p)/n2.
+    let n1 = 0 + p0 * p0 + p1 * p1 + p2 * p2 + p3 * p3 + p4 * p4 + p5 * p5;
+    n1 = Math.sqrt(n1);
+    if (!(n1 > 0) || !(n1 < Infinity)) break;
+    p0 = p0 / n1; p1 = p1 / n1; p2 = p2 / n1; p3 = p3 / n1; p4 = p4 / n1; p5 = p5 / n1;
+    const dd = 0 + p0 * q0 + p1 * q1 + p2 * q2 + p3 * q3 + p4 * q4 + p5 * q5;
+    q0 = q0 - dd * p0; q1 = q1 - dd * p1; q2 = q2 - dd * p2; q3 = q3 - dd * p3; q4 = q4 - dd * p4; q5 = q5 - dd * p5;
+    let n2 = 0 + q0 * q0 + q1 * q1 + q2 * q2 + q3 * q3 + q4 * q4 + q5 * q5;
+    n2 = Math.sqrt(n2);
+    if (!(n2 > 1e-8)) break;
+    q0 = q0 / n2; q1 = q1 / n2; q2 = q2 / n2; q3 = q3 / n2; q4 = q4 / n2; q5 = q5 / n2;
+    // Rayleigh–Ritz without a product with G (see estimateSigmaMin): G p = (x1 − δ·n1·p)/n1,
+    // G q = (x2 − δ·(n2·q + d·p) − d·G p)/n2.
+    const e0 = (a0 - delta * p0 * n1) / n1, e1 = (a1 - delta * p1 * n1) / n1, e2 = (a2 - delta * p2 * n1) / n1;
+    const e3 = (a3 - delta * p3 * n1) / n1, e4 = (a4 - delta * p4 * n1) / n1, e5 = (a5 - delta * p5 * n1) / n1;
+    const f0 = (b0 - delta * (q0 * n2 + dd * p0) - dd * e0) / n2;
+    const f1 = (b1 - delta * (q1 * n2 + dd * p1) - dd * e1) / n2;
+    const f2 = (b2 - delta * (q2 * n2 + dd * p2) - dd * e2) / n2;
+    const f3 = (b3 - delta * (q3 * n2 + dd * p3) - dd * e3) / n2;
+    const f4 = (b4 - delta * (q4 * n2 + dd * p4) - dd * e4) / n2;
+    const f5 = (b5 - delta * (q5 * n2 + dd * p5) - dd * e5) / n2;
+    const h11 = 0 + p0 * e0 + p1 * e1 + p2 * e2 + p3 * e3 + p4 * e4 + p5 * e5;
+    const h12 = 0 + p0 * f0 + p1 * f1 + p2 * f2 + p3 * f3 + p4 * f4 + p5 * f5;
+    const h22 = 0 + q0 * f0 + q1 * f1 + q2 * f2 + q3 * f3 + q4 * f4 + q5 * f5;
+    // 2x2 Jacobi rotation diagonalising [[h11, h12], [h12, h22]] (GVL 2013, Alg. 8.5.1).
+    let c = 1, s = 0;
+    if (h12 !== 0) {
+      const tau = (h22 - h11) / (2 * h12);
+      const tt = (tau >= 0 ? 1 : -1) / (Math.abs(tau) + Math.sqrt(1 + tau * tau));
+      c = 1 / Math.sqrt(1 + tt * tt);
+      s = tt * c;
+    }
+    const mua = c * c * h11 - 2 * c * s * h12 + s * s * h22;
+    const mub = s * s * h11 + 2 * c * s * h12 + c * c * h22;
+    let ca: number, sa: number, cb: number, sb: number, mu1: number, mu2: number;
+    if (mua <= mub) {
+      ca = c; sa = -s; cb = s; sb = c; mu1 = mua; mu2 = mub;
+    } else {
+      ca = s; sa = c; cb = c; sb = -s; mu1 = mub; mu2 = mua;
+    }
+    a0 = ca * p0 + sa * q0; a1 = ca * p1 + sa * q1; a2 = ca * p2 + sa * q2;
+    a3 = ca * p3 + sa * q3; a4 = ca * p4 + sa * q4; a5 = ca * p5 + sa * q5;
+    b0 = cb * p0 + sb * q0; b1 = cb * p1 + sb * q1; b2 = cb * p2 + sb * q2;
+    b3 = cb * p3 + sb * q3; b4 = cb * p4 + sb * q4; b5 = cb * p5 + sb * q5;
+    x1[0] = a0; x1[1] = a1; x1[2] = a2; x1[3] = a3; x1[4] = a4; x1[5] = a5;
+    x2[0] = b0; x2[1] = b1; x2[2] = b2; x2[3] = b3; x2[4] = b4; x2[5] = b5;
+    const r0 = ca * e0 + sa * f0 - mu1 * a0, r1 = ca * e1 + sa * f1 - mu1 * a1, r2 = ca * e2 + sa * f2 - mu1 * a2;
+    const r3 = ca * e3 + sa * f3 - mu1 * a3, r4 = ca * e4 + sa * f4 - mu1 * a4, r5 = ca * e5 + sa * f5 - mu1 * a5;
+    const res = Math.sqrt(0 + r0 * r0 + r1 * r1 + r2 * r2 + r3 * r3 + r4 * r4 + r5 * r5);
     if (res <= 1e-3 * Math.max(mu1, 0) + tol) {
       t.sigmaMin = Math.sqrt(Math.max(0, mu1));
       t.sigmaSecond = Math.sqrt(Math.max(0, mu2));
