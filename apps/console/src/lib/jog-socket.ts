@@ -86,6 +86,7 @@ export class JogSocketClient implements FrameSource {
   private latest: JogState | null = null;
   private serial = 0;
   private framesInSession = 0;
+  private inputToStateMs: number | null = null;
   private lastSnapshotMs = 0;
   private snapshotTimer: ReturnType<typeof setTimeout> | null = null;
   /** Messages asked for before the socket opened (start/watch), sent on open. */
@@ -266,6 +267,7 @@ export class JogSocketClient implements FrameSource {
         this.latest = null;
         this.serial++;
         this.framesInSession = 0;
+        this.inputToStateMs = null;
         this.update({ session: message.session, state: null, frameCount: 0, ended: null, error: null });
         break;
       case "state":
@@ -287,6 +289,12 @@ export class JogSocketClient implements FrameSource {
     const previous = this.latest;
     if (previous === null || this.trace.joints !== state.q.length) {
       this.trace.reset(state.q.map(() => "revolute"));
+    }
+    const isDriving = this.snapshot.session !== null && !this.snapshot.session.isWatching;
+    if (isDriving && state.lastInputSeq > 0 && state.lastInputSeq !== previous?.lastInputSeq) {
+      // A new input of ours applied: from sampling it to seeing its effect, on this client's clock (a
+      // watcher sees the driver's clock in these fields, so it has no such latency).
+      this.inputToStateMs = performance.now() - state.lastInputClientTimeMs;
     }
     this.latest = state;
     this.serial++;
@@ -313,8 +321,7 @@ export class JogSocketClient implements FrameSource {
     const state = this.latest;
     if (!state) return;
     this.lastSnapshotMs = performance.now();
-    const inputToStateMs = state.lastInputSeq > 0 ? this.lastSnapshotMs - state.lastInputClientTimeMs : this.snapshot.inputToStateMs;
-    this.update({ state, frameCount: this.framesInSession, inputToStateMs });
+    this.update({ state, frameCount: this.framesInSession, inputToStateMs: this.inputToStateMs });
   }
 
   /** Tells the trace which joints slide (mm/s instead of deg/s); call once the arm is known. */

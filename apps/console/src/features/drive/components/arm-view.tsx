@@ -1,4 +1,4 @@
-import { useEffect, useMemo, useRef } from "react";
+import { memo, useEffect, useMemo, useRef } from "react";
 import { Canvas, useFrame, useThree } from "@react-three/fiber";
 import { OrbitControls } from "@react-three/drei";
 import * as THREE from "three";
@@ -249,7 +249,7 @@ function ArmRig({ arm, restPose, source, statusRef }: ArmRigProps) {
         </mesh>
       ))}
       <mesh ref={ellipsoid} geometry={sphere} matrixAutoUpdate={false}>
-        <meshLambertMaterial color={IRIS_400} transparent opacity={0.22} depthWrite={false} />
+        <meshLambertMaterial color={IRIS_300} transparent opacity={0.3} depthWrite={false} />
       </mesh>
       {[IRIS_300, INK_100].map((color, k) => (
         <group key={`arrow-${k}`}>
@@ -265,6 +265,25 @@ function ArmRig({ arm, restPose, source, statusRef }: ArmRigProps) {
   );
 }
 
+const CAMERA = { position: [1.6, 1.25, 1.75] as [number, number, number], fov: 42, near: 0.01, far: 50 };
+// No MSAA: software renderers (headless Chromium) pay dearly for it; dpr up to 2 smooths edges on
+// high-density screens instead.
+const GL_OPTIONS = { antialias: false, powerPreference: "high-performance" as const };
+
+/**
+ * A software WebGL (SwiftShader, llvmpipe — e.g. headless Chromium without a GPU) hands every frame back
+ * to the compositor through the page's main thread, at a cost that grows with the pixel count; there the
+ * canvas renders at 0.75 of a CSS pixel so the page keeps its frame rate. Real GPUs are unaffected.
+ */
+const SOFTWARE_DPR = 0.75;
+
+function isSoftwareRenderer(gl: THREE.WebGLRenderer): boolean {
+  const context = gl.getContext();
+  const info = context.getExtension("WEBGL_debug_renderer_info");
+  const renderer = String(info ? context.getParameter(info.UNMASKED_RENDERER_WEBGL) : context.getParameter(context.RENDERER));
+  return /swiftshader|llvmpipe|software/i.test(renderer);
+}
+
 export interface ArmViewProps {
   arm: ArmModel;
   /** Pose shown before the first frame (the arm's ready pose). */
@@ -273,7 +292,8 @@ export interface ArmViewProps {
   className?: string;
 }
 
-export function ArmView({ arm, restPose, source, className }: ArmViewProps) {
+/** Memoised: the page re-renders at ~15 Hz for its panels; the canvas needs none of those renders. */
+export const ArmView = memo(function ArmView({ arm, restPose, source, className }: ArmViewProps) {
   const statusRef = useRef<HTMLDivElement>(null);
   return (
     <div
@@ -284,8 +304,14 @@ export function ArmView({ arm, restPose, source, className }: ArmViewProps) {
       <Canvas
         frameloop="demand"
         dpr={[1, 2]}
-        camera={{ position: [1.5, 1.15, 1.5], fov: 42, near: 0.01, far: 50 }}
-        gl={{ antialias: false, powerPreference: "high-performance" }}
+        camera={CAMERA}
+        gl={GL_OPTIONS}
+        onCreated={({ gl, setDpr }) => {
+          if (isSoftwareRenderer(gl)) {
+            setDpr(SOFTWARE_DPR);
+            statusRef.current?.setAttribute("data-software-renderer", "true");
+          }
+        }}
         aria-label="3D view of the arm"
         role="img"
       >
@@ -295,7 +321,7 @@ export function ArmView({ arm, restPose, source, className }: ArmViewProps) {
         <directionalLight position={[-3, 2, -2]} intensity={0.4} />
         <gridHelper args={[2, 20, INK_600, INK_700]} />
         <ArmRig arm={arm} restPose={restPose} source={source} statusRef={statusRef} />
-        <OrbitControls makeDefault target={[0.2, 0.45, 0]} enableDamping={false} />
+        <OrbitControls makeDefault target={[0.25, 0.5, 0]} enableDamping={false} />
       </Canvas>
       <p className="pointer-events-none absolute bottom-2 left-3 text-xs text-ink-400">
         Drag to orbit · scroll to zoom · TCP frame x light, y grey, z violet · arrows: commanded (violet) and achieved
@@ -303,4 +329,4 @@ export function ArmView({ arm, restPose, source, className }: ArmViewProps) {
       </p>
     </div>
   );
-}
+});

@@ -1,4 +1,4 @@
-import { useEffect, useState } from "react";
+import { useCallback, useEffect, useState } from "react";
 import { Link } from "react-router";
 import { useQuery } from "@tanstack/react-query";
 import { DEFAULT_GAMEPAD_MAPPING, hasAnyRole } from "@jogwright/shared";
@@ -92,6 +92,7 @@ export function DrivePage() {
     }, END_WAIT_MS);
   }
 
+  const openMapping = useCallback(() => setMappingOpen(true), []);
   const frame = snapshot.state;
   return (
     <>
@@ -156,7 +157,7 @@ export function DrivePage() {
               </>
             }
             controls={
-              <JogControls jointCount={arm.model.joints.length} disabled={!isDriving} onEditMapping={() => setMappingOpen(true)} />
+              <JogControls jointCount={arm.model.joints.length} disabled={!isDriving} onEditMapping={openMapping} />
             }
           />
         ) : profiles.data && !session ? (

@@ -1,4 +1,4 @@
-import { useState, type KeyboardEvent, type PointerEvent } from "react";
+import { memo, useState, type KeyboardEvent, type PointerEvent } from "react";
 import { Gamepad2, Hand, OctagonX, RotateCcw, Settings2 } from "lucide-react";
 import type { RecordedFrame } from "@jogwright/shared";
 import { Button } from "../../../components/ui/button.tsx";
@@ -161,7 +161,7 @@ function RateSlider({ axis, label, disabled }: { axis: number; label: string; di
   );
 }
 
-export function JogControls({ jointCount, disabled, onEditMapping }: { jointCount: number; disabled: boolean; onEditMapping: () => void }) {
+export const JogControls = memo(function JogControls({ jointCount, disabled, onEditMapping }: { jointCount: number; disabled: boolean; onEditMapping: () => void }) {
   const input = useJogInput();
   const isCartesian = input.mode === "cartesian";
   const labels = isCartesian ? CARTESIAN_LABELS : Array.from({ length: jointCount }, (_, i) => `J${i + 1}`);
@@ -234,7 +234,7 @@ export function JogControls({ jointCount, disabled, onEditMapping }: { jointCoun
       </p>
     </Panel>
   );
-}
+});
 
 function AxisPair({ axis, label, disabled, value }: { axis: number; label: string; disabled: boolean; value: number }) {
   return (

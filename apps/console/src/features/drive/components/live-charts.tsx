@@ -1,16 +1,16 @@
-import { useEffect, useRef } from "react";
+import { memo, useEffect, useRef } from "react";
 import uPlot from "uplot";
 import "uplot/dist/uPlot.min.css";
 import type { ChartColumns, ChartData, FrameSource } from "../../../lib/frame-trace.ts";
 
 /**
  * Three uPlot charts over a rolling window of the FrameSource's trace: joint rates (deg/s), σ_min and λ
- * (mm), TCP speed commanded vs achieved (mm/s). Redrawn with setData at most 20 times a second and only
+ * (mm), TCP speed commanded vs achieved (mm/s). Redrawn with setData at most 15 times a second and only
  * when new frames arrived, so the 3D view keeps its 60 fps.
  */
 
 const WINDOW_S = 10;
-const REDRAW_MS = 50;
+const REDRAW_MS = 66;
 const HEIGHT_PX = 150;
 
 // "Ink & Iris" tokens only; series are told apart by dash pattern and the legend, not by state colours.
@@ -118,7 +118,7 @@ function Chart({ spec, jointCount }: { spec: ChartSpec; jointCount: number }) {
 }
 
 /** The live charts; `source` is the socket client or a replay. */
-export function LiveCharts({ source, jointCount }: { source: FrameSource; jointCount: number }) {
+export const LiveCharts = memo(function LiveCharts({ source, jointCount }: { source: FrameSource; jointCount: number }) {
   const rootRef = useRef<HTMLDivElement>(null);
 
   // One timer for all three charts: read the trace once, hand each chart its columns.
@@ -151,5 +151,4 @@ export function LiveCharts({ source, jointCount }: { source: FrameSource; jointC
       ))}
     </div>
   );
-}
-
+});
