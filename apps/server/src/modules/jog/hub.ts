@@ -85,8 +85,8 @@ export class LiveJogSession implements ScheduledClient {
     };
   }
 
-  runTick(nowMs: number): void {
-    this.sim.tick(nowMs);
+  runTick(nowMs: number, stalledMs: number): void {
+    this.sim.tick(nowMs, stalledMs);
   }
 
   noteOverrun(skipped: number): void {

@@ -200,6 +200,28 @@ describe("jogging", () => {
     await c.close();
   });
 
+  it("a stall of the server process longer than the watchdog is not taken for a silent client", async () => {
+    const c = await startDriving(engineer.cookie, draftVersionId);
+    await holdEnabling(c, [0, 0, 1, 0, 0, 0]);
+    await sleep(300);
+    const from = c.messages.length;
+    // Block this process (server and client share it) for 1.5× the 200 ms watchdog, as a long GC pause
+    // or a busy machine would. The client keeps its stream going; its queued inputs are read only after.
+    const until = performance.now() + 300;
+    while (performance.now() < until) {
+      /* busy */
+    }
+    await sleep(300);
+    c.stopStream();
+    const after = c.statesSince(from).map((f) => f.state);
+    expect(after.length).toBeGreaterThan(0);
+    // The watchdog subtracts the scheduler's measured stalls from the silence (derived: inputs sent during
+    // a stall sit unread in the socket), so the stall alone never trips it.
+    expect(after.some((f) => f.stopReason === "watchdog")).toBe(false);
+    expect(after[after.length - 1]!.enabled).toBe(true);
+    await c.close();
+  });
+
   it("an emergency stop zeroes the joint rates at once and latches; the reset does not move the arm", async () => {
     const c = await startDriving(engineer.cookie, draftVersionId);
     await holdEnabling(c, [0, 0, 1, 0, 0, 0]);

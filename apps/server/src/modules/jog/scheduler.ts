@@ -11,9 +11,16 @@ import { performance } from "node:perf_hooks";
 /** Catch-up bound per wake; further behind than this, the extra ticks are skipped and counted as overruns. */
 export const MAX_CATCH_UP_TICKS = 25;
 
+/** A wake later than this counts as a stall of the process (normal lateness is about 1 ms). */
+export const STALL_THRESHOLD_MS = 10;
+
 export interface ScheduledClient {
-  /** Runs one tick scheduled at scheduledMs; nowMs is the wake time. */
-  runTick(nowMs: number): void;
+  /**
+   * Runs one tick; nowMs is the wake time. stalledMs is the scheduler's running total of time this process
+   * was stalled (wakes later than STALL_THRESHOLD_MS): the watchdog subtracts stalls from silence, so a
+   * pause of the server itself (GC, a busy machine) is never taken for a silent client.
+   */
+  runTick(nowMs: number, stalledMs: number): void;
   /** Called when ticks had to be skipped. */
   noteOverrun(skipped: number): void;
   /** Sends one frame. */
@@ -73,6 +80,8 @@ export class TickScheduler {
   private timer: NodeJS.Timeout | null = null;
   private wakeAtMs = Infinity;
   readonly lateness = new LatenessHistogram();
+  /** Running total of stalls: wake lateness beyond STALL_THRESHOLD_MS. */
+  stalledMs = 0;
   overrunTicks = 0;
   wakes = 0;
 
@@ -116,6 +125,8 @@ export class TickScheduler {
   }
 
   private readonly wake = (): void => {
+    const lateByMs = performance.now() - this.wakeAtMs;
+    if (lateByMs > STALL_THRESHOLD_MS) this.stalledMs += lateByMs;
     this.timer = null;
     this.wakeAtMs = Infinity;
     this.wakes++;
@@ -129,7 +140,7 @@ export class TickScheduler {
       while (s.nextTickMs <= now && ran < MAX_CATCH_UP_TICKS) {
         this.lateness.record(now - s.nextTickMs);
         try {
-          client.runTick(now);
+          client.runTick(now, this.stalledMs);
         } catch (error) {
           console.error("[jogwright] jog tick failed:", error);
         }

@@ -77,6 +77,9 @@ export class JogSimulation {
    */
   private isEnableArmed = true;
   private lastInputAtMs = -Infinity;
+  /** The scheduler's stall total as of the latest tick, and as of the last input (see tick). */
+  private stalledMs = 0;
+  private stalledAtInputMs = 0;
   lastInputSeq = -1;
   lastInputClientTimeMs = 0;
 
@@ -167,6 +170,7 @@ export class JogSimulation {
     }
     this.isEnablingHeld = input.enabling;
     this.lastInputAtMs = nowMs;
+    this.stalledAtInputMs = this.stalledMs;
     this.lastInputSeq = input.seq;
     this.lastInputClientTimeMs = input.clientTimeMs;
     return { ok: true };
@@ -234,12 +238,19 @@ export class JogSimulation {
     }
   }
 
-  /** One control tick at wall time nowMs. No allocation. */
-  tick(nowMs: number): void {
+  /**
+   * One control tick at wall time nowMs. No allocation. stalledMs is the scheduler's running total of
+   * process stalls: the watchdog counts silence without them, so a pause of the server itself (inputs
+   * queued unread in the socket) is not taken for a silent client; a truly silent client still trips it
+   * on time, or late by the stall, when nothing could have moved anyway.
+   */
+  tick(nowMs: number, stalledMs = 0): void {
     const p = this.profile;
     const dt = this.dt;
+    this.stalledMs = stalledMs;
     // Step 2, gating.
-    if (this.isEnablingHeld && nowMs - this.lastInputAtMs > p.watchdogMs) {
+    const silenceMs = nowMs - this.lastInputAtMs - (stalledMs - this.stalledAtInputMs);
+    if (this.isEnablingHeld && silenceMs > p.watchdogMs) {
       // Silence while the enabling control was last seen held: treat it as released, and it must be
       // released and pressed again before motion resumes.
       this.isWatchdogTripped = true;
