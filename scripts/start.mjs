@@ -3,7 +3,7 @@
 // migrates and seeds on boot). Ctrl-C stops the server and the database cleanly.
 import { spawn } from "node:child_process";
 import path from "node:path";
-import { buildConsole, log, portFromEnv, prepare, ROOT, SetupError } from "./lib/setup.mjs";
+import { buildConsole, DATA_DIR, log, portFromEnv, prepare, ROOT, SetupError } from "./lib/setup.mjs";
 
 async function main() {
   const port = portFromEnv("PORT", 3000);
@@ -24,7 +24,7 @@ async function main() {
   const server = spawn(path.join(serverDir, "node_modules/.bin/tsx"), ["src/server.ts"], {
     cwd: serverDir,
     stdio: "inherit",
-    env: { ...process.env, PORT: String(port), DATABASE_URL: db.url, NODE_ENV: process.env.NODE_ENV ?? "production" },
+    env: { MAIL_DIR: path.join(DATA_DIR, "mail"), ...process.env, PORT: String(port), DATABASE_URL: db.url, NODE_ENV: process.env.NODE_ENV ?? "production" },
   });
   const stop = (signal) => {
     if (shuttingDown) return;

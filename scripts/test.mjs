@@ -74,7 +74,7 @@ async function main() {
     server = spawn(path.join(serverDir, "node_modules/.bin/tsx"), ["src/server.ts"], {
       cwd: serverDir,
       stdio: ["ignore", "ignore", "inherit"],
-      env: { ...process.env, ...dbEnv, PORT: String(port), SMTP_PORT: String(portFromEnv("TEST_SMTP_PORT", 2626)), NODE_ENV: "test" },
+      env: { ...process.env, ...dbEnv, MAIL_DIR: path.join(DATA_DIR, "mail-test"), PORT: String(port), SMTP_PORT: String(portFromEnv("TEST_SMTP_PORT", 2626)), NODE_ENV: "test" },
     });
     const url = `http://127.0.0.1:${port}`;
     await waitForHealth(url, server);

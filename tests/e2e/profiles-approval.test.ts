@@ -1,12 +1,13 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, BrowserContext, Page } from "playwright-core";
 import { baseUrl, launchBrowser, saveScreenshot } from "../support/browser.ts";
+import { readTcpMm } from "../support/drive.ts";
 
 // Issue 5 in a real browser against the real server: an engineer writes a profile for olena in UI units
 // (a ceiling warning above 250 mm/s, ISO 10218-1:2011 reduced speed), saves and submits; a safety officer
 // reviews (difference, ceiling check, no evidence yet) and approves with a comment; a second version goes
 // the same way while a stale page's save is refused (409 stale_parent) without overwriting anything;
-// finally olena sees the approved version as driveable. The test assumes the site ceilings in force keep
+// finally olena sees the approved version as driveable and drives the arm with it. The test assumes the site ceilings in force keep
 // the default TCP linear ceiling of 250 mm/s.
 
 const DEMO_PASSWORD = "demo-pass-2026";
@@ -181,5 +182,34 @@ describe("profiles: edit in UI units, submit, review and approve", { timeout: 18
     // Operators read; they get no form.
     expect(await page.getByRole("form", { name: "Profile parameters" }).count()).toBe(0);
     await saveScreenshot(page, "profiles-olena-detail");
+  });
+
+  it("lets olena drive the arm with the newly approved v2", async () => {
+    const page = await signedInPage("olena", "/drive");
+    await page.getByRole("heading", { level: 1, name: "Drive" }).waitFor();
+    const profileSelect = page.getByLabel("Profile", { exact: true });
+    const option = profileSelect.locator("option", { hasText: PROFILE_NAME });
+    await profileSelect.selectOption(await option.first().getAttribute("value"));
+    await page.locator("[data-testid=connection-state][data-connection=open]").waitFor();
+    await page.getByRole("button", { name: /Start driving/ }).click();
+    const info = page.getByTestId("session-info");
+    await info.waitFor();
+    // The server started the session on the approved v2 (the only version an operator may drive).
+    expect((await info.innerText()).replace(/\s+/g, " ")).toContain(`Driving ${PROFILE_NAME}, version 2 on`);
+    await expect.poll(async () => (await page.getByTestId("tcp-z").innerText()).trim()).toMatch(/^-?\d/);
+    // Hold the enabling control (a touch pointer) and press-and-hold +Z (the mouse): the TCP rises.
+    const enabling = page.getByTestId("enabling-control");
+    await enabling.dispatchEvent("pointerdown", { pointerId: 31, pointerType: "touch", isPrimary: true, button: 0 });
+    await expect.poll(() => enabling.getAttribute("aria-pressed")).toBe("true");
+    const zBefore = (await readTcpMm(page)).z;
+    const plusZ = page.getByRole("button", { name: "Jog +Z" });
+    const box = (await plusZ.boundingBox())!;
+    await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+    await page.mouse.down();
+    await expect.poll(async () => (await readTcpMm(page)).z - zBefore, { timeout: 10_000 }).toBeGreaterThan(10);
+    await saveScreenshot(page, "profiles-olena-drives-v2");
+    await page.mouse.up();
+    await enabling.dispatchEvent("pointerup", { pointerId: 31, pointerType: "touch", isPrimary: true, button: 0 });
+    await page.getByRole("button", { name: "End session" }).click();
   });
 });
