@@ -203,6 +203,7 @@ describe("profiles: edit in UI units, submit, review and approve", { timeout: 18
     await expect.poll(() => enabling.getAttribute("aria-pressed")).toBe("true");
     const zBefore = (await readTcpMm(page)).z;
     const plusZ = page.getByRole("button", { name: "Jog +Z" });
+    await plusZ.scrollIntoViewIfNeeded();
     const box = (await plusZ.boundingBox())!;
     await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
     await page.mouse.down();
