@@ -10,7 +10,7 @@ async function main() {
   const db = await prepare({ withChromium: false, dbName: "mariadb", defaultDbPort: 3407, database: "jogwright" });
   let shuttingDown = false;
   const shutdownDb = async () => {
-    if (process.env.DATABASE_URL) return;
+    if (!db.owned) return;
     log("stopping the private MariaDB");
     await db.stop();
   };
