@@ -4,7 +4,7 @@
  * (m/s for prismatic joints); σ and λ in the units of J (m and rad mixed, METHODS.md §3).
  *
  * Cartesian step (controlStep):
- *  1. J and the TCP pose at q (geometricJacobianInto).
+ *  1. J, the TCP pose and the Gram matrix at q (jacobianPoseGramInto, one fused pass).
  *  2. Command into the world frame (tool-frame twists rotated by the TCP rotation); optional drift
  *     correction adds K·e, e the pose error to a reference pose (closed-loop inverse kinematics,
  *     Siciliano et al. 2009 sect. 3.7 — from memory; stable for 0 < K·dt < 2, METHODS.md §6 derived).
@@ -24,15 +24,15 @@
 
 import type { ArmKernel, ArmModel } from "./arm.ts";
 import { KinematicsInputError, compileArm, requireFiniteVector, validateArm } from "./arm.ts";
-import { gramInto } from "./cholesky.ts";
 import type { DampingScheme } from "./damping.ts";
 import { validateDampingScheme } from "./damping.ts";
-import { dlsFromGramBoxed, dlsSolveWithFactor } from "./dls.ts";
-import { geometricJacobianInto } from "./jacobian.ts";
-import { capScaleInto, jointLimitScaleInto } from "./limits.ts";
+import { dlsFromGramBoxed, dlsSolveWithFactor, jtY6Into } from "./dls.ts";
+import { jacobianPoseGramInto } from "./jacobian.ts";
 import { forwardPoseInto } from "./pose.ts";
 import type { SigmaTracker } from "./sigma-estimate.ts";
-import { copySigmaTracker, createSigmaTracker, estimateSigmaMin, resetSigmaTracker } from "./sigma-estimate.ts";
+import {
+  copySigmaTracker, createSigmaTracker, estimateSigmaMin, estimateSigmaMinSolve6, resetSigmaTracker,
+} from "./sigma-estimate.ts";
 import { advancePoseInPlace, poseErrorInto, toolTwistToWorldInto } from "./twist.ts";
 
 export type GuardPolicy = "damp-through" | "stop-before";
@@ -329,9 +329,11 @@ function beginReport(report: ControlStepReport, mode: "cartesian" | "joint"): vo
   report.sigmaMin = 0; report.sigmaSecond = 0; report.manipulability = 0; report.lambda = 0;
   report.jointCapScale = 1; report.tcpLinearScale = 1; report.tcpAngularScale = 1; report.limitScale = 1;
   report.scale = 1; report.binding = "none"; report.bindingJoint = -1;
-  for (let i = 0; i < 6; i++) {
-    report.commandedTwist[i] = 0; report.solvedTwist[i] = 0; report.achievedTwist[i] = 0;
-  }
+  // Typed-array fields into locals once: V8 does not hoist the field loads out of a loop.
+  const c = report.commandedTwist, v = report.solvedTwist, a = report.achievedTwist;
+  c[0] = 0; c[1] = 0; c[2] = 0; c[3] = 0; c[4] = 0; c[5] = 0;
+  v[0] = 0; v[1] = 0; v[2] = 0; v[3] = 0; v[4] = 0; v[5] = 0;
+  a[0] = 0; a[1] = 0; a[2] = 0; a[3] = 0; a[4] = 0; a[5] = 0;
   report.tcpLinearSpeed = 0; report.tcpAngularSpeed = 0;
   report.driftPositionError = 0; report.driftOrientationError = 0; report.driftReset = false;
   report.sigmaIterations = 0; report.sigmaFullDecomposition = false;
@@ -359,23 +361,39 @@ function commandIsFinite(v: ArrayLike<number> | null | undefined, len: number): 
   return true;
 }
 
-/** Evaluates J, pose and σ at state.q into the workspace and report. False when q is not finite. */
+/**
+ * Evaluates J, pose and the Gram matrix at state.q into the workspace and the pose into the report (σ
+ * follows in estimateSigma). False when q (or J) is not finite.
+ */
 function measure(ws: ControlWorkspace, state: ControlState, report: ControlStepReport): boolean {
   const n = ws.n;
-  for (let i = 0; i < n; i++) if (!Number.isFinite(state.q[i]!)) return false;
-  geometricJacobianInto(ws.kernel, state.q, ws.J, ws.pose);
-  for (let i = 0; i < 16; i++) report.pose[i] = ws.pose[i]!;
-  gramInto(ws.J, 6, n, ws.G);
+  const q = state.q;
+  for (let i = 0; i < n; i++) if (!Number.isFinite(q[i]!)) return false;
+  // J, pose and G in one pass (jacobian.ts; bit-identical to geometricJacobianInto + gramInto).
+  const pose = ws.pose, G = ws.G;
+  jacobianPoseGramInto(ws.kernel, q, ws.J, pose, G);
+  const rp = report.pose;
+  for (let i = 0; i < 16; i++) rp[i] = pose[i]!;
   // A non-finite entry of J makes a diagonal entry of the Gram matrix (a sum of squares) non-finite.
   const k = ws.tracker.k;
-  for (let i = 0; i < k; i++) if (!(ws.G[i * k + i]! < Infinity)) return false;
-  estimateSigmaMin(ws.tracker, ws.G);
-  report.sigmaMin = ws.tracker.sigmaMin;
-  report.sigmaSecond = ws.tracker.sigmaSecond;
-  report.manipulability = ws.tracker.manipulability;
-  report.sigmaIterations = ws.tracker.iterations;
-  report.sigmaFullDecomposition = ws.tracker.usedFullDecomposition;
+  for (let i = 0; i < k; i++) if (!(G[i * k + i]! < Infinity)) return false;
   return true;
+}
+
+/**
+ * σ_min, w and the tracker's factor for the Gram matrix of measure(), into the report. With `rhs` (a
+ * 6-row J with n ≥ 6, undamped solve possible), the estimator also solves (G + δI) ws.y = rhs with its
+ * factor (estimateSigmaMinSolve6), valid when tracker.factorValid.
+ */
+function estimateSigma(ws: ControlWorkspace, report: ControlStepReport, rhs: Float64Array | null): void {
+  const tracker = ws.tracker;
+  if (rhs) estimateSigmaMinSolve6(tracker, ws.G, rhs, ws.y);
+  else estimateSigmaMin(tracker, ws.G);
+  report.sigmaMin = tracker.sigmaMin;
+  report.sigmaSecond = tracker.sigmaSecond;
+  report.manipulability = tracker.manipulability;
+  report.sigmaIterations = tracker.iterations;
+  report.sigmaFullDecomposition = tracker.usedFullDecomposition;
 }
 
 /**
@@ -389,52 +407,86 @@ function limitAndIntegrate(
   const n = ws.n;
   const k = ws.kernel;
   const qdot = state.qdot;
+  const q = state.q;
   const J = ws.J;
-  const caps = ws.caps;
-  // Per-joint limits into the workspace's Float64Arrays, so the loops below read one array type only.
-  // Params may change between steps, so they are copied every step (6–12 numbers), not cached.
+  const maxSpeed = k.maxSpeed, qMin = k.min, qMax = k.max;
+  // Params are read every step (they may change between steps). The joint-rate cap scale (limits.ts
+  // capScaleInto) and the joint-limit slow-down (limits.ts jointLimitScaleInto) are written out here in
+  // one loop over the joints: each keeps its own running factor and binding joint and visits the joints
+  // in the same order with the same operations, so the results are bit-identical to the two calls.
   const userCaps = params.jointRateCaps;
-  const maxSpeed = k.maxSpeed;
-  if (userCaps) {
-    for (let i = 0; i < n; i++) {
-      const c = userCaps[i]!;
-      caps[i] = c < maxSpeed[i]! ? c : maxSpeed[i]!;
-    }
-  } else {
-    for (let i = 0; i < n; i++) caps[i] = maxSpeed[i]!;
-  }
   const margin = params.jointLimitMargin;
   const zone = params.jointLimitSlowZone;
-  const margins = ws.margins, zones = ws.zones;
-  if (typeof margin === "number") for (let i = 0; i < n; i++) margins[i] = margin;
-  else for (let i = 0; i < n; i++) margins[i] = margin[i]!;
-  if (typeof zone === "number") for (let i = 0; i < n; i++) zones[i] = zone;
-  else for (let i = 0; i < n; i++) zones[i] = zone[i]!;
-
-  // Joint-rate caps.
-  const box = ws.box;
-  capScaleInto(qdot, caps, n, box, ws.bind);
-  const sJoint = box[0]!;
-  const jointBind = ws.bind[0]!;
+  const marginAll = typeof margin === "number" ? margin : NaN;
+  const zoneAll = typeof zone === "number" ? zone : NaN;
+  const marginArr = typeof margin === "number" ? null : margin;
+  const zoneArr = typeof zone === "number" ? null : zone;
+  let sJoint = 1, jointBind = -1, jointDone = false;
+  let sLimit = 1, limitBind = -1;
+  let moving = false;
+  for (let i = 0; i < n; i++) {
+    const v = qdot[i]!;
+    const ms = maxSpeed[i]!;
+    let cap = ms;
+    if (userCaps) {
+      const c = userCaps[i]!;
+      cap = c < ms ? c : ms;
+    }
+    const speed = Math.abs(v);
+    // Joint-rate caps: s = min(1, min_i cap_i/|qdot_i|); NaN gives 0 and ends this scan.
+    if (!jointDone) {
+      if (Number.isNaN(speed)) {
+        sJoint = 0;
+        jointBind = i;
+        jointDone = true;
+      } else if (speed * sJoint > cap) {
+        sJoint = cap / speed;
+        jointBind = i;
+      }
+    }
+    // Joint limits (limits.ts jointLimitScale).
+    if (v === 0) continue;
+    moving = true;
+    const mg = marginArr ? marginArr[i]! : marginAll;
+    const gap = v > 0 ? qMax[i]! - mg - q[i]! : q[i]! - (qMin[i]! + mg);
+    if (gap === Infinity) continue;
+    const x = speed * sLimit;
+    let allowed: number;
+    if (!(gap > 0)) allowed = 0;
+    else {
+      const zn = zoneArr ? zoneArr[i]! : zoneAll;
+      // min(1, gap/zone) is 1 whenever gap ≥ zone (the quotient then rounds to ≥ 1), so the division
+      // is only needed inside the zone; same value either way.
+      const ramp = zn > 0 ? (gap >= zn ? 1 : Math.min(1, gap / zn)) : 1;
+      const capRamp = cap === Infinity ? speed * ramp : cap * ramp;
+      // allowed = min(capRamp, gap/dt), and the joint binds iff x > allowed. Skip the division when x ≤
+      // gap/dt is certain: fl(x·dt) ≤ fl(gap·(1 − 2⁻⁴⁰)) gives x·dt ≤ gap exactly (rounding errors
+      // ≤ 2⁻⁵² each; gap > 1e-290 keeps the product normal), hence x ≤ fl(gap/dt) (rounding is
+      // monotonic) and the joint does not bind — the same outcome as with the division (derived).
+      if (x <= capRamp && gap > 1e-290 && x * dt <= gap * 0.9999999999990905) continue;
+      allowed = Math.min(capRamp, gap / dt);
+    }
+    if (x > allowed) {
+      sLimit = allowed / speed;
+      limitBind = i;
+    }
+  }
+  // NaN in qdot (never from the solve, whose result is checked finite) is "moving" as before.
   // Achieved twist with the unscaled qdot; it scales linearly with s.
   // One pass over the columns with the six row sums in locals (same summation order as row by row).
   const a = report.achievedTwist;
   let a0 = 0, a1 = 0, a2 = 0, a3 = 0, a4 = 0, a5 = 0;
+  const n2 = 2 * n, n3 = 3 * n, n4 = 4 * n, n5 = 5 * n;
   for (let c = 0; c < n; c++) {
     const v = qdot[c]!;
-    a0 += J[c]! * v; a1 += J[n + c]! * v; a2 += J[2 * n + c]! * v;
-    a3 += J[3 * n + c]! * v; a4 += J[4 * n + c]! * v; a5 += J[5 * n + c]! * v;
+    a0 += J[c]! * v; a1 += J[n + c]! * v; a2 += J[n2 + c]! * v;
+    a3 += J[n3 + c]! * v; a4 += J[n4 + c]! * v; a5 += J[n5 + c]! * v;
   }
-  a[0] = a0; a[1] = a1; a[2] = a2; a[3] = a3; a[4] = a4; a[5] = a5;
   const lin = Math.sqrt(a0 * a0 + a1 * a1 + a2 * a2);
   const ang = Math.sqrt(a3 * a3 + a4 * a4 + a5 * a5);
-  const sLin = lin > params.tcpLinearCap ? params.tcpLinearCap / lin : 1;
-  const sAng = ang > params.tcpAngularCap ? params.tcpAngularCap / ang : 1;
-  // Joint limits.
-  box[0] = dt;
-  jointLimitScaleInto(state.q, qdot, k.min, k.max, caps, n, margins, zones, box, ws.bind);
-  const sLimit = box[0]!;
-  const limitBind = ws.bind[0]!;
+  const linCap = params.tcpLinearCap, angCap = params.tcpAngularCap;
+  const sLin = lin > linCap ? linCap / lin : 1;
+  const sAng = ang > angCap ? angCap / ang : 1;
 
   let s = 1;
   let binding: BindingLimit = "none";
@@ -449,37 +501,35 @@ function limitAndIntegrate(
   report.limitScale = sLimit;
 
   // Singularity guard (Cartesian motion only).
-  let moving = false;
-  for (let i = 0; i < n; i++) if (qdot[i]! !== 0) moving = true;
-  if (!guarded || params.guard.policy === "damp-through") {
+  const guard = params.guard;
+  if (!guarded || guard.policy === "damp-through") {
     state.guardState = "off";
     state.singularityAcknowledged = false;
   } else {
-    const g = params.guard;
     const sigma = report.sigmaMin;
-    if (state.singularityAcknowledged && sigma >= g.sigmaStop * g.releaseFactor) {
+    if (state.singularityAcknowledged && sigma >= guard.sigmaStop * guard.releaseFactor) {
       state.singularityAcknowledged = false; // the passage is over: the next approach stops again
     }
     if (state.singularityAcknowledged) {
       state.guardState = "acknowledged";
     } else if (!moving || s === 0) {
-      if (state.guardState !== "stopped") state.guardState = sigma < g.sigmaStop ? "backing-out" : "clear";
-      if (state.guardState === "stopped" && sigma >= g.sigmaStop * g.releaseFactor) state.guardState = "clear";
+      if (state.guardState !== "stopped") state.guardState = sigma < guard.sigmaStop ? "backing-out" : "clear";
+      if (state.guardState === "stopped" && sigma >= guard.sigmaStop * guard.releaseFactor) state.guardState = "clear";
     } else {
       // Evaluate σ_min where this step would end.
-      for (let i = 0; i < n; i++) ws.qTrial[i] = state.q[i]! + s * qdot[i]! * dt;
-      geometricJacobianInto(k, ws.qTrial, ws.Jtrial, ws.poseTrial);
-      gramInto(ws.Jtrial, 6, n, ws.Gtrial);
+      const qTrial = ws.qTrial;
+      for (let i = 0; i < n; i++) qTrial[i] = q[i]! + s * qdot[i]! * dt;
+      jacobianPoseGramInto(k, qTrial, ws.Jtrial, ws.poseTrial, ws.Gtrial);
       copySigmaTracker(ws.tracker, ws.trialTracker);
       estimateSigmaMin(ws.trialTracker, ws.Gtrial);
       const sigmaNext = ws.trialTracker.sigmaMin;
-      if (sigmaNext < g.sigmaStop && sigmaNext < sigma) {
+      if (sigmaNext < guard.sigmaStop && sigmaNext < sigma) {
         s = 0;
         binding = "singularity-guard";
         bindingJoint = -1;
         state.guardState = "stopped";
       } else {
-        state.guardState = sigma < g.sigmaStop || sigmaNext < g.sigmaStop ? "backing-out" : "clear";
+        state.guardState = sigma < guard.sigmaStop || sigmaNext < guard.sigmaStop ? "backing-out" : "clear";
       }
     }
   }
@@ -488,26 +538,27 @@ function limitAndIntegrate(
   report.scale = s;
   report.binding = binding;
   report.bindingJoint = bindingJoint;
-  for (let r = 0; r < 6; r++) a[r] = a[r]! * s;
+  a[0] = a0 * s; a[1] = a1 * s; a[2] = a2 * s; a[3] = a3 * s; a[4] = a4 * s; a[5] = a5 * s;
   report.tcpLinearSpeed = lin * s;
   report.tcpAngularSpeed = ang * s;
 
   // Integrate (explicit Euler) with a final guard against stepping past a limit through rounding.
-  for (let i = 0; i < n; i++) ws.qPrev[i] = state.q[i]!;
+  const qPrev = ws.qPrev;
+  for (let i = 0; i < n; i++) qPrev[i] = q[i]!;
   let finite = true;
   for (let i = 0; i < n; i++) {
     const v = qdot[i]! * s;
     qdot[i] = v;
-    const q0 = state.q[i]!;
+    const q0 = q[i]!;
     let q1 = q0 + v * dt;
-    const hi = k.max[i]!, lo = k.min[i]!;
+    const hi = qMax[i]!, lo = qMin[i]!;
     if (q1 > hi && q1 > q0) q1 = q0 > hi ? q0 : hi;
     if (q1 < lo && q1 < q0) q1 = q0 < lo ? q0 : lo;
     if (!Number.isFinite(q1) || !Number.isFinite(v)) finite = false;
-    state.q[i] = q1;
+    q[i] = q1;
   }
   if (!finite) {
-    state.q.set(ws.qPrev);
+    q.set(qPrev);
     fail(state, report, "non-finite-result");
     return;
   }
@@ -530,23 +581,33 @@ export function controlStep(
   if (!measure(ws, state, report)) return fail(state, report, "non-finite-result");
   const n = ws.n;
   const cmd = ws.cmd;
-  if (params.twistFrame === "tool") toolTwistToWorldInto(ws.pose, twist, cmd);
-  else for (let i = 0; i < 6; i++) cmd[i] = twist[i]!;
+  const pose = ws.pose;
+  if (params.twistFrame === "tool") toolTwistToWorldInto(pose, twist, cmd);
+  else {
+    cmd[0] = twist[0]!; cmd[1] = twist[1]!; cmd[2] = twist[2]!;
+    cmd[3] = twist[3]!; cmd[4] = twist[4]!; cmd[5] = twist[5]!;
+  }
   // Drift correction: v = v_cmd + K·e (CLIK).
   const v = ws.solve;
+  const ct = report.commandedTwist;
   for (let i = 0; i < 6; i++) {
-    report.commandedTwist[i] = cmd[i]!;
-    v[i] = cmd[i]!;
+    const c = cmd[i]!;
+    ct[i] = c;
+    v[i] = c;
   }
   const drift = params.driftCorrection;
+  const ref = state.referencePose;
   if (drift && drift.gain > 0) {
     const kdt = drift.gain * dt;
-    if (!(kdt < 2)) return fail(state, report, "unstable-drift-gain");
-    const e = poseErrorInto(ws.pose, state.referencePose, ws.err);
+    if (!(kdt < 2)) {
+      estimateSigma(ws, report, null); // as before: σ is reported and the tracker advances
+      return fail(state, report, "unstable-drift-gain");
+    }
+    const e = poseErrorInto(pose, ref, ws.err);
     let ep = Math.sqrt(e[0]! * e[0]! + e[1]! * e[1]! + e[2]! * e[2]!);
     let eo = Math.sqrt(e[3]! * e[3]! + e[4]! * e[4]! + e[5]! * e[5]!);
     if (ep > drift.maxPositionError || eo > drift.maxOrientationError || !Number.isFinite(ep + eo)) {
-      state.referencePose.set(ws.pose);
+      ref.set(pose);
       e.fill(0);
       ep = 0;
       eo = 0;
@@ -556,12 +617,19 @@ export function controlStep(
     report.driftOrientationError = eo;
     for (let i = 0; i < 6; i++) v[i] = v[i]! + drift.gain * e[i]!;
   } else {
-    for (let i = 0; i < 16; i++) state.referencePose[i] = ws.pose[i]!;
+    for (let i = 0; i < 16; i++) ref[i] = pose[i]!;
   }
-  for (let i = 0; i < 6; i++) report.solvedTwist[i] = v[i]!;
+  const sv = report.solvedTwist;
+  for (let i = 0; i < 6; i++) sv[i] = v[i]!;
+
+  // σ_min and w. When the step may end up undamped (λ = 0 possible: not numerical filtering, not a fixed
+  // λ > 0) and J has 6 rows with n ≥ 6, the estimator also solves (G + δI) y = v with its factor, the
+  // first half of the undamped DLS, while the factor is in registers.
+  const scheme = params.damping;
+  const speculate = n >= 6 && !params.dampSmallestOnly && !(scheme.kind === "fixed" && scheme.lambda !== 0);
+  estimateSigma(ws, report, speculate ? v : null);
 
   // Damping λ (damping.ts, dampingForScheme; written out here so no number is boxed across a call).
-  const scheme = params.damping;
   let lambda = 0;
   if (scheme.kind === "fixed") lambda = scheme.lambda;
   else if (scheme.kind === "singular-value") {
@@ -580,8 +648,9 @@ export function controlStep(
   const tracker = ws.tracker;
   if (lambda === 0 && tracker.factorValid && !params.dampSmallestOnly) {
     // Undamped: reuse the estimator's factor of G + δI (δ ≈ 1e-14·trace G, a relative change of
-    // δ/σ_min² in qdot — below 1e-6 whenever σ_min > 1e-4·σ_max).
-    ok = dlsSolveWithFactor(ws.J, 6, n, tracker.L, v, ws.y, state.qdot);
+    // δ/σ_min² in qdot — below 1e-6 whenever σ_min > 1e-4·σ_max). With `speculate` the estimator has
+    // already solved for y (bit-identical to dlsSolveWithFactor's solve); only qdot = Jᵀ y is left.
+    ok = speculate ? jtY6Into(ws.J, n, ws.y, state.qdot) : dlsSolveWithFactor(ws.J, 6, n, tracker.L, v, ws.y, state.qdot);
   } else {
     ws.lambdaBox[0] = lambda;
     ok = dlsFromGramBoxed(
@@ -595,8 +664,9 @@ export function controlStep(
   // The reference follows the command as actually allowed (same factor), not the DLS residual, so drift
   // correction removes only the residual and the Euler drift.
   if (drift && drift.gain > 0) {
-    for (let i = 0; i < 6; i++) ws.err[i] = cmd[i]! * report.scale;
-    advancePoseInPlace(state.referencePose, ws.err, dt);
+    const err = ws.err, sc = report.scale;
+    for (let i = 0; i < 6; i++) err[i] = cmd[i]! * sc;
+    advancePoseInPlace(ref, err, dt);
   }
   return report;
 }
@@ -614,13 +684,15 @@ export function jointJogStep(
   if (!validDt(dt)) return fail(state, report, "invalid-dt");
   if (!commandIsFinite(jointRates, ws.n)) return fail(state, report, "invalid-command");
   if (!measure(ws, state, report)) return fail(state, report, "non-finite-result");
+  estimateSigma(ws, report, null);
   const n = ws.n;
-  for (let i = 0; i < n; i++) state.qdot[i] = jointRates[i]!;
+  const qdot = state.qdot, J = ws.J, ct = report.commandedTwist, sv = report.solvedTwist;
+  for (let i = 0; i < n; i++) qdot[i] = jointRates[i]!;
   for (let r = 0; r < 6; r++) {
     let s = 0;
-    for (let c = 0; c < n; c++) s += ws.J[r * n + c]! * jointRates[c]!;
-    report.commandedTwist[r] = s;
-    report.solvedTwist[r] = s;
+    for (let c = 0; c < n; c++) s += J[r * n + c]! * jointRates[c]!;
+    ct[r] = s;
+    sv[r] = s;
   }
   limitAndIntegrate(ws, state, params, dt, report, false);
   forwardPoseInto(ws.kernel, state.q, state.referencePose);

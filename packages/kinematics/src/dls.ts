@@ -110,6 +110,14 @@ function dlsSolve6WithFactor(
 ): boolean {
   for (let i = 0; i < 6; i++) y[i] = twist[i]!;
   choleskySolve6InPlace(L, y);
+  return jtY6Into(J, cols, y, out);
+}
+
+/**
+ * out = Jᵀ y for a 6-row J (cols ≥ 6), the last half of the undamped 6-row DLS; false if a result is not
+ * finite. Also used by the control step when the σ estimator has already solved for y.
+ */
+export function jtY6Into(J: ArrayLike<number>, cols: number, y: Float64Array, out: Float64Array): boolean {
   const y0 = y[0]!, y1 = y[1]!, y2 = y[2]!, y3 = y[3]!, y4 = y[4]!, y5 = y[5]!;
   const c2 = 2 * cols, c3 = 3 * cols, c4 = 4 * cols, c5 = 5 * cols;
   let ok = true;

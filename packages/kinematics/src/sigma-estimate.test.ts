@@ -2,6 +2,10 @@ import { describe, expect, it } from "vitest";
 import { createSigmaTracker, demoArms, estimateSigmaMin, geometricJacobian, gramInto, singularValues } from "./index.ts";
 import type { ArmModel } from "./index.ts";
 import { arm6, qA, rng } from "./test-fixtures.ts";
+import { choleskySolveInPlace } from "./cholesky.ts";
+import { jacobianPoseGramInto } from "./jacobian.ts";
+import { compileArm } from "./arm.ts";
+import { estimateSigmaMinSolve6 } from "./sigma-estimate.ts";
 
 /** Walks q smoothly (random slowly varying joint rates) and compares the estimate with the full SVD. */
 function trackAlongPath(arm: ArmModel, q0: number[], steps: number, seed: number, dq: number): number {
@@ -66,5 +70,38 @@ describe("estimateSigmaMin (warm-started block inverse iteration)", () => {
     estimateSigmaMin(t, G);
     const prod = singularValues(J, 6, 6).reduce((a, b) => a * b, 1);
     expect(t.manipulability).toBeCloseTo(prod, 12);
+  });
+
+  it("the control step's fused calls give bit-identical results to the separate ones", () => {
+    // Derived: same operations in the same order. jacobianPoseGramInto vs geometricJacobian + gramInto;
+    // estimateSigmaMinSolve6 vs estimateSigmaMin, and its solve vs choleskySolveInPlace with the tracker's factor.
+    for (const arm of demoArms) {
+      const kernel = compileArm(arm.model);
+      const n = kernel.n;
+      const ta = createSigmaTracker(6), tb = createSigmaTracker(6);
+      const J = new Float64Array(6 * n), pose = new Float64Array(16), G = new Float64Array(36), Gb = new Float64Array(36);
+      const b = new Float64Array([0.1, -0.2, 0.05, 0.3, 0.1, -0.4]), y = new Float64Array(6);
+      const q = [...arm.readyPose];
+      const next = rng(7);
+      let solved = 0;
+      for (let s = 0; s < 600; s++) {
+        for (let i = 0; i < n; i++) q[i] = q[i]! + 0.002 * (2 * next() - 1);
+        jacobianPoseGramInto(kernel, q, J, pose, G);
+        const Jref = geometricJacobian(arm.model, q);
+        gramInto(Jref, 6, n, Gb);
+        expect(Array.from(J)).toEqual(Array.from(Jref));
+        expect(Array.from(G)).toEqual(Array.from(Gb));
+        estimateSigmaMin(ta, Gb);
+        estimateSigmaMinSolve6(tb, G, b, y);
+        expect([tb.sigmaMin, tb.sigmaSecond, tb.manipulability, tb.factorValid]).toEqual([ta.sigmaMin, ta.sigmaSecond, ta.manipulability, ta.factorValid]);
+        if (tb.factorValid) {
+          const yRef = Float64Array.from(b);
+          choleskySolveInPlace(tb.L, 6, yRef);
+          expect(Array.from(y)).toEqual(Array.from(yRef));
+          solved++;
+        }
+      }
+      expect(solved).toBeGreaterThan(500);
+    }
   });
 });

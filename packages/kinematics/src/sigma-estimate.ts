@@ -119,7 +119,7 @@ export function estimateSigmaMin(t: SigmaTracker, G: ArrayLike<number>): void {
     return;
   }
   if (k === 6) {
-    estimate6(t, G);
+    estimate6(t, G, null, null);
     return;
   }
   let trace = 0;
@@ -230,13 +230,32 @@ export function estimateSigmaMin(t: SigmaTracker, G: ArrayLike<number>): void {
 }
 
 /**
+ * estimateSigmaMin for a tracker with k = 6 (not exported from index.ts; the control step's call), which
+ * also solves (G + δI) y = b with the estimator's own factor while it is in registers: when t.factorValid
+ * is true after the call, `y` holds that solution, computed by the same operations in the same order as
+ * choleskySolve6InPlace(t.L, y) with y = b, so bit-identical to the undamped DLS solve of dls.ts
+ * (dlsSolveWithFactor). Its substitutions are independent of the iteration's, so the CPU overlaps them;
+ * when the step then damps (λ > 0) the solve was wasted work (~50 flops). Otherwise as estimateSigmaMin.
+ */
+export function estimateSigmaMinSolve6(t: SigmaTracker, G: ArrayLike<number>, b: Float64Array, y: Float64Array): void {
+  if (t.k !== 6 || !t.warm || (t.refreshInterval > 0 && t.callsSinceRefresh + 1 >= t.refreshInterval)) {
+    estimateSigmaMin(t, G); // cold start or refresh: the full decomposition, no factor
+    return;
+  }
+  t.callsSinceRefresh++;
+  t.factorValid = false;
+  estimate6(t, G, b, y);
+}
+
+/**
  * estimateSigmaMin for k = 6 (every arm with six or more joints): the same algorithm written out with the
  * factor, the two iterates and the Ritz vectors in locals. Every operation is the general loop's, in the
  * same order (JS has no fused multiply-add), so the results are bit-identical; only index arithmetic,
  * loop overhead and bounds checks go (derived; sigma-estimate.test.ts and control-step.test.ts cover it).
- * The scratch arrays y1, y2, g1, g2 are not written on this path.
+ * The scratch arrays y1, y2, g1, g2 are not written on this path. With b (and y) given, also solves
+ * (G + δI) y = b (estimateSigmaMinSolve6).
  */
-function estimate6(t: SigmaTracker, G: ArrayLike<number>): void {
+function estimate6(t: SigmaTracker, G: ArrayLike<number>, b: Float64Array | null, y: Float64Array | null): void {
   const g00 = G[0]!, g11 = G[7]!, g22 = G[14]!, g33 = G[21]!, g44 = G[28]!, g55 = G[35]!;
   const trace = 0 + g00 + g11 + g22 + g33 + g44 + g55;
   const delta = 1e-14 * trace + 1e-300;
@@ -296,6 +315,22 @@ function estimate6(t: SigmaTracker, G: ArrayLike<number>): void {
   L[30] = l50; L[31] = l51; L[32] = l52; L[33] = l53; L[34] = l54; L[35] = l55;
   t.factorValid = true;
   t.manipulability = l00 * l11 * l22 * l33 * l44 * l55;
+  if (b !== null && y !== null) {
+    // (G + δI) y = b: L z = b, then Lᵀ y = z (choleskySolve6InPlace's operations).
+    const z0 = b[0]! / l00;
+    const z1 = (b[1]! - l10 * z0) / l11;
+    const z2 = (b[2]! - l20 * z0 - l21 * z1) / l22;
+    const z3 = (b[3]! - l30 * z0 - l31 * z1 - l32 * z2) / l33;
+    const z4 = (b[4]! - l40 * z0 - l41 * z1 - l42 * z2 - l43 * z3) / l44;
+    const z5 = (b[5]! - l50 * z0 - l51 * z1 - l52 * z2 - l53 * z3 - l54 * z4) / l55;
+    const y5 = z5 / l55;
+    const y4 = (z4 - l54 * y5) / l44;
+    const y3 = (z3 - l43 * y4 - l53 * y5) / l33;
+    const y2 = (z2 - l32 * y3 - l42 * y4 - l52 * y5) / l22;
+    const y1 = (z1 - l21 * y2 - l31 * y3 - l41 * y4 - l51 * y5) / l11;
+    const y0 = (z0 - l10 * y1 - l20 * y2 - l30 * y3 - l40 * y4 - l50 * y5) / l00;
+    y[0] = y0; y[1] = y1; y[2] = y2; y[3] = y3; y[4] = y4; y[5] = y5;
+  }
 
   const x1 = t.x1, x2 = t.x2;
   let a0 = x1[0]!, a1 = x1[1]!, a2 = x1[2]!, a3 = x1[3]!, a4 = x1[4]!, a5 = x1[5]!;
