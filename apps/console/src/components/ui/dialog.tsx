@@ -1,6 +1,7 @@
 import { useEffect, useId, useRef, type ReactNode } from "react";
 import { X } from "lucide-react";
 import { cn } from "../../lib/cn.ts";
+import { Button } from "./button.tsx";
 
 interface DialogProps {
   open: boolean;
@@ -64,5 +65,26 @@ export function Dialog({ open, onClose, title, description, children, className 
       </div>
       <div className="px-5 py-4">{children}</div>
     </dialog>
+  );
+}
+
+interface DialogFormActionsProps {
+  onCancel: () => void;
+  isPending: boolean;
+  submitLabel: string;
+  /** Shown on the submit button, which is disabled, while the request runs: "Saving…". */
+  pendingLabel: string;
+  submitVariant?: "primary" | "danger";
+}
+
+/** Cancel and submit, right-aligned at the foot of a dialog's form. */
+export function DialogFormActions({ onCancel, isPending, submitLabel, pendingLabel, submitVariant = "primary" }: DialogFormActionsProps) {
+  return (
+    <div className="flex justify-end gap-2 pt-2">
+      <Button onClick={onCancel}>Cancel</Button>
+      <Button type="submit" variant={submitVariant} disabled={isPending}>
+        {isPending ? pendingLabel : submitLabel}
+      </Button>
+    </div>
   );
 }

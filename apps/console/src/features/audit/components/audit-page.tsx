@@ -1,11 +1,12 @@
 import { useEffect, useMemo, useState, type FormEvent } from "react";
 import { useSearchParams } from "react-router";
 import { useQuery } from "@tanstack/react-query";
-import { flexRender, getCoreRowModel, useReactTable, type ColumnDef } from "@tanstack/react-table";
+import { getCoreRowModel, useReactTable, type ColumnDef } from "@tanstack/react-table";
 import { ChevronLeft, ChevronRight, Download } from "lucide-react";
 import type { AuditEntry } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
+import { DataTable } from "../../../components/ui/data-table.tsx";
 import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
@@ -183,40 +184,5 @@ function AuditTable({ entries }: { entries: AuditEntry[] }) {
     [],
   );
   const table = useReactTable({ data: entries, columns, getCoreRowModel: getCoreRowModel(), manualPagination: true });
-  return (
-    <div className="overflow-x-auto rounded-lg border border-ink-700">
-      <table className="w-full border-collapse text-left text-sm" data-testid="audit-table">
-        <caption className="sr-only">Audit entries, newest first</caption>
-        <thead className="bg-ink-800 text-ink-300">
-          {table.getHeaderGroups().map((group) => (
-            <tr key={group.id}>
-              {group.headers.map((header) => (
-                <th key={header.id} scope="col" className="border-b border-ink-700 px-3 py-2 font-semibold">
-                  {flexRender(header.column.columnDef.header, header.getContext())}
-                </th>
-              ))}
-            </tr>
-          ))}
-        </thead>
-        <tbody>
-          {table.getRowModel().rows.map((row) => (
-            <tr key={row.id} className="border-b border-ink-700 align-top last:border-b-0 hover:bg-ink-850">
-              {row.getVisibleCells().map((cell) => (
-                <td key={cell.id} className="px-3 py-2">
-                  {flexRender(cell.column.columnDef.cell, cell.getContext())}
-                </td>
-              ))}
-            </tr>
-          ))}
-          {entries.length === 0 ? (
-            <tr>
-              <td colSpan={columns.length} className="px-3 py-6 text-center text-ink-400">
-                No entry matches these filters.
-              </td>
-            </tr>
-          ) : null}
-        </tbody>
-      </table>
-    </div>
-  );
+  return <DataTable table={table} testId="audit-table" caption="Audit entries, newest first" emptyMessage="No entry matches these filters." verticalAlign="top" />;
 }

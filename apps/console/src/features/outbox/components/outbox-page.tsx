@@ -4,6 +4,7 @@ import type { MailMessage } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
+import { EmptyTableRow, TableFrame, TableHead } from "../../../components/ui/table-frame.tsx";
 import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
@@ -31,47 +32,30 @@ export function OutboxPage() {
         </Message>
       ) : null}
       {outbox.data ? (
-        <div className="overflow-x-auto rounded-lg border border-ink-700">
-          <table className="w-full border-collapse text-left text-sm" data-testid="outbox-table">
-            <caption className="sr-only">Outgoing mail</caption>
-            <thead className="bg-ink-800 text-ink-300">
-              <tr>
-                {["", "Created", "To", "Subject", "Kind", "Status", "Attempts", "Last error", "Sent"].map((h, i) => (
-                  <th key={i} scope="col" className="border-b border-ink-700 px-3 py-2 font-semibold">
-                    {h || <span className="sr-only">Show the text</span>}
-                  </th>
-                ))}
-                <th scope="col" className="border-b border-ink-700 px-3 py-2">
-                  <span className="sr-only">Actions</span>
-                </th>
-              </tr>
-            </thead>
-            <tbody>
-              {[...outbox.data]
-                .sort((a, b) => b.createdAt.localeCompare(a.createdAt))
-                .map((m) => (
-                  <Fragment key={m.id}>
-                    <MailRow message={m} isOpen={openId === m.id} onToggle={() => setOpenId(openId === m.id ? null : m.id)} onRetry={() => retry.mutate(m.id)} isRetrying={retry.isPending && retry.variables === m.id} />
-                    {openId === m.id ? (
-                      <tr className="border-b border-ink-700 bg-ink-900">
-                        <td />
-                        <td colSpan={9} className="px-3 py-3">
-                          <pre className="font-mono text-xs whitespace-pre-wrap text-ink-300">{m.text}</pre>
-                        </td>
-                      </tr>
-                    ) : null}
-                  </Fragment>
-                ))}
-              {outbox.data.length === 0 ? (
-                <tr>
-                  <td colSpan={10} className="px-3 py-6 text-center text-ink-400">
-                    No mail has been sent yet.
-                  </td>
-                </tr>
-              ) : null}
-            </tbody>
-          </table>
-        </div>
+        <TableFrame testId="outbox-table" caption="Outgoing mail">
+          <TableHead
+            headings={[<span className="sr-only">Show the text</span>, "Created", "To", "Subject", "Kind", "Status", "Attempts", "Last error", "Sent"]}
+            hasActions
+          />
+          <tbody>
+            {[...outbox.data]
+              .sort((a, b) => b.createdAt.localeCompare(a.createdAt))
+              .map((m) => (
+                <Fragment key={m.id}>
+                  <MailRow message={m} isOpen={openId === m.id} onToggle={() => setOpenId(openId === m.id ? null : m.id)} onRetry={() => retry.mutate(m.id)} isRetrying={retry.isPending && retry.variables === m.id} />
+                  {openId === m.id ? (
+                    <tr className="border-b border-ink-700 bg-ink-900">
+                      <td />
+                      <td colSpan={9} className="px-3 py-3">
+                        <pre className="font-mono text-xs whitespace-pre-wrap text-ink-300">{m.text}</pre>
+                      </td>
+                    </tr>
+                  ) : null}
+                </Fragment>
+              ))}
+            {outbox.data.length === 0 ? <EmptyTableRow colSpan={10}>No mail has been sent yet.</EmptyTableRow> : null}
+          </tbody>
+        </TableFrame>
       ) : null}
     </>
   );

@@ -2,6 +2,7 @@ import { Link } from "react-router";
 import { GitCompareArrows, Send } from "lucide-react";
 import type { ProfileVersion } from "@jogwright/shared";
 import { Button } from "../../../components/ui/button.tsx";
+import { TableFrame, TableHead } from "../../../components/ui/table-frame.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
 import { FlaggedBadge, shortHash, VersionStateBadge } from "./version-state-badge.tsx";
 
@@ -18,89 +19,75 @@ interface VersionHistoryTableProps {
 
 export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canReview, isSubmitting, onSubmit, onCompare }: VersionHistoryTableProps) {
   return (
-    <div className="overflow-x-auto rounded-lg border border-ink-700">
-      <table className="w-full border-collapse text-left text-sm" data-testid="version-history">
-        <caption className="sr-only">Version history, newest first</caption>
-        <thead className="bg-ink-800 text-ink-300">
-          <tr>
-            {["Version", "State", "Author", "Created", "Note", "Hash", "Decision"].map((h) => (
-              <th key={h} scope="col" className="border-b border-ink-700 px-3 py-2 font-semibold">
-                {h}
+    <TableFrame testId="version-history" caption="Version history, newest first">
+      <TableHead headings={["Version", "State", "Author", "Created", "Note", "Hash", "Decision"]} hasActions />
+      <tbody>
+        {versions.map((v) => {
+          const blocker = submitBlockers.get(v.id);
+          return (
+            <tr key={v.id} className="border-b border-ink-700 align-top last:border-b-0 hover:bg-ink-850" data-version={v.number}>
+              <th scope="row" className="num px-3 py-2 font-semibold text-ink-100">
+                v{v.number}
               </th>
-            ))}
-            <th scope="col" className="border-b border-ink-700 px-3 py-2">
-              <span className="sr-only">Actions</span>
-            </th>
-          </tr>
-        </thead>
-        <tbody>
-          {versions.map((v) => {
-            const blocker = submitBlockers.get(v.id);
-            return (
-              <tr key={v.id} className="border-b border-ink-700 align-top last:border-b-0 hover:bg-ink-850" data-version={v.number}>
-                <th scope="row" className="num px-3 py-2 font-semibold text-ink-100">
-                  v{v.number}
-                </th>
-                <td className="px-3 py-2">
-                  <span className="flex flex-wrap gap-1">
-                    <VersionStateBadge state={v.state} />
-                    <FlaggedBadge version={v} />
-                  </span>
-                </td>
-                <td className="px-3 py-2 whitespace-nowrap">{v.authorName}</td>
-                <td className="num px-3 py-2 whitespace-nowrap text-ink-300">{formatDateTime(v.createdAt)}</td>
-                <td className="max-w-72 px-3 py-2 text-ink-300">{v.note || <span className="text-ink-400">—</span>}</td>
-                <td className="px-3 py-2">
-                  <span className="num text-xs text-ink-300" title={v.paramsSha256}>
-                    {shortHash(v.paramsSha256)}
-                  </span>
-                </td>
-                <td className="max-w-64 px-3 py-2 text-ink-300">
-                  {v.decidedByName ? (
-                    <span className="flex flex-col">
-                      <span>
-                        {v.decidedByName}
-                        {v.decidedAt ? <span className="num text-xs text-ink-400"> · {formatDateTime(v.decidedAt)}</span> : null}
-                      </span>
-                      {v.decisionComment ? <span className="text-xs">“{v.decisionComment}”</span> : null}
+              <td className="px-3 py-2">
+                <span className="flex flex-wrap gap-1">
+                  <VersionStateBadge state={v.state} />
+                  <FlaggedBadge version={v} />
+                </span>
+              </td>
+              <td className="px-3 py-2 whitespace-nowrap">{v.authorName}</td>
+              <td className="num px-3 py-2 whitespace-nowrap text-ink-300">{formatDateTime(v.createdAt)}</td>
+              <td className="max-w-72 px-3 py-2 text-ink-300">{v.note || <span className="text-ink-400">—</span>}</td>
+              <td className="px-3 py-2">
+                <span className="num text-xs text-ink-300" title={v.paramsSha256}>
+                  {shortHash(v.paramsSha256)}
+                </span>
+              </td>
+              <td className="max-w-64 px-3 py-2 text-ink-300">
+                {v.decidedByName ? (
+                  <span className="flex flex-col">
+                    <span>
+                      {v.decidedByName}
+                      {v.decidedAt ? <span className="num text-xs text-ink-400"> · {formatDateTime(v.decidedAt)}</span> : null}
                     </span>
-                  ) : (
-                    <span className="text-ink-400">—</span>
-                  )}
-                </td>
-                <td className="px-3 py-2">
-                  <span className="flex justify-end gap-1">
-                    {canSubmit && v.state === "draft" ? (
-                      <Button
-                        size="sm"
-                        variant="secondary"
-                        disabled={isSubmitting || blocker !== undefined}
-                        title={blocker}
-                        onClick={() => onSubmit(v)}
-                        aria-label={`Submit v${v.number} for review`}
-                      >
-                        <Send aria-hidden className="size-3.5" /> Submit for review
-                      </Button>
-                    ) : null}
-                    {canReview && (v.state === "submitted" || v.state === "approved") ? (
-                      <Link
-                        to={`/reviews/${v.id}`}
-                        className="inline-flex h-7 items-center rounded-md px-2.5 text-xs font-semibold text-iris-300 hover:underline"
-                        aria-label={v.state === "submitted" ? `Review v${v.number}` : `Open v${v.number} to retire it`}
-                      >
-                        {v.state === "submitted" ? "Review" : "Retire…"}
-                      </Link>
-                    ) : null}
-                    <Button size="sm" variant="ghost" onClick={() => onCompare(v)} aria-label={`Compare v${v.number} with its parent`}>
-                      <GitCompareArrows aria-hidden className="size-3.5" /> Compare
-                    </Button>
+                    {v.decisionComment ? <span className="text-xs">“{v.decisionComment}”</span> : null}
                   </span>
-                </td>
-              </tr>
-            );
-          })}
-        </tbody>
-      </table>
-    </div>
+                ) : (
+                  <span className="text-ink-400">—</span>
+                )}
+              </td>
+              <td className="px-3 py-2">
+                <span className="flex justify-end gap-1">
+                  {canSubmit && v.state === "draft" ? (
+                    <Button
+                      size="sm"
+                      variant="secondary"
+                      disabled={isSubmitting || blocker !== undefined}
+                      title={blocker}
+                      onClick={() => onSubmit(v)}
+                      aria-label={`Submit v${v.number} for review`}
+                    >
+                      <Send aria-hidden className="size-3.5" /> Submit for review
+                    </Button>
+                  ) : null}
+                  {canReview && (v.state === "submitted" || v.state === "approved") ? (
+                    <Link
+                      to={`/reviews/${v.id}`}
+                      className="inline-flex h-7 items-center rounded-md px-2.5 text-xs font-semibold text-iris-300 hover:underline"
+                      aria-label={v.state === "submitted" ? `Review v${v.number}` : `Open v${v.number} to retire it`}
+                    >
+                      {v.state === "submitted" ? "Review" : "Retire…"}
+                    </Link>
+                  ) : null}
+                  <Button size="sm" variant="ghost" onClick={() => onCompare(v)} aria-label={`Compare v${v.number} with its parent`}>
+                    <GitCompareArrows aria-hidden className="size-3.5" /> Compare
+                  </Button>
+                </span>
+              </td>
+            </tr>
+          );
+        })}
+      </tbody>
+    </TableFrame>
   );
 }

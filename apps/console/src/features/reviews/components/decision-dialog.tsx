@@ -1,8 +1,7 @@
 import { useState } from "react";
 import { approveVersionSchema, rejectVersionSchema, retireVersionSchema, type ProfileVersion } from "@jogwright/shared";
 import { CAUTION_TEXT } from "../../../components/layout/cautions-banner.tsx";
-import { Button } from "../../../components/ui/button.tsx";
-import { Dialog } from "../../../components/ui/dialog.tsx";
+import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
 import type { Decision } from "../api/reviews-api.ts";
@@ -83,12 +82,13 @@ function DecisionForm({ decision, version, onCancel, onDone }: {
           {decide.error.message}
         </Message>
       ) : null}
-      <div className="flex justify-end gap-2 pt-2">
-        <Button onClick={onCancel}>Cancel</Button>
-        <Button type="submit" variant={decision === "approve" ? "primary" : "danger"} disabled={decide.isPending}>
-          {decide.isPending ? t.busy : t.button}
-        </Button>
-      </div>
+      <DialogFormActions
+        onCancel={onCancel}
+        isPending={decide.isPending}
+        submitLabel={t.button}
+        pendingLabel={t.busy}
+        submitVariant={decision === "approve" ? "primary" : "danger"}
+      />
     </form>
   );
 }

@@ -1,5 +1,6 @@
 import { Link } from "react-router";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
+import { EmptyTableRow, TableFrame, TableHead } from "../../../components/ui/table-frame.tsx";
 import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
@@ -21,58 +22,38 @@ export function ReviewsPage() {
         </Message>
       ) : null}
       {queue.data ? (
-        <div className="overflow-x-auto rounded-lg border border-ink-700">
-          <table className="w-full border-collapse text-left text-sm" data-testid="review-queue">
-            <caption className="sr-only">Submitted versions waiting for a decision</caption>
-            <thead className="bg-ink-800 text-ink-300">
-              <tr>
-                {["Profile", "Version", "Operator", "Arm", "Author", "Submitted", "Hash"].map((h) => (
-                  <th key={h} scope="col" className="border-b border-ink-700 px-3 py-2 font-semibold">
-                    {h}
+        <TableFrame testId="review-queue" caption="Submitted versions waiting for a decision">
+          <TableHead headings={["Profile", "Version", "Operator", "Arm", "Author", "Submitted", "Hash"]} hasActions />
+          <tbody>
+            {[...queue.data]
+              .sort((a, b) => (a.submittedAt ?? a.createdAt).localeCompare(b.submittedAt ?? b.createdAt))
+              .map((v) => (
+                <tr key={v.id} className="border-b border-ink-700 last:border-b-0 hover:bg-ink-850">
+                  <th scope="row" className="px-3 py-2 text-left font-semibold">
+                    {v.profileName}
                   </th>
-                ))}
-                <th scope="col" className="border-b border-ink-700 px-3 py-2">
-                  <span className="sr-only">Actions</span>
-                </th>
-              </tr>
-            </thead>
-            <tbody>
-              {[...queue.data]
-                .sort((a, b) => (a.submittedAt ?? a.createdAt).localeCompare(b.submittedAt ?? b.createdAt))
-                .map((v) => (
-                  <tr key={v.id} className="border-b border-ink-700 last:border-b-0 hover:bg-ink-850">
-                    <th scope="row" className="px-3 py-2 text-left font-semibold">
-                      {v.profileName}
-                    </th>
-                    <td className="num px-3 py-2">v{v.number}</td>
-                    <td className="px-3 py-2">{v.operatorName}</td>
-                    <td className="px-3 py-2">{v.armName}</td>
-                    <td className="px-3 py-2">{v.authorName}</td>
-                    <td className="num px-3 py-2 whitespace-nowrap text-ink-300">{formatDateTime(v.submittedAt ?? v.createdAt)}</td>
-                    <td className="num px-3 py-2 text-xs text-ink-300" title={v.paramsSha256}>
-                      {shortHash(v.paramsSha256)}
-                    </td>
-                    <td className="px-3 py-2 text-right">
-                      <Link
-                        to={`/reviews/${v.id}`}
-                        className="font-semibold text-iris-300 hover:underline"
-                        aria-label={`Review ${v.profileName} v${v.number}`}
-                      >
-                        Review
-                      </Link>
-                    </td>
-                  </tr>
-                ))}
-              {queue.data.length === 0 ? (
-                <tr>
-                  <td colSpan={8} className="px-3 py-6 text-center text-ink-400">
-                    Nothing is waiting for review.
+                  <td className="num px-3 py-2">v{v.number}</td>
+                  <td className="px-3 py-2">{v.operatorName}</td>
+                  <td className="px-3 py-2">{v.armName}</td>
+                  <td className="px-3 py-2">{v.authorName}</td>
+                  <td className="num px-3 py-2 whitespace-nowrap text-ink-300">{formatDateTime(v.submittedAt ?? v.createdAt)}</td>
+                  <td className="num px-3 py-2 text-xs text-ink-300" title={v.paramsSha256}>
+                    {shortHash(v.paramsSha256)}
+                  </td>
+                  <td className="px-3 py-2 text-right">
+                    <Link
+                      to={`/reviews/${v.id}`}
+                      className="font-semibold text-iris-300 hover:underline"
+                      aria-label={`Review ${v.profileName} v${v.number}`}
+                    >
+                      Review
+                    </Link>
                   </td>
                 </tr>
-              ) : null}
-            </tbody>
-          </table>
-        </div>
+              ))}
+            {queue.data.length === 0 ? <EmptyTableRow colSpan={8}>Nothing is waiting for review.</EmptyTableRow> : null}
+          </tbody>
+        </TableFrame>
       ) : null}
     </>
   );

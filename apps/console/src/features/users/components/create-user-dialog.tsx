@@ -2,12 +2,12 @@ import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { createUserSchema, type CreateUserInput, type User } from "@jogwright/shared";
-import { Button } from "../../../components/ui/button.tsx";
-import { Dialog } from "../../../components/ui/dialog.tsx";
+import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
 import { useCreateUser } from "../hooks/use-users.ts";
+import { FormMessageList } from "./form-messages.tsx";
 import { RoleCheckboxes } from "./role-checkboxes.tsx";
 import { applyServerIssues } from "./server-issues.ts";
 
@@ -75,17 +75,8 @@ function CreateUserForm({ onCancel, onCreated }: { onCancel: () => void; onCreat
       />
       <RoleCheckboxes registration={register("roles")} error={errors.roles?.message ?? errors.roles?.root?.message} />
       {error && !isConflict && !hasFieldIssues ? <Message tone="stop" title="Could not create the user">{error.message}</Message> : null}
-      {formMessages.length > 0 ? (
-        <Message tone="stop" title="Could not create the user">
-          <ul>{formMessages.map((m) => <li key={m}>{m}</li>)}</ul>
-        </Message>
-      ) : null}
-      <div className="flex justify-end gap-2 pt-2">
-        <Button onClick={onCancel}>Cancel</Button>
-        <Button type="submit" variant="primary" disabled={createUser.isPending}>
-          {createUser.isPending ? "Creating…" : "Create user"}
-        </Button>
-      </div>
+      <FormMessageList messages={formMessages} tone="stop" title="Could not create the user" />
+      <DialogFormActions onCancel={onCancel} isPending={createUser.isPending} submitLabel="Create user" pendingLabel="Creating…" />
     </form>
   );
 }

@@ -3,12 +3,12 @@ import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { z } from "zod";
 import { passwordSchema, updateUserSchema, type UpdateUserInput, type User } from "@jogwright/shared";
-import { Button } from "../../../components/ui/button.tsx";
-import { Dialog } from "../../../components/ui/dialog.tsx";
+import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
 import { useUpdateUser } from "../hooks/use-users.ts";
+import { FormMessageList } from "./form-messages.tsx";
 import { RoleCheckboxes } from "./role-checkboxes.tsx";
 import { applyServerIssues } from "./server-issues.ts";
 
@@ -92,17 +92,8 @@ function EditUserForm({ user, onCancel, onSaved }: { user: User; onCancel: () =>
         {...register("password")}
       />
       {error && !hasFieldIssues ? <Message tone="stop" title="Could not save">{error.message}</Message> : null}
-      {formMessages.length > 0 ? (
-        <Message tone={error ? "stop" : "info"} title={error ? "Could not save" : undefined}>
-          <ul>{formMessages.map((m) => <li key={m}>{m}</li>)}</ul>
-        </Message>
-      ) : null}
-      <div className="flex justify-end gap-2 pt-2">
-        <Button onClick={onCancel}>Cancel</Button>
-        <Button type="submit" variant="primary" disabled={updateUser.isPending}>
-          {updateUser.isPending ? "Saving…" : "Save changes"}
-        </Button>
-      </div>
+      <FormMessageList messages={formMessages} tone={error ? "stop" : "info"} title={error ? "Could not save" : undefined} />
+      <DialogFormActions onCancel={onCancel} isPending={updateUser.isPending} submitLabel="Save changes" pendingLabel="Saving…" />
     </form>
   );
 }

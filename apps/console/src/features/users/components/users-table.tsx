@@ -1,17 +1,10 @@
-import { useMemo, useState } from "react";
-import {
-  flexRender,
-  getCoreRowModel,
-  getFilteredRowModel,
-  getSortedRowModel,
-  useReactTable,
-  type ColumnDef,
-  type SortingState,
-} from "@tanstack/react-table";
-import { ArrowDown, ArrowUp, ArrowUpDown, Pencil, Search, UserCheck, UserX } from "lucide-react";
+import { useMemo } from "react";
+import type { ColumnDef } from "@tanstack/react-table";
+import { Pencil, UserCheck, UserX } from "lucide-react";
 import { ROLES, ROLE_LABELS, type User } from "@jogwright/shared";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
+import { DataTable, TableFilter, useSortableFilterableTable } from "../../../components/ui/data-table.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
 
 interface UsersTableProps {
@@ -27,9 +20,6 @@ const rolesText = (user: User) =>
     .join(", ");
 
 export function UsersTable({ users, currentUserId, onEdit, onToggleActive }: UsersTableProps) {
-  const [sorting, setSorting] = useState<SortingState>([{ id: "username", desc: false }]);
-  const [filter, setFilter] = useState("");
-
   const columns = useMemo<ColumnDef<User>[]>(
     () => [
       {
@@ -101,97 +91,11 @@ export function UsersTable({ users, currentUserId, onEdit, onToggleActive }: Use
     [currentUserId, onEdit, onToggleActive],
   );
 
-  const table = useReactTable({
-    data: users,
-    columns,
-    state: { sorting, globalFilter: filter },
-    onSortingChange: setSorting,
-    onGlobalFilterChange: setFilter,
-    globalFilterFn: "includesString",
-    getCoreRowModel: getCoreRowModel(),
-    getSortedRowModel: getSortedRowModel(),
-    getFilteredRowModel: getFilteredRowModel(),
-  });
-
-  const rows = table.getRowModel().rows;
+  const { table, filter } = useSortableFilterableTable({ data: users, columns, initialSort: [{ id: "username", desc: false }] });
   return (
     <div className="flex flex-col gap-3">
-      <div className="flex items-center gap-3">
-        <label className="relative flex items-center">
-          <span className="sr-only">Filter users</span>
-          <Search aria-hidden className="pointer-events-none absolute left-2.5 size-4 text-ink-400" />
-          <input
-            type="search"
-            value={filter}
-            onChange={(e) => setFilter(e.target.value)}
-            placeholder="Filter by name, e-mail, role or status"
-            className="h-9 w-80 max-w-full rounded-md border border-ink-600 bg-ink-800 pr-3 pl-8 text-sm text-ink-100 placeholder:text-ink-400 hover:border-ink-400"
-          />
-        </label>
-        <p className="text-sm text-ink-400" aria-live="polite">
-          {rows.length === users.length ? `${users.length} users` : `${rows.length} of ${users.length} users`}
-        </p>
-      </div>
-      <div className="overflow-x-auto rounded-lg border border-ink-700">
-        <table className="w-full border-collapse text-left text-sm">
-          <caption className="sr-only">Users. Select a column heading to sort by it.</caption>
-          <thead className="bg-ink-800 text-ink-300">
-            {table.getHeaderGroups().map((group) => (
-              <tr key={group.id}>
-                {group.headers.map((header) => {
-                  const sorted = header.column.getIsSorted();
-                  const canSort = header.column.getCanSort();
-                  return (
-                    <th
-                      key={header.id}
-                      scope="col"
-                      aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : canSort ? "none" : undefined}
-                      className="border-b border-ink-700 px-3 py-2 font-semibold"
-                    >
-                      {canSort ? (
-                        <button
-                          type="button"
-                          onClick={header.column.getToggleSortingHandler()}
-                          className="-mx-1 inline-flex items-center gap-1 rounded-sm px-1 hover:text-ink-100"
-                        >
-                          {flexRender(header.column.columnDef.header, header.getContext())}
-                          {sorted === "asc" ? (
-                            <ArrowUp aria-hidden className="size-3.5 text-iris-400" />
-                          ) : sorted === "desc" ? (
-                            <ArrowDown aria-hidden className="size-3.5 text-iris-400" />
-                          ) : (
-                            <ArrowUpDown aria-hidden className="size-3.5 opacity-50" />
-                          )}
-                        </button>
-                      ) : (
-                        flexRender(header.column.columnDef.header, header.getContext())
-                      )}
-                    </th>
-                  );
-                })}
-              </tr>
-            ))}
-          </thead>
-          <tbody>
-            {rows.map((row) => (
-              <tr key={row.id} className="border-b border-ink-700 last:border-b-0 hover:bg-ink-850">
-                {row.getVisibleCells().map((cell) => (
-                  <td key={cell.id} className="px-3 py-2 align-middle">
-                    {flexRender(cell.column.columnDef.cell, cell.getContext())}
-                  </td>
-                ))}
-              </tr>
-            ))}
-            {rows.length === 0 ? (
-              <tr>
-                <td colSpan={columns.length} className="px-3 py-6 text-center text-ink-400">
-                  No user matches “{filter}”.
-                </td>
-              </tr>
-            ) : null}
-          </tbody>
-        </table>
-      </div>
+      <TableFilter table={table} label="Filter users" placeholder="Filter by name, e-mail, role or status" rowsNoun="users" />
+      <DataTable table={table} caption="Users. Select a column heading to sort by it." emptyMessage={`No user matches “${filter}”.`} />
     </div>
   );
 }

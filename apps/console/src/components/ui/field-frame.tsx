@@ -1,0 +1,52 @@
+import type { ReactNode } from "react";
+import { cn } from "../../lib/cn.ts";
+
+// The frame every labelled form control shares: the label above the control, then its hint, its error and
+// (for values checked against the site ceilings) its warning, each with an id the control lists in
+// aria-describedby so screen readers read them with it.
+
+export interface FieldNotes {
+  hint?: ReactNode;
+  error?: string | undefined;
+  /** A caution that does not block saving (e.g. above a site ceiling). */
+  warning?: string | undefined;
+}
+
+/** The control's aria-describedby: the ids of the notes it shows, or undefined when it shows none. */
+export function fieldDescribedBy(id: string, { hint, error, warning }: FieldNotes): string | undefined {
+  return [hint ? `${id}-hint` : null, error ? `${id}-error` : null, warning ? `${id}-warning` : null].filter(Boolean).join(" ") || undefined;
+}
+
+interface FieldFrameProps extends FieldNotes {
+  /** The control's id, which the label points at and the notes' ids start with. */
+  id: string;
+  label: ReactNode;
+  className?: string | undefined;
+  children: ReactNode;
+}
+
+export function FieldFrame({ id, label, hint, error, warning, className, children }: FieldFrameProps) {
+  return (
+    <div className={cn("flex flex-col gap-1.5", className)}>
+      <label htmlFor={id} className="text-sm font-semibold text-ink-100">
+        {label}
+      </label>
+      {children}
+      {hint ? (
+        <p id={`${id}-hint`} className="text-xs text-ink-400">
+          {hint}
+        </p>
+      ) : null}
+      {error ? (
+        <p id={`${id}-error`} className="text-sm text-stop-400">
+          {error}
+        </p>
+      ) : null}
+      {warning ? (
+        <p id={`${id}-warning`} className="text-sm text-warn-400" data-testid="ceiling-warning">
+          Above the site ceiling: {warning}
+        </p>
+      ) : null}
+    </div>
+  );
+}
