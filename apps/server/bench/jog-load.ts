@@ -108,7 +108,7 @@ child.send({ type: "close" });
 
 const fps = frameCounts.map((n) => n / elapsedS);
 const fmt = (v: number, d = 2) => (Number.isFinite(v) ? v.toFixed(d) : "n/a");
-console.log(`sessions live at the end: ${stats.sessions}; ticks measured: ${stats.ticks}; overrun (skipped) ticks: ${stats.overrunTicks}`);
+console.log(`sessions live at the end: ${stats.sessions}; ticks measured: ${stats.ticks}; overrun (skipped) ticks: ${stats.overrunTicks}; simulation-thread wakes: ${stats.wakes}; stalls counted: ${fmt(stats.stalledMs as number, 1)} ms; simulation thread nice: ${stats.nice ?? "normal priority (JOG_SIM_NICE=0 or not permitted)"}`);
 console.log(`frames per second per client: min ${fmt(Math.min(...fps), 1)}, median ${fmt(quantile(fps, 0.5), 1)}, max ${fmt(Math.max(...fps), 1)} (target 60)`);
 console.log(`tick lateness: p50 ${fmt(stats.latenessP50Ms as number)} ms, p99 ${fmt(stats.latenessP99Ms as number)} ms, p99.9 ${fmt(stats.latenessP999Ms as number)} ms, max ${fmt(stats.latenessMaxMs as number)} ms (target p99 ≤ 2 ms)`);
 console.log(`input-to-state latency: p50 ${fmt(quantile(latencies, 0.5))} ms, p99 ${fmt(quantile(latencies, 0.99))} ms over ${latencies.length} inputs (target p99 ≤ 25 ms)`);

@@ -3,7 +3,7 @@
  * not share its event loop): the real app on the real database (DATABASE_URL), with the jog WebSocket,
  * on an ephemeral loopback port. Creates a bench engineer, an operator and a profile at a 1 kHz tick rate
  * through the profiles service, then reports {port, cookie, versionId} over IPC and answers "reset" and
- * "stats" requests (tick lateness histogram, CPU use).
+ * "stats" requests (the simulation thread's tick lateness histogram, CPU use of the whole process).
  */
 import http from "node:http";
 import type { AddressInfo } from "node:net";
@@ -40,24 +40,28 @@ let wallAt = performance.now();
 process.on("message", async (msg: { type: string }) => {
   const hub = jog.hub;
   if (msg.type === "reset") {
-    hub.scheduler.lateness.reset();
-    hub.scheduler.overrunTicks = 0;
+    // The tick lateness histogram lives on the simulation thread: read-and-reset there.
+    await hub.simulationStats(true);
     cpuAt = process.cpuUsage();
     wallAt = performance.now();
     process.send!({ type: "reset-done" });
   } else if (msg.type === "stats") {
+    // process.cpuUsage counts every thread of the process (main and simulation).
     const cpu = process.cpuUsage(cpuAt);
     const wallMs = performance.now() - wallAt;
-    const h = hub.scheduler.lateness;
+    const sim = await hub.simulationStats();
     process.send!({
       type: "stats",
       sessions: hub.sessions.size,
-      ticks: h.total,
-      latenessP50Ms: h.quantileMs(0.5),
-      latenessP99Ms: h.quantileMs(0.99),
-      latenessP999Ms: h.quantileMs(0.999),
-      latenessMaxMs: h.maxMs,
-      overrunTicks: hub.scheduler.overrunTicks,
+      ticks: sim?.ticks ?? 0,
+      latenessP50Ms: sim?.latenessP50Ms ?? NaN,
+      latenessP99Ms: sim?.latenessP99Ms ?? NaN,
+      latenessP999Ms: sim?.latenessP999Ms ?? NaN,
+      latenessMaxMs: sim?.latenessMaxMs ?? NaN,
+      overrunTicks: sim?.overrunTicks ?? 0,
+      stalledMs: sim?.stalledMs ?? 0,
+      wakes: sim?.wakes ?? 0,
+      nice: sim?.nice ?? null,
       cpuPercent: ((cpu.user + cpu.system) / 1000 / wallMs) * 100,
       recordingFailures: hub.writer.failures,
       chunksWritten: hub.writer.chunksWritten,

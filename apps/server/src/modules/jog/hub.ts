@@ -1,15 +1,18 @@
 import { randomUUID } from "node:crypto";
-import type { Arm, JogSessionInfo, LiveSession, ProfileSummary, ProfileVersion, User } from "@jogwright/shared";
+import type { Arm, JogInput, JogSessionInfo, LiveSession, ProfileSummary, ProfileVersion, User } from "@jogwright/shared";
 import type { AppContext } from "../../context.ts";
 import { insertRecording } from "../recordings/model.ts";
 import { RecordingWriter } from "../recordings/writer.ts";
-import { TickScheduler, type ScheduledClient } from "./scheduler.ts";
-import { JogSimulation } from "./simulation.ts";
+import type { FrameText, FromWorker, SessionCommand, SimThreadStats } from "./sim-messages.ts";
+import { SimulationThread } from "./sim-thread.ts";
+import { checkInputAxes, type InputResult, type SimulationSummary } from "./simulation.ts";
 
 /**
- * The live jog sessions of one server: one simulation per session on the one shared scheduler, a driver
- * connection and any read-only watchers, and the buffered recording writer. Sockets (socket.ts) and the
- * REST route /api/jog/live (routes.ts) reach it through jogHubFor(ctx).
+ * The live jog sessions of one server, on the main thread: per session a driver connection, any read-only
+ * watchers and the recording. The simulations themselves run on the simulation thread (sim-thread.ts,
+ * sim-worker.ts): validated inputs and commands go there in order, ready-to-send state frames come back and
+ * are sent as they are (and their recorded body, a slice of the same text, is queued for the recording).
+ * Sockets (socket.ts) and the REST route /api/jog/live (routes.ts) reach it through jogHubFor(ctx).
  */
 
 /** What a session sends to: the driver or a watcher connection. */
@@ -20,7 +23,9 @@ export interface FrameSink {
   onSessionEnded(session: LiveJogSession, reason: string): void;
 }
 
-export type EndReason = "stopped" | "disconnected" | "switched" | "profile-not-driveable" | "server-shutdown" | "signed-out";
+export type EndReason =
+  | "stopped" | "disconnected" | "switched" | "profile-not-driveable" | "server-shutdown" | "signed-out"
+  | "simulation-failed";
 
 export interface DrivenVersion {
   version: ProfileVersion;
@@ -28,25 +33,43 @@ export interface DrivenVersion {
   arm: Arm;
 }
 
-export class LiveJogSession implements ScheduledClient {
+export class LiveJogSession {
   readonly id = randomUUID();
   readonly startedAt = new Date();
   readonly watchers = new Set<FrameSink>();
-  readonly tickPeriodMs: number;
   readonly framePeriodMs: number;
+  /** Joint count of the driven arm (a joint-mode input needs this many axes). */
+  readonly jointCount: number;
   recordingId: number | null = null;
   isEnded = false;
   framesSkipped = 0;
+  framesRecorded = 0;
+  droppedInputs = 0;
+  /** cmdSeq of the latest e-stop sent: frames built before the worker applied it are never shown. */
+  private estopCmdSeq = 0;
+  private lastDropWarnAtMs = -Infinity;
+  private ending: Promise<number[] | null> | null = null;
+  private finishEnding: ((q: number[] | null) => void) | null = null;
+  private endReason: EndReason = "stopped";
+  private endWatchers: FrameSink[] = [];
 
   constructor(
     private readonly hub: JogHub,
+    readonly key: number,
     readonly driver: FrameSink,
     readonly driven: DrivenVersion,
-    readonly sim: JogSimulation,
     frameRateHz: number,
   ) {
-    this.tickPeriodMs = 1000 / sim.tickRateHz;
     this.framePeriodMs = 1000 / frameRateHz;
+    this.jointCount = driven.arm.model.joints.length;
+  }
+
+  get tickRateHz(): number {
+    return this.driven.version.params.tickRateHz;
+  }
+
+  get watchdogMs(): number {
+    return this.driven.version.params.watchdogMs;
   }
 
   info(isWatching: boolean): JogSessionInfo {
@@ -63,9 +86,9 @@ export class LiveJogSession implements ScheduledClient {
       armName: arm.name,
       driverId: this.driver.user.id,
       driverName: this.driver.user.displayName,
-      tickRateHz: this.sim.tickRateHz,
+      tickRateHz: this.tickRateHz,
       frameRateHz: 1000 / this.framePeriodMs,
-      watchdogMs: this.sim.watchdogMs,
+      watchdogMs: this.watchdogMs,
       isWatching,
     };
   }
@@ -85,53 +108,118 @@ export class LiveJogSession implements ScheduledClient {
     };
   }
 
-  runTick(nowMs: number, stalledMs: number): void {
-    this.sim.tick(nowMs, stalledMs);
+  /** A schema-valid input: checks the axis count, then hands it to the simulation thread (in order). */
+  applyInput(input: JogInput): InputResult {
+    const checked = checkInputAxes(input, this.jointCount);
+    if (!checked.ok || this.isEnded) return checked;
+    this.hub.thread.postInput(this.key, input);
+    return checked;
   }
 
-  noteOverrun(skipped: number): void {
-    this.sim.noteOverrun(skipped);
+  /** An input over the rate limit was dropped; true when the client should be told (at most once a second). */
+  noteDroppedInput(nowMs: number): boolean {
+    this.droppedInputs++;
+    if (nowMs - this.lastDropWarnAtMs < 1000) return false;
+    this.lastDropWarnAtMs = nowMs;
+    this.command("dropped"); // the frames show the warning for a second
+    return true;
   }
 
-  runFrame(): void {
-    const body = this.sim.frameBody();
-    const text =
-      `{"type":"state","sessionId":"${this.id}",${body},` +
-      `"lastInputSeq":${this.sim.lastInputSeq},"lastInputClientTimeMs":${Number.isFinite(this.sim.lastInputClientTimeMs) ? this.sim.lastInputClientTimeMs : 0}}`;
+  /**
+   * A command for the simulation, applied by the simulation thread on receipt (it is woken for it), after
+   * every input and command sent before. An e-stop zeroes the joint rates there at once, and no frame built
+   * before it was applied is sent from here on.
+   */
+  command(command: SessionCommand): void {
+    if (this.isEnded) return;
+    const cmdSeq = this.hub.nextCmdSeq();
+    if (command === "estop") this.estopCmdSeq = cmdSeq;
+    this.hub.thread.post({ t: "command", key: this.key, command, cmdSeq });
+  }
+
+  /** A state frame from the simulation thread: recorded, and sent to the driver and watchers. */
+  deliverFrame(text: string, bodyStart: number, bodyEnd: number, appliedCmdSeq: number): void {
+    this.record(text, bodyStart, bodyEnd);
+    // After end() only the last frame is sent (as before the simulation thread); every frame is recorded.
+    if (this.isEnded || appliedCmdSeq < this.estopCmdSeq) return;
     if (!this.driver.sendText(text)) this.framesSkipped++;
     for (const w of this.watchers) w.sendText(text);
-    if (this.recordingId !== null) this.hub.writer.push(this.recordingId, `{${body}}`);
   }
 
-  /** Ends the session: stops ticking, sends a last frame and `ended`, records the end. Idempotent. */
-  end(reason: EndReason): void {
-    if (this.isEnded) return;
+  private record(text: string, bodyStart: number, bodyEnd: number): void {
+    this.framesRecorded++;
+    // A slice of the sent text: nothing is serialised twice; the writer joins the chunk at flush time.
+    if (this.recordingId !== null) this.hub.writer.push(this.recordingId, "{" + text.slice(bodyStart, bodyEnd) + "}");
+  }
+
+  refuse(code: string, message: string): void {
+    if (!this.isEnded) this.driver.sendText(JSON.stringify({ type: "error", code, message }));
+  }
+
+  /**
+   * Ends the session: the connections let go of it at once (commands after this get no_session); the
+   * simulation thread stops ticking it and builds its last frame ("session-ended"), which is sent with
+   * `ended`, and the recording's end is queued. Resolves with the arm's final joint positions (null when the
+   * simulation thread failed). Idempotent.
+   */
+  end(reason: EndReason): Promise<number[] | null> {
+    if (this.ending) return this.ending;
     this.isEnded = true;
-    this.hub.scheduler.remove(this);
+    this.endReason = reason;
     this.hub.sessions.delete(this.id);
-    this.sim.end();
-    this.runFrame();
-    if (this.recordingId !== null) {
-      this.hub.writer.end(this.recordingId, new Date(), reason, this.sim.summary());
-    }
-    const ended = JSON.stringify({ type: "ended", sessionId: this.id, reason, recordingId: this.recordingId });
-    this.driver.sendText(ended);
-    this.driver.onSessionEnded(this, reason);
-    for (const w of this.watchers) {
-      w.sendText(ended);
-      w.onSessionEnded(this, reason);
-    }
+    this.endWatchers = [...this.watchers];
     this.watchers.clear();
+    this.ending = new Promise((resolve) => {
+      this.finishEnding = resolve;
+    });
+    this.driver.onSessionEnded(this, reason);
+    for (const w of this.endWatchers) w.onSessionEnded(this, reason);
+    if (this.hub.thread.isRunning) this.hub.thread.post({ t: "end", key: this.key, cmdSeq: this.hub.nextCmdSeq() });
+    else this.finishEnd(null, null, null);
+    return this.ending;
+  }
+
+  /** The simulation thread's answer to end (or its failure: no last frame, no summary). */
+  finishEnd(frame: FrameText | null, summary: SimulationSummary | null, q: number[] | null): void {
+    if (!this.finishEnding) return;
+    const resolve = this.finishEnding;
+    this.finishEnding = null;
+    this.hub.forget(this);
+    const sinks = [this.driver, ...this.endWatchers];
+    this.endWatchers = [];
+    if (frame) {
+      this.record(frame.text, frame.bodyStart, frame.bodyEnd);
+      for (const s of sinks) s.sendText(frame.text);
+    }
+    if (this.recordingId !== null) {
+      // Without the simulation's summary (its thread failed) the recording says so instead of inventing one.
+      const lost = { durationS: (Date.now() - this.startedAt.getTime()) / 1000, frames: this.framesRecorded, lost: "the simulation thread failed" };
+      this.hub.writer.end(this.recordingId, new Date(), this.endReason, summary ?? lost);
+    }
+    const ended = JSON.stringify({ type: "ended", sessionId: this.id, reason: this.endReason, recordingId: this.recordingId });
+    for (const s of sinks) s.sendText(ended);
+    resolve(q);
   }
 }
 
 export class JogHub {
-  readonly scheduler = new TickScheduler();
   readonly writer: RecordingWriter;
+  readonly thread: SimulationThread;
+  /** Live sessions by id (ended ones leave at once). */
   readonly sessions = new Map<string, LiveJogSession>();
+  /** Sessions the simulation thread knows, by key, until their end is finished. */
+  private readonly byKey = new Map<number, LiveJogSession>();
+  private readonly creating = new Map<number, { resolve: () => void; reject: (e: Error) => void }>();
+  private nextKey = 1;
+  private cmdSeq = 0;
 
   constructor(readonly ctx: AppContext, readonly frameRateHz: number) {
     this.writer = new RecordingWriter(ctx.db);
+    this.thread = new SimulationThread((msg) => this.onWorkerMessage(msg), (error) => this.onWorkerFailure(error));
+  }
+
+  nextCmdSeq(): number {
+    return ++this.cmdSeq;
   }
 
   listLive(): LiveSession[] {
@@ -139,28 +227,98 @@ export class JogHub {
   }
 
   /**
-   * Starts a session for an already-authorised version: creates the simulation (at q0 when given, else the
-   * arm's ready pose), the recording row, then schedules it. Throws (before anything ticks) on a bad arm.
+   * Starts a session for an already-authorised version: creates its simulation on the simulation thread (at
+   * q0 when given, else the arm's ready pose; a bad arm throws here, before anything ticks), the recording
+   * row, then schedules it.
    */
   async start(driver: FrameSink, driven: DrivenVersion, q0?: ArrayLike<number>): Promise<LiveJogSession> {
-    const sim = new JogSimulation({ arm: driven.arm.model, readyPose: driven.arm.readyPose, params: driven.version.params, q0 });
-    const session = new LiveJogSession(this, driver, driven, sim, this.frameRateHz);
-    session.recordingId = await insertRecording(this.ctx.db, {
-      sessionId: session.id,
-      driverId: driver.user.id,
-      armId: driven.arm.id,
-      profileId: driven.profile.id,
-      versionId: driven.version.id,
-      startedAt: session.startedAt,
+    const key = this.nextKey++;
+    const session = new LiveJogSession(this, key, driver, driven, this.frameRateHz);
+    await new Promise<void>((resolve, reject) => {
+      this.creating.set(key, { resolve, reject });
+      this.thread.post({
+        t: "create", key, sessionId: session.id, framePeriodMs: session.framePeriodMs,
+        setup: { arm: driven.arm.model, readyPose: driven.arm.readyPose, params: driven.version.params, q0: q0 ? Array.from(q0) : undefined },
+      });
     });
+    const generation = this.thread.generation;
+    try {
+      session.recordingId = await insertRecording(this.ctx.db, {
+        sessionId: session.id,
+        driverId: driver.user.id,
+        armId: driven.arm.id,
+        profileId: driven.profile.id,
+        versionId: driven.version.id,
+        startedAt: session.startedAt,
+      });
+    } catch (error) {
+      this.thread.post({ t: "discard", key });
+      throw error;
+    }
     this.sessions.set(session.id, session);
-    this.scheduler.add(session);
+    this.byKey.set(key, session);
+    if (this.thread.generation !== generation || !this.thread.isRunning) {
+      // The simulation thread failed while the recording row was written: it never knew this session.
+      void session.end("simulation-failed");
+      throw new Error("the simulation thread failed while the session was starting");
+    }
+    this.thread.post({ t: "run", key });
     return session;
   }
 
+  forget(session: LiveJogSession): void {
+    this.byKey.delete(session.key);
+    this.sessions.delete(session.id);
+  }
+
+  private onWorkerMessage(msg: FromWorker): void {
+    switch (msg.t) {
+      case "frames": {
+        const f = msg.frames;
+        for (let i = 0; i + 4 < f.length; i += 5) {
+          this.byKey.get(f[i] as number)?.deliverFrame(f[i + 1] as string, f[i + 2] as number, f[i + 3] as number, f[i + 4] as number);
+        }
+        return;
+      }
+      case "ended":
+        this.byKey.get(msg.key)?.finishEnd(msg.frame, msg.summary, msg.q);
+        return;
+      case "refused":
+        this.byKey.get(msg.key)?.refuse(msg.code, msg.message);
+        return;
+      case "created":
+        this.creating.get(msg.key)?.resolve();
+        this.creating.delete(msg.key);
+        return;
+      case "create-failed":
+        this.creating.get(msg.key)?.reject(new Error(`the simulation could not be created: ${msg.message}`));
+        this.creating.delete(msg.key);
+        return;
+      case "stats":
+        return;
+    }
+  }
+
+  /** The simulation thread failed (logged by SimulationThread): every session it ran ends, with the reason. */
+  private onWorkerFailure(_error: Error): void {
+    for (const c of this.creating.values()) c.reject(new Error("the simulation thread failed"));
+    this.creating.clear();
+    for (const s of [...this.byKey.values()]) {
+      void s.end("simulation-failed"); // no-op for a session already ending: that one keeps its reason
+      s.finishEnd(null, null, null);
+    }
+  }
+
+  /** The simulation thread's tick lateness histogram and counters (null when it is not running). */
+  simulationStats(reset = false): Promise<SimThreadStats | null> {
+    return this.thread.stats(reset);
+  }
+
+  /** Ends every session (their last frames and recordings' ends), stops the simulation thread, drains the writer. */
   async close(): Promise<void> {
-    for (const s of [...this.sessions.values()]) s.end("server-shutdown");
-    this.scheduler.stop();
+    // byKey also holds the sessions still ending (end is idempotent: those keep their own reason).
+    await Promise.all([...this.byKey.values()].map((s) => s.end("server-shutdown")));
+    await this.thread.close();
     await this.writer.close();
   }
 }

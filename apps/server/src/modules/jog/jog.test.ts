@@ -321,6 +321,29 @@ describe("jogging", () => {
   });
 });
 
+describe("the simulation thread", () => {
+  it("when it fails, its sessions end with the reason, the failure is logged, and the next session runs on a fresh thread", async () => {
+    const c = await startDriving(engineer.cookie, draftVersionId);
+    const errors: unknown[][] = [];
+    const consoleError = console.error;
+    console.error = (...args: unknown[]) => void errors.push(args);
+    try {
+      net.jog.hub.thread.post({ t: "crash-for-test" });
+      const ended = await c.next((m) => m.type === "ended", 5000);
+      expect(ended).toMatchObject({ type: "ended", reason: "simulation-failed" });
+    } finally {
+      console.error = consoleError;
+    }
+    expect(errors.some((a) => String(a[0]).includes("simulation thread failed"))).toBe(true);
+    // Driving again works (a fresh worker), from the same connection.
+    c.send({ type: "start", versionId: draftVersionId });
+    await c.next((m) => m.type === "session");
+    const s = await c.nextState();
+    expect(s.stopReason).not.toBe("session-ended");
+    await c.close();
+  });
+});
+
 describe("watching and the REST routes around live jogging", () => {
   it("a safety officer watches a live session read-only; inputs from the watcher are refused", async () => {
     const driver = await startDriving(engineer.cookie, draftVersionId);

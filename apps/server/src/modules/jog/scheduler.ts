@@ -1,11 +1,11 @@
 import { performance } from "node:perf_hooks";
 
 /**
- * One timer for every live simulation. Each client keeps its own absolute schedule (t0 + k·period, an
- * integer k, so there is no cumulative drift); on every wake the scheduler runs each client's due ticks
- * (bounded catch-up), then its due frame, then sleeps until the earliest next deadline. Node's timers have
- * 1 ms granularity, so at 1 kHz a tick runs up to about 1 ms late; the lateness (wake − scheduled) of
- * every tick goes into a histogram the benchmark reads.
+ * One schedule for every live simulation, run by the simulation thread (sim-worker.ts). Each client keeps
+ * its own absolute schedule (t0 + k·period, an integer k, so there is no cumulative drift); on every wake
+ * the scheduler runs each client's due ticks (bounded catch-up), then its due frame, and returns the
+ * earliest next deadline for the thread to sleep until. The lateness (wake − scheduled) of every tick goes
+ * into a histogram the benchmark reads. All times are this thread's performance.now (ms).
  */
 
 /** Catch-up bound per wake; further behind than this, the extra ticks are skipped and counted as overruns. */
@@ -16,9 +16,10 @@ export const STALL_THRESHOLD_MS = 10;
 
 export interface ScheduledClient {
   /**
-   * Runs one tick; nowMs is the wake time. stalledMs is the scheduler's running total of time this process
-   * was stalled (wakes later than STALL_THRESHOLD_MS): the watchdog subtracts stalls from silence, so a
-   * pause of the server itself (GC, a busy machine) is never taken for a silent client.
+   * Runs one tick; nowMs is the wake time. stalledMs is the scheduler's running total of stalls: wakes of
+   * the simulation thread later than STALL_THRESHOLD_MS, and spells of the main thread's event loop not
+   * turning (inputs sit unread in the sockets meanwhile). The watchdog subtracts stalls from silence, so a
+   * pause of the server itself (GC, a busy machine, a blocked main thread) is never taken for a silent client.
    */
   runTick(nowMs: number, stalledMs: number): void;
   /** Called when ticks had to be skipped. */
@@ -75,67 +76,64 @@ export class LatenessHistogram {
   }
 }
 
+/**
+ * The schedules of every live simulation; the caller (the simulation thread's loop, sim-worker.ts) owns the
+ * sleeping: it calls runDue at each wake and sleeps until the deadline it returns. runDue allocates nothing.
+ */
 export class TickScheduler {
   private readonly clients: ScheduledClient[] = [];
-  private timer: NodeJS.Timeout | null = null;
-  private wakeAtMs = Infinity;
   readonly lateness = new LatenessHistogram();
-  /** Running total of stalls: wake lateness beyond STALL_THRESHOLD_MS. */
+  /** Running total of stalls (this thread's wakes later than STALL_THRESHOLD_MS, and the main thread's). */
   stalledMs = 0;
   overrunTicks = 0;
   wakes = 0;
+  private added = 0;
 
   get size(): number {
     return this.clients.length;
   }
 
+  /**
+   * Ticks run on a grid common to all clients of one tick rate (multiples of the period on this thread's
+   * clock), so at 1 kHz one wake per millisecond runs every session's tick, instead of one wake per session
+   * phase (50 phases: 50 sleeps per millisecond, each one late by the sleep's own jitter). Frames are spread
+   * over the frame period instead (golden-ratio offsets), so a wake builds few of them, and they are built at
+   * tick wakes (see runDue).
+   */
   add(client: ScheduledClient): void {
     const now = performance.now();
+    const t0 = Math.floor(now / client.tickPeriodMs) * client.tickPeriodMs;
+    const f0 = now + ((this.added++ * 0.6180339887) % 1) * client.framePeriodMs;
     client.schedule = {
-      t0: now, tickIndex: 1, nextTickMs: now + client.tickPeriodMs,
-      f0: now, frameIndex: 1, nextFrameMs: now + client.framePeriodMs,
+      t0, tickIndex: 1, nextTickMs: t0 + client.tickPeriodMs,
+      f0, frameIndex: 1, nextFrameMs: f0 + client.framePeriodMs,
     };
     this.clients.push(client);
-    this.arm(client.schedule.nextTickMs);
   }
 
   remove(client: ScheduledClient): void {
     const i = this.clients.indexOf(client);
     if (i >= 0) this.clients.splice(i, 1);
-    if (this.clients.length === 0 && this.timer) {
-      clearTimeout(this.timer);
-      this.timer = null;
-      this.wakeAtMs = Infinity;
-    }
   }
 
   stop(): void {
     this.clients.length = 0;
-    if (this.timer) clearTimeout(this.timer);
-    this.timer = null;
-    this.wakeAtMs = Infinity;
   }
 
-  private arm(atMs: number): void {
-    if (this.timer && atMs >= this.wakeAtMs) return;
-    if (this.timer) clearTimeout(this.timer);
-    this.wakeAtMs = atMs;
-    const delay = Math.max(0, Math.floor(atMs - performance.now()));
-    this.timer = setTimeout(this.wake, delay);
+  /** Adds a stall (ms) to the running total the watchdogs subtract from silence. */
+  noteStall(ms: number): void {
+    this.stalledMs += ms;
   }
 
-  private readonly wake = (): void => {
-    const lateByMs = performance.now() - this.wakeAtMs;
-    if (lateByMs > STALL_THRESHOLD_MS) this.stalledMs += lateByMs;
-    this.timer = null;
-    this.wakeAtMs = Infinity;
+  /** Runs every client's due ticks and due frame; returns the earliest next deadline (Infinity when idle). */
+  runDue(): number {
     this.wakes++;
-    let next = Infinity;
-    // Iterate over a snapshot length: a client removed during its own tick shifts the array.
+    // Two passes: every client's due ticks first, then the due frames, so building a frame (~10 µs) never
+    // delays another session's tick in the same wake.
     for (let c = 0; c < this.clients.length; c++) {
       const client = this.clients[c]!;
       const s = client.schedule!;
-      let now = performance.now();
+      const now = performance.now();
       let ran = 0;
       while (s.nextTickMs <= now && ran < MAX_CATCH_UP_TICKS) {
         this.lateness.record(now - s.nextTickMs);
@@ -156,7 +154,13 @@ export class TickScheduler {
         this.overrunTicks += skipped;
         client.noteOverrun(skipped);
       }
-      now = performance.now();
+      if (this.clients[c] !== client) c--; // removed during its tick
+    }
+    let next = Infinity;
+    for (let c = 0; c < this.clients.length; c++) {
+      const client = this.clients[c]!;
+      const s = client.schedule!;
+      const now = performance.now();
       if (s.nextFrameMs <= now) {
         try {
           client.runFrame();
@@ -171,10 +175,14 @@ export class TickScheduler {
           s.nextFrameMs = s.f0 + s.frameIndex * client.framePeriodMs;
         }
       }
-      if (this.clients[c] !== client) c--; // removed during its tick or frame
-      const due = Math.min(s.nextTickMs, s.nextFrameMs);
-      if (due < next) next = due;
+      if (this.clients[c] !== client) {
+        c--; // removed during its frame
+        continue;
+      }
+      // Only ticks set the wake-ups: a frame is built at the first tick wake at or after its deadline
+      // (late by less than one tick period), so frames add no wake-ups of their own.
+      if (s.nextTickMs < next) next = s.nextTickMs;
     }
-    if (this.clients.length > 0 && next < Infinity) this.arm(next);
-  };
+    return next;
+  }
 }

@@ -9,8 +9,8 @@ import { shapeAxis, slewVector3 } from "./shaping.ts";
 
 /**
  * One jog session's simulated arm: input shaping and gating (PRODUCT.md "The control step", steps 1–2)
- * around the kinematics engine's control step (steps 3–8). SI units inside (m, rad, s); times from the
- * scheduler in ms (performance.now clock). The tick path (tick) does not allocate: every buffer is made
+ * around the kinematics engine's control step (steps 3–8). Lives on the simulation thread (sim-worker.ts).
+ * SI units inside (m, rad, s); times from the scheduler in ms (that thread's performance.now clock). The tick path (tick) does not allocate: every buffer is made
  * here once; the JSON frame is built only at frame rate (frameJson).
  *
  * Gating rules (ISO 13850:2015 principle, from memory; METHODS.md §7):
@@ -19,8 +19,8 @@ import { shapeAxis, slewVector3 } from "./shaping.ts";
  *   press again (a reset alone never restarts motion);
  * - enabling released or watchdog → the commanded twist ramps to zero at the profile's acceleration
  *   limits (controlled stop);
- * - emergency stop → joint rates zero at once (in the message handler, not at the next tick), latched
- *   until a deliberate reset-estop.
+ * - emergency stop → joint rates zero at once (when the simulation thread receives it: the main thread wakes
+ *   it for it, so not at the next tick), latched until a deliberate reset-estop.
  */
 
 const MAX_AXES = 12;
@@ -34,6 +34,18 @@ export interface SimulationSetup {
 }
 
 export type InputResult = { ok: true } | { ok: false; code: string; message: string };
+
+const INPUT_OK: InputResult = { ok: true };
+
+/** A Cartesian input needs 6 axes, a joint input one per joint (checked on the main thread and again here). */
+export function checkInputAxes(input: JogInput, jointCount: number): InputResult {
+  const expected = input.mode === "cartesian" ? 6 : jointCount;
+  if (input.axes.length === expected) return INPUT_OK;
+  return {
+    ok: false, code: "bad_axes",
+    message: `${input.mode === "cartesian" ? "A Cartesian" : "A joint"} input needs ${expected} axes, got ${input.axes.length}.`,
+  };
+}
 
 export interface SimulationSummary {
   durationS: number;
@@ -152,28 +164,37 @@ export class JogSimulation {
 
   /** A validated input frame arrived at nowMs (performance.now). */
   applyInput(input: JogInput, nowMs: number): InputResult {
-    const expected = input.mode === "cartesian" ? 6 : this.n;
-    if (input.axes.length !== expected) {
-      return {
-        ok: false, code: "bad_axes",
-        message: `${input.mode === "cartesian" ? "A Cartesian" : "A joint"} input needs ${expected} axes, got ${input.axes.length}.`,
-      };
-    }
-    for (let i = 0; i < MAX_AXES; i++) this.rawAxes[i] = i < expected ? input.axes[i]! : 0;
-    this.inputMode = input.mode;
-    this.inputFrame = input.frame;
-    this.overridePercent = Math.min(input.overridePercent, this.profile.speedOverride.maxPercent);
-    if (!input.enabling) {
+    const checked = checkInputAxes(input, this.n);
+    if (!checked.ok) return checked;
+    this.applyInputValues(
+      input.seq, input.clientTimeMs, input.enabling, input.mode, input.frame, input.overridePercent, input.axes, 0, nowMs,
+    );
+    return INPUT_OK;
+  }
+
+  /**
+   * applyInput from plain values, the axes at axes[axesOffset…] (the simulation thread decodes inputs from
+   * a Float64Array batch, sim-messages.ts, without allocating). The axis count is checked by the caller.
+   */
+  applyInputValues(
+    seq: number, clientTimeMs: number, isEnabling: boolean, mode: "cartesian" | "joint", frame: "world" | "tool",
+    overridePercent: number, axes: ArrayLike<number>, axesOffset: number, nowMs: number,
+  ): void {
+    const expected = mode === "cartesian" ? 6 : this.n;
+    for (let i = 0; i < MAX_AXES; i++) this.rawAxes[i] = i < expected ? axes[axesOffset + i]! : 0;
+    this.inputMode = mode;
+    this.inputFrame = frame;
+    this.overridePercent = Math.min(overridePercent, this.profile.speedOverride.maxPercent);
+    if (!isEnabling) {
       // Released: re-arms the enabling control (ISO 13850 principle: motion needs a fresh press).
       this.isEnableArmed = true;
       this.isWatchdogTripped = false;
     }
-    this.isEnablingHeld = input.enabling;
+    this.isEnablingHeld = isEnabling;
     this.lastInputAtMs = nowMs;
     this.stalledAtInputMs = this.stalledMs;
-    this.lastInputSeq = input.seq;
-    this.lastInputClientTimeMs = input.clientTimeMs;
-    return { ok: true };
+    this.lastInputSeq = seq;
+    this.lastInputClientTimeMs = clientTimeMs;
   }
 
   /** Emergency stop: joint rates zero at once, the command cleared, latched until resetEstop. */

@@ -165,10 +165,11 @@ class JogConnection implements FrameSink {
         const s = this.requireDriving();
         if (!s) return;
         if (!this.inputBucket.take(now)) {
-          if (s.sim.noteDroppedInput()) this.sendError("rate_limited", `Inputs above ${INPUT_RATE_HZ} Hz are dropped.`);
+          if (s.noteDroppedInput(now)) this.sendError("rate_limited", `Inputs above ${INPUT_RATE_HZ} Hz are dropped.`);
           return;
         }
-        const result = s.sim.applyInput(msg, now);
+        // The simulation thread stamps its arrival with its own clock (performance.now origins differ per thread).
+        const result = s.applyInput(msg);
         if (!result.ok) {
           this.strike(now, 2);
           this.sendError(result.code, result.message);
@@ -177,29 +178,28 @@ class JogConnection implements FrameSink {
       }
       case "estop": {
         const s = this.requireDriving();
-        if (s) s.sim.emergencyStop();
+        if (s) s.command("estop");
         return;
       }
       case "reset-estop": {
         const s = this.requireDriving();
-        if (s) s.sim.resetEstop();
+        if (s) s.command("reset-estop");
         return;
       }
       case "acknowledge": {
         const s = this.requireDriving();
-        if (s) s.sim.acknowledge();
+        if (s) s.command("acknowledge");
         return;
       }
       case "ready-pose": {
         const s = this.requireDriving();
-        if (!s) return;
-        if (s.sim.isEstopLatched) return this.sendError("estop_latched", "Reset the emergency stop first.");
-        if (!s.sim.isStopped) return this.sendError("not_stopped", "Release the enabling control and wait for the arm to stop first.");
-        s.sim.moveToReadyPose();
+        // Checked by the simulation thread against the state there (in order with the inputs before it); a
+        // refusal (estop_latched, not_stopped) comes back as an error frame.
+        if (s) s.command("ready-pose");
         return;
       }
       case "stop":
-        if (this.driving) this.driving.end("stopped");
+        if (this.driving) void this.driving.end("stopped");
         else if (this.watching) this.stopWatching();
         return;
     }
@@ -219,13 +219,14 @@ class JogConnection implements FrameSink {
       const driven = await loadVersionForDriving(this.hub.ctx.db, this.user, versionId);
       if (this.isClosed) return;
       const previous = this.driving;
-      // Switching on the same arm keeps the arm where it is (from rest); another arm starts at its ready pose.
-      const q0 = previous && previous.driven.arm.id === driven.arm.id ? Float64Array.from(previous.sim.state.q) : undefined;
-      if (previous) previous.end("switched");
       this.stopWatching();
+      // Switching on the same arm keeps the arm where it is (from rest); another arm starts at its ready pose.
+      const finalQ = previous ? await previous.end("switched") : null;
+      const q0 = previous && finalQ && previous.driven.arm.id === driven.arm.id ? finalQ : undefined;
+      if (this.isClosed) return;
       const session = await this.hub.start(this, driven, q0);
       if (this.isClosed) {
-        session.end("disconnected");
+        void session.end("disconnected");
         return;
       }
       this.driving = session;
@@ -247,7 +248,7 @@ class JogConnection implements FrameSink {
     }
     const session = this.hub.sessions.get(sessionId);
     if (!session) return this.sendError("not_found", "No live session with that id (it may have ended).");
-    if (this.driving) this.driving.end("stopped");
+    if (this.driving) void this.driving.end("stopped");
     this.stopWatching();
     session.watchers.add(this);
     this.watching = session;
@@ -265,7 +266,7 @@ class JogConnection implements FrameSink {
     const ctx = this.hub.ctx;
     const { session } = await ctx.lucia.validateSession(this.sessionId);
     if (!session) {
-      this.driving?.end("signed-out");
+      void this.driving?.end("signed-out");
       this.sendError("unauthenticated", "Your session has ended: sign in again.");
       this.ws.close(1008, "signed out");
       return;
@@ -276,8 +277,8 @@ class JogConnection implements FrameSink {
       await loadVersionForDriving(ctx.db, this.user, s.driven.version.id);
     } catch (error) {
       if (error instanceof AppError && (error.status === 403 || error.status === 404) && this.driving === s) {
-        s.sim.emergencyStop();
-        s.end("profile-not-driveable");
+        s.command("estop");
+        void s.end("profile-not-driveable");
         this.sendError(error.code, `This version may no longer be driven: ${error.message}`);
       }
     }
@@ -290,7 +291,7 @@ class JogConnection implements FrameSink {
   private onClose(): void {
     if (this.isClosed) return;
     this.isClosed = true;
-    this.driving?.end("disconnected");
+    void this.driving?.end("disconnected");
     this.stopWatching();
     this.registry.delete(this);
   }
