@@ -22,6 +22,8 @@ try {
   const context = await browser.newContext({ viewport: { width: 1400, height: 1000 } });
   context.setDefaultTimeout(20_000);
   await context.addInitScript(fakeGamepadScript());
+  // tsx (esbuild keepNames) wraps functions passed to page.evaluate in __name(); define it in the page.
+  await context.addInitScript("window.__name = (fn) => fn;");
   const page = await context.newPage();
   await signIn(page, url, "olena", "/drive");
   await page.getByRole("heading", { level: 1, name: "Drive" }).waitFor();

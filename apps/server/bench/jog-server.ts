@@ -13,6 +13,7 @@ import { createApp } from "../src/app.ts";
 import { loadConfig } from "../src/config.ts";
 import { createSequelize } from "../src/db/connection.ts";
 import { migrate } from "../src/db/migrator.ts";
+import { seedDemo } from "../src/db/seed.ts";
 import { listArms } from "../src/modules/arms/model.ts";
 import { attachJogSockets } from "../src/modules/jog/socket.ts";
 import { createProfile } from "../src/modules/profiles/service.ts";
@@ -21,6 +22,8 @@ import { createUser } from "../src/modules/users/service.ts";
 const config = loadConfig({ ...process.env, SEED_DEMO: "0", FAKE_SMTP: "0" });
 const db = createSequelize(config.databaseUrl);
 await migrate(db);
+// The demo arms (and accounts) are what the bench profiles run on; idempotent.
+await seedDemo(db);
 const { app, ctx } = createApp(config, db);
 const server = http.createServer(app);
 const jog = attachJogSockets(server, ctx);
