@@ -107,15 +107,17 @@ describe("who may drive", () => {
     await c.close();
   });
 
-  it("an operator drives the approved version assigned to them (the demo operator's, when seeded)", async () => {
+  it("an operator drives the approved version assigned to them (the demo operator's seeded one)", async () => {
+    // The test set-up seeds the demo scenario, which gives olena an approved version.
     const olena = await h.db.query("SELECT id FROM users WHERE username = 'olena'", { plain: true }) as { id: string } | null;
-    const user = olena ? { id: olena.id, roles: ["operator"] } as unknown as User : null;
-    const driveable = user ? await driveableVersionsFor(h.db, user) : [];
-    if (!driveable[0]) return; // no approved demo version in this database: nothing to drive
+    expect(olena).not.toBeNull();
+    const user = { id: olena!.id, roles: ["operator"] } as unknown as User;
+    const driveable = await driveableVersionsFor(h.db, user);
+    expect(driveable.length).toBeGreaterThan(0);
     const cookie = await signIn(h, "olena");
-    const c = await startDriving(cookie, driveable[0].id);
+    const c = await startDriving(cookie, driveable[0]!.id);
     const info = c.messages.find((m) => m.msg.type === "session")!.msg;
-    expect(info).toMatchObject({ type: "session", session: { isUnapproved: false, isWatching: false, versionId: driveable[0].id } });
+    expect(info).toMatchObject({ type: "session", session: { isUnapproved: false, isWatching: false, versionId: driveable[0]!.id } });
     await c.close();
   });
 
