@@ -58,7 +58,7 @@ export async function seedDemoProfiles(db: Sequelize): Promise<void> {
       );
       await profiles.updateStatus(db, v1Id, { state: "submitted", submittedAt: "now" }, t);
       await profiles.lockVersionRow(db, v1Id, t);
-      const comment = "Checked on the wrist-flip trial; damping and caps are within the site ceilings.";
+      const comment = "Test-driven live through the wrist region; damping and caps are within the site ceilings.";
       await profiles.updateStatus(
         db,
         v1Id,
