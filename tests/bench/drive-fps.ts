@@ -4,8 +4,8 @@
  * 5-second windows while olena jogs with the on-screen controls (alternating +Z and −Z so the arm stays
  * in its workspace), and prints the median against the ≥ 55 fps goal of issue 4. Run through `pnpm bench`.
  */
-import { baseUrl, launchBrowser } from "../support/browser.ts";
-import { fakeGamepadScript, measureFps, signIn } from "../support/drive.ts";
+import { baseUrl, launchBrowser, signIn } from "../support/browser.ts";
+import { fakeGamepadScript, measureFps } from "../support/drive.ts";
 
 const WINDOWS = Math.max(1, Number(process.env.DRIVE_BENCH_WINDOWS ?? 4));
 const WINDOW_MS = 5000;

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, BrowserContext, Page } from "playwright-core";
-import { baseUrl, launchBrowser, saveScreenshot } from "../support/browser.ts";
+import { baseUrl, launchBrowser, saveScreenshot, signIn } from "../support/browser.ts";
 import {
   chartPoints,
   drawnFrames,
@@ -9,7 +9,6 @@ import {
   readJointPositions,
   readTcpMm,
   setGamepad,
-  signIn,
 } from "../support/drive.ts";
 
 // The drive page in real Chromium against the real server and its simulated arm: olena (operator, with

@@ -1,11 +1,10 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, BrowserContext, Page } from "playwright-core";
-import { baseUrl, launchBrowser, saveScreenshot } from "../support/browser.ts";
+import { baseUrl, DEMO_PASSWORD, fillSignInForm, launchBrowser, saveScreenshot } from "../support/browser.ts";
 
 // The console foundation in a real browser against the real server: sign-in, the role-dependent
 // navigation, the cautions banner, creating a user as admin, sign-out and a wrong password.
 
-const DEMO_PASSWORD = "demo-pass-2026";
 // Menu order follows NAV_ITEMS in apps/console/src/app/navigation.ts.
 const OPERATOR_NAV = ["Overview", "Drive", "Recordings", "Arms", "Profiles"];
 const ENGINEER_NAV = ["Overview", "Drive", "Live", "Recordings", "Arms", "Profiles", "Ceilings"];
@@ -34,12 +33,6 @@ async function newPage(): Promise<{ context: BrowserContext; page: Page }> {
   const context = await browser.newContext({ viewport: { width: 1280, height: 860 } });
   context.setDefaultTimeout(TIMEOUT_MS);
   return { context, page: await context.newPage() };
-}
-
-async function signIn(page: Page, username: string, password: string): Promise<void> {
-  await page.getByLabel("User name").fill(username);
-  await page.getByLabel("Password").fill(password);
-  await page.getByRole("button", { name: "Sign in" }).click();
 }
 
 async function navLabels(page: Page): Promise<string[]> {
@@ -71,7 +64,7 @@ describe("console foundation", { timeout: 90_000 }, () => {
       const { context, page } = await newPage();
       await page.goto(`${url}/`);
       await page.waitForURL(/\/sign-in/);
-      await signIn(page, account.username, DEMO_PASSWORD);
+      await fillSignInForm(page, account.username, DEMO_PASSWORD);
       await page.getByRole("heading", { level: 1, name: /^Hello, / }).waitFor();
       expect(await navLabels(page)).toEqual(account.nav);
       await expectCautions(page);
@@ -90,7 +83,7 @@ describe("console foundation", { timeout: 90_000 }, () => {
   it("lists the demo arms with their DH tables in mm and deg", async () => {
     const { context, page } = await newPage();
     await page.goto(`${url}/arms`);
-    await signIn(page, "emeka", DEMO_PASSWORD);
+    await fillSignInForm(page, "emeka", DEMO_PASSWORD);
     await page.waitForURL(/\/arms$/);
     await page.getByRole("heading", { level: 1, name: "Arms" }).waitFor();
     const tables = page.getByRole("main").getByRole("table");
@@ -106,7 +99,7 @@ describe("console foundation", { timeout: 90_000 }, () => {
     const displayName = `Browser Test ${username.slice(4)}`;
     const { context, page } = await newPage();
     await page.goto(`${url}/admin/users`);
-    await signIn(page, "adele", DEMO_PASSWORD);
+    await fillSignInForm(page, "adele", DEMO_PASSWORD);
     await page.waitForURL(/\/admin\/users$/);
     await page.getByRole("heading", { level: 1, name: "Users" }).waitFor();
     await page.getByRole("cell", { name: "adele", exact: true }).waitFor();
@@ -146,7 +139,7 @@ describe("console foundation", { timeout: 90_000 }, () => {
     await page.getByRole("button", { name: "Sign out" }).click();
     await page.waitForURL(/\/sign-in$/);
 
-    await signIn(page, username, "browser-test-pass");
+    await fillSignInForm(page, username, "browser-test-pass");
     await page.getByRole("heading", { level: 1, name: `Hello, ${displayName}` }).waitFor();
     // The new user was given the engineer role.
     expect(await navLabels(page)).toEqual(ENGINEER_NAV);
@@ -159,7 +152,7 @@ describe("console foundation", { timeout: 90_000 }, () => {
   it("shows the server's message for a wrong password", async () => {
     const { context, page } = await newPage();
     await page.goto(`${url}/sign-in`);
-    await signIn(page, "tomas", "not-the-password");
+    await fillSignInForm(page, "tomas", "not-the-password");
     const alert = page.getByRole("alert");
     await alert.waitFor();
     expect(await alert.innerText()).toMatch(/Sign-in failed/);

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Browser, BrowserContext, Page } from "playwright-core";
-import { baseUrl, launchBrowser, saveScreenshot } from "../support/browser.ts";
+import { baseUrl, launchBrowser, saveScreenshot, signIn } from "../support/browser.ts";
 import { readTcpMm } from "../support/drive.ts";
 
 // Issue 5 in a real browser against the real server: an engineer writes a profile for olena in UI units
@@ -10,7 +10,6 @@ import { readTcpMm } from "../support/drive.ts";
 // finally olena sees the approved version as driveable and drives the arm with it. The test assumes the site ceilings in force keep
 // the default TCP linear ceiling of 250 mm/s.
 
-const DEMO_PASSWORD = "demo-pass-2026";
 const TIMEOUT_MS = 15_000;
 const PROFILE_NAME = `E2E pack opening ${Date.now()}`;
 
@@ -34,12 +33,7 @@ async function signedInPage(username: string, path: string): Promise<Page> {
   context.setDefaultTimeout(TIMEOUT_MS);
   contexts.push(context);
   const page = await context.newPage();
-  await page.goto(`${url}${path}`);
-  await page.waitForURL(/\/sign-in/);
-  await page.getByLabel("User name").fill(username);
-  await page.getByLabel("Password").fill(DEMO_PASSWORD);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL((u) => !u.pathname.startsWith("/sign-in"));
+  await signIn(page, url, username, path);
   return page;
 }
 

@@ -43,3 +43,21 @@ export async function saveScreenshot(page: Page, name: string): Promise<string> 
   await page.screenshot({ path, fullPage: true });
   return path;
 }
+
+/** The demo accounts' password (README; printed by `npm start`). */
+export const DEMO_PASSWORD = "demo-pass-2026";
+
+/** Fills and sends the sign-in form already on screen; the caller checks the outcome. */
+export async function fillSignInForm(page: Page, username: string, password: string): Promise<void> {
+  await page.getByLabel("User name").fill(username);
+  await page.getByLabel("Password").fill(password);
+  await page.getByRole("button", { name: "Sign in" }).click();
+}
+
+/** Opens `next` signed out, signs in as a demo account on the sign-in page it leads to, and waits to be let in. */
+export async function signIn(page: Page, url: string, username: string, next = "/"): Promise<void> {
+  await page.goto(`${url}${next}`);
+  await page.waitForURL(/\/sign-in/);
+  await fillSignInForm(page, username, DEMO_PASSWORD);
+  await page.waitForURL((u) => !u.pathname.startsWith("/sign-in"));
+}

@@ -2,10 +2,9 @@ import type { Page } from "playwright-core";
 
 /**
  * Helpers for the drive-page browser tests: a simulated gamepad (navigator.getGamepads stubbed before
- * any page script runs), sign-in, and an in-page frame-rate measurement.
+ * any page script runs) and an in-page frame-rate measurement.
  */
 
-export const DEMO_PASSWORD = "demo-pass-2026";
 
 /** Standard-mapping button count (W3C Gamepad "standard" layout: 17 buttons, 4 axes). */
 const STANDARD_BUTTONS = 17;
@@ -43,14 +42,6 @@ export async function setGamepad(page: Page, update: { axes?: number[]; pressed?
   }, update);
 }
 
-export async function signIn(page: Page, url: string, username: string, next = "/"): Promise<void> {
-  await page.goto(`${url}${next}`);
-  await page.waitForURL(/\/sign-in/);
-  await page.getByLabel("User name").fill(username);
-  await page.getByLabel("Password").fill(DEMO_PASSWORD);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL((u) => !u.pathname.startsWith("/sign-in"));
-}
 
 /** Counts requestAnimationFrame callbacks in the page over `durationMs`: frames per second. */
 export async function measureFps(page: Page, durationMs: number): Promise<number> {

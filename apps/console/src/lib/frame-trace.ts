@@ -1,3 +1,4 @@
+import { DEG_PER_RAD } from "@jogwright/shared";
 import type { RecordedFrame } from "@jogwright/shared";
 
 /**
@@ -17,7 +18,6 @@ export interface FrameSource {
   frameSerial(): number;
 }
 
-const RAD_TO_DEG = 180 / Math.PI;
 
 /** Chart data in uPlot's column layout: x first, then one array per series. */
 export type ChartColumns = [Float64Array, ...Float64Array[]];
@@ -83,7 +83,7 @@ export class FrameTrace {
     this.t[i] = frame.t;
     for (let j = 0; j < this.jointCount; j++) {
       const v = frame.qdot[j] ?? 0;
-      this.rates[j]![i] = this.isPrismatic[j] ? v * 1000 : v * RAD_TO_DEG;
+      this.rates[j]![i] = this.isPrismatic[j] ? v * 1000 : v * DEG_PER_RAD;
     }
     this.sigmaMm[i] = frame.sigmaMin * 1000;
     this.lambdaMm[i] = frame.lambda * 1000;

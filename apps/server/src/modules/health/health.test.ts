@@ -1,4 +1,5 @@
 import { describe, expect, it } from "vitest";
+import { healthSchema } from "@jogwright/shared";
 import { createHarness } from "../../test/harness.ts";
 
 describe("GET /api/health", () => {
@@ -7,7 +8,7 @@ describe("GET /api/health", () => {
     try {
       const res = await h.request.get("/api/health");
       expect(res.status).toBe(200);
-      expect(res.body).toEqual({ status: "ok", database: "ok" });
+      expect(healthSchema.parse(res.body)).toEqual({ status: "ok", database: "ok" });
     } finally {
       await h.close();
     }
@@ -18,6 +19,6 @@ describe("GET /api/health", () => {
     await h.db.close();
     const res = await h.request.get("/api/health");
     expect(res.status).toBe(503);
-    expect(res.body).toEqual({ status: "degraded", database: "down" });
+    expect(healthSchema.parse(res.body)).toEqual({ status: "degraded", database: "down" });
   });
 });

@@ -1,3 +1,4 @@
+import { DEG_PER_RAD } from "@jogwright/shared";
 import type { ReactNode } from "react";
 import type { Arm, ProfileParams, RecordedFrame } from "@jogwright/shared";
 import { cn } from "../../../lib/cn.ts";
@@ -7,7 +8,6 @@ import { GUARD_WORDS, bindingInWords, motionInWords, type MotionTone } from "./l
 // The panels beside the 3D view. They take a frame (live or replayed) and the profile version's
 // parameters; SI in, mm / deg / deg/s out.
 
-const RAD_TO_DEG = 180 / Math.PI;
 
 export function Panel({ title, children, className }: { title: string; children: ReactNode; className?: string }) {
   return (
@@ -149,7 +149,7 @@ export function JointPositionBars({ arm, frame }: { arm: Arm; frame: RecordedFra
       <ul className="flex flex-col gap-1.5" data-testid="joint-positions">
         {arm.model.joints.map((joint, i) => {
           const isRevolute = joint.type === "revolute";
-          const k = isRevolute ? RAD_TO_DEG : 1000;
+          const k = isRevolute ? DEG_PER_RAD : 1000;
           const unit = isRevolute ? "deg" : "mm";
           const q = frame?.q[i];
           const min = joint.min ?? -Math.PI;
@@ -192,7 +192,7 @@ export function JointRateBars({ arm, frame, params }: { arm: Arm; frame: Recorde
       <ul className="flex flex-col gap-1.5" data-testid="joint-rates">
         {arm.model.joints.map((joint, i) => {
           const isRevolute = joint.type === "revolute";
-          const k = isRevolute ? RAD_TO_DEG : 1000;
+          const k = isRevolute ? DEG_PER_RAD : 1000;
           const cap = params?.jointRateCapsRadPerS[i] ?? joint.maxSpeed ?? 1;
           const v = frame?.qdot[i] ?? 0;
           const fraction = Math.min(1, Math.abs(v) / cap);
