@@ -8,7 +8,7 @@ import { authRouter } from "./auth/routes.ts";
 import { SignInLimiter } from "./auth/sign-in-limiter.ts";
 import type { Config } from "./config.ts";
 import type { AppContext } from "./context.ts";
-import { errorHandler, notFoundHandler } from "./errors.ts";
+import { AppError, errorHandler, notFoundHandler } from "./errors.ts";
 import type { ApiRouter, RouteSpec } from "./http/api-router.ts";
 import { armsRouter } from "./modules/arms/routes.ts";
 import { healthRouter } from "./modules/health/routes.ts";
@@ -41,7 +41,7 @@ export function createApp(config: Config, db: Sequelize): BuiltApp {
   api.use((req, _res, next) => {
     // JSON only: a body of another type is refused rather than silently ignored.
     if (req.headers["content-length"] && req.headers["content-length"] !== "0" && !req.is("application/json")) {
-      res415(next);
+      next(new AppError(415, "bad_request", "Send JSON with Content-Type: application/json."));
       return;
     }
     next();
@@ -79,8 +79,4 @@ export function createApp(config: Config, db: Sequelize): BuiltApp {
     });
   }
   return { app, ctx, routes: routers.flatMap((r) => r.routes) };
-}
-
-function res415(next: (err: unknown) => void) {
-  next(Object.assign(new Error("Send JSON with Content-Type: application/json."), { status: 415 }));
 }
