@@ -1,9 +1,11 @@
 /**
  * Benchmark (not a test): one full Cartesian control step of the six-axis demo arm with the singular-value
  * damping schedule (σ_min estimated every step), against the same step written plainly with mathjs and with
- * ml-matrix. Prints medians (ns/step) over batches, allocation evidence, ratios and the throughput of a
- * 10-s trial at 1 kHz. Run: pnpm bench   (tsx bench/control-step.bench.ts; add --quick for fewer
- * batches and shorter library runs; the warm-up is the same)
+ * ml-matrix. Prints medians (ns/step) over batches, allocation evidence (also for every optional feature:
+ * acceleration limits, drift correction, numerical filtering, the stop-before guard, the null-space term and
+ * a jog that rides the joint limits), ratios and the throughput of a 10-s trial at 1 kHz.
+ * Run: pnpm bench   (tsx bench/control-step.bench.ts; add --quick for fewer batches and shorter library
+ * runs; the warm-up is the same)
  * Units: SI; times in ns per step.
  */
 
@@ -12,12 +14,13 @@ import * as math from "mathjs";
 import { Matrix, SingularValueDecomposition, solve as mlSolve } from "ml-matrix";
 import {
   controlStep, createControlReport, createControlState, createControlWorkspace, defaultControlParams, demoArms,
-  dampingFor,
+  dampingFor, ratedJointAccel,
 } from "../src/index.ts";
-import type { ArmModel, ControlParams } from "../src/index.ts";
+import type { ArmModel, ControlParams, DemoArm } from "../src/index.ts";
 
 const quick = process.argv.includes("--quick");
 const arm6 = demoArms.find((a) => a.slug === "cell-arm-6")!;
+const arm7 = demoArms.find((a) => a.slug === "cell-arm-7")!;
 const DT = 0.001;
 
 // Command: a 0.1 m/s twist turning in a circle with a 2 s period, plus a slow wrist roll, precomputed so
@@ -157,6 +160,56 @@ function plainRunner(step: typeof plainMathjsStep): (n: number) => void {
   };
 }
 
+/**
+ * One runner per optional feature, for the allocation check: acceleration limits at the rated values, drift
+ * correction K = 250/s, numerical filtering with a wide ε (the tracked pair and the full eigen-decomposition
+ * fallback), the stop-before guard with acceleration limits, the seven-axis arm with the null-space term,
+ * and large random twists that ride the joint limits with acceleration limits (the stopping-horizon search).
+ */
+function featureRuns(): Array<{ name: string; run: (n: number) => void }> {
+  const rated = (d: DemoArm) => d.model.joints.map((j) => ratedJointAccel(j));
+  const drift = { gain: 250, maxPositionError: 0.005, maxOrientationError: 0.05 };
+  const runner = (demo: DemoArm, p: ControlParams, twistOf: (t: number) => Float64Array) => {
+    const w = createControlWorkspace(demo.model);
+    const st = createControlState(demo.model, demo.readyPose);
+    const rep = createControlReport();
+    let t = 0;
+    return (n: number) => {
+      for (let s = 0; s < n; s++) {
+        controlStep(w, st, p, twistOf(t), DT, rep);
+        t++;
+      }
+    };
+  };
+  const circle = (t: number) => views[t % PERIOD]!;
+  // Large random twists, changed every 300 steps (precomputed, so the loop allocates nothing).
+  const wild: Float64Array[] = [];
+  let seed = 12345;
+  const rand = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+  for (let i = 0; i < 64; i++) wild.push(Float64Array.from([0, 1, 2, 3, 4, 5].map((k) => (k < 3 ? 0.6 : 3) * (2 * rand() - 1))));
+  const wildOf = (t: number) => wild[Math.floor(t / 300) % wild.length]!;
+  return [
+    { name: "acceleration limits (rated)", run: runner(arm6, { ...params, jointAccelLimits: rated(arm6) }, circle) },
+    { name: "drift correction K = 250/s", run: runner(arm6, { ...params, driftCorrection: drift }, circle) },
+    {
+      name: "numerical filtering, ε = 0.3 (tracked + fallback)",
+      run: runner(arm6, { ...params, dampSmallestOnly: true, damping: { kind: "singular-value", epsilon: 0.3, lambdaMax: 0.04 } }, circle),
+    },
+    {
+      name: "stop-before guard + acceleration limits",
+      run: runner(arm6, { ...params, jointAccelLimits: rated(arm6), guard: { policy: "stop-before", sigmaStop: 0.02, releaseFactor: 1.5 } }, circle),
+    },
+    {
+      name: "seven-axis, null space + drift + accel",
+      run: runner(arm7, { ...params, nullSpace: { gain: 0.5 }, driftCorrection: drift, jointAccelLimits: rated(arm7) }, circle),
+    },
+    {
+      name: "joint-limit jog + acceleration limits",
+      run: runner(arm6, { ...params, tcpLinearCap: Infinity, tcpAngularCap: Infinity, jointAccelLimits: rated(arm6) }, wildOf),
+    },
+  ];
+}
+
 async function main(): Promise<void> {
   console.log(`node ${process.version}, ${process.platform}/${process.arch}${quick ? ", quick run" : ""}`);
   // Warm-up (JIT), the same in both modes: the timed function itself (so its loop is optimised too),
@@ -191,6 +244,23 @@ async function main(): Promise<void> {
   obs.disconnect();
   console.log(`allocation: heapUsed ${(h1 - h0) >= 0 ? "+" : ""}${h1 - h0} bytes over ${allocSteps} steps ` +
     `(${((h1 - h0) / allocSteps).toFixed(4)} B/step), GC events during the run: ${gcEvents}`);
+
+  // The same check for every optional feature (each its own workspace, warmed up first).
+  for (const feature of featureRuns()) {
+    feature.run(quick ? 100_000 : 200_000);
+    if (g) g();
+    await new Promise((r) => setTimeout(r, 50));
+    let events = 0;
+    const o = new PerformanceObserver((list) => { events += list.getEntries().length; });
+    o.observe({ entryTypes: ["gc"] });
+    const steps = quick ? 100_000 : 300_000;
+    const f0 = process.hrtime.bigint();
+    feature.run(steps);
+    const ns = Number(process.hrtime.bigint() - f0) / steps;
+    await new Promise((r) => setTimeout(r, 50));
+    o.disconnect();
+    console.log(`  ${feature.name.padEnd(50)} ${ns.toFixed(0).padStart(6)} ns/step, GC events: ${events}`);
+  }
 
   // Plain versions.
   const mj = plainRunner(plainMathjsStep);

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import {
-  KinematicsInputError, createControlState, dampedLeastSquares, dampingFor, demoArms, forwardPose,
+  DEFAULT_ACCEL_PER_SPEED_PER_S, KinematicsInputError, compileArm, createControlState, ratedJointAccel, dampedLeastSquares, dampingFor, demoArms, forwardPose,
   geometricJacobian, manipulability, scaleToCaps, singularValues, toolTwistToWorld, validateArm,
   velocityEllipsoid,
 } from "./index.ts";
@@ -88,5 +88,25 @@ describe("public entry points reject degenerate input with a clear error", () =>
     const arm = demoArms[0]!.model;
     expectInputError(() => createControlState(arm, [0, 0, 0, 0, 3, 0]), /^q0\[4\]$/);
     expectInputError(() => createControlState(arm, [0, 0, 0, 0, 0]), /^q0$/);
+  });
+});
+
+describe("joint acceleration limits in the arm model", () => {
+  it("rejects a maxAccel that is not a positive finite number, naming the joint", () => {
+    const joint = { type: "revolute" as const, a: 0, alpha: 0, d: 0, theta: 0, maxSpeed: 2 };
+    for (const bad of [0, -1, NaN, Infinity]) {
+      expectInputError(() => validateArm({ convention: "standard", joints: [joint, { ...joint, maxAccel: bad }] }), /joints\[1\]\.maxAccel/);
+    }
+  });
+
+  it("uses maxAccel when given, else 4 × maxSpeed, else no limit", () => {
+    // DEFAULT_ACCEL_PER_SPEED_PER_S = 4: rated speed from rest in 0.25 s (common practice, no source).
+    expect(DEFAULT_ACCEL_PER_SPEED_PER_S).toBe(4);
+    expect(ratedJointAccel({ maxSpeed: 2, maxAccel: 3 })).toBe(3);
+    expect(ratedJointAccel({ maxSpeed: 2 })).toBe(8);
+    expect(ratedJointAccel({})).toBe(Infinity);
+    const joint = { type: "revolute" as const, a: 0, alpha: 0, d: 0, theta: 0 };
+    const k = compileArm({ convention: "standard", joints: [{ ...joint, maxSpeed: 2, maxAccel: 3 }, { ...joint, maxSpeed: 2 }, joint] });
+    expect(Array.from(k.maxAccel)).toEqual([3, 8, Infinity]);
   });
 });

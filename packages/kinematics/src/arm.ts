@@ -27,6 +27,11 @@ export interface ArmJoint {
   max?: number;
   /** Maximum joint speed [rad/s or m/s]. */
   maxSpeed?: number;
+  /**
+   * Rated joint acceleration [rad/s² or m/s²]. When absent: DEFAULT_ACCEL_PER_SPEED_PER_S × maxSpeed, or
+   * none (Infinity) when maxSpeed is absent too (ratedJointAccel).
+   */
+  maxAccel?: number;
 }
 
 export interface ArmModel {
@@ -36,6 +41,22 @@ export interface ArmModel {
   base?: ArrayLike<number>;
   /** Flange-to-TCP transform, 4x4 row-major (16 numbers). Identity when absent. */
   tool?: ArrayLike<number>;
+}
+
+/**
+ * Default rated acceleration per unit of rated speed [1/s] for a joint that gives maxSpeed but no maxAccel:
+ * 4 × maxSpeed, i.e. the joint reaches its rated speed from rest in 0.25 s (common practice, no source).
+ */
+export const DEFAULT_ACCEL_PER_SPEED_PER_S = 4;
+
+/**
+ * A joint's rated acceleration [rad/s² or m/s²]: maxAccel when given, else DEFAULT_ACCEL_PER_SPEED_PER_S ×
+ * maxSpeed, else Infinity (no limit). No validation (validateArm checks maxAccel > 0).
+ */
+export function ratedJointAccel(joint: Pick<ArmJoint, "maxSpeed" | "maxAccel">): number {
+  if (joint.maxAccel !== undefined) return joint.maxAccel;
+  if (joint.maxSpeed !== undefined) return DEFAULT_ACCEL_PER_SPEED_PER_S * joint.maxSpeed;
+  return Infinity;
 }
 
 /** Most joints an arm may have (matches the shared arm schema). */
@@ -150,6 +171,10 @@ export function validateArm(arm: unknown): asserts arm is ArmModel {
       requireFiniteField(jt.maxSpeed, `${p}.maxSpeed`);
       if (!(jt.maxSpeed > 0)) throw new KinematicsInputError(`${p}.maxSpeed`, "must be above zero");
     }
+    if (jt.maxAccel !== undefined) {
+      requireFiniteField(jt.maxAccel, `${p}.maxAccel`);
+      if (!(jt.maxAccel > 0)) throw new KinematicsInputError(`${p}.maxAccel`, "must be above zero");
+    }
   });
   if (a.base !== undefined) requireRigidTransform(a.base, "base");
   if (a.tool !== undefined) requireRigidTransform(a.tool, "tool");
@@ -174,6 +199,8 @@ export interface ArmKernel {
   readonly max: Float64Array;
   /** Joint speed limits, Infinity where the arm gives none. */
   readonly maxSpeed: Float64Array;
+  /** Rated joint accelerations (ratedJointAccel): maxAccel, else 4 × maxSpeed, else Infinity. */
+  readonly maxAccel: Float64Array;
   readonly base: Float64Array | null;
   readonly tool: Float64Array | null;
   /** Scratch: frames 0..n (world from frame i), 16 numbers each; frame 0 is the base. */
@@ -196,6 +223,7 @@ export function compileArm(arm: ArmModel): ArmKernel {
     min: new Float64Array(n),
     max: new Float64Array(n),
     maxSpeed: new Float64Array(n),
+    maxAccel: new Float64Array(n),
     base: arm.base ? Float64Array.from(arm.base) : null,
     tool: arm.tool ? Float64Array.from(arm.tool) : null,
     frames: new Float64Array(16 * (n + 1)),
@@ -210,6 +238,7 @@ export function compileArm(arm: ArmModel): ArmKernel {
     k.min[i] = j.min ?? -Infinity;
     k.max[i] = j.max ?? Infinity;
     k.maxSpeed[i] = j.maxSpeed ?? Infinity;
+    k.maxAccel[i] = ratedJointAccel(j);
   });
   return k;
 }

@@ -1,5 +1,7 @@
 import { describe, expect, it } from "vitest";
-import { dampingFor } from "./index.ts";
+import { dampingFor, dampingForScheme, dampingForSchemeInto } from "./index.ts";
+import type { DampingScheme } from "./index.ts";
+import { rng } from "./test-fixtures.ts";
 
 describe("dampingFor, singular-value schedule", () => {
   const opts = { epsilon: 0.1, lambdaMax: 0.05 };
@@ -56,5 +58,48 @@ describe("dampingFor, other schemes", () => {
       expect(dampingFor(0.3, scheme, w)).toBeCloseTo(table, 12);
     }
     expect(dampingFor(0.3, scheme, 0.02)).toBe(0);
+  });
+});
+
+describe("dampingForScheme, the one implementation the control step calls", () => {
+  it("gives the scheme's largest λ for a NaN σ (or w), in both the number and the typed-array form", () => {
+    // Issue 8: the step's private copy returned 0 for NaN σ while damping.ts returned λmax. One answer
+    // now, the safe one (our contract, common practice, no source).
+    expect(dampingForScheme({ kind: "singular-value", epsilon: 0.04, lambdaMax: 0.03 }, NaN, 0.1)).toBe(0.03);
+    expect(dampingForScheme({ kind: "manipulability", w0: 0.01, lambda0: 0.02 }, 0.5, NaN)).toBe(0.02);
+    expect(dampingForScheme({ kind: "fixed", lambda: 0.01 }, NaN, NaN)).toBe(0.01);
+    const io = Float64Array.from([NaN, 0, -1]);
+    dampingForSchemeInto({ kind: "singular-value", epsilon: 0.04, lambdaMax: 0.03 }, io);
+    expect(io[2]).toBe(0.03);
+  });
+
+  it("agrees between its number and typed-array forms for thousands of random inputs with NaN, 0 and Infinity", () => {
+    // Pinning test (derived): the typed-array form is the implementation; the number form wraps it; both
+    // equal the schedules' formulas (Chiaverini et al. 1994; Nakamura & Hanafusa 1986 — from memory).
+    const next = rng(41);
+    const special = [0, -0, NaN, Infinity, 1e-300, 1e300];
+    const pick = (x: number) => (next() < 0.1 ? special[Math.floor(next() * special.length)]! : x);
+    const io = new Float64Array(3);
+    for (let trial = 0; trial < 5000; trial++) {
+      const scheme: DampingScheme =
+        trial % 3 === 0 ? { kind: "fixed", lambda: 0.1 * next() }
+          : trial % 3 === 1 ? { kind: "singular-value", epsilon: 0.01 + 0.2 * next(), lambdaMax: 0.1 * next() }
+            : { kind: "manipulability", w0: 0.001 + 0.1 * next(), lambda0: 0.1 * next() };
+      const sigma = pick(0.3 * next()), w = pick(0.2 * next());
+      io[0] = sigma; io[1] = w;
+      dampingForSchemeInto(scheme, io);
+      const l = dampingForScheme(scheme, sigma, w);
+      expect(Object.is(io[2], l)).toBe(true);
+      let formula: number;
+      if (scheme.kind === "fixed") formula = scheme.lambda;
+      else if (scheme.kind === "singular-value") {
+        formula = Number.isNaN(sigma) ? scheme.lambdaMax : sigma >= scheme.epsilon ? 0
+          : scheme.lambdaMax * Math.sqrt(1 - (Math.max(sigma, 0) / scheme.epsilon) ** 2);
+      } else {
+        formula = Number.isNaN(w) ? scheme.lambda0 : w >= scheme.w0 ? 0 : scheme.lambda0 * (1 - Math.max(w, 0) / scheme.w0);
+      }
+      expect(l).toBeCloseTo(formula, 15);
+      expect(l).toBeGreaterThanOrEqual(0);
+    }
   });
 });

@@ -22,23 +22,43 @@ export interface SingularValueScheduleOptions {
   lambdaMax: number;
 }
 
+const schemeIo = new Float64Array(3);
+
 /** λ for a scheme; no validation, never throws (hot path). NaN gives the scheme's maximum λ. */
 export function dampingForScheme(scheme: DampingScheme, sigmaMin: number, manipulability: number): number {
-  switch (scheme.kind) {
-    case "fixed":
-      return scheme.lambda;
-    case "singular-value": {
-      if (Number.isNaN(sigmaMin)) return scheme.lambdaMax;
-      if (sigmaMin >= scheme.epsilon) return 0;
+  schemeIo[0] = sigmaMin;
+  schemeIo[1] = manipulability;
+  dampingForSchemeInto(scheme, schemeIo);
+  return schemeIo[2]!;
+}
+
+/**
+ * dampingForScheme with its numbers in a typed array — the one implementation of the schedules, which
+ * the control step calls: reads σ_min from io[0] and w from io[1], writes λ into io[2]. Each branch stores
+ * its λ directly, so no number crosses a call or merges as a heap number (the step stays allocation-free
+ * whether or not V8 inlines this). NaN σ (or w) gives the scheme's maximum λ — the safe answer. Never throws.
+ */
+export function dampingForSchemeInto(scheme: DampingScheme, io: Float64Array): void {
+  if (scheme.kind === "fixed") {
+    io[2] = scheme.lambda;
+  } else if (scheme.kind === "singular-value") {
+    const sigmaMin = io[0]!;
+    if (Number.isNaN(sigmaMin)) io[2] = scheme.lambdaMax;
+    else if (sigmaMin >= scheme.epsilon) io[2] = 0;
+    else {
       const r = sigmaMin > 0 ? sigmaMin / scheme.epsilon : 0;
-      return scheme.lambdaMax * Math.sqrt(1 - r * r);
+      io[2] = scheme.lambdaMax * Math.sqrt(1 - r * r);
     }
-    case "manipulability": {
-      if (Number.isNaN(manipulability)) return scheme.lambda0;
-      if (manipulability >= scheme.w0) return 0;
-      const r = manipulability > 0 ? manipulability / scheme.w0 : 0;
-      return scheme.lambda0 * (1 - r);
+  } else if (scheme.kind === "manipulability") {
+    const w = io[1]!;
+    if (Number.isNaN(w)) io[2] = scheme.lambda0;
+    else if (w >= scheme.w0) io[2] = 0;
+    else {
+      const r = w > 0 ? w / scheme.w0 : 0;
+      io[2] = scheme.lambda0 * (1 - r);
     }
+  } else {
+    io[2] = NaN; // not a scheme (validateDampingScheme refuses it); the step faults with "invalid-params"
   }
 }
 

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { demoArms, geometricJacobian, singularValues, validateArm } from "./index.ts";
+import { demoArms, geometricJacobian, ratedJointAccel, singularValues, validateArm } from "./index.ts";
 
 const DEG = Math.PI / 180;
 
@@ -40,6 +40,17 @@ describe("demoArms", () => {
       });
       const n = d.model.joints.length;
       expect(singularValues(geometricJacobian(d.model, d.readyPose), 6, n)[5]).toBeGreaterThan(0.1);
+    }
+  });
+
+  it("gives every joint of both arms an explicit rated acceleration of 4 × its rated speed per second", () => {
+    // Our choice for the invented arms (demo-arms.ts; common practice, no source): rated speed in 0.25 s.
+    for (const d of demoArms) {
+      for (const j of d.model.joints) {
+        expect(j.maxAccel).toBeDefined();
+        expect(j.maxAccel).toBeCloseTo(4 * j.maxSpeed!, 12);
+        expect(ratedJointAccel(j)).toBe(j.maxAccel);
+      }
     }
   });
 });

@@ -1,7 +1,10 @@
 /**
  * Demo arms of the invented scenario (PRODUCT.md "Demo scenario"): a recycling plant dismantles damaged
  * electric-vehicle battery packs inside a shielded cell. SI units: DH lengths in m, angles and limits in
- * rad, speeds in rad/s; degree values below are converted once here.
+ * rad, speeds in rad/s, accelerations in rad/s²; degree values below are converted once here.
+ * Rated accelerations (maxAccel) are our own choice, not a datasheet: 4 × the rated speed per second, so
+ * each joint reaches its rated speed from rest in 0.25 s (common practice, no source; the same rule as
+ * DEFAULT_ACCEL_PER_SPEED_PER_S, written out so the arm data carry them explicitly).
  */
 
 import type { ArmModel } from "./arm.ts";
@@ -33,12 +36,12 @@ const cellArm6: DemoArm = {
   model: {
     convention: "standard",
     joints: [
-      { type: "revolute", a: 0.075, alpha: -PI / 2, d: 0.445, theta: 0, min: -170 * DEG, max: 170 * DEG, maxSpeed: 150 * DEG },
-      { type: "revolute", a: 0.4, alpha: 0, d: 0, theta: -PI / 2, min: -100 * DEG, max: 145 * DEG, maxSpeed: 150 * DEG },
-      { type: "revolute", a: 0.035, alpha: -PI / 2, d: 0, theta: 0, min: -155 * DEG, max: 150 * DEG, maxSpeed: 190 * DEG },
-      { type: "revolute", a: 0, alpha: PI / 2, d: 0.42, theta: 0, min: -185 * DEG, max: 185 * DEG, maxSpeed: 300 * DEG },
-      { type: "revolute", a: 0, alpha: -PI / 2, d: 0, theta: 0, min: -120 * DEG, max: 120 * DEG, maxSpeed: 300 * DEG },
-      { type: "revolute", a: 0, alpha: 0, d: 0.09, theta: 0, min: -350 * DEG, max: 350 * DEG, maxSpeed: 450 * DEG },
+      { type: "revolute", a: 0.075, alpha: -PI / 2, d: 0.445, theta: 0, min: -170 * DEG, max: 170 * DEG, maxSpeed: 150 * DEG, maxAccel: 600 * DEG },
+      { type: "revolute", a: 0.4, alpha: 0, d: 0, theta: -PI / 2, min: -100 * DEG, max: 145 * DEG, maxSpeed: 150 * DEG, maxAccel: 600 * DEG },
+      { type: "revolute", a: 0.035, alpha: -PI / 2, d: 0, theta: 0, min: -155 * DEG, max: 150 * DEG, maxSpeed: 190 * DEG, maxAccel: 760 * DEG },
+      { type: "revolute", a: 0, alpha: PI / 2, d: 0.42, theta: 0, min: -185 * DEG, max: 185 * DEG, maxSpeed: 300 * DEG, maxAccel: 1200 * DEG },
+      { type: "revolute", a: 0, alpha: -PI / 2, d: 0, theta: 0, min: -120 * DEG, max: 120 * DEG, maxSpeed: 300 * DEG, maxAccel: 1200 * DEG },
+      { type: "revolute", a: 0, alpha: 0, d: 0.09, theta: 0, min: -350 * DEG, max: 350 * DEG, maxSpeed: 450 * DEG, maxAccel: 1800 * DEG },
     ],
     tool: toolAlongZ(0.16),
   },
@@ -58,13 +61,13 @@ const cellArm7: DemoArm = {
   model: {
     convention: "modified",
     joints: [
-      { type: "revolute", alpha: 0, a: 0, d: 0.34, theta: 0, min: -170 * DEG, max: 170 * DEG, maxSpeed: 100 * DEG },
-      { type: "revolute", alpha: -PI / 2, a: 0, d: 0, theta: 0, min: -120 * DEG, max: 120 * DEG, maxSpeed: 100 * DEG },
-      { type: "revolute", alpha: PI / 2, a: 0, d: 0.4, theta: 0, min: -170 * DEG, max: 170 * DEG, maxSpeed: 130 * DEG },
-      { type: "revolute", alpha: PI / 2, a: 0.04, d: 0, theta: 0, min: -135 * DEG, max: 135 * DEG, maxSpeed: 130 * DEG },
-      { type: "revolute", alpha: -PI / 2, a: -0.04, d: 0.39, theta: 0, min: -170 * DEG, max: 170 * DEG, maxSpeed: 180 * DEG },
-      { type: "revolute", alpha: PI / 2, a: 0, d: 0, theta: 0, min: -120 * DEG, max: 120 * DEG, maxSpeed: 180 * DEG },
-      { type: "revolute", alpha: -PI / 2, a: 0, d: 0, theta: 0, min: -175 * DEG, max: 175 * DEG, maxSpeed: 240 * DEG },
+      { type: "revolute", alpha: 0, a: 0, d: 0.34, theta: 0, min: -170 * DEG, max: 170 * DEG, maxSpeed: 100 * DEG, maxAccel: 400 * DEG },
+      { type: "revolute", alpha: -PI / 2, a: 0, d: 0, theta: 0, min: -120 * DEG, max: 120 * DEG, maxSpeed: 100 * DEG, maxAccel: 400 * DEG },
+      { type: "revolute", alpha: PI / 2, a: 0, d: 0.4, theta: 0, min: -170 * DEG, max: 170 * DEG, maxSpeed: 130 * DEG, maxAccel: 520 * DEG },
+      { type: "revolute", alpha: PI / 2, a: 0.04, d: 0, theta: 0, min: -135 * DEG, max: 135 * DEG, maxSpeed: 130 * DEG, maxAccel: 520 * DEG },
+      { type: "revolute", alpha: -PI / 2, a: -0.04, d: 0.39, theta: 0, min: -170 * DEG, max: 170 * DEG, maxSpeed: 180 * DEG, maxAccel: 720 * DEG },
+      { type: "revolute", alpha: PI / 2, a: 0, d: 0, theta: 0, min: -120 * DEG, max: 120 * DEG, maxSpeed: 180 * DEG, maxAccel: 720 * DEG },
+      { type: "revolute", alpha: -PI / 2, a: 0, d: 0, theta: 0, min: -175 * DEG, max: 175 * DEG, maxSpeed: 240 * DEG, maxAccel: 960 * DEG },
     ],
     tool: toolAlongZ(0.2),
   },

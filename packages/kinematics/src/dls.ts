@@ -3,9 +3,9 @@
  *   qdot = Jᵀ (J Jᵀ + λ² I)⁻¹ · twist  =  (Jᵀ J + λ² I)⁻¹ Jᵀ · twist
  * solved with a Cholesky factor of the smaller Gram matrix (rows ≤ cols: J Jᵀ, else Jᵀ J). λ = 0 gives the
  * plain inverse (pseudo-inverse for a full-rank non-square J).
- * Numerical filtering (Maciejewski & Klein 1988, from memory; METHODS.md §2d): damp only the direction x
- * of the smallest singular value: replace λ² I by λ² x xᵀ, giving gain 1/σ_i on the other directions and
- * σ_m/(σ_m² + λ²) on the last.
+ * Numerical filtering (Maciejewski & Klein 1988, from memory; METHODS.md §2d): damp only chosen singular
+ * directions x_j: replace λ² I by Σ_j λ_j² x_j x_jᵀ, giving gain σ_j/(σ_j² + λ_j²) along them and 1/σ_i on the
+ * others (dlsFilteredFromGramInto; the control step damps every direction whose σ is below ε).
  * Units: twist in m/s and rad/s, qdot in rad/s (or m/s for a prismatic joint), λ in the units of σ.
  */
 
@@ -51,20 +51,51 @@ export function dlsFromGramBoxed(
 ): boolean {
   const k = rows <= cols ? rows : cols;
   const lambda = lambdaBox[0]!;
+  if (filterDir) {
+    filterLambda[0] = lambda;
+    return dlsFilteredFromGramInto(J, rows, cols, G, twist, filterDir, filterLambda, 1, L, y, out);
+  }
   const l2 = lambda * lambda;
-  // Add the damping onto G in place, factor, then restore G (so the caller can reuse it).
-  if (filterDir) {
-    for (let i = 0; i < k; i++) for (let j = 0; j < k; j++) G[i * k + j] = G[i * k + j]! + l2 * filterDir[i]! * filterDir[j]!;
-  } else {
-    for (let i = 0; i < k; i++) G[i * k + i] = G[i * k + i]! + l2;
-  }
+  // Add the damping onto G's diagonal in place, factor, then restore G (so the caller can reuse it).
+  for (let i = 0; i < k; i++) G[i * k + i] = G[i * k + i]! + l2;
   const ok = choleskyInto(G, k, L);
-  if (filterDir) {
-    for (let i = 0; i < k; i++) for (let j = 0; j < k; j++) G[i * k + j] = G[i * k + j]! - l2 * filterDir[i]! * filterDir[j]!;
-  } else {
-    for (let i = 0; i < k; i++) G[i * k + i] = G[i * k + i]! - l2;
-  }
+  for (let i = 0; i < k; i++) G[i * k + i] = G[i * k + i]! - l2;
   if (!ok) return false;
+  return dlsSolveWithFactor(J, rows, cols, L, twist, y, out);
+}
+
+const filterLambda = new Float64Array(1);
+
+/**
+ * Numerical filtering along `count` directions (Maciejewski & Klein 1988 damp the smallest one; the
+ * control step damps every direction whose σ is below ε): factors
+ *   F = G + Σ_j λ_j² d_j d_jᵀ,   d_j = dirs[j·k … j·k + k − 1] (unit k-vectors, k = min(rows, cols))
+ * into L (G is only read) and writes qdot = Jᵀ F⁻¹ twist (rows ≤ cols; else F⁻¹ Jᵀ twist) into `out`.
+ * For orthonormal singular directions d_j this gives gain σ_j/(σ_j² + λ_j²) along d_j and 1/σ_i on every
+ * other direction (derived from the SVD form, METHODS.md §2d). L holds the factor afterwards, so the
+ * caller can solve further right-hand sides with dlsSolveWithFactor. False when F is singular to working
+ * precision or the result is not finite. Allocation-free.
+ */
+export function dlsFilteredFromGramInto(
+  J: ArrayLike<number>, rows: number, cols: number, G: ArrayLike<number>, twist: ArrayLike<number>,
+  dirs: ArrayLike<number>, lambdas: ArrayLike<number>, count: number, L: Float64Array, y: Float64Array,
+  out: Float64Array,
+): boolean {
+  const k = rows <= cols ? rows : cols;
+  const kk = k * k;
+  for (let i = 0; i < kk; i++) L[i] = G[i]!;
+  for (let d = 0; d < count; d++) {
+    const l = lambdas[d]!;
+    const l2 = l * l;
+    if (l2 === 0) continue;
+    const o = d * k;
+    for (let i = 0; i < k; i++) {
+      const di = l2 * dirs[o + i]!;
+      for (let j = 0; j < k; j++) L[i * k + j] = L[i * k + j]! + di * dirs[o + j]!;
+    }
+  }
+  // Cholesky in place: each entry of the lower triangle is read before it is overwritten (cholesky.ts).
+  if (!choleskyInto(L, k, L)) return false;
   return dlsSolveWithFactor(J, rows, cols, L, twist, y, out);
 }
 
