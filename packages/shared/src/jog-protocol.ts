@@ -41,7 +41,7 @@ export const jogInputSchema = z.object({
 });
 
 export const jogCommandSchema = z.object({
-  type: z.enum(["estop", "reset-estop", "acknowledge", "ready-pose", "stop"]),
+  type: z.enum(["estop", "reset-estop", "acknowledge", "ready-pose", "stop", "device-changed"]),
 });
 
 export const jogPingSchema = z.object({ type: z.literal("ping"), id: z.number().int().nonnegative(), clientTimeMs: finite });
@@ -56,6 +56,11 @@ export const jogClientMessageSchema = z.discriminatedUnion("type", [
   z.object({ type: z.literal("acknowledge") }),
   z.object({ type: z.literal("ready-pose") }),
   z.object({ type: z.literal("stop") }),
+  /**
+   * The driver's input device appeared, reappeared or was swapped (or the window regained focus): the
+   * enabling control counts again only after it has been seen released (PRODUCT.md step 2).
+   */
+  z.object({ type: z.literal("device-changed") }),
 ]);
 export type JogClientMessage = z.infer<typeof jogClientMessageSchema>;
 export type JogInput = z.infer<typeof jogInputSchema>;
@@ -76,6 +81,40 @@ export const STOP_REASONS = [
 export type StopReason = (typeof STOP_REASONS)[number];
 
 export const BINDING_LIMITS = ["none", "joint-rate", "tcp-linear", "tcp-angular", "joint-limit", "singularity-guard"] as const;
+
+/**
+ * How the arm stops (the motion gate, packages/kinematics motion-gate.ts): a controlled stop when the
+ * enabling control is released, one after the watchdog time without input (its time and distance include
+ * the wait), the singularity guard's stop, and "instant-halt" — the emergency stop in the simulation, joint
+ * rates zero at once. An on-screen or gamepad STOP is not an emergency-stop device in the sense of
+ * ISO 13850, and the simulated halt is not a stop category of IEC 60204-1.
+ */
+export const STOP_KINDS = ["enabling-released", "watchdog", "singularity-guard", "instant-halt"] as const;
+export type StopKind = (typeof STOP_KINDS)[number];
+
+/** Stopping time [s] and TCP path [m] of one kind of stop. */
+export const stopEstimateSchema = z.object({ timeS: finite, distanceM: finite });
+export type StopEstimateFields = z.infer<typeof stopEstimateSchema>;
+
+const noStop = () => ({ timeS: 0, distanceM: 0 });
+
+/** One estimate per stop kind (frames recorded before these fields existed read as zeros). */
+export const stopPredictionsSchema = z.object({
+  "enabling-released": stopEstimateSchema,
+  watchdog: stopEstimateSchema,
+  "singularity-guard": stopEstimateSchema,
+  "instant-halt": stopEstimateSchema,
+});
+export type StopPredictions = z.infer<typeof stopPredictionsSchema>;
+
+/** The active stop (isActive: what remains of it), or while moving the prediction for releasing now. */
+export const stoppingSchema = z.object({
+  kind: z.enum(STOP_KINDS),
+  isActive: z.boolean(),
+  timeS: finite,
+  distanceM: finite,
+});
+export type Stopping = z.infer<typeof stoppingSchema>;
 export const GUARD_STATES = ["off", "clear", "stopped", "backing-out", "acknowledged"] as const;
 
 export const jogSessionInfoSchema = z.object({
@@ -124,6 +163,18 @@ export const jogStateSchema = z.object({
   stopReason: z.enum(STOP_REASONS),
   overridePercent: finite,
   warnings: z.array(z.string()),
+  // The three below came after the first recordings; their defaults let those frames still replay.
+  /** The active stop, or the prediction for releasing the enabling control now (from the latest step). */
+  stopping: stoppingSchema.default(() => ({ kind: "enabling-released" as const, isActive: false, ...noStop() })),
+  /** Stopping time and distance for each kind of stop, predicted from the latest step's motion. */
+  stopPredictions: stopPredictionsSchema.default(() => ({
+    "enabling-released": noStop(), watchdog: noStop(), "singularity-guard": noStop(), "instant-halt": noStop(),
+  })),
+  /**
+   * Peak |q̈_i| per joint over the ticks since the previous frame [rad/s² or m/s² for a prismatic joint],
+   * from successive joint rates; the instant halt (a step by definition) is left out.
+   */
+  jointAccelPeak: z.array(finite).default(() => []),
   /** The last input seq applied, and its client time, for the client's input-to-state latency. */
   lastInputSeq: z.number().int(),
   lastInputClientTimeMs: finite,
@@ -165,7 +216,21 @@ export const recordingSummarySchema = z.object({
   maxJointRateFraction: finite,
   /** How often each stop reason occurred. */
   stops: z.record(z.string(), z.number().int()),
+  // The two below came after the first recordings; their defaults let those summaries still parse.
+  /** Peak |q̈_i| per joint over the session [rad/s² or m/s²], from successive joint rates; instant halts left out. */
+  peakJointAccel: z.array(finite).default(() => []),
+  /**
+   * Completed stops by kind (STOP_KINDS), measured from the trigger to rest (the watchdog's from the last
+   * input): how many, the longest time and TCP path, and the most any one ran beyond its prediction.
+   */
+  stopsMeasured: z
+    .record(
+      z.string(),
+      z.object({ count: z.number().int(), maxTimeS: finite, maxDistanceM: finite, maxExcessDistanceM: finite }),
+    )
+    .default(() => ({})),
 });
+export type RecordingSummary = z.infer<typeof recordingSummarySchema>;
 
 export const recordingSchema = z.object({
   id: z.number().int(),

@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { defaultProfileParams, jogStateSchema, type JogState, type ProfileParams, type User } from "@jogwright/shared";
+import { ratedJointAccel } from "@jogwright/kinematics";
+import { defaultProfileParams, jogStateSchema, type JogState, type ProfileParams, type RecordedFrame, type User } from "@jogwright/shared";
 import { findArm } from "../arms/model.ts";
 import { createProfile, driveableVersionsFor } from "../profiles/service.ts";
 import { listArms } from "../arms/model.ts";
@@ -18,7 +19,8 @@ let officer: { cookie: string };
 let draftVersionId: number;
 let operatorDraftVersionId: number;
 let params: ProfileParams;
-let jointCaps: number[];
+/** The step's joint acceleration limits: the profile's fraction of each joint's rated value [rad/s²]. */
+let jointAccelLimits: number[];
 const DEG = Math.PI / 180;
 
 // The drive-page timing (jog-protocol.ts: inputs at up to 120 Hz, at least every 50 ms): 100 Hz here.
@@ -66,9 +68,15 @@ beforeAll(async () => {
   const arm = (await findArm(h.db, arm6.id))!;
   const base = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
   // No deadband and a linear curve, so axis values map straight onto the caps; 500 Hz, 200 ms watchdog,
-  // 1 m/s² ramp (the defaults' rates).
-  params = { ...base, shaping: { ...base.shaping, deadband: 0, expo: 0 }, speedOverride: { defaultPercent: 40, maxPercent: 100 } };
-  jointCaps = params.jointRateCapsRadPerS.map((c, i) => Math.min(c, arm.model.joints[i]!.maxSpeed!));
+  // 1 m/s² ramp (the defaults' rates). Damp-through, so the wrist passage below goes through (the
+  // default stop-before guard would hold before it).
+  params = {
+    ...base,
+    shaping: { ...base.shaping, deadband: 0, expo: 0 },
+    speedOverride: { defaultPercent: 40, maxPercent: 100 },
+    guard: { ...base.guard, policy: "damp-through" },
+  };
+  jointAccelLimits = arm.model.joints.map((j) => ratedJointAccel(j) * params.jointAccelFraction);
   const stamp = Date.now().toString(36);
   const profile = await createProfile(h.ctx, engineer.user, { name: `jog test ${stamp}`, operatorId: operator.user.id, armId: arm.id, params, note: "" });
   draftVersionId = profile.latestVersion.id;
@@ -130,6 +138,47 @@ describe("who may drive", () => {
 });
 
 describe("jogging", () => {
+  it("a session whose enabling control is already held at the start does not move until it is released and pressed", async () => {
+    // Issue 8: the server armed the enabling control at session start, so a held (or stuck) control moved
+    // the arm. Now it counts only after the server has seen it released (PRODUCT.md step 2).
+    const c = await startDriving(engineer.cookie, draftVersionId);
+    c.input = { ...c.input, enabling: true, axes: [0, 0, 1, 0, 0, 0] };
+    c.stream(INPUT_PERIOD_MS);
+    await sleep(300);
+    const held = await c.nextState();
+    expect(held.enabled).toBe(false);
+    expect(held.qdot.every((v) => v === 0)).toBe(true);
+    expect(held.warnings.join(" ")).toMatch(/Release and press the enabling control again to move/);
+    c.stopStream();
+    await holdEnabling(c, [0, 0, 1, 0, 0, 0]); // released, then pressed
+    await c.nextState((s) => s.enabled && s.qdot.some((v) => v !== 0), 2000);
+    await c.close();
+  });
+
+  it("after the driver's device reappears (device-changed), a still-held enabling control stops the arm and counts only after a release", async () => {
+    // Issue 8 / PRODUCT.md step 2: the enabling control counts only after it has been seen released, also
+    // after a device reconnects. The console sends device-changed when a gamepad appears or the window
+    // regains focus; the held control then makes a controlled stop, and pressing on without a release
+    // never moves the arm again.
+    const c = await startDriving(engineer.cookie, draftVersionId);
+    await holdEnabling(c, [0, 0, 1, 0, 0, 0]);
+    await c.nextState((s) => s.enabled && s.qdot.some((v) => v !== 0), 2000);
+    c.send({ type: "device-changed" });
+    const stopped = await c.nextState((s) => !s.enabled && s.qdot.every((v) => v === 0), 3000);
+    expect(stopped.warnings.join(" ")).toMatch(/Release and press the enabling control again to move/);
+    // Still held for another 300 ms: nothing moves.
+    const from = c.messages.length;
+    await sleep(300);
+    for (const f of c.statesSince(from).map((x) => x.state)) {
+      expect(f.enabled).toBe(false);
+      expect(f.qdot.every((v) => v === 0)).toBe(true);
+    }
+    c.stopStream();
+    await holdEnabling(c, [0, 0, 1, 0, 0, 0]); // released, then pressed
+    await c.nextState((s) => s.enabled && s.qdot.some((v) => v !== 0), 2000);
+    await c.close();
+  });
+
   it("+z in the world frame with the enabling control held moves the TCP along +z at the commanded speed within 2 %", async () => {
     const c = await startDriving(engineer.cookie, draftVersionId);
     // Commanded: axis 1.0 × 250 mm/s cap × 40 % override = 0.1 m/s (profile params, derived).
@@ -160,10 +209,16 @@ describe("jogging", () => {
     await c.close();
   });
 
-  it("releasing the enabling control stops within the ramp time", async () => {
+  it("releasing the enabling control stops within the ramp time the frames predicted", async () => {
     const c = await startDriving(engineer.cookie, draftVersionId);
     await holdEnabling(c, [0, 0, 1, 0, 0, 0]);
     await sleep(400);
+    // While moving at 0.1 m/s the frames predict the stop on release: T = v/a = 0.1 s, v·T/2 = 5 mm (the
+    // TCP deceleration binds: the joint rates are far below a_i·T; derived).
+    const moving = await c.nextState();
+    expect(moving.stopping).toMatchObject({ kind: "enabling-released", isActive: false });
+    expect(moving.stopping.timeS).toBeCloseTo(0.1, 3);
+    expect(moving.stopping.distanceM).toBeCloseTo(0.005, 4);
     c.stopStream();
     c.input = { ...c.input, enabling: false };
     const releasedAt = performance.now();
@@ -171,8 +226,8 @@ describe("jogging", () => {
     c.stream(INPUT_PERIOD_MS); // keep streaming "released"
     const stopped = await c.nextState((s) => isAtRest(s) && s.stopReason === "enabling-released", 2000);
     const arrival = c.messages[c.messages.length - 1]!.at;
-    // Ramp time = v/a = 0.1 m/s / 1 m/s² = 100 ms (controlled stop at the slew limit, derived), plus one
-    // frame period (1/60 s) for the frame that shows it.
+    // Ramp time = v/a = 0.1 m/s / 1 m/s² = 100 ms (the achieved motion ramped at the TCP deceleration,
+    // derived), plus one frame period (1/60 s) for the frame that shows it.
     expect(arrival - releasedAt).toBeLessThanOrEqual(100 + 1000 / 60 + SLACK_MS);
     expect(stopped.twistAchieved.every((v) => v === 0)).toBe(true);
     // And it stays put: the TCP does not move afterwards.
@@ -233,11 +288,14 @@ describe("jogging", () => {
     c.send({ type: "estop" });
     c.send({ type: "ping", id: 1, clientTimeMs: 0 });
     await c.next((m) => m.type === "pong");
-    // Every frame after the e-stop was handled: rates exactly 0 (stop category 0, IEC 60204-1 9.2.2; no ramp).
+    // Every frame after the e-stop was handled: rates exactly 0 — the simulation's instant halt, no ramp
+    // (a simulated behaviour, not an emergency-stop function: an on-screen or gamepad STOP is not an
+    // emergency-stop device in the sense of ISO 13850).
     const after = await c.nextState();
     expect(after.estopLatched).toBe(true);
     expect(after.qdot).toEqual(after.qdot.map(() => 0));
     expect(after.stopReason).toBe("emergency-stop");
+    expect(after.stopping).toMatchObject({ kind: "instant-halt", isActive: true, timeS: 0, distanceM: 0 });
     const q0 = after.q;
     // Still holding the enabling control with the stick deflected: latched, nothing moves.
     await sleep(200);
@@ -293,32 +351,91 @@ describe("jogging", () => {
     await c.close();
   });
 
-  it("through the wrist-aligned pose (joint 5 through 0) with singular-value damping the joint rates stay under their caps", async () => {
+  it("through the wrist-aligned pose (joint 5 through 0), damped: on the commanded line, little lag, no joint above its acceleration limit", async () => {
     const c = await startDriving(engineer.cookie, draftVersionId);
-    // Joint jog to q4 ≈ 40°, q5 ≈ 12° from the ready pose (0, −20, 30, 0, 50, 0)°, so the wrist approaches
-    // q5 = 0 with q4 ≠ 0 (the singular direction is excited; PRODUCT.md spherical-wrist check value).
-    c.input = { ...c.input, overridePercent: 40 };
+    // Joint jog to q4 ≈ 40°, q5 ≈ 10° from the ready pose (0, −20, 30, 0, 50, 0)°, so the wrist approaches
+    // q5 = 0 with q4 ≠ 0 (the singular direction is excited; PRODUCT.md spherical-wrist check value). At 20 %
+    // the controlled stop after it carries the wrist ~3° further (v·T/2 at the TCP angular deceleration).
+    c.input = { ...c.input, overridePercent: 20 };
     await holdEnabling(c, [0, 0, 0, 1, -1, 0], "joint");
-    await c.nextState((s) => s.q[4]! <= 14 * DEG || s.q[3]! >= 40 * DEG, 5000);
+    await c.nextState((s) => s.q[4]! <= 8 * DEG || s.q[3]! >= 40 * DEG, 5000);
     c.stopStream();
     c.input = { ...c.input, enabling: false, axes: [0, 0, 0, 0, 0, 0] };
     c.sendInput();
     await c.nextState(isAtRest, 2000);
     const start = await c.nextState();
-    // Then a Cartesian move (+y, −z in the world frame) that drives q5 through 0 (found numerically, derived).
-    const from = c.messages.length;
+    expect(start.q[4]!).toBeGreaterThan(0);
+    // Then a Cartesian move (+y, −z in the world frame) that drives q5 through 0 (found numerically, derived):
+    // axes 0.4 × 250 mm/s × 100 % = (0, 0.1, −0.1) m/s.
     c.input = { ...c.input, mode: "cartesian", frame: "world", overridePercent: 100 };
     await holdEnabling(c, [0, 0.4, -0.4, 0, 0, 0]);
     await c.nextState((s) => s.q[4]! < -10 * DEG, 8000);
     c.stopStream();
-    const frames = c.statesSince(from).map((f) => f.state);
-    expect(start.q[4]!).toBeGreaterThan(0);
-    expect(frames.some((s) => s.q[4]! < 0)).toBe(true); // passed through q5 = 0
+    c.input = { ...c.input, enabling: false, axes: [0, 0, 0, 0, 0, 0] };
+    c.sendInput();
+    await c.nextState(isAtRest, 2000);
+    c.send({ type: "stop" });
+    const ended = await c.next((m) => m.type === "ended");
+    const recordingId = ended.type === "ended" ? ended.recordingId! : 0;
+    await net.jog.hub.writer.drain();
+    // Every frame the simulation built (the recording skips none, the socket may), in time order.
+    const all = (await call(h, "get", `/api/recordings/${recordingId}`, engineer.cookie)).body.frames as RecordedFrame[];
+    const i0 = all.findIndex((f) => f.t >= start.t);
+    const cartesian = all.slice(i0);
+    const first = cartesian.findIndex((f) => Math.hypot(...f.twistCommanded.slice(0, 3)) > 0);
+    const last = cartesian.findIndex((f) => f.q[4]! < -10 * DEG);
+    expect(first).toBeGreaterThan(0);
+    expect(last).toBeGreaterThan(first);
+    const frames = cartesian.slice(first, last + 1);
     // The passage used the damping (λ > 0 inside σ_min < ε; Chiaverini, Siciliano & Egeland 1994).
     expect(Math.max(...frames.map((s) => s.lambda))).toBeGreaterThan(0);
     expect(Math.min(...frames.map((s) => s.sigmaMin))).toBeLessThan(0.04);
-    // |qdot_i| ≤ cap_i on every frame (uniform cap scaling, PRODUCT.md step 6; 1e-9 relative for rounding).
-    for (const s of frames) s.qdot.forEach((v, i) => expect(Math.abs(v)).toBeLessThanOrEqual(jointCaps[i]! * (1 + 1e-9)));
+
+    // Reference, computed here: the commanded straight line from the TCP at rest, p0 + d·s(t), with the
+    // speed slewed up at a = 1 m/s² to v = |(0, 0.1, −0.1)| m/s (PRODUCT.md step 1; derived). The press
+    // time is read off the first moving frame's commanded speed (t_press = t − |v_cmd|/a, the slew ramp).
+    const rest = cartesian[first - 1]!;
+    const p0 = [rest.pose[3]!, rest.pose[7]!, rest.pose[11]!];
+    const v = Math.hypot(0.1, 0.1), a = params.shaping.linearAccelMPerS2;
+    const d = [0, 0.1 / v, -0.1 / v];
+    const tPress = frames[0]!.t - Math.hypot(...frames[0]!.twistCommanded.slice(0, 3)) / a;
+    const sRef = (t: number) => {
+      const tr = v / a, u = Math.max(0, t - tPress);
+      return u < tr ? 0.5 * a * u * u : 0.5 * a * tr * tr + v * (u - tr);
+    };
+    let maxDeviation = 0, maxLag = 0, maxLead = 0;
+    for (const f of frames) {
+      const dp = [f.pose[3]! - p0[0]!, f.pose[7]! - p0[1]!, f.pose[11]! - p0[2]!];
+      const along = dp[0]! * d[0]! + dp[1]! * d[1]! + dp[2]! * d[2]!;
+      maxDeviation = Math.max(maxDeviation, Math.hypot(dp[0]! - along * d[0]!, dp[1]! - along * d[1]!, dp[2]! - along * d[2]!));
+      maxLag = Math.max(maxLag, sRef(f.t) - along);
+      maxLead = Math.max(maxLead, along - sRef(f.t));
+    }
+    // Path deviation from the commanded line. Damping refuses the part of the twist along the singular
+    // direction, which at a wrist singularity with a 250 mm TCP offset includes TCP translation, and with
+    // drift correction off the offset stays. Measured in the simulation for this passage: 2.8 mm from an
+    // entry at q5 = 7.2° (0.6 mm from 4.4°, 9 mm from 11°: it grows with the entry angle, which here varies by
+    // about half a degree with the frame timing). Bound 5 mm: regression bound, our choice, no source.
+    expect(maxDeviation).toBeLessThan(0.005);
+    // Lag behind the commanded position: measured 1.8 mm; bound 5 mm (regression bound, our choice, no
+    // source), and never ahead of it by more than the Euler drift of a few ticks (0.5 mm: derived, v·dt =
+    // 0.28 mm).
+    expect(maxLag).toBeLessThan(0.005);
+    expect(maxLead).toBeLessThan(0.0005);
+
+    // Peak joint acceleration. (1) The server's per-tick peak in each frame stays within the step's limit
+    // (50 % of the rated 4 × maxSpeed; profile default and arm default, common practice, no source).
+    // (2) Independently, from successive frames: |Δq̇|/Δt over a frame interval is an average, so it can
+    // exceed neither the limit nor the per-tick peaks reported for the ticks in that interval (derived).
+    for (const f of frames) f.jointAccelPeak.forEach((x, i) => expect(x).toBeLessThanOrEqual(jointAccelLimits[i]! * (1 + 1e-9)));
+    for (let k = 1; k < frames.length; k++) {
+      const f0 = frames[k - 1]!, f1 = frames[k]!;
+      f1.qdot.forEach((q, i) => {
+        const average = Math.abs(q - f0.qdot[i]!) / (f1.t - f0.t);
+        expect(average).toBeLessThanOrEqual(jointAccelLimits[i]! * (1 + 1e-9));
+        expect(average).toBeLessThanOrEqual(f1.jointAccelPeak[i]! * (1 + 1e-9) + 1e-9);
+      });
+    }
     await c.close();
   });
 });
@@ -378,6 +495,9 @@ describe("watching and the REST routes around live jogging", () => {
     await holdEnabling(c, [0, 0, 1, 0, 0, 0]);
     await sleep(500);
     c.stopStream();
+    c.input = { ...c.input, enabling: false, axes: [0, 0, 0, 0, 0, 0] };
+    c.sendInput();
+    await c.nextState(isAtRest, 2000);
     c.send({ type: "stop" });
     const ended = await c.next((m) => m.type === "ended");
     expect(ended).toMatchObject({ type: "ended", reason: "stopped" });
@@ -390,6 +510,15 @@ describe("watching and the REST routes around live jogging", () => {
     expect(res.body.frames.length).toBeGreaterThan(20);
     expect(res.body.recording.summary.frames).toBe(res.body.frames.length);
     expect(res.body.recording.summary.maxTcpSpeedMPerS).toBeGreaterThan(0.09);
+    // Peak |q̈| per joint, within the step's limits (profile fraction of the rated acceleration).
+    const summary = res.body.recording.summary;
+    expect(summary.peakJointAccel).toHaveLength(6);
+    summary.peakJointAccel.forEach((x: number, i: number) => expect(x).toBeLessThanOrEqual(jointAccelLimits[i]! * (1 + 1e-9)));
+    // The release stop, measured: from 0.1 m/s at 1 m/s², ≤ v/a + dt and v²/2a + v·dt (derived).
+    const released = summary.stopsMeasured["enabling-released"];
+    expect(released.count).toBe(1);
+    expect(released.maxTimeS).toBeLessThanOrEqual(0.1 + 0.002);
+    expect(released.maxDistanceM).toBeLessThanOrEqual(0.005 + 0.1 * 0.002);
     expect(res.body.frames[res.body.frames.length - 1].stopReason).toBe("session-ended");
     // Operators see only their own; this one is not theirs.
     expect((await call(h, "get", `/api/recordings/${recordingId}`, operator.cookie)).status).toBe(404);

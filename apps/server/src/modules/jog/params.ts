@@ -1,4 +1,4 @@
-import type { ControlParams } from "@jogwright/kinematics";
+import { ratedJointAccel, type ArmModel, type ControlParams } from "@jogwright/kinematics";
 import type { ProfileParams } from "@jogwright/shared";
 
 /**
@@ -8,7 +8,30 @@ import type { ProfileParams } from "@jogwright/shared";
  */
 export const GUARD_RELEASE_FACTOR = 1.5;
 
-export function toControlParams(p: ProfileParams, jointCount: number): ControlParams {
+/**
+ * The profile defaults for fields that older stored versions may lack (the shared schema fills them in when
+ * it parses; these cover a ProfileParams object built without the schema). Same values as the schema's.
+ */
+const DEFAULT_JOINT_ACCEL_FRACTION = 0.5;
+const DEFAULT_DRIFT_REANCHOR_M = 0.005;
+
+/**
+ * Re-anchor the orientation when its error exceeds ~0.05 rad (common practice, no source): a large error
+ * means the arm was held back by a cap or limit, and pulling it back later would be unexpected motion.
+ */
+const DRIFT_REANCHOR_ORIENTATION = 0.05;
+
+/**
+ * Per joint: the profile's fraction of the joint's rated acceleration (the arm's maxAccel, or its default,
+ * ratedJointAccel) [rad/s² or m/s²]; Infinity for a joint with neither maxAccel nor maxSpeed.
+ */
+export function jointAccelLimits(p: ProfileParams, arm: ArmModel): Float64Array {
+  const fraction = p.jointAccelFraction ?? DEFAULT_JOINT_ACCEL_FRACTION;
+  return Float64Array.from(arm.joints, (j) => ratedJointAccel(j) * fraction);
+}
+
+export function toControlParams(p: ProfileParams, arm: ArmModel): ControlParams {
+  const jointCount = arm.joints.length;
   const damping: ControlParams["damping"] =
     p.damping.kind === "fixed"
       ? { kind: "fixed", lambda: p.damping.lambdaM }
@@ -19,6 +42,7 @@ export function toControlParams(p: ProfileParams, jointCount: number): ControlPa
   const caps = new Float64Array(jointCount).fill(Infinity);
   for (let i = 0; i < jointCount && i < p.jointRateCapsRadPerS.length; i++) caps[i] = p.jointRateCapsRadPerS[i]!;
   const gain = p.driftCorrectionGainPerS;
+  const nullSpace = p.nullSpace;
   return {
     damping,
     dampSmallestOnly: p.dampSmallestOnly,
@@ -28,9 +52,13 @@ export function toControlParams(p: ProfileParams, jointCount: number): ControlPa
     jointLimitMargin: p.jointLimitMarginRad,
     jointLimitSlowZone: p.jointLimitSlowZoneRad,
     guard: { policy: p.guard.policy, sigmaStop: p.guard.sigmaStopM, releaseFactor: GUARD_RELEASE_FACTOR },
-    // Re-anchor when the error grows past 5 mm / ~0.05 rad (common practice, no source): a large error
-    // means the arm was held by a cap or limit, and pulling it back later would be unexpected motion.
-    driftCorrection: gain > 0 ? { gain, maxPositionError: 0.005, maxOrientationError: 0.05 } : null,
+    driftCorrection:
+      gain > 0
+        ? { gain, maxPositionError: p.driftReanchorM ?? DEFAULT_DRIFT_REANCHOR_M, maxOrientationError: DRIFT_REANCHOR_ORIENTATION }
+        : null,
+    jointAccelLimits: jointAccelLimits(p, arm),
+    // The null-space term needs redundancy: only arms with more than six joints (Liégeois 1977).
+    nullSpace: nullSpace?.enabled && jointCount > 6 ? { gain: nullSpace.gainPerS } : null,
     twistFrame: "world",
   };
 }

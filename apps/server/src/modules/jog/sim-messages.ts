@@ -27,7 +27,12 @@ export const INPUT_HEADER = 8;
 /** One message main → worker: a batch, in the order sent. */
 export type ToWorkerBatch = (ToWorker | Float64Array)[];
 
-export type SessionCommand = "estop" | "reset-estop" | "acknowledge" | "ready-pose" | "dropped";
+/**
+ * "require-release": the enabling control must be seen released before motion (the driver's input device
+ * reconnected); a moving arm makes a controlled stop. The simulation's create message carries
+ * SimulationSetup.estopLatched for a session that starts with its station's latch set.
+ */
+export type SessionCommand = "estop" | "reset-estop" | "acknowledge" | "ready-pose" | "dropped" | "require-release";
 
 export type ToWorker =
   | { t: "create"; key: number; sessionId: string; setup: SimulationSetup; framePeriodMs: number }

@@ -59,8 +59,9 @@ class WorkerSession implements ScheduledClient {
     this.prefix = `{"type":"state","sessionId":"${sessionId}",`;
   }
 
-  runTick(nowMs: number, stalledMs: number): void {
-    this.sim.tick(nowMs, stalledMs);
+  runTick(_nowMs: number, stalledMs: number): void {
+    // The simulation's time is its tick counter (the motion gate's watchdog counts ticks, stalls excused).
+    this.sim.tick(stalledMs);
   }
 
   noteOverrun(skipped: number): void {
@@ -115,6 +116,8 @@ function handle(msg: ToWorker, nowMs: number): void {
           return sim.resetEstop();
         case "acknowledge":
           return sim.acknowledge();
+        case "require-release":
+          return sim.requireRelease("the input device reconnected");
         case "dropped":
           sim.noteDroppedInput();
           return;
@@ -182,7 +185,7 @@ function handle(msg: ToWorker, nowMs: number): void {
 }
 
 /** A run of inputs (layout in sim-messages.ts), validated by the main thread (schema and axis count). */
-function applyInputs(a: Float64Array, nowMs: number): void {
+function applyInputs(a: Float64Array): void {
   let i = 0;
   while (i + INPUT_HEADER <= a.length) {
     const count = a[i + 7]!;
@@ -190,7 +193,7 @@ function applyInputs(a: Float64Array, nowMs: number): void {
     const mode = a[i + 4] === 1 ? "joint" : "cartesian";
     // The axis count was checked on the main thread; checked again so a mismatch can never index past the axes.
     if (s && count === (mode === "joint" ? s.sim.n : 6)) {
-      s.sim.applyInputValues(a[i + 1]!, a[i + 2]!, a[i + 3] === 1, mode, a[i + 5] === 1 ? "tool" : "world", a[i + 6]!, a, i + INPUT_HEADER, nowMs);
+      s.sim.applyInputValues(a[i + 1]!, a[i + 2]!, a[i + 3] === 1, mode, a[i + 5] === 1 ? "tool" : "world", a[i + 6]!, a, i + INPUT_HEADER);
     }
     i += INPUT_HEADER + count;
   }
@@ -221,7 +224,7 @@ function drainInbox(): void {
     const now = performance.now();
     for (let i = 0; i < batch.length; i++) {
       const item = batch[i]!;
-      if (item instanceof Float64Array) applyInputs(item, now);
+      if (item instanceof Float64Array) applyInputs(item);
       else handle(item, now);
     }
   }

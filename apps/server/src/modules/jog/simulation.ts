@@ -1,29 +1,25 @@
 import {
-  controlStep, createControlReport, createControlState, createControlWorkspace, forwardPoseInto, jointJogStep,
-  setJointPositions,
+  MotionGate, STOP_KINDS, controlStep, createControlReport, createControlState, createControlWorkspace,
+  forwardPoseInto, jointJogStep, setJointPositions,
   type ArmModel, type ControlParams, type ControlState, type ControlStepReport, type ControlWorkspace,
 } from "@jogwright/kinematics";
-import type { JogInput, ProfileParams, StopReason } from "@jogwright/shared";
+import type { JogInput, ProfileParams, RecordingSummary, StopReason } from "@jogwright/shared";
 import { toControlParams } from "./params.ts";
-import { shapeAxis, slewVector3 } from "./shaping.ts";
 
 /**
- * One jog session's simulated arm: input shaping and gating (PRODUCT.md "The control step", steps 1–2)
- * around the kinematics engine's control step (steps 3–8). Lives on the simulation thread (sim-worker.ts).
- * SI units inside (m, rad, s); times from the scheduler in ms (that thread's performance.now clock). The tick path (tick) does not allocate: every buffer is made
- * here once; the JSON frame is built only at frame rate (frameJson).
+ * One jog session's simulated arm: the motion gate (packages/kinematics motion-gate.ts — shaping, enabling,
+ * watchdog, emergency-stop latch, controlled stops; PRODUCT.md "The control step", steps 1–2) in front of
+ * the kinematics engine's control step (steps 3–8), plus the state frames and the recording's summary.
+ * Lives on the simulation thread (sim-worker.ts). SI units inside (m, rad, s). Time is the tick counter
+ * (dt = 1/tickRateHz): the gate's watchdog counts ticks, so a tick the scheduler skipped is not silence.
+ * The tick path (tick) does not allocate: every buffer is made here once; the JSON frame is built only
+ * at frame rate (frameBody).
  *
- * Gating rules (ISO 13850:2015 principle, from memory; METHODS.md §7):
- * - motion needs the enabling control held AND armed; after a watchdog stop and after an e-stop (and its
- *   reset) it is re-armed only by an input with the control released, so the operator must release and
- *   press again (a reset alone never restarts motion);
- * - enabling released or watchdog → the commanded twist ramps to zero at the profile's acceleration
- *   limits (controlled stop);
- * - emergency stop → joint rates zero at once (when the simulation thread receives it: the main thread wakes
- *   it for it, so not at the next tick), latched until a deliberate reset-estop.
+ * The emergency stop is the simulation's "instant halt": joint rates zero at once (when the simulation
+ * thread receives it — the main thread wakes it for it — not at the next tick), latched until a deliberate
+ * reset. It is not an emergency-stop function: an on-screen or gamepad STOP is not an emergency-stop device
+ * in the sense of ISO 13850, and a browser and a network path are never part of a safety function.
  */
-
-const MAX_AXES = 12;
 
 export interface SimulationSetup {
   arm: ArmModel;
@@ -31,6 +27,8 @@ export interface SimulationSetup {
   params: ProfileParams;
   /** Start here instead of the ready pose (e.g. when switching versions on the same arm). */
   q0?: ArrayLike<number>;
+  /** Start with the emergency stop latched (the operator's station is latched; set by the hub). */
+  estopLatched?: boolean;
 }
 
 export type InputResult = { ok: true } | { ok: false; code: string; message: string };
@@ -47,14 +45,10 @@ export function checkInputAxes(input: JogInput, jointCount: number): InputResult
   };
 }
 
-export interface SimulationSummary {
-  durationS: number;
-  frames: number;
-  maxTcpSpeedMPerS: number;
-  minSigma: number;
-  maxJointRateFraction: number;
-  stops: Record<string, number>;
-}
+/** The recording's summary (recordingSummarySchema): SI, names with units. */
+export type SimulationSummary = RecordingSummary;
+
+type StopMeasure = SimulationSummary["stopsMeasured"][string];
 
 export class JogSimulation {
   readonly n: number;
@@ -62,6 +56,7 @@ export class JogSimulation {
   readonly tickRateHz: number;
   readonly profile: ProfileParams;
   readonly readyPose: Float64Array;
+  readonly gate: MotionGate;
   private readonly ws: ControlWorkspace;
   readonly state: ControlState;
   readonly report: ControlStepReport;
@@ -71,43 +66,20 @@ export class JogSimulation {
   private readonly holdParams: ControlParams;
   /** Effective joint caps (profile cap and arm maxSpeed, the smaller), rad/s or m/s. */
   readonly jointCaps: Float64Array;
-  private readonly jointAccel: Float64Array;
+  /** Joint acceleration limits (profile fraction of the rated value), rad/s² or m/s²: step and gate. */
+  readonly jointAccel: Float64Array;
   private readonly zeroTwist = new Float64Array(6);
   private readonly poseScratch = new Float64Array(16);
-  private readonly zeroJoints: Float64Array;
+  private isMeasuredAtRest = false;
 
-  // Latest input (raw, validated).
-  private readonly rawAxes = new Float64Array(MAX_AXES);
-  private inputMode: "cartesian" | "joint" = "cartesian";
-  private inputFrame: "world" | "tool" = "world";
   overridePercent: number;
-  private isEnablingHeld = false;
-  /**
-   * Armed at session start (starting a session is itself a deliberate command, and a client that sends
-   * inputs only while something is held must be able to move with its first press); disarmed by a watchdog
-   * stop and an e-stop, re-armed by an input with the enabling control released.
-   */
-  private isEnableArmed = true;
-  private lastInputAtMs = -Infinity;
-  /** The scheduler's stall total as of the latest tick, and as of the last input (see tick). */
+  /** The scheduler's stall total as of the latest tick (see tick). */
   private stalledMs = 0;
-  private stalledAtInputMs = 0;
+  private readonly tickPeriodMs: number;
   lastInputSeq = -1;
   lastInputClientTimeMs = 0;
 
-  // Command after shaping, gating and slew limits.
-  private readonly target = new Float64Array(MAX_AXES);
-  private readonly cmdTwist = new Float64Array(6);
-  private readonly cmdJoints: Float64Array;
-  private cmdMode: "cartesian" | "joint" = "cartesian";
-  private cmdFrame: "world" | "tool" = "world";
-  private isCommandZero = true;
-  private isMeasuredAtRest = false;
-
-  isEnabled = false;
-  isEstopLatched = false;
-  private isWatchdogTripped = false;
-  stopReason: StopReason = "enabling-released";
+  stopReason: StopReason;
   private lastFault: string = "none";
   private faultTicks = 0;
   /** Ticks skipped because the scheduler fell too far behind (overruns). */
@@ -117,12 +89,22 @@ export class JogSimulation {
   private lastDropWarnAtTick = -Infinity;
 
   ticks = 0;
+  // Joint accelerations from successive joint rates: q̇ of the previous tick, the peak since the last
+  // frame and over the session (rad/s² or m/s²).
+  private readonly qdotPrev: Float64Array;
+  private readonly accelPeakFrame: Float64Array;
+  private readonly accelPeakSession: Float64Array;
   // Summary statistics for the recording.
   frames = 0;
   private maxTcpSpeed = 0;
   private minSigma = Infinity;
   private maxJointRateFraction = 0;
   private readonly stopCounts: Record<string, number> = {};
+  /** Per stop kind, made once (no allocation when a stop completes); only kinds that occurred are reported. */
+  private readonly stopsMeasured: Record<string, StopMeasure> = Object.fromEntries(
+    STOP_KINDS.map((kind) => [kind, { count: 0, maxTimeS: 0, maxDistanceM: 0, maxExcessDistanceM: 0 }]),
+  );
+  private stopsSeen = 0;
 
   constructor(setup: SimulationSetup) {
     const { arm, params } = setup;
@@ -134,22 +116,38 @@ export class JogSimulation {
     this.report = createControlReport();
     this.tickRateHz = params.tickRateHz;
     this.dt = 1 / params.tickRateHz;
-    this.worldParams = toControlParams(params, this.n);
+    this.tickPeriodMs = 1000 / params.tickRateHz;
+    this.worldParams = toControlParams(params, arm);
     this.toolParams = { ...this.worldParams, twistFrame: "tool" };
     this.holdParams = { ...this.worldParams, driftCorrection: null };
     this.overridePercent = Math.min(params.speedOverride.defaultPercent, params.speedOverride.maxPercent);
     this.jointCaps = new Float64Array(this.n);
-    this.jointAccel = new Float64Array(this.n);
-    this.cmdJoints = new Float64Array(this.n);
-    this.zeroJoints = new Float64Array(this.n);
     for (let i = 0; i < this.n; i++) {
-      const j = arm.joints[i]!;
       const cap = params.jointRateCapsRadPerS[i] ?? Infinity;
-      this.jointCaps[i] = Math.min(cap, j.maxSpeed ?? Infinity);
-      // Joint jog ramps with the angular limit (linear for a prismatic joint): the profile has no
-      // per-joint acceleration, so the Cartesian limits stand in (our choice, documented).
-      this.jointAccel[i] = j.type === "prismatic" ? params.shaping.linearAccelMPerS2 : params.shaping.angularAccelRadPerS2;
+      this.jointCaps[i] = Math.min(cap, arm.joints[i]!.maxSpeed ?? Infinity);
     }
+    this.jointAccel = Float64Array.from(this.worldParams.jointAccelLimits ?? new Float64Array(this.n).fill(Infinity));
+    this.qdotPrev = new Float64Array(this.n);
+    this.accelPeakFrame = new Float64Array(this.n);
+    this.accelPeakSession = new Float64Array(this.n);
+    this.gate = new MotionGate({
+      jointCount: this.n,
+      tickRateHz: params.tickRateHz,
+      watchdog: params.watchdogMs / 1000,
+      deadband: params.shaping.deadband,
+      expo: params.shaping.expo,
+      tcpLinearCap: params.tcpLinearCapMPerS,
+      tcpAngularCap: params.tcpAngularCapRadPerS,
+      jointRateCaps: this.jointCaps,
+      maxOverride: params.speedOverride.maxPercent / 100,
+      initialOverride: this.overridePercent / 100,
+      linearAccel: params.shaping.linearAccelMPerS2,
+      angularAccel: params.shaping.angularAccelRadPerS2,
+      jointAccel: this.jointAccel,
+      estopLatched: setup.estopLatched === true,
+    });
+    // The starting state is not a stop event: a latched start shows the latch without counting a stop.
+    this.stopReason = setup.estopLatched ? "emergency-stop" : "enabling-released";
     this.hold();
   }
 
@@ -162,13 +160,19 @@ export class JogSimulation {
     return this.ticks * this.dt;
   }
 
-  /** A validated input frame arrived at nowMs (performance.now). */
-  applyInput(input: JogInput, nowMs: number): InputResult {
+  get isEnabled(): boolean {
+    return this.gate.isEnabled;
+  }
+
+  get isEstopLatched(): boolean {
+    return this.gate.isEstopLatched;
+  }
+
+  /** A validated input frame arrived (stamped by the gate with its tick counter). */
+  applyInput(input: JogInput): InputResult {
     const checked = checkInputAxes(input, this.n);
     if (!checked.ok) return checked;
-    this.applyInputValues(
-      input.seq, input.clientTimeMs, input.enabling, input.mode, input.frame, input.overridePercent, input.axes, 0, nowMs,
-    );
+    this.applyInputValues(input.seq, input.clientTimeMs, input.enabling, input.mode, input.frame, input.overridePercent, input.axes, 0);
     return INPUT_OK;
   }
 
@@ -178,53 +182,45 @@ export class JogSimulation {
    */
   applyInputValues(
     seq: number, clientTimeMs: number, isEnabling: boolean, mode: "cartesian" | "joint", frame: "world" | "tool",
-    overridePercent: number, axes: ArrayLike<number>, axesOffset: number, nowMs: number,
+    overridePercent: number, axes: ArrayLike<number>, axesOffset: number,
   ): void {
-    const expected = mode === "cartesian" ? 6 : this.n;
-    for (let i = 0; i < MAX_AXES; i++) this.rawAxes[i] = i < expected ? axes[axesOffset + i]! : 0;
-    this.inputMode = mode;
-    this.inputFrame = frame;
     this.overridePercent = Math.min(overridePercent, this.profile.speedOverride.maxPercent);
-    if (!isEnabling) {
-      // Released: re-arms the enabling control (ISO 13850 principle: motion needs a fresh press).
-      this.isEnableArmed = true;
-      this.isWatchdogTripped = false;
-    }
-    this.isEnablingHeld = isEnabling;
-    this.lastInputAtMs = nowMs;
-    this.stalledAtInputMs = this.stalledMs;
+    this.gate.setInput(isEnabling, mode, frame, this.overridePercent / 100, axes, axesOffset);
     this.lastInputSeq = seq;
     this.lastInputClientTimeMs = clientTimeMs;
   }
 
-  /** Emergency stop: joint rates zero at once, the command cleared, latched until resetEstop. */
+  /** Emergency stop: the instant halt (simulation) — joint rates zero at once — latched until resetEstop. */
   emergencyStop(): void {
-    this.isEstopLatched = true;
-    this.isEnableArmed = false;
-    this.isEnabled = false;
-    this.cmdTwist.fill(0);
-    this.cmdJoints.fill(0);
-    this.isCommandZero = true;
+    this.gate.emergencyStop();
     this.state.qdot.fill(0);
+    this.qdotPrev.fill(0); // a step by definition: not counted as an acceleration
     this.report.achievedTwist.fill(0);
     this.report.tcpLinearSpeed = 0;
     this.report.tcpAngularSpeed = 0;
+    this.isMeasuredAtRest = false;
+    this.collectStops();
     this.setStopReason("emergency-stop");
   }
 
   /** Clears the latch; never moves the arm and never restarts motion (a fresh enabling press is needed). */
   resetEstop(): void {
-    this.isEstopLatched = false;
-    this.isEnableArmed = false;
+    this.gate.resetEstop();
+  }
+
+  /** Motion needs the enabling control seen released again (e.g. the input device reconnected). */
+  requireRelease(reason: string): void {
+    this.gate.requireRelease(reason);
   }
 
   acknowledge(): void {
-    this.state.singularityAcknowledged = true;
+    this.gate.acknowledge();
   }
 
   /** True when nothing moves and nothing is commanded (the ready-pose reset is allowed only then). */
   get isStopped(): boolean {
-    if (this.isEnabled || !this.isCommandZero) return false;
+    const g = this.gate;
+    if (g.isEnabled || g.isStopping || !g.isCommandZero) return false;
     for (let i = 0; i < this.n; i++) if (this.state.qdot[i] !== 0) return false;
     return true;
   }
@@ -234,6 +230,7 @@ export class JogSimulation {
     setJointPositions(this.ws, this.state, this.readyPose);
     this.state.singularityAcknowledged = false;
     this.isMeasuredAtRest = false;
+    this.qdotPrev.fill(0);
     this.hold();
   }
 
@@ -260,85 +257,34 @@ export class JogSimulation {
   }
 
   /**
-   * One control tick at wall time nowMs. No allocation. stalledMs is the scheduler's running total of
-   * process stalls: the watchdog counts silence without them, so a pause of the server itself (inputs
-   * queued unread in the socket) is not taken for a silent client; a truly silent client still trips it
-   * on time, or late by the stall, when nothing could have moved anyway.
+   * One control tick. No allocation. stalledMs is the scheduler's running total of process stalls: the
+   * ticks they account for are excused from the watchdog (inputs sat unread in the socket meanwhile), so a
+   * pause of the server itself is not taken for a silent client; a truly silent client still trips it on
+   * time, or late by the stall, when nothing could have moved anyway.
    */
-  tick(nowMs: number, stalledMs = 0): void {
-    const p = this.profile;
+  tick(stalledMs = 0): void {
     const dt = this.dt;
+    if (stalledMs > this.stalledMs) this.gate.excuseInputSilence((stalledMs - this.stalledMs) / this.tickPeriodMs);
     this.stalledMs = stalledMs;
-    // Step 2, gating.
-    const silenceMs = nowMs - this.lastInputAtMs - (stalledMs - this.stalledAtInputMs);
-    if (this.isEnablingHeld && silenceMs > p.watchdogMs) {
-      // Silence while the enabling control was last seen held: treat it as released, and it must be
-      // released and pressed again before motion resumes.
-      this.isWatchdogTripped = true;
-      this.isEnablingHeld = false;
-      this.isEnableArmed = false;
-    }
-    this.isEnabled = this.isEnablingHeld && this.isEnableArmed && !this.isEstopLatched;
 
-    if (this.isEstopLatched) {
-      this.state.qdot.fill(0);
-      this.hold();
-      this.finishTick();
-      return;
-    }
-
-    // Step 1, shaping: deadband, expo, caps·override → target; a mode or frame change first ramps the
-    // running command to zero, then switches.
-    const target = this.target;
-    target.fill(0);
-    const switching = this.inputMode !== this.cmdMode || (this.inputMode === "cartesian" && this.inputFrame !== this.cmdFrame);
-    if (switching && this.isCommandZero) {
-      this.cmdMode = this.inputMode;
-      this.cmdFrame = this.inputFrame;
-    }
-    const override = this.overridePercent / 100;
-    if (this.isEnabled && this.inputMode === this.cmdMode && (this.cmdMode === "joint" || this.inputFrame === this.cmdFrame)) {
-      const db = p.shaping.deadband;
-      const ex = p.shaping.expo;
-      if (this.cmdMode === "cartesian") {
-        for (let i = 0; i < 3; i++) target[i] = shapeAxis(this.rawAxes[i]!, db, ex) * p.tcpLinearCapMPerS * override;
-        for (let i = 3; i < 6; i++) target[i] = shapeAxis(this.rawAxes[i]!, db, ex) * p.tcpAngularCapRadPerS * override;
-      } else {
-        for (let i = 0; i < this.n; i++) target[i] = shapeAxis(this.rawAxes[i]!, db, ex) * this.jointCaps[i]! * override;
-      }
-    }
-    // Slew (acceleration) limits; with a zero target this is the controlled-stop ramp.
-    let zero = true;
-    if (this.cmdMode === "cartesian") {
-      slewVector3(this.cmdTwist, target, 0, p.shaping.linearAccelMPerS2 * dt);
-      slewVector3(this.cmdTwist, target, 3, p.shaping.angularAccelRadPerS2 * dt);
-      for (let i = 0; i < 6; i++) if (this.cmdTwist[i] !== 0) zero = false;
-    } else {
-      for (let i = 0; i < this.n; i++) {
-        const max = this.jointAccel[i]! * dt;
-        const d = target[i]! - this.cmdJoints[i]!;
-        this.cmdJoints[i] = d > max ? this.cmdJoints[i]! + max : d < -max ? this.cmdJoints[i]! - max : target[i]!;
-        if (this.cmdJoints[i] !== 0) zero = false;
-      }
-    }
-    this.isCommandZero = zero;
-
-    if (zero) {
+    const c = this.gate.tick(this.report, this.state.qdot);
+    if (c.acknowledge) this.state.singularityAcknowledged = true;
+    if (c.action === "hold") {
       this.hold();
     } else {
       this.isMeasuredAtRest = false;
-      if (this.cmdMode === "cartesian") {
-        controlStep(this.ws, this.state, this.cmdFrame === "tool" ? this.toolParams : this.worldParams, this.cmdTwist, dt, this.report);
+      if (c.action === "cartesian") {
+        controlStep(this.ws, this.state, c.frame === "tool" ? this.toolParams : this.worldParams, c.twist, dt, this.report);
       } else {
-        jointJogStep(this.ws, this.state, this.worldParams, this.cmdJoints, dt, this.report);
+        // "joint" (joint jog) and "stop" (a controlled stop ramping the achieved joint rates).
+        jointJogStep(this.ws, this.state, this.worldParams, c.jointRates, dt, this.report);
       }
       if (this.report.fault !== "none") {
-        // The engine zeroed qdot and left q; drop the command so the next motion starts from rest.
+        // The engine zeroed qdot and left q; the gate drops the command and wants a release and a press.
         this.lastFault = this.report.fault;
         this.faultTicks++;
-        this.cmdTwist.fill(0);
-        this.cmdJoints.fill(0);
-        this.isCommandZero = true;
+        this.gate.noteFault();
+        this.qdotPrev.fill(0); // the engine's zeroing is not an acceleration of the arm
       }
     }
     this.finishTick();
@@ -346,6 +292,8 @@ export class JogSimulation {
 
   /** Holds still: qdot = 0; measures σ, pose once per rest (a zero-twist step without drift correction). */
   private hold(): void {
+    // From rest: the step's acceleration limit starts from state.qdot, and a hold must never move the arm.
+    this.state.qdot.fill(0);
     if (!this.isMeasuredAtRest) {
       controlStep(this.ws, this.state, this.holdParams, this.zeroTwist, this.dt, this.report);
       this.isMeasuredAtRest = this.report.fault === "none";
@@ -360,21 +308,39 @@ export class JogSimulation {
   private finishTick(): void {
     this.ticks++;
     const r = this.report;
-    this.setStopReason(
-      this.isEstopLatched ? "emergency-stop"
-        : this.isWatchdogTripped ? "watchdog"
-          : !this.isEnabled ? "enabling-released"
-            : r.binding === "singularity-guard" ? "singularity-guard"
-              : "none",
-    );
+    const reason = this.gate.reason;
+    this.setStopReason(reason !== "none" ? reason : r.binding === "singularity-guard" ? "singularity-guard" : "none");
     if (r.tcpLinearSpeed > this.maxTcpSpeed) this.maxTcpSpeed = r.tcpLinearSpeed;
     if (r.sigmaMin < this.minSigma) this.minSigma = r.sigmaMin;
-    const qd = this.state.qdot;
+    const qd = this.state.qdot, prev = this.qdotPrev;
+    const rate = this.tickRateHz;
     for (let i = 0; i < this.n; i++) {
+      const v = qd[i]!;
       const c = this.jointCaps[i]!;
-      const f = c > 0 && c < Infinity ? Math.abs(qd[i]!) / c : 0;
+      const f = c > 0 && c < Infinity ? Math.abs(v) / c : 0;
       if (f > this.maxJointRateFraction) this.maxJointRateFraction = f;
+      // |q̈_i| ≈ |q̇_i(k) − q̇_i(k−1)|/dt (backward difference, derived).
+      const d = v - prev[i]!;
+      const a = (d < 0 ? -d : d) * rate;
+      if (a > this.accelPeakFrame[i]!) this.accelPeakFrame[i] = a;
+      if (a > this.accelPeakSession[i]!) this.accelPeakSession[i] = a;
+      prev[i] = v;
     }
+    this.collectStops();
+  }
+
+  /** Adds the gate's newly completed stop (at most one per tick or e-stop) to the summary. */
+  private collectStops(): void {
+    const g = this.gate;
+    if (g.completedStops === this.stopsSeen) return;
+    this.stopsSeen = g.completedStops;
+    const s = g.lastStop;
+    const m = this.stopsMeasured[s.kind]!;
+    m.count++;
+    if (s.time > m.maxTimeS) m.maxTimeS = s.time;
+    if (s.distance > m.maxDistanceM) m.maxDistanceM = s.distance;
+    const excess = s.distance - s.predictedDistance;
+    if (excess > m.maxExcessDistanceM) m.maxExcessDistanceM = excess;
   }
 
   /** The TCP pose at the current q (the report's pose is where the last step started); frame rate only. */
@@ -386,9 +352,13 @@ export class JogSimulation {
   private warnings(): string[] {
     const w: string[] = [];
     const r = this.report;
-    if (this.isEstopLatched) w.push("Emergency stop latched: reset it, then release and press the enabling control to move.");
-    else if (this.isEnablingHeld && !this.isEnableArmed) w.push("Release and press the enabling control again to move.");
-    if (this.isWatchdogTripped) w.push(`No input for more than ${this.profile.watchdogMs} ms: controlled stop.`);
+    const g = this.gate;
+    if (g.isEstopLatched) w.push("Emergency stop latched: reset it, then release and press the enabling control to move.");
+    else if (g.isEnablingHeld && !g.isArmed) {
+      const why = g.releaseReason;
+      w.push(`Release and press the enabling control again to move${why ? ` (${why})` : ""}.`);
+    }
+    if (g.isWatchdogTripped) w.push(`No input for more than ${this.profile.watchdogMs} ms: controlled stop.`);
     if (r.guardState === "stopped") w.push("Stopped before the singular region: acknowledge to pass through, or move away.");
     if (r.lambda > 0) w.push("Near a singularity: damping is in effect.");
     if (r.binding === "joint-limit" && r.bindingJoint >= 0) w.push(`Joint ${r.bindingJoint + 1} is close to its limit.`);
@@ -411,6 +381,13 @@ export class JogSimulation {
     const r = this.report;
     const pose: number[] = new Array(16);
     this.currentPose(pose);
+    // Predictions from the motion of the step just taken.
+    const stopping = this.gate.updatePredictions(r, this.state.qdot);
+    const predictions = this.gate.predictions;
+    const stopPredictions: Record<string, { timeS: number; distanceM: number }> = {};
+    for (const kind of STOP_KINDS) stopPredictions[kind] = { timeS: fin(predictions[kind].time), distanceM: fin(predictions[kind].distance) };
+    const jointAccelPeak = finiteArray(this.accelPeakFrame);
+    this.accelPeakFrame.fill(0);
     const body = {
       t: this.time,
       q: finiteArray(this.state.q),
@@ -428,11 +405,14 @@ export class JogSimulation {
       binding: r.binding,
       bindingJoint: r.bindingJoint,
       guardState: r.guardState,
-      enabled: this.isEnabled,
-      estopLatched: this.isEstopLatched,
+      enabled: this.gate.isEnabled,
+      estopLatched: this.gate.isEstopLatched,
       stopReason: this.stopReason,
       overridePercent: this.overridePercent,
       warnings: this.warnings(),
+      stopping: { kind: stopping.kind, isActive: stopping.isActive, timeS: fin(stopping.time), distanceM: fin(stopping.distance) },
+      stopPredictions,
+      jointAccelPeak,
     };
     const json = JSON.stringify(body);
     return json.slice(1, -1);
@@ -440,14 +420,14 @@ export class JogSimulation {
 
   /** Marks the end (stop reason "session-ended") for the last frame. */
   end(): void {
-    this.cmdTwist.fill(0);
-    this.cmdJoints.fill(0);
+    this.gate.requireRelease("the session ended");
     this.state.qdot.fill(0);
-    this.isEnabled = false;
     this.setStopReason("session-ended");
   }
 
   summary(): SimulationSummary {
+    const stopsMeasured: SimulationSummary["stopsMeasured"] = {};
+    for (const [kind, m] of Object.entries(this.stopsMeasured)) if (m.count > 0) stopsMeasured[kind] = { ...m };
     return {
       durationS: this.time,
       frames: this.frames,
@@ -455,6 +435,8 @@ export class JogSimulation {
       minSigma: Number.isFinite(this.minSigma) ? this.minSigma : 0,
       maxJointRateFraction: this.maxJointRateFraction,
       stops: { ...this.stopCounts },
+      peakJointAccel: finiteArray(this.accelPeakSession),
+      stopsMeasured,
     };
   }
 }

@@ -12,6 +12,7 @@ import {
   JointRateBars,
   MotionState,
   SingularityIndicator,
+  StoppingPanel,
   TcpReadout,
 } from "./status-panels.tsx";
 
@@ -40,6 +41,7 @@ export function DriveWorkspace({ arm, params, frame, source, controls, side }: {
           <SingularityIndicator frame={frame} params={params} />
           <BindingLimit frame={frame} params={params} />
           <TcpReadout frame={frame} />
+          <StoppingPanel frame={frame} params={params} />
           <JointPositionBars arm={arm} frame={frame} />
           <JointRateBars arm={arm} frame={frame} params={params} />
         </aside>

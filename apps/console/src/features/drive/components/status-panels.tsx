@@ -1,6 +1,7 @@
-import { DEG_PER_RAD } from "@jogwright/shared";
+import { ratedJointAccel } from "@jogwright/kinematics";
+import { DEG_PER_RAD, STOP_KINDS } from "@jogwright/shared";
 import type { ReactNode } from "react";
-import type { Arm, ProfileParams, RecordedFrame } from "@jogwright/shared";
+import type { Arm, ProfileParams, RecordedFrame, StopKind } from "@jogwright/shared";
 import { cn } from "../../../lib/cn.ts";
 import { formatFixed } from "../../../lib/format.ts";
 import { GUARD_WORDS, bindingInWords, motionInWords, type MotionTone } from "./limit-words.ts";
@@ -143,6 +144,57 @@ export function TcpReadout({ frame }: { frame: RecordedFrame | null }) {
   );
 }
 
+/** The operator-facing name of each kind of stop (the e-stop's simulated behaviour named for what it is). */
+export const STOP_KIND_WORDS: Record<StopKind, string> = {
+  "enabling-released": "Enabling released",
+  watchdog: "Watchdog (input lost)",
+  "singularity-guard": "Singularity guard",
+  "instant-halt": "Instant halt (simulation)",
+};
+
+const ms = (s: number) => formatFixed(s * 1000, 0);
+const mm = (m: number) => formatFixed(m * 1000, 1);
+
+/**
+ * Stopping time and distance: the stop in progress, or what releasing the enabling control now would take,
+ * and the prediction for each kind of stop from the current motion (the watchdog's includes its wait).
+ */
+export function StoppingPanel({ frame, params }: { frame: RecordedFrame | null; params: ProfileParams | null }) {
+  const s = frame?.stopping ?? null;
+  const isHalt = s?.kind === "instant-halt" && s.isActive;
+  const tone: MotionTone = !s ? "neutral" : isHalt ? "stop" : s.isActive ? "warn" : "neutral";
+  const headline = !s
+    ? "—"
+    : isHalt
+      ? "Instant halt (simulation): joint rates zeroed"
+      : s.isActive
+        ? `${STOP_KIND_WORDS[s.kind]}: stopping, ${ms(s.timeS)} ms and ${mm(s.distanceM)} mm to go`
+        : `If released now: ${ms(s.timeS)} ms, ${mm(s.distanceM)} mm`;
+  return (
+    <Panel title="Stopping">
+      <p className={cn("text-sm font-semibold", toneText[tone])} data-testid="stopping-state" data-kind={s?.kind ?? ""} data-active={s?.isActive ? "true" : "false"}>
+        {headline}
+      </p>
+      <dl className="grid grid-cols-[1fr_auto_auto] gap-x-3 text-xs text-ink-300" data-testid="stop-predictions">
+        {STOP_KINDS.map((kind) => {
+          const p = frame?.stopPredictions[kind];
+          return (
+            <div key={kind} className="contents">
+              <dt>
+                {STOP_KIND_WORDS[kind]}
+                {kind === "watchdog" && params ? <span className="text-ink-400"> incl. {params.watchdogMs} ms wait</span> : null}
+              </dt>
+              <dd className="num text-right text-ink-100">{p ? `${ms(p.timeS)} ms` : "—"}</dd>
+              <dd className="num text-right text-ink-100">{p ? `${mm(p.distanceM)} mm` : "—"}</dd>
+            </div>
+          );
+        })}
+      </dl>
+      <p className="text-xs text-ink-400">Predicted from the current motion. The simulated halt is not an emergency-stop function.</p>
+    </Panel>
+  );
+}
+
 export function JointPositionBars({ arm, frame }: { arm: Arm; frame: RecordedFrame | null }) {
   return (
     <Panel title="Joint positions">
@@ -216,6 +268,38 @@ export function JointRateBars({ arm, frame, params }: { arm: Arm; frame: Recorde
         })}
       </ul>
       <p className="text-xs text-ink-400">{arm.model.joints.every((j) => j.type === "revolute") ? "deg/s" : "deg/s or mm/s"} against each joint's cap.</p>
+      <PeakAcceleration arm={arm} frame={frame} params={params} />
     </Panel>
+  );
+}
+
+/**
+ * The largest |q̈_i| since the previous frame, as a fraction of that joint's limit (the profile's fraction of
+ * its rated acceleration: the arm's maxAccel, or the kinematics default from maxSpeed).
+ */
+function PeakAcceleration({ arm, frame, params }: { arm: Arm; frame: RecordedFrame | null; params: ProfileParams | null }) {
+  const peaks = frame?.jointAccelPeak ?? [];
+  let worst = -1, worstFraction = 0;
+  peaks.forEach((a, i) => {
+    const joint = arm.model.joints[i];
+    if (!joint) return;
+    const limit = ratedJointAccel(joint) * (params?.jointAccelFraction ?? 1);
+    const f = Number.isFinite(limit) && limit > 0 ? a / limit : 0;
+    if (worst < 0 || f > worstFraction) {
+      worst = i;
+      worstFraction = f;
+    }
+  });
+  if (worst < 0) return <p className="text-xs text-ink-300" data-testid="peak-acceleration">Peak acceleration —</p>;
+  const joint = arm.model.joints[worst]!;
+  const k = joint.type === "revolute" ? DEG_PER_RAD : 1000;
+  const unit = joint.type === "revolute" ? "deg/s²" : "mm/s²";
+  const limit = ratedJointAccel(joint) * (params?.jointAccelFraction ?? 1);
+  return (
+    <p className="text-xs text-ink-300" data-testid="peak-acceleration">
+      Peak acceleration J{worst + 1}{" "}
+      <span className={cn("num", worstFraction > 0.98 ? "text-warn-400" : "text-ink-100")}>{formatFixed(peaks[worst]! * k, 0)}</span>
+      {Number.isFinite(limit) ? <span className="num text-ink-400"> / {formatFixed(limit * k, 0)}</span> : null} {unit}
+    </p>
   );
 }

@@ -1,8 +1,8 @@
 import { describe, expect, it } from "vitest";
 import { FrameTrace } from "../../../lib/frame-trace.ts";
-import { shapeAxis } from "./shaping.ts";
+import { shapeAxis } from "@jogwright/kinematics";
 
-describe("stick shaping", () => {
+describe("stick shaping (the shared shapeAxis, as the device calibration uses it)", () => {
   it("zeroes values inside the deadband and rescales the rest to reach full deflection", () => {
     // Deadband with rescaling, out = (|x| − d)/(1 − d)·sign(x) (common practice, PRODUCT.md); expo 0.
     expect(shapeAxis(0.05, 0.1, 0)).toBe(0);
@@ -23,6 +23,12 @@ describe("frame trace", () => {
     twistAchieved: [0, 0, 0, 0, 0, 0], sigmaMin: 0.05, manipulability: 0, lambda: 0.01,
     scales: { jointRate: 1, tcpLinear: 1, tcpAngular: 1, jointLimit: 1 }, binding: "none" as const, bindingJoint: -1,
     guardState: "off" as const, enabled: true, estopLatched: false, stopReason: "none" as const, overridePercent: 50, warnings: [],
+    stopping: { kind: "enabling-released" as const, isActive: false, timeS: 0, distanceM: 0 },
+    stopPredictions: {
+      "enabling-released": { timeS: 0, distanceM: 0 }, watchdog: { timeS: 0, distanceM: 0 },
+      "singularity-guard": { timeS: 0, distanceM: 0 }, "instant-halt": { timeS: 0, distanceM: 0 },
+    },
+    jointAccelPeak: [0, 0],
   });
 
   it("keeps the last window of frames in time order across the ring's wrap, in chart units", () => {

@@ -1,17 +1,9 @@
+import { shapeAxis } from "@jogwright/kinematics";
 import { TWIST_TARGETS, type GamepadMapping } from "@jogwright/shared";
 
-/**
- * Device calibration of a stick value (−1 … 1): deadband with rescaling, then expo.
- * Deadband: out = (|x| − d)/(1 − d)·sign(x) for |x| > d, else 0 (common practice, PRODUCT.md).
- * Expo: out = (1 − e)·x + e·x³ (the same curve as the profile's shaping; common practice, no source).
- * The profile's own shaping is applied on the server on top of this.
- */
-export function shapeAxis(x: number, deadband: number, expo: number): number {
-  const magnitude = Math.abs(x);
-  if (!(magnitude > deadband)) return 0;
-  const r = Math.min(1, (magnitude - deadband) / (1 - deadband));
-  return Math.sign(x) * ((1 - expo) * r + expo * r * r * r);
-}
+// Device calibration of a stick value (−1 … 1) uses shapeAxis — deadband with rescaling, then expo — the
+// one copy in @jogwright/kinematics that the server's motion gate also uses for the profile's shaping
+// (applied on the server on top of this).
 
 export interface GamepadReading {
   /** Index of the gamepad read, or −1 when none is connected. */

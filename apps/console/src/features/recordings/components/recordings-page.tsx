@@ -2,7 +2,7 @@ import { useEffect, useMemo, useRef, useState } from "react";
 import { useSearchParams } from "react-router";
 import { useQuery } from "@tanstack/react-query";
 import { ArrowLeft, Pause, Play } from "lucide-react";
-import type { Arm, ProfileParams, RecordedFrame, Recording } from "@jogwright/shared";
+import { DEG_PER_RAD, type Arm, type ProfileParams, type RecordedFrame, type Recording, type RecordingSummary } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
@@ -24,20 +24,48 @@ function durationText(r: Recording): string {
   return `${formatFixed((Date.parse(r.endedAt) - Date.parse(r.startedAt)) / 1000, 1)} s`;
 }
 
-function summaryText(r: Recording): string {
+/** The session's peak |q̈| (the joint with the largest, in deg/s² or mm/s² for a sliding joint), or "". */
+function peakAccelText(peaks: readonly number[], arm: Arm | undefined): string {
+  let best = -1, bestValue = 0, bestUnit = "";
+  peaks.forEach((a, i) => {
+    const isPrismatic = arm?.model.joints[i]?.type === "prismatic";
+    const value = isPrismatic ? a * 1000 : a * DEG_PER_RAD;
+    if (value > bestValue) {
+      best = i;
+      bestValue = value;
+      bestUnit = isPrismatic ? "mm/s²" : "deg/s²";
+    }
+  });
+  return best < 0 ? "" : ` · peak acceleration J${best + 1} ${formatFixed(bestValue, 0)} ${bestUnit}`;
+}
+
+/** The longest measured stop (TCP path, time and kind), or "". */
+function longestStopText(stops: RecordingSummary["stopsMeasured"]): string {
+  let kind = "", m: { maxTimeS: number; maxDistanceM: number } | null = null;
+  for (const [k, v] of Object.entries(stops)) {
+    if (!m || v.maxDistanceM > m.maxDistanceM) {
+      kind = k;
+      m = v;
+    }
+  }
+  return m ? ` · longest stop ${formatFixed(m.maxDistanceM * 1000, 1)} mm in ${formatFixed(m.maxTimeS * 1000, 0)} ms (${kind})` : "";
+}
+
+function summaryText(r: Recording, arm: Arm | undefined): string {
   const s = r.summary;
   if (!s) return "—";
   const stops = Object.entries(s.stops)
     .filter(([, n]) => n > 0)
     .map(([reason, n]) => `${reason} ×${n}`)
     .join(", ");
-  return `max ${formatFixed(s.maxTcpSpeedMPerS * 1000, 0)} mm/s · min σ ${formatFixed(s.minSigma * 1000, 1)} mm · ${formatFixed(s.maxJointRateFraction * 100, 0)} % of a joint cap${stops ? ` · stops: ${stops}` : ""}`;
+  return `max ${formatFixed(s.maxTcpSpeedMPerS * 1000, 0)} mm/s · min σ ${formatFixed(s.minSigma * 1000, 1)} mm · ${formatFixed(s.maxJointRateFraction * 100, 0)} % of a joint cap${peakAccelText(s.peakJointAccel, arm)}${longestStopText(s.stopsMeasured)}${stops ? ` · stops: ${stops}` : ""}`;
 }
 
 export function RecordingsPage() {
   const [search, setSearch] = useSearchParams();
   const selected = Number(search.get("recording"));
   const recordings = useQuery(recordingListQueryOptions());
+  const arms = useArms();
   if (Number.isInteger(selected) && selected > 0) {
     return <ReplayView recordingId={selected} onBack={() => setSearch({})} />;
   }
@@ -77,7 +105,7 @@ export function RecordingsPage() {
                   <td className="px-3 py-2 whitespace-nowrap text-ink-300">{formatDateTime(r.startedAt)}</td>
                   <td className="num px-3 py-2 text-right whitespace-nowrap">{durationText(r)}</td>
                   <td className="px-3 py-2">{r.endReason ?? <Badge tone="accent">live</Badge>}</td>
-                  <td className="px-3 py-2 text-xs text-ink-300">{summaryText(r)}</td>
+                  <td className="px-3 py-2 text-xs text-ink-300">{summaryText(r, arms.data?.find((a) => a.id === r.armId))}</td>
                   <td className="px-3 py-2 text-right">
                     <Button size="sm" onClick={() => setSearch({ recording: String(r.id) })} aria-label={`Replay recording ${r.id}`}>
                       <Play aria-hidden className="size-3.5" /> Replay

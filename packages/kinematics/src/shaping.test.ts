@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { applyDeadband, applyExpo, shapeAxis, slewVector3 } from "./shaping.ts";
+import { applyDeadband, applyExpo, shapeAxis, slewUniform, slewVector3 } from "./shaping.ts";
 
 describe("input shaping", () => {
   it("the deadband with rescaling gives the METHODS.md §8 check values (d = 0.1)", () => {
@@ -17,6 +17,15 @@ describe("input shaping", () => {
     expect(applyExpo(1, 0.7)).toBeCloseTo(1, 12);
     expect(applyExpo(-1, 0.7)).toBeCloseTo(-1, 12);
     expect(shapeAxis(0, 0.1, 0.3)).toBe(0);
+    // Deadband then expo: x = 0.5, e = 0.3, no deadband → 0.35 + 0.0375 = 0.3875 (derived; the console's
+    // device calibration check value, now the same function).
+    expect(shapeAxis(0.5, 0, 0.3)).toBeCloseTo(0.3875, 12);
+  });
+
+  it("a value outside −1 … 1 or NaN never widens the command", () => {
+    expect(shapeAxis(1.7, 0.1, 0.3)).toBe(1);
+    expect(shapeAxis(-3, 0, 0)).toBe(-1);
+    expect(shapeAxis(Number.NaN, 0.1, 0.3)).toBe(0);
   });
 
   it("the slew limit moves a vector by at most the step, keeping the direction of the change", () => {
@@ -27,5 +36,15 @@ describe("input shaping", () => {
     expect(cur[1]).toBeCloseTo(0.8, 12);
     for (let i = 0; i < 10; i++) slewVector3(cur, target, 0, 1);
     expect([...cur]).toEqual([3, 4, 0]);
+  });
+
+  it("the uniform slew limit scales the whole change by one factor so no element exceeds its own step", () => {
+    // Δ = (2, −1, 4), steps (1, 1, Infinity): f = min(1/2, 1/1) = 0.5 → (1, −0.5, 2) (derived).
+    const cur = new Float64Array([0, 0, 0]);
+    const f = slewUniform(cur, [2, -1, 4], 3, [1, 1, Infinity]);
+    expect(f).toBe(0.5);
+    expect([...cur]).toEqual([1, -0.5, 2]);
+    expect(slewUniform(cur, [2, -1, 4], 3, [1, 1, Infinity])).toBe(1);
+    expect([...cur]).toEqual([2, -1, 4]);
   });
 });

@@ -1,0 +1,72 @@
+/**
+ * Input shaping of the control step (PRODUCT.md "The control step", step 1): per-axis deadband with
+ * rescaling and expo, and slew (acceleration) limits on a commanded vector. One copy for the server's motion
+ * gate (motion-gate.ts) and the console's device calibration. Pure functions and in-place slew limiters on
+ * caller-owned Float64Arrays: no allocation, no throw, called every tick. Values are unitless stick
+ * deflections (−1 … 1) or, for the slew limiters, whatever unit the caller's vector has (SI).
+ */
+
+/**
+ * Deadband with rescaling: out = (|x| − d)/(1 − d)·sign(x) for |x| > d, else 0, so full deflection still
+ * gives 1 (common practice, no source; METHODS.md §8 check values: d = 0.1: 0.55 → 0.5, 1 → 1). NaN → 0.
+ */
+export function applyDeadband(x: number, d: number): number {
+  const ax = x < 0 ? -x : x;
+  if (!(ax > d) || !(d < 1)) return 0;
+  const out = (ax - d) / (1 - d);
+  return x < 0 ? -out : out;
+}
+
+/** Expo curve: out = (1 − e)·x + e·x³ (common practice, no source). Keeps ±1 at ±1, 0 at 0 and the sign. */
+export function applyExpo(x: number, e: number): number {
+  return (1 - e) * x + e * x * x * x;
+}
+
+/** Deadband, then expo, clamped to −1 … 1 (a value outside, or NaN, cannot widen the command). */
+export function shapeAxis(x: number, deadband: number, expo: number): number {
+  const y = applyExpo(applyDeadband(x, deadband), expo);
+  return y > 1 ? 1 : y < -1 ? -1 : y === y ? y : 0;
+}
+
+/**
+ * Moves the 3-vector cur[offset..offset+2] toward target[offset..] by at most maxStep (Euclidean), so the
+ * direction of the change is kept (a slew-rate / acceleration limit on a vector; derived).
+ */
+export function slewVector3(cur: Float64Array, target: ArrayLike<number>, offset: number, maxStep: number): void {
+  const dx = target[offset]! - cur[offset]!;
+  const dy = target[offset + 1]! - cur[offset + 1]!;
+  const dz = target[offset + 2]! - cur[offset + 2]!;
+  const len = Math.sqrt(dx * dx + dy * dy + dz * dz);
+  if (len <= maxStep) {
+    cur[offset] = target[offset]!;
+    cur[offset + 1] = target[offset + 1]!;
+    cur[offset + 2] = target[offset + 2]!;
+    return;
+  }
+  const k = maxStep / len;
+  cur[offset] = cur[offset]! + dx * k;
+  cur[offset + 1] = cur[offset + 1]! + dy * k;
+  cur[offset + 2] = cur[offset + 2]! + dz * k;
+}
+
+/**
+ * Moves cur[0..n−1] toward target by ONE factor for the whole vector, f = min(1, min_i maxSteps[i]/|Δ_i|),
+ * so no element changes by more than its own step and the direction of the change is kept (the per-joint
+ * acceleration limit of PRODUCT.md step 6 applied to a joint-rate command; derived). maxSteps[i] may be
+ * Infinity (no limit). Returns f.
+ */
+export function slewUniform(cur: Float64Array, target: ArrayLike<number>, n: number, maxSteps: ArrayLike<number>): number {
+  let f = 1;
+  for (let i = 0; i < n; i++) {
+    const d = target[i]! - cur[i]!;
+    const ad = d < 0 ? -d : d;
+    const m = maxSteps[i]!;
+    if (ad * f > m) f = m / ad;
+  }
+  if (f >= 1) {
+    for (let i = 0; i < n; i++) cur[i] = target[i]!;
+    return 1;
+  }
+  for (let i = 0; i < n; i++) cur[i] = cur[i]! + (target[i]! - cur[i]!) * f;
+  return f;
+}
