@@ -1,7 +1,8 @@
 import { z } from "zod";
 
 /**
- * Arm JSON of PRODUCT.md ("Conventions"). SI units: metres, radians, metres or radians per second.
+ * Arm JSON of PRODUCT.md ("Conventions"). SI units: metres, radians, metres or radians per second (and
+ * per second squared).
  * base and tool are 4x4 homogeneous transforms, row-major.
  */
 const finite = z.number().refine(Number.isFinite, "must be a finite number");
@@ -17,6 +18,8 @@ export const jointSchema = z
     min: finite.optional(),
     max: finite.optional(),
     maxSpeed: finite.positive("maxSpeed must be above zero").optional(),
+    /** Rated acceleration, rad/s² (m/s² for a prismatic joint); absent → a default from maxSpeed (kinematics). */
+    maxAccel: finite.positive("maxAccel must be above zero").optional(),
   })
   .refine((j) => j.min === undefined || j.max === undefined || j.min < j.max, {
     message: "min must be below max",

@@ -9,3 +9,4 @@ export * from "./profile-api.ts";
 export * from "./canonical-json.ts";
 export * from "./jog-protocol.ts";
 export * from "./profile-fields.ts";
+export * from "./driving.ts";

@@ -22,7 +22,7 @@ describe("profile field metadata", () => {
     }
   });
 
-  it("converts the TCP linear cap 0.25 m/s to 250 mm/s and back (ISO 10218-1 reduced speed)", () => {
+  it("converts the TCP linear cap 0.25 m/s to 250 mm/s and back (ISO 10218-1:2011 reduced speed)", () => {
     const ui = profileParamsToUi(base());
     expect(ui.tcpLinearCapMmPerS).toBe(250);
     // π/2 rad/s = 90 deg/s (derived).
@@ -100,6 +100,36 @@ describe("diffProfileParams", () => {
   it("keeps the form's group order", () => {
     const groups = diffProfileParams(base(), base()).map((r) => r.group);
     const order = [...new Set(groups)];
-    expect(order).toEqual(["Damping", "Speed caps", "Joint limits", "Singularity guard", "Input", "Override", "Loop"]);
+    expect(order).toEqual(["Damping", "Speed caps", "Joint limits", "Singularity guard", "Input", "Override", "Loop", "Redundancy"]);
+  });
+
+  it("shows the new fields in their UI units: joint acceleration in %, the re-anchor distance in mm, the null-space switch and gain", () => {
+    const a = base();
+    const b: ProfileParams = { ...base(), jointAccelFraction: 0.8, driftReanchorM: 0.01, nullSpace: { enabled: true, gainPerS: 2 } };
+    const changed = diffProfileParams(a, b).filter((r) => r.changed);
+    expect(changed).toEqual([
+      { field: "jointAccelFraction", label: "Joint acceleration, of rated", group: "Speed caps", uiUnit: "%", before: 50, after: 80, changed: true },
+      { field: "driftReanchorM", label: "Drift re-anchor distance", group: "Loop", uiUnit: "mm", before: 5, after: 10, changed: true },
+      { field: "nullSpace.enabled", label: "Null-space term", group: "Redundancy", uiUnit: "—", before: false, after: true, changed: true },
+      { field: "nullSpace.gainPerS", label: "Null-space gain", group: "Redundancy", uiUnit: "1/s", before: 0.5, after: 2, changed: true },
+    ]);
+  });
+});
+
+describe("the new profile fields through the form", () => {
+  it("round-trip through the UI values: joint acceleration as %, re-anchor as mm, the null-space switch as a boolean", () => {
+    const params: ProfileParams = { ...base(), jointAccelFraction: 0.25, driftReanchorM: 0.012, nullSpace: { enabled: true, gainPerS: 1.5 } };
+    const ui = profileParamsToUi(params);
+    expect(ui.jointAccelPercent).toBe(25);
+    expect(ui.driftReanchorMm).toBe(12);
+    expect(ui.nullSpaceEnabled).toBe(true);
+    expect(ui.nullSpaceGainPerS).toBe(1.5);
+    const back = profileParamsSchema.parse(profileParamsFromUi(ui));
+    expect(back.jointAccelFraction).toBeCloseTo(0.25, 12);
+    expect(back.driftReanchorM).toBeCloseTo(0.012, 12);
+    expect(back.nullSpace).toEqual({ enabled: true, gainPerS: 1.5 });
+    expect(uiKeyForProfilePath("nullSpace.enabled")).toBe("nullSpaceEnabled");
+    expect(uiKeyForProfilePath("nullSpace.gainPerS")).toBe("nullSpaceGainPerS");
+    expect(uiKeyForProfilePath("driftReanchorM")).toBe("driftReanchorMm");
   });
 });

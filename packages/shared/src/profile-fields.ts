@@ -5,14 +5,15 @@ import { DEG_PER_RAD } from "./units.ts";
  * What the console and the version diff need to know about every profile parameter: a label, the SI unit
  * it is stored in, the unit people read and type (UI unit), the conversion between the two and how many
  * decimals are meaningful in the UI unit. Stored values stay SI (PRODUCT.md, "Conventions"); the UI
- * units are deg, deg/s, mm/s, mm/s², deg/s², ms, %, m for σ and λ, m³ for the manipulability w0.
+ * units are deg, deg/s, mm/s, mm/s², deg/s², ms, %, mm for distances, m for σ and λ, m³ for the
+ * manipulability w0.
  *
  * `uiKey` names the value in its UI unit (a flat, unit-carrying name for form state), `path` is the
  * dotted path of the SI value inside ProfileParams, the same path the server's issues and
  * checkCeilings' violations use.
  */
 
-export const PROFILE_FIELD_GROUPS = ["Damping", "Speed caps", "Joint limits", "Singularity guard", "Input", "Override", "Loop"] as const;
+export const PROFILE_FIELD_GROUPS = ["Damping", "Speed caps", "Joint limits", "Singularity guard", "Input", "Override", "Loop", "Redundancy"] as const;
 export type ProfileFieldGroup = (typeof PROFILE_FIELD_GROUPS)[number];
 
 export interface UnitConversion {
@@ -37,6 +38,7 @@ export const UNITS = {
   radPerS2ToDegPerS2: scaled("rad/s²", "deg/s²", DEG_PER_RAD),
   mPerSToMmPerS: scaled("m/s", "mm/s", 1000),
   mPerS2ToMmPerS2: scaled("m/s²", "mm/s²", 1000),
+  metresToMm: scaled("m", "mm", 1000),
   fractionToPercent: scaled("1", "%", 100),
   metres: same("m"),
   cubicMetres: same("m³"),
@@ -79,6 +81,9 @@ export const NUMERIC_PROFILE_FIELDS: readonly NumericProfileField[] = [
   num("damping.lambda0M", "lambda0M", "Damping at the singularity λ0", "Damping", UNITS.metres, 4, { dampingKind: "manipulability" }),
   num("tcpLinearCapMPerS", "tcpLinearCapMmPerS", "TCP linear cap", "Speed caps", UNITS.mPerSToMmPerS, 1),
   num("tcpAngularCapRadPerS", "tcpAngularCapDegPerS", "TCP angular cap", "Speed caps", UNITS.radPerSToDegPerS, 2),
+  num("jointAccelFraction", "jointAccelPercent", "Joint acceleration, of rated", "Speed caps", UNITS.fractionToPercent, 0, {
+    hint: "Of each joint's rated acceleration; the whole change of joint rates is scaled by one factor.",
+  }),
   num("jointLimitMarginRad", "jointLimitMarginDeg", "Joint-limit margin", "Joint limits", UNITS.radToDeg, 2, {
     hint: "Stand-off from each limit that motion never enters.",
   }),
@@ -97,7 +102,13 @@ export const NUMERIC_PROFILE_FIELDS: readonly NumericProfileField[] = [
   num("speedOverride.maxPercent", "overrideMaxPercent", "Maximum override", "Override", UNITS.percent, 0),
   num("tickRateHz", "tickRateHz", "Tick rate", "Loop", UNITS.hertz, 0),
   num("driftCorrectionGainPerS", "driftCorrectionGainPerS", "Drift-correction gain K", "Loop", UNITS.perSecond, 2, {
-    hint: "0 = off; stable for K·dt < 2.",
+    hint: "0 = off; K·dt ≤ 1 (above 1 the discrete loop overshoots).",
+  }),
+  num("driftReanchorM", "driftReanchorMm", "Drift re-anchor distance", "Loop", UNITS.metresToMm, 1, {
+    hint: "A larger error than this re-anchors the reference pose instead of pulling back to it.",
+  }),
+  num("nullSpace.gainPerS", "nullSpaceGainPerS", "Null-space gain", "Redundancy", UNITS.perSecond, 2, {
+    hint: "Arms with more than six joints: how strongly spare motion keeps joints away from their limits (Liégeois 1977).",
   }),
 ];
 
@@ -131,6 +142,7 @@ export const DAMPING_FIELD_DEFAULTS_SI = { lambdaM: 0.02, epsilonM: 0.04, lambda
 export interface ProfileUiValues {
   dampingKind: DampingSchemeParams["kind"];
   dampSmallestOnly: boolean;
+  nullSpaceEnabled: boolean;
   guardPolicy: GuardPolicy;
   jointRateCapsDegPerS: number[];
   [numericUiKey: string]: number | number[] | string | boolean;
@@ -173,6 +185,7 @@ export function profileParamsToUi(params: ProfileParams, jointKinds?: readonly J
   const ui: ProfileUiValues = {
     dampingKind: params.damping.kind,
     dampSmallestOnly: params.dampSmallestOnly,
+    nullSpaceEnabled: params.nullSpace.enabled,
     guardPolicy: params.guard.policy,
     jointRateCapsDegPerS: params.jointRateCapsRadPerS.map((v, i) => roundTo(jointUnit(jointKinds, i).toUi(v), JOINT_RATE_CAP_FIELD.decimals)),
   };
@@ -192,6 +205,7 @@ export function profileParamsFromUi(ui: ProfileUiValues, jointKinds?: readonly J
   const out: Record<string, unknown> = {
     damping: { kind: ui.dampingKind },
     dampSmallestOnly: ui.dampSmallestOnly,
+    nullSpace: { enabled: ui.nullSpaceEnabled },
     guard: { policy: ui.guardPolicy },
     jointRateCapsRadPerS: ui.jointRateCapsDegPerS.map((v, i) => jointUnit(jointKinds, i).toSi(Number(v))),
   };
@@ -207,6 +221,7 @@ export function uiKeyForProfilePath(path: string): string | undefined {
   if (path === "damping.kind") return "dampingKind";
   if (path === "guard.policy") return "guardPolicy";
   if (path === "dampSmallestOnly") return "dampSmallestOnly";
+  if (path === "nullSpace.enabled") return "nullSpaceEnabled";
   if (path === JOINT_RATE_CAP_FIELD.path) return JOINT_RATE_CAP_FIELD.uiKey;
   if (path.startsWith(`${JOINT_RATE_CAP_FIELD.path}.`)) return `${JOINT_RATE_CAP_FIELD.uiKey}.${path.slice(JOINT_RATE_CAP_FIELD.path.length + 1)}`;
   return NUMERIC_PROFILE_FIELDS.find((f) => f.path === path)?.uiKey;
@@ -217,6 +232,7 @@ export function labelForProfilePath(path: string): string {
   if (path === "damping.kind") return "Damping scheme";
   if (path === "guard.policy") return "Guard policy";
   if (path === "dampSmallestOnly") return "Numerical filtering";
+  if (path === "nullSpace.enabled") return "Null-space term";
   const joint = new RegExp(`^${JOINT_RATE_CAP_FIELD.path}\\.(\\d+)$`).exec(path);
   if (joint) return JOINT_RATE_CAP_FIELD.label(Number(joint[1]));
   return NUMERIC_PROFILE_FIELDS.find((f) => f.path === path)?.label ?? path;
@@ -269,9 +285,10 @@ export function diffProfileParams(a: ProfileParams, b: ProfileParams, jointKinds
     if (field.path === "guard.sigmaStopM") {
       push("guard.policy", "Guard policy", "Singularity guard", "—", GUARD_POLICY_LABELS[a.guard.policy], GUARD_POLICY_LABELS[b.guard.policy]);
     }
+    if (field.path === "nullSpace.gainPerS") push("nullSpace.enabled", "Null-space term", "Redundancy", "—", a.nullSpace.enabled, b.nullSpace.enabled);
     push(field.path, field.label, field.group, field.uiUnit, uiNumber(a, field), uiNumber(b, field));
   }
-  // Keep the form's group order: Damping, Speed caps, Joint limits, Singularity guard, Input, Override, Loop.
+  // Keep the form's group order: Damping, Speed caps, Joint limits, Singularity guard, Input, Override, Loop, Redundancy.
   return rows
     .map((row, order) => ({ row, order }))
     .sort((x, y) => PROFILE_FIELD_GROUPS.indexOf(x.row.group) - PROFILE_FIELD_GROUPS.indexOf(y.row.group) || x.order - y.order)

@@ -37,7 +37,10 @@ export type DampingSchemeParams = z.infer<typeof dampingSchemeSchema>;
 export const profileParamsSchema = z
   .object({
     damping: dampingSchemeSchema,
-    /** Damp only the smallest singular direction (numerical filtering, Maciejewski & Klein 1988). */
+    /**
+     * Numerical filtering (Maciejewski & Klein 1988): damp only the singular directions whose σ is below ε,
+     * every one of them, instead of all directions. The name is historical; kept so stored versions parse.
+     */
     dampSmallestOnly: z.boolean(),
     /** One cap per joint, rad/s (m/s for a prismatic joint). Checked against the arm's joint count. */
     jointRateCapsRadPerS: z.array(positive("a joint rate cap")).min(1).max(12),
@@ -70,11 +73,44 @@ export const profileParamsSchema = z
       })
       .refine((o) => o.defaultPercent <= o.maxPercent, { message: "the default override must not exceed the maximum", path: ["defaultPercent"] }),
     tickRateHz: z.number().int("a whole number of hertz").min(125, "the tick rate must be 125–1000 Hz").max(1000, "the tick rate must be 125–1000 Hz"),
-    /** Closed-loop drift correction gain K; 0 = off. Stable for 0 < K·dt < 2 (Siciliano et al., CLIK). */
+    /**
+     * Closed-loop drift correction gain K (closed-loop inverse kinematics, Siciliano et al. 2009, ch. 3);
+     * 0 = off. The discrete error update is e ← (1 − K·dt)·e, so 0 < K·dt ≤ 1 converges without
+     * overshoot; above 1 the discrete loop overshoots and oscillates (derived; see the refine below).
+     */
     driftCorrectionGainPerS: nonNegative("the drift-correction gain"),
+    // The fields below came after the first stored versions. Their defaults are what a version without
+    // them means: it still parses, and its stored SHA-256 (taken over the JSON as saved) is never
+    // recomputed from the parsed object, so an old approval stays valid.
+    /**
+     * Fraction of each joint's rated acceleration (the arm's maxAccel, or its default) the step may use
+     * to change q̇ per tick; the whole q̇ change is scaled by one factor (PRODUCT.md step 6). 0.5 is our
+     * choice (common practice, no source).
+     */
+    jointAccelFraction: finite("the joint acceleration fraction")
+      .refine((v) => v > 0 && v <= 1, "the joint acceleration fraction must be above 0 and at most 100 %")
+      .default(0.5),
+    /**
+     * Drift correction re-anchors the reference pose when the error grows beyond this (the arm was held
+     * back by a limit, not drifting). 5 mm default (the value the step used before it became a field), at
+     * most 50 mm: our choice, no source.
+     */
+    driftReanchorM: positive("the re-anchor distance").refine((v) => v <= 0.05, "the re-anchor distance must be at most 50 mm").default(0.005),
+    /**
+     * Redundant arms (n > 6): a null-space term (I − J⁺J)·q̇₀, q̇₀ = −gain·∇H(q) with H a joint-limit cost
+     * (Liégeois 1977) keeps joints away from their limits. Ignored on arms with six joints or fewer.
+     */
+    nullSpace: z
+      .object({
+        enabled: z.boolean({ error: "null-space on/off must be true or false" }),
+        gainPerS: nonNegative("the null-space gain"),
+      })
+      .default(() => ({ enabled: false, gainPerS: 0.5 })),
   })
-  .refine((p) => p.driftCorrectionGainPerS / p.tickRateHz < 2, {
-    message: "the drift-correction gain must satisfy K·dt < 2 at this tick rate",
+  .refine((p) => p.driftCorrectionGainPerS / p.tickRateHz <= 1, {
+    // e_{k+1} = (1 − K·dt)·e_k: for K·dt ≤ 1 the error decays monotonically, above 1 it changes sign each
+    // tick (overshoot), above 2 it grows (derived).
+    message: "the drift-correction gain must satisfy K·dt ≤ 1 at this tick rate (above 1 the discrete loop overshoots)",
     path: ["driftCorrectionGainPerS"],
   })
   .refine((p) => p.damping.kind !== "singular-value" || p.guard.sigmaStopM <= p.damping.epsilonM, {
@@ -93,12 +129,19 @@ export function defaultProfileParams(ratedJointSpeedsRadPerS: readonly number[])
     tcpAngularCapRadPerS: Math.PI / 2,
     jointLimitMarginRad: (5 * Math.PI) / 180,
     jointLimitSlowZoneRad: (15 * Math.PI) / 180,
-    guard: { policy: "damp-through", sigmaStopM: 0.02 },
+    // Stop before the singular region until the operator acknowledges: the singularity protection of
+    // ISO 10218-1:2011 ("singularity protection", 5.11 in METHODS.md §7 — clause number and wording from
+    // memory, not verified; that edition was replaced in February 2025 by ISO 10218-1:2025, whose
+    // numbering differs). The site's ceilings may still allow damp-through.
+    guard: { policy: "stop-before", sigmaStopM: 0.02 },
     watchdogMs: 200,
     shaping: { deadband: 0.1, expo: 0.3, linearAccelMPerS2: 1.0, angularAccelRadPerS2: 4.0 },
     speedOverride: { defaultPercent: 50, maxPercent: 100 },
     tickRateHz: 500,
     driftCorrectionGainPerS: 0,
+    jointAccelFraction: 0.5,
+    driftReanchorM: 0.005,
+    nullSpace: { enabled: false, gainPerS: 0.5 },
   };
 }
 
@@ -111,8 +154,28 @@ export type VersionState = z.infer<typeof versionStateSchema>;
 // Site ceilings
 // ---------------------------------------------------------------------------------------------------
 
-/** ISO 10218-1:2011 (manual reduced speed): TCP speed at most 250 mm/s. The default linear ceiling. */
+/**
+ * TCP speed at most 250 mm/s in manual reduced speed: the figure is from ISO 10218-1:2011, confirmed in
+ * secondary sources only (METHODS.md §7; the clause, 5.6 "reduced speed control", is from memory, not
+ * verified). That edition was replaced in February 2025 by ISO 10218-1:2025, which keeps a reduced-speed
+ * mode; whether it keeps the same figure was not checked. The default linear ceiling.
+ */
 export const ISO_10218_REDUCED_SPEED_M_PER_S = 0.25;
+
+/**
+ * Distance covered by a controlled stop from `speedMPerS` at a constant deceleration `decelMPerS2`:
+ * v²/(2a) (constant-deceleration kinematics, derived). Infinity when the deceleration is not positive.
+ */
+export function controlledStopDistanceM(speedMPerS: number, decelMPerS2: number): number {
+  if (!(decelMPerS2 > 0)) return Infinity;
+  const v = Math.abs(speedMPerS);
+  return (v * v) / (2 * decelMPerS2);
+}
+
+/** A profile's top TCP linear speed: its linear cap at the highest override it allows. */
+export function topTcpSpeedMPerS(params: Pick<ProfileParams, "tcpLinearCapMPerS" | "speedOverride">): number {
+  return (params.tcpLinearCapMPerS * params.speedOverride.maxPercent) / 100;
+}
 
 export const ceilingsSchema = z.object({
   tcpLinearMaxMPerS: positive("the TCP linear ceiling").refine((v) => v <= 2, "at most 2000 mm/s"),
@@ -123,6 +186,17 @@ export const ceilingsSchema = z.object({
   allowedGuardPolicies: z.array(guardPolicySchema).min(1, "allow at least one guard policy").refine((a) => new Set(a).size === a.length, "each policy once"),
   /** The smallest damping allowed at the singularity (λmax, λ0 or fixed λ). */
   lambdaMaxMinM: nonNegative("the smallest λmax").refine((v) => v <= 1, "at most 1 m"),
+  // The two below came after ceilings revision 1 was stored; their defaults let that row parse.
+  /**
+   * Longest controlled stop from a version's top TCP speed, v²/(2a). 50 mm default: common practice, no
+   * source. At most 1 m (our bound on a useful ceiling).
+   */
+  stoppingDistanceMaxM: positive("the longest stopping distance").refine((v) => v <= 1, "at most 1000 mm").default(0.05),
+  /**
+   * Smallest TCP linear deceleration (shaping.linearAccelMPerS2, which also sets the controlled-stop ramp).
+   * 0.5 m/s² default: our choice, common practice, no source. At most 20 m/s² (the profile's own bound).
+   */
+  decelerationMinMPerS2: positive("the smallest deceleration").refine((v) => v <= 20, "at most 20 m/s²").default(0.5),
 });
 export type Ceilings = z.infer<typeof ceilingsSchema>;
 
@@ -133,6 +207,8 @@ export const DEFAULT_CEILINGS: Ceilings = {
   watchdogMaxMs: 300,
   allowedGuardPolicies: ["damp-through", "stop-before"],
   lambdaMaxMinM: 0.01,
+  stoppingDistanceMaxM: 0.05,
+  decelerationMinMPerS2: 0.5,
 };
 
 export interface CeilingViolation {
@@ -144,6 +220,8 @@ export interface CeilingViolation {
 }
 
 const mmPerS = (v: number) => `${Math.round(v * 1000 * 10) / 10} mm/s`;
+const mm = (v: number) => `${Math.round(v * 1000 * 10) / 10} mm`;
+const mPerS2 = (v: number) => `${Math.round(v * 1000) / 1000} m/s²`;
 const degPerS = (v: number) => `${Math.round(((v * 180) / Math.PI) * 10) / 10} deg/s`;
 
 /** The damping a profile applies at the singularity itself (σ_min = 0 or w = 0). */
@@ -208,6 +286,53 @@ export function checkCeilings(
       field,
       ceiling: "lambdaMaxMinM",
       message: `damping at the singularity ${lambdaAtSingularity} m is below the site minimum of ${ceilings.lambdaMaxMinM} m`,
+    });
+  }
+  const decel = params.shaping.linearAccelMPerS2;
+  if (decel < ceilings.decelerationMinMPerS2 - 1e-12) {
+    out.push({
+      field: "shaping.linearAccelMPerS2",
+      ceiling: "decelerationMinMPerS2",
+      message: `linear deceleration ${mPerS2(decel)} is below the site minimum of ${mPerS2(ceilings.decelerationMinMPerS2)}`,
+    });
+  }
+  const topSpeed = topTcpSpeedMPerS(params);
+  const stop = controlledStopDistanceM(topSpeed, decel);
+  if (stop > ceilings.stoppingDistanceMaxM + 1e-12) {
+    out.push({
+      field: "shaping.linearAccelMPerS2",
+      ceiling: "stoppingDistanceMaxM",
+      message: `a controlled stop from the top speed ${mmPerS(topSpeed)} (TCP cap at ${params.speedOverride.maxPercent} % override) at ${mPerS2(decel)} takes ${mm(stop)} (v²/2a), longer than the site maximum of ${mm(ceilings.stoppingDistanceMaxM)}`,
+    });
+  }
+  return out;
+}
+
+// ---------------------------------------------------------------------------------------------------
+// Warnings: allowed, but worth a second look
+// ---------------------------------------------------------------------------------------------------
+
+export interface ProfileWarning {
+  /** Dotted path of the profile field, as in CeilingViolation. */
+  field: string;
+  message: string;
+}
+
+/**
+ * Settings the schema accepts but a reviewer should look at twice. Never a refusal: a version with
+ * warnings may be saved, submitted and approved.
+ */
+export function profileWarnings(params: ProfileParams): ProfileWarning[] {
+  const out: ProfileWarning[] = [];
+  const d = params.damping;
+  if (d.kind === "singular-value" && d.lambdaMaxM > d.epsilonM + 1e-12) {
+    // Along a singular direction DLS has gain σ/(σ² + λ²) (Buss 2004 notes; Deo & Walker 1995), i.e.
+    // σ²/(σ² + λ²) of the undamped 1/σ. With the
+    // schedule λ² = (1 − (σ/ε)²)·λmax², at σ = ε/√2 that is ε²/(ε² + λmax²), below one half when
+    // λmax > ε (derived).
+    out.push({
+      field: "damping.lambdaMaxM",
+      message: `λmax ${d.lambdaMaxM} m is above the damped region ε ${d.epsilonM} m: the tool passes less than half the commanded speed along the weak direction already at σ_min = ε/√2, well before the singularity`,
     });
   }
   return out;

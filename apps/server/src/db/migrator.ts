@@ -10,6 +10,8 @@ import * as m0007 from "./migrations/0007-mail-outbox.ts";
 import * as m0008 from "./migrations/0008-version-status-guard.ts";
 import * as m0010 from "./migrations/0010-jog-recordings.ts";
 import * as m0011 from "./migrations/0011-gamepad-mappings.ts";
+import * as m0012 from "./migrations/0012-station-estop-latches.ts";
+import * as m0013 from "./migrations/0013-flag-long-stops.ts";
 
 /** Versioned migrations, applied in order and recorded in `schema_migrations`. Never sync(). */
 const MIGRATIONS = [
@@ -23,6 +25,8 @@ const MIGRATIONS = [
   { name: "0008-version-status-guard", ...m0008 },
   { name: "0010-jog-recordings", ...m0010 },
   { name: "0011-gamepad-mappings", ...m0011 },
+  { name: "0012-station-estop-latches", ...m0012 },
+  { name: "0013-flag-long-stops", ...m0013 },
 ];
 
 /** The record of applied migrations, in a table this storage creates itself with plain SQL. */

@@ -10,7 +10,11 @@ import { paramsSha256, ratedJointSpeeds } from "../modules/profiles/service.ts";
  * The demo's profiles (idempotent; a profile that exists is left alone, so locked rows are never
  * touched): Olena's pack-opening profile on the six-axis arm with version 1 approved by Sigrid (written
  * by Emeka), so she can drive out of the box, and version 2 waiting for review; Tomás's cover-plate
- * profile on the seven-axis arm as a draft.
+ * profile on the seven-axis arm as a draft with the null-space term on. Every demo profile uses the
+ * stop-before singularity guard (defaultProfileParams); the site's default ceilings still allow both
+ * policies, and the safety officer decides. The approved version goes draft → submitted → locked →
+ * approved, the order the workflow and the lifecycle triggers (0003, 0008) expect, with its ceiling flag
+ * set from the ceilings in force.
  */
 async function userId(db: Sequelize, username: string): Promise<string | null> {
   const rows = await db.query<{ id: string }>("SELECT id FROM users WHERE username = ?", { replacements: [username], type: QueryTypes.SELECT });
@@ -32,7 +36,8 @@ export async function seedDemoProfiles(db: Sequelize): Promise<void> {
 
   const olenaName = "Olena — pack opening";
   if (!(await profiles.findProfileByName(db, olenaName, olena))) {
-    // Defaults: half of each rated joint speed, 250 mm/s TCP (the ISO 10218-1 reduced-speed limit).
+    // Defaults: half of each rated joint speed, 250 mm/s TCP (the manual reduced-speed figure of
+    // ISO 10218-1:2011, replaced in February 2025 by ISO 10218-1:2025), the stop-before guard.
     const v1: ProfileParams = defaultProfileParams(ratedJointSpeeds(arm6).map((s) => s!));
     // Version 2: more damping at the wrist singularity and a slower tool for unbolting module covers.
     const v2: ProfileParams = {
@@ -80,7 +85,12 @@ export async function seedDemoProfiles(db: Sequelize): Promise<void> {
 
   const tomasName = "Tomás — cover plates";
   if (!(await profiles.findProfileByName(db, tomasName, tomas))) {
-    const params: ProfileParams = { ...defaultProfileParams(ratedJointSpeeds(arm7).map((s) => s!)), watchdogMs: 150 };
+    // Seven joints: the null-space term keeps the spare joint away from its limits (Liégeois 1977).
+    const params: ProfileParams = {
+      ...defaultProfileParams(ratedJointSpeeds(arm7).map((s) => s!)),
+      watchdogMs: 150,
+      nullSpace: { enabled: true, gainPerS: 0.5 },
+    };
     await db.transaction(async (t) => {
       const profileId = await profiles.insertProfile(db, { name: tomasName, operatorId: tomas, armId: arm7Id, createdBy: emeka }, t);
       const versionId = await profiles.insertVersion(

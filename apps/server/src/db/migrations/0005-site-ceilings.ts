@@ -3,8 +3,10 @@ import type { Sequelize } from "sequelize";
 
 /**
  * Site ceilings, one row per revision (history kept; the highest revision is in force). Revision 1 is
- * the default set: TCP linear speed 250 mm/s, the manual reduced-speed limit of ISO 10218-1:2011 — the
- * values are written out here so this migration never changes when the shared defaults do.
+ * the default set: TCP linear speed 250 mm/s, the manual reduced-speed limit of ISO 10218-1:2011 (that
+ * edition was replaced in February 2025 by ISO 10218-1:2025; clause numbers from memory) — the values are
+ * written out here so this migration never changes when the shared defaults do. Later ceilings
+ * (stoppingDistanceMaxM, decelerationMinMPerS2) are absent from this row and parse with their defaults.
  */
 const REVISION_1 = {
   tcpLinearMaxMPerS: 0.25,

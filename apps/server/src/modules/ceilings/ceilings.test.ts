@@ -34,7 +34,7 @@ async function setCeilings(ceilings: Ceilings, note = "test") {
 }
 
 describe("site ceilings", () => {
-  it("every signed-in person reads the ceilings in force; the TCP linear default is the ISO 10218-1 reduced speed", async () => {
+  it("every signed-in person reads the ceilings in force; the TCP linear default is the ISO 10218-1:2011 reduced speed", async () => {
     const res = await call(h, "get", "/api/ceilings", team.operator.cookie);
     expect(res.status).toBe(200);
     const record = ceilingsRecordSchema.parse(res.body);
@@ -105,6 +105,29 @@ describe("site ceilings", () => {
     const after = await call(h, "get", `/api/profiles/${profile.id}`, team.operator.cookie);
     expect(after.body.profile.driveableVersionId).toBe(v3.id);
     expect(after.body.versions.find((v: { id: number }) => v.id === v2.id).state).toBe("superseded");
+  });
+
+  it("a shorter stopping distance or a higher minimum deceleration flags approved versions above it, like any other ceiling", async () => {
+    // 250 mm/s at 0.8 m/s²: 0.25²/(2·0.8) = 39 mm (v²/2a, derived): within the default 50 mm, above 35 mm.
+    const params = { ...compliantParams(arm), shaping: { ...compliantParams(arm).shaping, linearAccelMPerS2: 0.8 } };
+    const { version: byStop } = await approvedProfile(h, team, arm, params);
+    const { version: byDecel } = await approvedProfile(h, team, arm, params);
+    try {
+      const shorter = await setCeilings({ ...original, stoppingDistanceMaxM: 0.035 }, "shorter stops for the new fixture");
+      expect(shorter.flaggedVersionIds).toContain(byStop.id);
+      const operator = (await findUserById(h.db, team.operator.id))!;
+      await expect(loadVersionForDriving(h.db, operator, byStop.id)).rejects.toMatchObject({ status: 403, message: expect.stringContaining("ceilings") });
+      await setCeilings(original);
+      // byDecel was flagged too by the shorter stop; a fresh one shows the deceleration minimum on its own.
+      const { version: fresh } = await approvedProfile(h, team, arm, params);
+      const firmer = await setCeilings({ ...original, decelerationMinMPerS2: 0.9 }, "firmer ramps");
+      expect(firmer.flaggedVersionIds).toEqual(expect.arrayContaining([byDecel.id, fresh.id]));
+      const flags = await call(h, "get", `/api/audit?entity=version&actorId=${team.officer.id}`, await signIn(h, "sigrid"));
+      const summary = flags.body.entries.find((e: { entityId: string; action: string }) => e.entityId === String(fresh.id) && e.action === "flag")?.summary;
+      expect(summary).toContain("shaping.linearAccelMPerS2");
+    } finally {
+      await setCeilings(original);
+    }
   });
 
   it("a submitted version that a lowered ceiling now exceeds cannot be approved", async () => {

@@ -8,8 +8,12 @@ import * as model from "./model.ts";
 
 /**
  * Site ceilings no version may exceed. Revision 1 (migration 0005) sets the TCP linear ceiling to
- * 250 mm/s, the manual reduced-speed limit of ISO 10218-1:2011 (ISO_10218_REDUCED_SPEED_M_PER_S in
- * shared); each change writes a new revision and re-checks every approved version against it.
+ * 250 mm/s, the manual reduced-speed figure of ISO 10218-1:2011 (clause number from memory; that edition
+ * was replaced in February 2025 by ISO 10218-1:2025, which keeps a reduced-speed mode;
+ * ISO_10218_REDUCED_SPEED_M_PER_S in shared). Revision 1 predates the stopping-distance and deceleration
+ * ceilings: it parses with their defaults (ceilingsSchema), and migration 0013 re-checked the approved
+ * versions against them once. Each change writes a new revision and re-checks every approved version
+ * against it.
  */
 export const getCeilings = (db: Sequelize) => model.findLatestCeilings(db);
 

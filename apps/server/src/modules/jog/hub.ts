@@ -1,11 +1,12 @@
 import { randomUUID } from "node:crypto";
-import type { Arm, JogInput, JogSessionInfo, LiveSession, ProfileSummary, ProfileVersion, User } from "@jogwright/shared";
+import type { Arm, DrivingKind, JogInput, JogSessionInfo, LiveSession, ProfileSummary, ProfileVersion, User } from "@jogwright/shared";
 import type { AppContext } from "../../context.ts";
 import { insertRecording } from "../recordings/model.ts";
 import { RecordingWriter } from "../recordings/writer.ts";
 import type { FrameText, FromWorker, SessionCommand, SimThreadStats } from "./sim-messages.ts";
 import { SimulationThread } from "./sim-thread.ts";
 import { checkInputAxes, type InputResult, type SimulationSummary } from "./simulation.ts";
+import { sqlStationLatchStore, StationLatches, type Station } from "./station-latches.ts";
 
 /**
  * The live jog sessions of one server, on the main thread: per session a driver connection, any read-only
@@ -13,6 +14,10 @@ import { checkInputAxes, type InputResult, type SimulationSummary } from "./simu
  * sim-worker.ts): validated inputs and commands go there in order, ready-to-send state frames come back and
  * are sent as they are (and their recorded body, a slice of the same text, is queued for the recording).
  * Sockets (socket.ts) and the REST route /api/jog/live (routes.ts) reach it through jogHubFor(ctx).
+ *
+ * The hub also owns the emergency-stop latch of each operator station (user and arm, station-latches.ts):
+ * an e-stop latches the station and halts every live session at it; a session started at a latched station
+ * starts latched; only a deliberate reset clears it.
  */
 
 /** What a session sends to: the driver or a watcher connection. */
@@ -31,6 +36,8 @@ export interface DrivenVersion {
   version: ProfileVersion;
   profile: ProfileSummary;
   arm: Arm;
+  /** How the driver may drive it, by the shared driving rule (isDriveable, via loadVersionForDriving). */
+  kind: DrivingKind;
 }
 
 export class LiveJogSession {
@@ -68,6 +75,19 @@ export class LiveJogSession {
     return this.driven.version.params.tickRateHz;
   }
 
+  /** The operator station this session drives at: its driver at its arm. */
+  get station(): Station {
+    return { userId: this.driver.user.id, armId: this.driven.arm.id };
+  }
+
+  /**
+   * Unapproved unless the driving rule says "approved" (the approved version, not flagged above the
+   * ceilings); the state alone would call a flagged approved version approved.
+   */
+  get isUnapproved(): boolean {
+    return this.driven.kind !== "approved";
+  }
+
   get watchdogMs(): number {
     return this.driven.version.params.watchdogMs;
   }
@@ -79,7 +99,7 @@ export class LiveJogSession {
       versionId: version.id,
       versionNumber: version.number,
       versionState: version.state,
-      isUnapproved: version.state !== "approved",
+      isUnapproved: this.isUnapproved,
       profileId: profile.id,
       profileName: profile.name,
       armId: arm.id,
@@ -104,7 +124,7 @@ export class LiveJogSession {
       versionNumber: version.number,
       armName: arm.name,
       startedAt: this.startedAt.toISOString(),
-      isUnapproved: version.state !== "approved",
+      isUnapproved: this.isUnapproved,
     };
   }
 
@@ -205,6 +225,8 @@ export class LiveJogSession {
 export class JogHub {
   readonly writer: RecordingWriter;
   readonly thread: SimulationThread;
+  /** The emergency-stop latch of every operator station (authoritative here; stored and audited after). */
+  readonly stations: StationLatches;
   /** Live sessions by id (ended ones leave at once). */
   readonly sessions = new Map<string, LiveJogSession>();
   /** Sessions the simulation thread knows, by key, until their end is finished. */
@@ -216,6 +238,8 @@ export class JogHub {
   constructor(readonly ctx: AppContext, readonly frameRateHz: number) {
     this.writer = new RecordingWriter(ctx.db);
     this.thread = new SimulationThread((msg) => this.onWorkerMessage(msg), (error) => this.onWorkerFailure(error));
+    this.stations = new StationLatches(sqlStationLatchStore(ctx.db));
+    void this.stations.ready();
   }
 
   nextCmdSeq(): number {
@@ -229,16 +253,21 @@ export class JogHub {
   /**
    * Starts a session for an already-authorised version: creates its simulation on the simulation thread (at
    * q0 when given, else the arm's ready pose; a bad arm throws here, before anything ticks), the recording
-   * row, then schedules it.
+   * row, then schedules it. At a latched station the session starts latched.
    */
   async start(driver: FrameSink, driven: DrivenVersion, q0?: ArrayLike<number>): Promise<LiveJogSession> {
     const key = this.nextKey++;
     const session = new LiveJogSession(this, key, driver, driven, this.frameRateHz);
+    await this.stations.ready();
+    const estopLatched = this.stations.isLatched(session.station);
     await new Promise<void>((resolve, reject) => {
       this.creating.set(key, { resolve, reject });
       this.thread.post({
         t: "create", key, sessionId: session.id, framePeriodMs: session.framePeriodMs,
-        setup: { arm: driven.arm.model, readyPose: driven.arm.readyPose, params: driven.version.params, q0: q0 ? Array.from(q0) : undefined },
+        setup: {
+          arm: driven.arm.model, readyPose: driven.arm.readyPose, params: driven.version.params, q0: q0 ? Array.from(q0) : undefined,
+          estopLatched,
+        },
       });
     });
     const generation = this.thread.generation;
@@ -262,8 +291,40 @@ export class JogHub {
       void session.end("simulation-failed");
       throw new Error("the simulation thread failed while the session was starting");
     }
+    // Before its first tick: an e-stop at this station while the session was being created (it was not yet
+    // among the live sessions, so emergencyStop could not reach it).
+    if (!estopLatched && this.stations.isLatched(session.station)) session.command("estop");
     this.thread.post({ t: "run", key });
     return session;
+  }
+
+  /** The live sessions driven at a station (a person may have the drive page open twice). */
+  private sessionsAt(station: Station): LiveJogSession[] {
+    return [...this.sessions.values()].filter((s) => s.station.userId === station.userId && s.station.armId === station.armId);
+  }
+
+  /**
+   * Emergency stop from `session`'s driver: latches the station (in memory first; stored and audited after,
+   * and a failed write never undoes it) and halts every live session at that station at once.
+   */
+  emergencyStop(session: LiveJogSession): void {
+    const station = session.station;
+    this.stations.latch(station, this.stationEvent(session));
+    for (const s of new Set([session, ...this.sessionsAt(station)])) s.command("estop");
+  }
+
+  /**
+   * The deliberate reset from `session`'s driver: clears the station's latch and every live session's at
+   * it. The simulation never restarts motion on a reset (the enabling control must be released and pressed).
+   */
+  resetEmergencyStop(session: LiveJogSession): void {
+    const station = session.station;
+    if (this.stations.isLatched(station)) this.stations.reset(station, this.stationEvent(session));
+    for (const s of new Set([session, ...this.sessionsAt(station)])) s.command("reset-estop");
+  }
+
+  private stationEvent(session: LiveJogSession) {
+    return { actor: session.driver.user, armName: session.driven.arm.name, sessionId: session.id, versionId: session.driven.version.id };
   }
 
   forget(session: LiveJogSession): void {
@@ -314,12 +375,17 @@ export class JogHub {
     return this.thread.stats(reset);
   }
 
-  /** Ends every session (their last frames and recordings' ends), stops the simulation thread, drains the writer. */
+  /**
+   * Ends every session (their last frames and recordings' ends), stops the simulation thread, drains the
+   * writer and the station latches' writes.
+   */
   async close(): Promise<void> {
     // byKey also holds the sessions still ending (end is idempotent: those keep their own reason).
     await Promise.all([...this.byKey.values()].map((s) => s.end("server-shutdown")));
     await this.thread.close();
     await this.writer.close();
+    // Latches and resets still being stored (and audited) are written before the database goes away.
+    await this.stations.settled();
   }
 }
 

@@ -177,18 +177,25 @@ class JogConnection implements FrameSink {
         return;
       }
       case "estop": {
+        // Latches this person's station at this arm, not just this session (hub.ts, station-latches.ts).
         const s = this.requireDriving();
-        if (s) s.command("estop");
+        if (s) this.hub.emergencyStop(s);
         return;
       }
       case "reset-estop": {
         const s = this.requireDriving();
-        if (s) s.command("reset-estop");
+        if (s) this.hub.resetEmergencyStop(s);
         return;
       }
       case "acknowledge": {
         const s = this.requireDriving();
         if (s) s.command("acknowledge");
+        return;
+      }
+      case "device-changed": {
+        // A device that reappears with its enabling control held must not restart motion (gate requireRelease).
+        const s = this.requireDriving();
+        if (s) s.command("require-release");
         return;
       }
       case "ready-pose": {
@@ -274,7 +281,9 @@ class JogConnection implements FrameSink {
     const s = this.driving;
     if (!s) return;
     try {
-      await loadVersionForDriving(ctx.db, this.user, s.driven.version.id);
+      // Still driveable; an engineer's drive of a version flagged since the start becomes a test drive.
+      const now = await loadVersionForDriving(ctx.db, this.user, s.driven.version.id);
+      s.driven.kind = now.kind;
     } catch (error) {
       if (error instanceof AppError && (error.status === 403 || error.status === 404) && this.driving === s) {
         s.command("estop");

@@ -1,5 +1,14 @@
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
-import { profileParamsSchema, type ProfileParams, type ProfileSummary, type ProfileVersion, type Role, type VersionState } from "@jogwright/shared";
+import {
+  DRIVING_RULE,
+  profileParamsSchema,
+  type DrivingUser,
+  type ProfileParams,
+  type ProfileSummary,
+  type ProfileVersion,
+  type Role,
+  type VersionState,
+} from "@jogwright/shared";
 
 /**
  * Data access for profiles, their immutable versions (profile_versions, guarded by triggers), the
@@ -26,14 +35,51 @@ type VersionRow = {
   exceeds_ceilings: number;
 };
 
-const SELECT_VERSIONS = `
-  SELECT v.id, v.profile_id, v.number, v.parent_version_id, v.params, v.params_sha256, v.note, v.author_id,
-         a.display_name AS author_name, v.created_at, v.locked_at, s.state, s.submitted_at, s.decided_by,
-         d.display_name AS decided_by_name, s.decided_at, s.decision_comment, s.exceeds_ceilings
-  FROM profile_versions v
+const VERSION_COLUMNS = `
+  v.id, v.profile_id, v.number, v.parent_version_id, v.params, v.params_sha256, v.note, v.author_id,
+  a.display_name AS author_name, v.created_at, v.locked_at, s.state, s.submitted_at, s.decided_by,
+  d.display_name AS decided_by_name, s.decided_at, s.decision_comment, s.exceeds_ceilings`;
+const VERSION_TABLES = `
+  profile_versions v
   JOIN version_status s ON s.version_id = v.id
   JOIN users a ON a.id = v.author_id
   LEFT JOIN users d ON d.id = s.decided_by`;
+const SELECT_VERSIONS = `SELECT ${VERSION_COLUMNS} FROM ${VERSION_TABLES}`;
+
+// ---------------------------------------------------------------------------------------------------
+// The driving rule in SQL
+// ---------------------------------------------------------------------------------------------------
+
+const stateList = (states: readonly VersionState[]) => {
+  // The states are the shared enum's own words; checked anyway, since they are written into the SQL.
+  if (!states.every((st) => /^[a-z]+$/.test(st))) throw new Error("unexpected version state");
+  return states.length ? states.map((st) => `'${st}'`).join(", ") : "NULL";
+};
+
+/**
+ * `isDriveable(version, user).isDriveable` as an SQL condition, built from the shared DRIVING_RULE (the same
+ * definition isDriveable reads), over version_status alias `status` and profiles alias `profile`.
+ * `userIdSql` is "?" (bound to the user's id) or a column; `usesUserId` says whether it appears.
+ * The agreement test (driving.test.ts) checks it against isDriveable on every combination.
+ */
+export function driveableSql(
+  roles: readonly Role[],
+  aliases: { status: string; profile: string },
+  userIdSql: string,
+): { sql: string; usesUserId: boolean } {
+  const { status: s, profile: p } = aliases;
+  const parts: string[] = [];
+  let usesUserId = false;
+  if (roles.includes("engineer")) parts.push(`${s}.state IN (${stateList(DRIVING_RULE.engineerStates)})`);
+  if (roles.includes("operator")) {
+    parts.push(`(${p}.operator_id = ${userIdSql} AND ${s}.state IN (${stateList(DRIVING_RULE.operatorStates)}) AND ${s}.exceeds_ceilings = 0)`);
+    usesUserId = true;
+  }
+  return { sql: parts.length ? `(${parts.join(" OR ")})` : "FALSE", usesUserId };
+}
+
+/** The version a profile's own operator may drive: isDriveable for {id: p.operator_id, roles: ["operator"]}. */
+const OPERATOR_DRIVEABLE_SQL = driveableSql(["operator"], { status: "s2", profile: "p" }, "p.operator_id").sql;
 
 const iso = (d: Date | null) => (d ? new Date(d).toISOString() : null);
 
@@ -84,7 +130,7 @@ type ProfileRow = {
 const SELECT_PROFILES = `
   SELECT p.id, p.name, p.operator_id, o.display_name AS operator_name, p.arm_id, r.name AS arm_name, p.created_by, p.created_at,
          (SELECT s2.version_id FROM version_status s2 JOIN profile_versions v2 ON v2.id = s2.version_id
-          WHERE v2.profile_id = p.id AND s2.state = 'approved' AND s2.exceeds_ceilings = 0
+          WHERE v2.profile_id = p.id AND ${OPERATOR_DRIVEABLE_SQL}
           ORDER BY v2.number DESC LIMIT 1) AS driveable_version_id
   FROM profiles p JOIN users o ON o.id = p.operator_id JOIN arms r ON r.id = p.arm_id`;
 
@@ -221,14 +267,30 @@ export async function listVersionsInState(db: Sequelize, state: VersionState, tr
   return rows.map(toVersion);
 }
 
-/** Versions of all profiles in the given states (for the driving picker), newest profile version first. */
-export async function listVersionsInStates(db: Sequelize, states: VersionState[], filter: { operatorId?: string } = {}): Promise<VersionRecord[]> {
-  const rows = await db.query<VersionRow>(
-    `${SELECT_VERSIONS} JOIN profiles p ON p.id = v.profile_id
-     WHERE s.state IN (?) ${filter.operatorId ? "AND p.operator_id = ?" : ""} ORDER BY p.name, p.id, v.number DESC`,
-    { replacements: filter.operatorId ? [states, filter.operatorId] : [states], type: QueryTypes.SELECT },
+/** A version someone may drive, with its profile's names (what the picker shows). */
+export type DriveableVersionRecord = VersionRecord & { profileName: string; operatorId: string; operatorName: string; armId: number; armName: string };
+
+/**
+ * Every version `user` may drive, by the SQL form of the driving rule (driveableSql): by profile name,
+ * newest version first.
+ */
+export async function listDriveableVersions(db: Sequelize, user: DrivingUser): Promise<DriveableVersionRecord[]> {
+  const rule = driveableSql(user.roles, { status: "s", profile: "p" }, "?");
+  const rows = await db.query<VersionRow & { profile_name: string; operator_id: string; operator_name: string; arm_id: number; arm_name: string }>(
+    `SELECT ${VERSION_COLUMNS}, p.name AS profile_name, p.operator_id, o.display_name AS operator_name, p.arm_id, r.name AS arm_name
+     FROM ${VERSION_TABLES}
+     JOIN profiles p ON p.id = v.profile_id JOIN users o ON o.id = p.operator_id JOIN arms r ON r.id = p.arm_id
+     WHERE ${rule.sql} ORDER BY p.name, p.id, v.number DESC`,
+    { replacements: rule.usesUserId ? [user.id] : [], type: QueryTypes.SELECT },
   );
-  return rows.map(toVersion);
+  return rows.map((r) => ({
+    ...toVersion(r),
+    profileName: r.profile_name,
+    operatorId: r.operator_id,
+    operatorName: r.operator_name,
+    armId: r.arm_id,
+    armName: r.arm_name,
+  }));
 }
 
 export async function updateStatus(

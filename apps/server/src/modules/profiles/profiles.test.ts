@@ -210,6 +210,40 @@ describe("the approval workflow", () => {
     expect((await call(h, "get", `/api/versions/${v.id}`, team.officer.cookie)).body.version.state).toBe("submitted");
   });
 
+  it("a version stored before the new profile fields reads with their defaults, keeps its stored SHA-256 and is approved with it", async () => {
+    const profile = await createProfile(h, team, arm);
+    const v1 = profile.latestVersion;
+    // Version 2 exactly as an older server wrote it: its JSON has no jointAccelFraction, driftReanchorM, nullSpace.
+    const { jointAccelFraction: _a, driftReanchorM: _r, nullSpace: _n, ...old } = compliantParams(arm);
+    const storedSha = sha256(old);
+    const [id] = await h.db.query(
+      "INSERT INTO profile_versions (profile_id, number, parent_version_id, params, params_sha256, note, author_id) VALUES (?, 2, ?, ?, ?, 'old', ?)",
+      { replacements: [profile.id, v1.id, JSON.stringify(old), storedSha, team.engineer.id], type: QueryTypes.INSERT },
+    );
+    await h.db.query("INSERT INTO version_status (version_id, state) VALUES (?, 'draft')", { replacements: [id] });
+    const got = (await call(h, "get", `/api/versions/${id}`, team.officer.cookie)).body.version;
+    expect(got.params).toMatchObject({ jointAccelFraction: 0.5, driftReanchorM: 0.005, nullSpace: { enabled: false, gainPerS: 0.5 } });
+    // The identity is the stored hash of what was saved, not a hash of the parsed (defaulted) object.
+    expect(got.paramsSha256).toBe(storedSha);
+    expect(sha256(got.params)).not.toBe(storedSha);
+    await call(h, "post", `/api/versions/${id}/submit`, team.engineer.cookie).expect(200);
+    const approved = await call(h, "post", `/api/versions/${id}/approve`, team.officer.cookie).send({ comment: "old but fine", paramsSha256: storedSha });
+    expect(approved.status).toBe(200);
+    expect(approved.body.version).toMatchObject({ state: "approved", paramsSha256: storedSha });
+    const [row] = await h.db.query<{ params_sha256: string }>("SELECT params_sha256 FROM approvals WHERE version_id = ?", { replacements: [id], type: QueryTypes.SELECT });
+    expect(row!.params_sha256).toBe(storedSha);
+  });
+
+  it("a version whose controlled stop is longer than the site's 50 mm cannot be submitted; the refusal names the ceiling", async () => {
+    // 250 mm/s at 0.6 m/s²: 0.25²/(2·0.6) = 52 mm (v²/2a, derived), above the default 50 mm.
+    const params = { ...compliantParams(arm), shaping: { ...compliantParams(arm).shaping, linearAccelMPerS2: 0.6 } };
+    const profile = await createProfile(h, team, arm, params);
+    const res = await call(h, "post", `/api/versions/${profile.latestVersion.id}/submit`, team.engineer.cookie);
+    expect(res.status).toBe(422);
+    expect(res.body.error.code).toBe("ceiling_exceeded");
+    expect(res.body.error.issues).toEqual([{ path: "shaping.linearAccelMPerS2", message: expect.stringContaining("stoppingDistanceMaxM") }]);
+  });
+
   it("a version above a site ceiling cannot be submitted; the refusal names the field and the ceiling", async () => {
     const params = { ...compliantParams(arm), tcpLinearCapMPerS: 0.3, watchdogMs: 400 };
     const profile = await createProfile(h, team, arm, params);
@@ -275,7 +309,7 @@ describe("who may drive which version", () => {
     const { profile, version: v1 } = await approvedProfile(h, team, arm);
     const operator = (await findUserById(h.db, team.operator.id))!;
     const list = await driveableVersionsFor(h.db, operator);
-    expect(list.some((v) => v.id === v1.id && !v.isDraft)).toBe(true);
+    expect(list.some((v) => v.id === v1.id && v.kind === "approved")).toBe(true);
     expect(list.every((v) => v.state === "approved" && v.operatorId === operator.id)).toBe(true);
     const loaded = await loadVersionForDriving(h.db, operator, v1.id);
     expect(loaded.profile.id).toBe(profile.id);
@@ -284,7 +318,9 @@ describe("who may drive which version", () => {
     const v2 = (await call(h, "post", `/api/profiles/${profile.id}/versions`, team.engineer.cookie).send({ parentVersionId: v1.id, params: compliantParams(arm) })).body.version;
     await expect(loadVersionForDriving(h.db, operator, v2.id)).rejects.toMatchObject({ status: 403, message: expect.stringContaining("draft") });
     const olena = (await findUserById(h.db, (await call(h, "get", "/api/auth/me", await signIn(h, "olena"))).body.user.id))!;
-    await expect(loadVersionForDriving(h.db, olena, v1.id)).rejects.toMatchObject({ status: 403, message: expect.stringContaining("not to you") });
+    // Another operator's version is "not found" to an operator, and the refusal names nobody.
+    const refusal = loadVersionForDriving(h.db, olena, v1.id);
+    await expect(refusal).rejects.toMatchObject({ status: 404, code: "not_found", message: "No such version." });
   });
 
   it("an engineer may drive any version that is not retired, drafts marked; a safety officer none", async () => {
@@ -292,7 +328,7 @@ describe("who may drive which version", () => {
     const engineer = (await findUserById(h.db, team.engineer.id))!;
     const officer = (await findUserById(h.db, team.officer.id))!;
     const list = await driveableVersionsFor(h.db, engineer);
-    expect(list.find((v) => v.id === profile.latestVersion.id)).toMatchObject({ isDraft: true, profileName: profile.name });
+    expect(list.find((v) => v.id === profile.latestVersion.id)).toMatchObject({ kind: "test-drive", profileName: profile.name });
     await expect(loadVersionForDriving(h.db, engineer, profile.latestVersion.id)).resolves.toMatchObject({ version: { id: profile.latestVersion.id } });
     expect(await driveableVersionsFor(h.db, officer)).toEqual([]);
     await expect(loadVersionForDriving(h.db, officer, profile.latestVersion.id)).rejects.toMatchObject({ status: 403 });

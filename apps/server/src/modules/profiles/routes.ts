@@ -1,6 +1,7 @@
 import {
   approveVersionSchema,
   createProfileSchema,
+  type DriveVersionsResponse,
   numericIdParamSchema,
   rejectVersionSchema,
   retireVersionSchema,
@@ -11,7 +12,10 @@ import { parseBody, parseParams } from "../../http/validate.ts";
 import type { AppContext } from "../../context.ts";
 import * as service from "./service.ts";
 
-/** Profiles, their versions and the review queue; operators to pick from when creating a profile. */
+/**
+ * Profiles, their versions and the review queue; operators to pick from when creating a profile; the
+ * versions the signed-in person may drive.
+ */
 export function profileRouters(ctx: AppContext): ApiRouter[] {
   const operators = new ApiRouter("/api/operators").add("get", "/", ["engineer", "safety_officer"], async (_req, res) => {
     res.json({ operators: await service.listOperators(ctx.db) });
@@ -64,5 +68,11 @@ export function profileRouters(ctx: AppContext): ApiRouter[] {
     res.json({ versions: await service.listReviewQueue(ctx.db) });
   });
 
-  return [operators, profiles, versions, reviews];
+  // What the signed-in person may drive, by the one driving rule (empty for those who drive nothing).
+  const drive = new ApiRouter("/api/drive").add("get", "/versions", "signed-in", async (_req, res) => {
+    const body: DriveVersionsResponse = { versions: await service.driveableVersionsFor(ctx.db, requireAccount(res)) };
+    res.json(body);
+  });
+
+  return [operators, profiles, versions, reviews, drive];
 }

@@ -1,11 +1,15 @@
 import { UniqueConstraintError, type Sequelize, type Transaction } from "sequelize";
 import {
   checkCeilings,
+  drivingRefusalMessage,
   hasAnyRole,
+  isDriveable,
   type Arm,
   type Ceilings,
   type CeilingViolation,
   type CreateProfileInput,
+  type DriveableVersion,
+  type DrivingKind,
   type ProfileParams,
   type ProfileSummary,
   type ProfileVersion,
@@ -480,80 +484,51 @@ export async function reflagApprovedVersions(
 }
 
 // ---------------------------------------------------------------------------------------------------
-// Driving (used by the live-jogging work)
+// Driving: every answer here comes from the shared isDriveable (packages/shared/src/driving.ts)
 // ---------------------------------------------------------------------------------------------------
 
-/** A version someone may drive, with what the picker shows; `isDraft` marks an engineer's unapproved try-out. */
-export type DriveableVersion = ProfileVersion & {
-  profileName: string;
-  operatorId: string;
-  operatorName: string;
-  armId: number;
-  armName: string;
-  isDraft: boolean;
-};
-
-const isApprovedForDriving = (v: ProfileVersion) => v.state === "approved" && !v.exceedsCeilings;
+/** The facts isDriveable needs, for a version of a profile. */
+export const drivingFacts = (version: Pick<ProfileVersion, "state" | "exceedsCeilings">, profile: Pick<ProfileSummary, "operatorId">) => ({
+  state: version.state,
+  exceedsCeilings: version.exceedsCeilings,
+  operatorId: profile.operatorId,
+});
 
 /**
- * What `user` may drive. An operator: the current approved, not flagged, version of each profile
- * assigned to them. An engineer: every version of every profile that is not retired (to try them out),
- * with `isDraft` set on all but approved, driveable ones. Anyone else: nothing.
+ * What `user` may drive (GET /api/drive/versions, the console's picker): the versions the SQL form of the
+ * rule selects, each with the kind isDriveable gives it. The two are kept in agreement by a test; a row
+ * the function refuses is left out (and logged), never shown as driveable.
  */
 export async function driveableVersionsFor(db: Sequelize, user: User): Promise<DriveableVersion[]> {
-  let versions: model.VersionRecord[];
-  if (user.roles.includes("engineer")) {
-    versions = await model.listVersionsInStates(db, ["draft", "submitted", "approved", "rejected", "superseded"]);
-  } else if (user.roles.includes("operator")) {
-    versions = (await model.listVersionsInStates(db, ["approved"], { operatorId: user.id })).filter(isApprovedForDriving);
-  } else {
-    return [];
+  const rows = await model.listDriveableVersions(db, user);
+  const out: DriveableVersion[] = [];
+  for (const row of rows) {
+    const decision = isDriveable(drivingFacts(row, row), user);
+    if (!decision.isDriveable) {
+      console.error(`[jogwright] the driving rule's SQL and isDriveable disagree on version ${row.id} for user ${user.id}`);
+      continue;
+    }
+    const { lockedAt: _lockedAt, ...version } = row;
+    out.push({ ...version, kind: decision.kind });
   }
-  const profiles = new Map<number, model.ProfileRecord>();
-  for (const v of versions) if (!profiles.has(v.profileId)) profiles.set(v.profileId, (await model.findProfile(db, v.profileId))!);
-  return versions.map((v) => {
-    const p = profiles.get(v.profileId)!;
-    return {
-      ...model.publicVersion(v),
-      profileName: p.name,
-      operatorId: p.operatorId,
-      operatorName: p.operatorName,
-      armId: p.armId,
-      armName: p.armName,
-      isDraft: !isApprovedForDriving(v),
-    };
-  });
+  return out;
 }
 
 /**
- * The version, its profile and arm, if `user` may drive it; otherwise AppError 403 with the reason (404
- * when there is no such version). Operator: only the current driveable approved version of a profile
- * assigned to them. Engineer: any version that is not retired, drafts included. Safety officer, admin: none.
+ * The version, its profile and arm, and how it is driven, if `user` may drive it; otherwise the AppError
+ * of the driving rule: 404 for a missing version (and, to an operator, for another operator's version),
+ * 403 with the reason otherwise.
  */
 export async function loadVersionForDriving(
   db: Sequelize,
   user: User,
   versionId: number,
-): Promise<{ version: ProfileVersion; profile: ProfileSummary; arm: Arm }> {
+): Promise<{ version: ProfileVersion; profile: ProfileSummary; arm: Arm; kind: DrivingKind }> {
   const version = await model.findVersion(db, versionId);
   if (!version) throw new AppError(404, "not_found", "No such version.");
   const profile = (await model.findProfile(db, version.profileId))!;
-  const label = versionLabel(profile, version);
+  const decision = isDriveable(drivingFacts(version, profile), user);
+  if (!decision.isDriveable) throw new AppError(decision.status, decision.code, drivingRefusalMessage(decision, versionLabel(profile, version)));
   const arm = await armFor(db, profile.armId);
-  const result = { version: model.publicVersion(version), profile: model.publicProfile(profile), arm };
-  if (user.roles.includes("engineer")) {
-    if (version.state === "retired") throw new AppError(403, "forbidden", `${label} is retired and cannot be driven.`);
-    return result;
-  }
-  if (user.roles.includes("operator")) {
-    if (profile.operatorId !== user.id) throw new AppError(403, "forbidden", `${label} belongs to a profile assigned to ${profile.operatorName}, not to you.`);
-    if (version.state !== "approved") {
-      throw new AppError(403, "forbidden", `${label} is ${version.state}; operators drive only the current approved version.`);
-    }
-    if (version.exceedsCeilings) {
-      throw new AppError(403, "forbidden", `${label} exceeds the site ceilings, which were lowered after its approval; it cannot be driven until a compliant version is approved.`);
-    }
-    return result;
-  }
-  throw new AppError(403, "forbidden", "Only operators and engineers drive the arm.");
+  return { version: model.publicVersion(version), profile: model.publicProfile(profile), arm, kind: decision.kind };
 }

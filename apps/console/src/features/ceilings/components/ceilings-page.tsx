@@ -34,6 +34,8 @@ interface CeilingsFormValues {
   watchdogMaxMs: number;
   allowedGuardPolicies: GuardPolicy[];
   lambdaMaxMinM: number;
+  stoppingDistanceMaxMm: number;
+  decelerationMinMPerS2: number;
   note: string;
 }
 
@@ -44,6 +46,8 @@ const PATH_TO_KEY: Record<keyof Ceilings, keyof CeilingsFormValues> = {
   watchdogMaxMs: "watchdogMaxMs",
   allowedGuardPolicies: "allowedGuardPolicies",
   lambdaMaxMinM: "lambdaMaxMinM",
+  stoppingDistanceMaxM: "stoppingDistanceMaxMm",
+  decelerationMinMPerS2: "decelerationMinMPerS2",
 };
 
 const toUi = (c: Ceilings): Omit<CeilingsFormValues, "note"> => ({
@@ -53,6 +57,8 @@ const toUi = (c: Ceilings): Omit<CeilingsFormValues, "note"> => ({
   watchdogMaxMs: c.watchdogMaxMs,
   allowedGuardPolicies: [...c.allowedGuardPolicies],
   lambdaMaxMinM: c.lambdaMaxMinM,
+  stoppingDistanceMaxMm: roundTo(UNITS.metresToMm.toUi(c.stoppingDistanceMaxM), 1),
+  decelerationMinMPerS2: roundTo(c.decelerationMinMPerS2, 3),
 });
 
 const fromUi = (v: CeilingsFormValues): Record<keyof Ceilings, unknown> => ({
@@ -63,6 +69,8 @@ const fromUi = (v: CeilingsFormValues): Record<keyof Ceilings, unknown> => ({
   // An unticked group of checkboxes reads as false in react-hook-form.
   allowedGuardPolicies: Array.isArray(v.allowedGuardPolicies) ? v.allowedGuardPolicies : [],
   lambdaMaxMinM: v.lambdaMaxMinM,
+  stoppingDistanceMaxM: UNITS.metresToMm.toSi(v.stoppingDistanceMaxMm),
+  decelerationMinMPerS2: v.decelerationMinMPerS2,
 });
 
 /** The UI values are converted to SI and checked with the shared ceilingsSchema, as the server does. */
@@ -217,6 +225,22 @@ function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: 
               disabled={!canEdit}
               error={errors.watchdogMaxMs?.message}
               {...register("watchdogMaxMs", { valueAsNumber: true })}
+            />
+            <NumberField
+              label="Controlled stop, at most"
+              unit="mm"
+              hint="From a version's top TCP speed (linear cap at its maximum override) at its linear deceleration, v²/2a. Default 50 mm: common practice, no source."
+              disabled={!canEdit}
+              error={errors.stoppingDistanceMaxMm?.message}
+              {...register("stoppingDistanceMaxMm", { valueAsNumber: true })}
+            />
+            <NumberField
+              label="Linear deceleration, at least"
+              unit="m/s²"
+              hint="The smallest linear acceleration limit a version may use; it also sets the controlled-stop ramp. Default 0.5 m/s²: common practice, no source."
+              disabled={!canEdit}
+              error={errors.decelerationMinMPerS2?.message}
+              {...register("decelerationMinMPerS2", { valueAsNumber: true })}
             />
             <NumberField
               label="Damping at the singularity, at least"

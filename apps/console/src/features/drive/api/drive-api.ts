@@ -1,6 +1,7 @@
 import { queryOptions } from "@tanstack/react-query";
 import { z } from "zod";
 import {
+  driveVersionsResponseSchema,
   gamepadMappingSchema,
   liveSessionSchema,
   profileSummarySchema,
@@ -21,6 +22,8 @@ const liveListSchema = z.object({ sessions: z.array(liveSessionSchema) });
 
 export const driveKeys = {
   profiles: () => ["profiles", "list"] as const,
+  /** Under "versions", so every change to a version or to the ceilings (which invalidate it) refetches it. */
+  driveableVersions: () => ["versions", "driveable"] as const,
   profile: (id: number) => ["profiles", "detail", id] as const,
   gamepadMapping: () => ["gamepad-mapping"] as const,
   liveSessions: () => ["jog", "live"] as const,
@@ -30,6 +33,16 @@ export const profileListQueryOptions = () =>
   queryOptions({
     queryKey: driveKeys.profiles(),
     queryFn: async ({ signal }) => (await apiRequest("/api/profiles", { schema: profileListSchema, signal })).profiles,
+  });
+
+/**
+ * GET /api/drive/versions: what the signed-in person may drive, decided on the server by the one driving
+ * rule (isDriveable); the picker shows exactly this list.
+ */
+export const driveableVersionsQueryOptions = () =>
+  queryOptions({
+    queryKey: driveKeys.driveableVersions(),
+    queryFn: async ({ signal }) => (await apiRequest("/api/drive/versions", { schema: driveVersionsResponseSchema, signal })).versions,
   });
 
 export const profileDetailQueryOptions = (id: number) =>

@@ -110,7 +110,6 @@ export function DrivePage() {
         ) : null}
         {profiles.data ? (
           <VersionPicker
-            profiles={profiles.data}
             isEngineer={isEngineer}
             picked={picked}
             onPick={setPicked}

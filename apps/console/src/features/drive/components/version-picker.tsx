@@ -1,14 +1,17 @@
 import { useId } from "react";
 import { useQuery } from "@tanstack/react-query";
-import type { ProfileSummary, ProfileVersion } from "@jogwright/shared";
+import type { DriveableVersion } from "@jogwright/shared";
 import { Button } from "../../../components/ui/button.tsx";
+import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { describeError } from "../../../lib/api-client.ts";
-import { profileDetailQueryOptions } from "../api/drive-api.ts";
+import { driveableVersionsQueryOptions } from "../api/drive-api.ts";
 
 /**
- * Profile, then version. Operators see only their profiles with an approved, driveable version and only
- * that version; engineers may pick any version that is not retired, drafts marked plainly.
+ * Profile, then version, from GET /api/drive/versions: the server's one driving rule (isDriveable in
+ * packages/shared) decides what is listed, so the picker never offers what the socket would refuse.
+ * Operators see the approved version of each profile assigned to them; engineers every version that is not
+ * retired, anything but the approved, unflagged one marked plainly as a test drive.
  */
 
 export interface PickedVersion {
@@ -18,12 +21,36 @@ export interface PickedVersion {
 
 const selectClass = "h-9 min-w-64 rounded-md border border-ink-600 bg-ink-800 px-3 text-sm text-ink-100 hover:border-ink-400 disabled:text-ink-400";
 
-export function versionLabel(v: Pick<ProfileVersion, "number" | "state">): string {
-  return v.state === "approved" ? `Version ${v.number} · approved` : `Version ${v.number} · ${v.state} — UNAPPROVED, engineer test drive`;
+export function versionLabel(v: Pick<DriveableVersion, "number" | "state" | "kind" | "exceedsCeilings">): string {
+  if (v.kind === "approved") return `Version ${v.number} · approved`;
+  const state = v.exceedsCeilings ? `${v.state}, above the site ceilings` : v.state;
+  return `Version ${v.number} · ${state} — UNAPPROVED, engineer test drive`;
 }
 
-export function VersionPicker({ profiles, isEngineer, picked, onPick, onStart, isDriving, canStart }: {
-  profiles: readonly ProfileSummary[];
+interface ProfileChoice {
+  profileId: number;
+  label: string;
+  versions: DriveableVersion[];
+}
+
+/** The listed versions grouped by profile, in the server's order (profile name, newest version first). */
+function groupByProfile(versions: readonly DriveableVersion[], isEngineer: boolean): ProfileChoice[] {
+  const byProfile = new Map<number, ProfileChoice>();
+  for (const v of versions) {
+    let choice = byProfile.get(v.profileId);
+    if (!choice) {
+      choice = { profileId: v.profileId, label: `${v.profileName} — ${v.armName}${isEngineer ? ` (for ${v.operatorName})` : ""}`, versions: [] };
+      byProfile.set(v.profileId, choice);
+    }
+    choice.versions.push(v);
+  }
+  return [...byProfile.values()];
+}
+
+/** The version to preselect: the approved one when there is one, else the newest. */
+const defaultVersionOf = (choice: ProfileChoice | undefined) => (choice?.versions.find((v) => v.kind === "approved") ?? choice?.versions[0])?.id ?? null;
+
+export function VersionPicker({ isEngineer, picked, onPick, onStart, isDriving, canStart }: {
   isEngineer: boolean;
   picked: PickedVersion;
   onPick: (picked: PickedVersion) => void;
@@ -32,35 +59,28 @@ export function VersionPicker({ profiles, isEngineer, picked, onPick, onStart, i
   canStart: boolean;
 }) {
   const id = useId();
-  const choices = isEngineer ? profiles : profiles.filter((p) => p.driveableVersionId !== null);
-  const detail = useQuery({ ...profileDetailQueryOptions(picked.profileId ?? 0), enabled: picked.profileId !== null });
-  const profile = choices.find((p) => p.id === picked.profileId) ?? null;
+  const driveable = useQuery(driveableVersionsQueryOptions());
 
-  let versions: { id: number; label: string }[] = [];
-  if (profile) {
-    if (!isEngineer) {
-      const id = profile.driveableVersionId;
-      const known = detail.data?.versions.find((v) => v.id === id) ?? (profile.latestVersion.id === id ? profile.latestVersion : null);
-      versions = id === null ? [] : [{ id, label: known ? versionLabel(known) : "Approved version" }];
-    } else if (detail.data) {
-      versions = detail.data.versions
-        .filter((v) => v.state !== "retired")
-        .sort((a, b) => b.number - a.number)
-        .map((v) => ({ id: v.id, label: versionLabel(v) + (v.exceedsCeilings ? " (exceeds site ceilings)" : "") }));
-    } else {
-      versions = [{ id: profile.latestVersion.id, label: versionLabel(profile.latestVersion) }];
-    }
+  if (driveable.isPending) return <Loading label="Loading what you may drive…" />;
+  if (driveable.isError) {
+    return (
+      <Message tone="stop" title="Could not load the versions you may drive">
+        {describeError(driveable.error)}
+      </Message>
+    );
   }
-
+  const choices = groupByProfile(driveable.data, isEngineer);
   if (choices.length === 0) {
     return (
       <Message tone="warn" title="Nothing to drive">
         {isEngineer
-          ? "There is no rate profile yet. Create one on the Profiles page."
+          ? "There is no version to try out yet. Create a rate profile on the Profiles page."
           : "No approved profile version is assigned to you. Ask an engineer for one and a safety officer to approve it."}
       </Message>
     );
   }
+  const profile = choices.find((c) => c.profileId === picked.profileId) ?? null;
+  const versions = profile?.versions ?? [];
 
   return (
     <div className="flex flex-wrap items-end gap-3">
@@ -71,16 +91,14 @@ export function VersionPicker({ profiles, isEngineer, picked, onPick, onStart, i
           className={selectClass}
           value={picked.profileId ?? ""}
           onChange={(event) => {
-            const id = event.target.value === "" ? null : Number(event.target.value);
-            const next = choices.find((p) => p.id === id);
-            onPick({ profileId: id, versionId: next && !isEngineer ? next.driveableVersionId : (next?.driveableVersionId ?? next?.latestVersion.id ?? null) });
+            const profileId = event.target.value === "" ? null : Number(event.target.value);
+            onPick({ profileId, versionId: defaultVersionOf(choices.find((c) => c.profileId === profileId)) });
           }}
         >
           <option value="">Pick a profile…</option>
-          {choices.map((p) => (
-            <option key={p.id} value={p.id}>
-              {p.name} — {p.armName}
-              {isEngineer ? ` (for ${p.operatorName})` : ""}
+          {choices.map((c) => (
+            <option key={c.profileId} value={c.profileId}>
+              {c.label}
             </option>
           ))}
         </select>
@@ -97,15 +115,14 @@ export function VersionPicker({ profiles, isEngineer, picked, onPick, onStart, i
           {versions.length === 0 ? <option value="">—</option> : null}
           {versions.map((v) => (
             <option key={v.id} value={v.id}>
-              {v.label}
+              {versionLabel(v)}
             </option>
           ))}
         </select>
       </div>
-      <Button variant="primary" onClick={onStart} disabled={!canStart || picked.versionId === null}>
+      <Button variant="primary" onClick={onStart} disabled={!canStart || picked.versionId === null || !versions.some((v) => v.id === picked.versionId)}>
         {isDriving ? "Switch to this version" : "Start driving"}
       </Button>
-      {detail.isError && isEngineer ? <p className="text-xs text-stop-400">{describeError(detail.error)}</p> : null}
     </div>
   );
 }

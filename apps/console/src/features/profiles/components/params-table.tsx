@@ -1,6 +1,15 @@
 import { Fragment } from "react";
-import { diffProfileParams, type DiffValue, type JointKind, type ProfileParamDiffRow, type ProfileParams } from "@jogwright/shared";
+import {
+  diffProfileParams,
+  labelForProfilePath,
+  profileWarnings,
+  type DiffValue,
+  type JointKind,
+  type ProfileParamDiffRow,
+  type ProfileParams,
+} from "@jogwright/shared";
 import { Badge } from "../../../components/ui/badge.tsx";
+import { Message } from "../../../components/ui/message.tsx";
 import { cn } from "../../../lib/cn.ts";
 
 export function formatDiffValue(value: DiffValue): string {
@@ -17,36 +26,60 @@ function groupRows(rows: ProfileParamDiffRow[]): [string, ProfileParamDiffRow[]]
 
 const Unit = ({ unit }: { unit: string }) => (unit === "—" ? null : <span className="num ml-1 text-xs text-ink-400">{unit}</span>);
 
-/** Every parameter of one version, grouped as in the form, values in UI units. */
+/**
+ * The shared profileWarnings of a parameter set: settings that are allowed but worth a second look (not
+ * refusals; a version with warnings may be submitted and approved). Nothing when there are none.
+ */
+export function ParamsWarnings({ params }: { params: ProfileParams }) {
+  const warnings = profileWarnings(params);
+  if (warnings.length === 0) return null;
+  return (
+    <Message tone="warn" title={warnings.length === 1 ? "Worth a second look" : `${warnings.length} settings worth a second look`}>
+      <ul className="list-disc pl-4" data-testid="profile-warnings">
+        {warnings.map((w) => (
+          <li key={w.field}>
+            <span className="font-semibold">{labelForProfilePath(w.field)}:</span> {w.message}.
+          </li>
+        ))}
+      </ul>
+      <p className="mt-1">A warning, not a refusal: the version can still be submitted and approved.</p>
+    </Message>
+  );
+}
+
+/** Every parameter of one version, grouped as in the form, values in UI units, with its warnings. */
 export function ParamsTable({ params, jointKinds, caption }: { params: ProfileParams; jointKinds?: readonly JointKind[]; caption: string }) {
   const rows = diffProfileParams(params, params, jointKinds);
   return (
-    <div className="overflow-x-auto rounded-lg border border-ink-700">
-      <table className="w-full border-collapse text-left text-sm">
-        <caption className="sr-only">{caption}</caption>
-        <tbody>
-          {groupRows(rows).map(([group, items]) => (
-            <Fragment key={group}>
-              <tr className="bg-ink-800">
-                <th colSpan={2} scope="colgroup" className="border-b border-ink-700 px-3 py-1.5 text-xs font-semibold text-ink-300">
-                  {group}
-                </th>
-              </tr>
-              {items.map((row) => (
-                <tr key={row.field} className="border-b border-ink-700 last:border-b-0">
-                  <th scope="row" className="px-3 py-1.5 font-normal text-ink-300">
-                    {row.label}
+    <div className="flex flex-col gap-2">
+      <ParamsWarnings params={params} />
+      <div className="overflow-x-auto rounded-lg border border-ink-700">
+        <table className="w-full border-collapse text-left text-sm">
+          <caption className="sr-only">{caption}</caption>
+          <tbody>
+            {groupRows(rows).map(([group, items]) => (
+              <Fragment key={group}>
+                <tr className="bg-ink-800">
+                  <th colSpan={2} scope="colgroup" className="border-b border-ink-700 px-3 py-1.5 text-xs font-semibold text-ink-300">
+                    {group}
                   </th>
-                  <td className="px-3 py-1.5 text-right">
-                    <span className="num text-ink-100">{formatDiffValue(row.after)}</span>
-                    <Unit unit={row.uiUnit} />
-                  </td>
                 </tr>
-              ))}
-            </Fragment>
-          ))}
-        </tbody>
-      </table>
+                {items.map((row) => (
+                  <tr key={row.field} className="border-b border-ink-700 last:border-b-0">
+                    <th scope="row" className="px-3 py-1.5 font-normal text-ink-300">
+                      {row.label}
+                    </th>
+                    <td className="px-3 py-1.5 text-right">
+                      <span className="num text-ink-100">{formatDiffValue(row.after)}</span>
+                      <Unit unit={row.uiUnit} />
+                    </td>
+                  </tr>
+                ))}
+              </Fragment>
+            ))}
+          </tbody>
+        </table>
+      </div>
     </div>
   );
 }

@@ -2,6 +2,7 @@ import { useEffect, useMemo, type ReactNode } from "react";
 import { useForm, useWatch, type FieldErrors, type Resolver } from "react-hook-form";
 import {
   checkCeilings,
+  controlledStopDistanceM,
   DAMPING_KIND_LABELS,
   DAMPING_KINDS,
   GUARD_POLICIES,
@@ -11,7 +12,9 @@ import {
   profileParamsFromUi,
   profileParamsSchema,
   profileParamsToUi,
+  profileWarnings,
   roundTo,
+  topTcpSpeedMPerS,
   uiKeyForProfilePath,
   type Arm,
   type Ceilings,
@@ -21,6 +24,7 @@ import {
   type ProfileFieldGroup,
   type ProfileParams,
   type ProfileUiValues,
+  type ProfileWarning,
 } from "@jogwright/shared";
 import { Checkbox } from "../../../components/ui/checkbox.tsx";
 import { Message } from "../../../components/ui/message.tsx";
@@ -33,7 +37,12 @@ import { jointKindsOf, ratedSpeedsOf } from "./arm-joints.ts";
 /** The form state: every parameter in its UI unit (ProfileUiValues) plus the version note. */
 export type ProfileFormValues = ProfileUiValues & { note: string };
 
-export const ISO_CEILING_CITATION = "ISO 10218-1:2011, manual reduced speed: TCP ≤ 250 mm/s";
+/**
+ * Where the 250 mm/s figure comes from. The 2011 edition was replaced in February 2025; the clause number is
+ * from memory, not verified.
+ */
+export const ISO_CEILING_CITATION =
+  "ISO 10218-1:2011, manual reduced speed: TCP ≤ 250 mm/s (figure confirmed in secondary sources; clause number from memory). That edition was replaced in February 2025 by ISO 10218-1:2025, which keeps a reduced-speed mode";
 
 type FlatErrors = Record<string, string>;
 
@@ -76,11 +85,12 @@ export function validateProfileForm(values: ProfileFormValues, jointKinds: reado
   return Object.keys(errors).length === 0 && parsed.success ? { params: parsed.data, errors } : { errors };
 }
 
+/** The values as SI parameters; may be incomplete while typing (NaN compares false, so a blank field raises nothing). */
+const candidateOf = (values: ProfileFormValues, arm: Arm) => profileParamsFromUi(values, jointKindsOf(arm)) as unknown as ProfileParams;
+
 function ceilingViolationsOf(values: ProfileFormValues, ceilings: Ceilings | undefined, arm: Arm): CeilingViolation[] {
   if (!ceilings) return [];
-  // The candidate may be incomplete while typing; NaN compares false, so a blank field raises no warning.
-  const candidate = profileParamsFromUi(values, jointKindsOf(arm)) as unknown as ProfileParams;
-  return checkCeilings(candidate, ceilings, ratedSpeedsOf(arm));
+  return checkCeilings(candidateOf(values, arm), ceilings, ratedSpeedsOf(arm));
 }
 
 export interface ProfileParamsFormProps {
@@ -112,14 +122,16 @@ export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initia
   const { register, handleSubmit, control, setError, formState } = useForm<ProfileFormValues>({ resolver, mode: "onChange", defaultValues });
   const values = useWatch({ control }) as ProfileFormValues;
   const violations = useMemo(() => ceilingViolationsOf(values, ceilings, arm), [values, ceilings, arm]);
+  const advisories = useMemo<ProfileWarning[]>(() => profileWarnings(candidateOf(values, arm)), [values, arm]);
   const warnings = useMemo(() => {
     const byKey: Record<string, string> = {};
-    for (const v of violations) {
-      const key = uiKeyForProfilePath(v.field);
-      if (key) byKey[key] = v.message;
+    // A ceiling breach outranks an advisory on the same field.
+    for (const w of [...advisories, ...violations]) {
+      const key = uiKeyForProfilePath(w.field);
+      if (key) byKey[key] = w.message;
     }
     return byKey;
-  }, [violations]);
+  }, [violations, advisories]);
 
   useEffect(() => {
     for (const issue of serverIssues ?? []) {
@@ -175,7 +187,7 @@ export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initia
         )}
         <div className="flex items-end pb-2 md:col-span-3">
           <Checkbox
-            label="Numerical filtering: damp only the smallest singular direction (Maciejewski & Klein 1988)"
+            label="Numerical filtering: damp only the directions whose σ is below ε (Maciejewski & Klein 1988)"
             disabled={isReadOnly}
             {...register("dampSmallestOnly")}
           />
@@ -229,7 +241,17 @@ export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initia
       </Group>
 
       <Group title="Input" description="Shaping of the operator's input and the watchdog.">
-        {inGroup("Input").map((f) => field(f, undefined, f.uiKey === "watchdogMs" && ceilings ? `${f.hint} Site ceiling ${ceilings.watchdogMaxMs} ms.` : undefined))}
+        {inGroup("Input").map((f) =>
+          field(
+            f,
+            undefined,
+            f.uiKey === "watchdogMs" && ceilings
+              ? `${f.hint} Site ceiling ${ceilings.watchdogMaxMs} ms.`
+              : f.uiKey === "linearAccelMmPerS2"
+                ? stopHint(values, arm, ceilings)
+                : undefined,
+          ),
+        )}
       </Group>
 
       <Group title="Override">
@@ -240,6 +262,21 @@ export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initia
       <Group title="Loop">
         {field(byKey("tickRateHz"), ["driftCorrectionGainPerS"])}
         {field(byKey("driftCorrectionGainPerS"))}
+        {field(byKey("driftReanchorMm"))}
+      </Group>
+
+      <Group
+        title="Redundancy"
+        description={
+          arm.model.joints.length > 6
+            ? "Spare motion of a redundant arm, projected into the null space so the tool does not feel it."
+            : `This arm has ${arm.model.joints.length} joints and no spare motion: these settings have no effect on it.`
+        }
+      >
+        <div className="flex items-end pb-2">
+          <Checkbox label="Null-space term: keep joints away from their limits (Liégeois 1977)" disabled={isReadOnly} {...register("nullSpaceEnabled")} />
+        </div>
+        {field(byKey("nullSpaceGainPerS"))}
       </Group>
 
       <TextAreaField
@@ -261,6 +298,16 @@ export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initia
           <p className="mt-1">It can be saved as a draft, but cannot be submitted for review or approved.</p>
         </Message>
       ) : null}
+      {advisories.length > 0 ? (
+        <Message tone="warn" title={advisories.length === 1 ? "Worth a second look" : `${advisories.length} settings worth a second look`}>
+          <ul className="list-disc pl-4" data-testid="profile-warnings">
+            {advisories.map((w) => (
+              <li key={w.field}>{w.message.charAt(0).toUpperCase() + w.message.slice(1)}.</li>
+            ))}
+          </ul>
+          <p className="mt-1">A warning, not a refusal: the version can still be submitted and approved.</p>
+        </Message>
+      ) : null}
       {footer?.({ violations, isDirty: formState.isDirty })}
     </form>
   );
@@ -278,6 +325,15 @@ function ceilingHint(uiKey: string, ceilings: Ceilings | undefined): ReactNode |
   if (uiKey === "tcpAngularCapDegPerS") return `Site ceiling ${roundTo((ceilings.tcpAngularMaxRadPerS * 180) / Math.PI, 1)} deg/s.`;
   if (uiKey === "lambdaM" || uiKey === "lambdaMaxM" || uiKey === "lambda0M") return `Site minimum at the singularity ${ceilings.lambdaMaxMinM} m.`;
   return undefined;
+}
+
+/** The controlled stop the ramp gives from the top speed (v²/2a, derived), against the site's stop ceilings. */
+function stopHint(values: ProfileFormValues, arm: Arm, ceilings: Ceilings | undefined): ReactNode | undefined {
+  const p = candidateOf(values, arm);
+  const stopM = controlledStopDistanceM(topTcpSpeedMPerS(p), p.shaping?.linearAccelMPerS2 ?? Number.NaN);
+  const stop = Number.isFinite(stopM) ? `Also the controlled-stop ramp: from the top speed it stops in ${roundTo(stopM * 1000, 1)} mm (v²/2a).` : "Also the controlled-stop ramp.";
+  if (!ceilings) return stop;
+  return `${stop} Site: stop at most ${roundTo(ceilings.stoppingDistanceMaxM * 1000, 1)} mm, deceleration at least ${roundTo(ceilings.decelerationMinMPerS2 * 1000, 0)} mm/s² (${roundTo(ceilings.decelerationMinMPerS2, 3)} m/s²).`;
 }
 
 function Group({ title, description, children }: { title: string; description?: string; children: ReactNode }) {
