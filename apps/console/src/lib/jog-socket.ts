@@ -236,7 +236,7 @@ export class JogSocketClient implements FrameSource {
     return this.send({ type: "input", seq: ++this.inputSeq, ...input });
   }
 
-  command(type: "estop" | "reset-estop" | "acknowledge" | "ready-pose" | "stop"): boolean {
+  command(type: "estop" | "reset-estop" | "acknowledge" | "ready-pose" | "stop" | "device-changed"): boolean {
     return this.send({ type });
   }
 

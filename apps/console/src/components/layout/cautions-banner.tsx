@@ -5,7 +5,7 @@ const STORAGE_KEY = "jogwright.cautions.collapsed";
 
 /** The full caution of PRODUCT.md ("Cautions the product shows"). */
 export const CAUTION_TEXT =
-  "Simulation only — Jogwright never commands real hardware. A locked profile here is not a safety sign-off: real arms need the site's risk assessment, safety-rated stops and enabling devices, the applicable standards (ISO 10218-1/-2, IEC 60204-1, ISO 13850) and local regulations; qualified people decide.";
+  "Simulation only — Jogwright never commands real hardware. A locked profile here is not a safety sign-off: real arms need the site's risk assessment, safety-rated stops and enabling devices, the applicable standards (ISO 10218-1/-2:2025, IEC 60204-1, ISO 13850:2015) and local regulations; qualified people decide. The on-screen and gamepad STOP is not an emergency-stop device in the sense of ISO 13850: a browser and a network path are never part of a safety function.";
 const SHORT_TEXT = "Simulation only — not a safety sign-off for real arms.";
 
 function readCollapsed(): boolean {

@@ -66,6 +66,8 @@ export class JogInputController {
   private sliders = new Float64Array(MAX_AXES);
   private keysDown = new Set<string>();
   private gamepad = createGamepadReading();
+  /** Set when a device (re)appears or focus returns; cleared once the pad's enabling trigger reads released. */
+  private isPadReleaseNeeded = true;
   private wasEstopPressed = false;
   private timer: ReturnType<typeof setInterval> | null = null;
   private wasActive = false;
@@ -102,8 +104,20 @@ export class JogInputController {
     window.addEventListener("keydown", this.onKeyDown);
     window.addEventListener("keyup", this.onKeyUp);
     window.addEventListener("blur", this.releaseAll);
+    window.addEventListener("focus", this.noteDeviceChanged);
     document.addEventListener("visibilitychange", this.onVisibility);
   }
+
+  /**
+   * An input device appeared or the window regained focus: the gamepad's enabling trigger must be seen
+   * released before it counts again (a key still held is not seen either: keydown repeats are ignored
+   * until a fresh press), and the server makes a controlled stop until it sees a release.
+   */
+  private readonly noteDeviceChanged = (): void => {
+    this.isPadReleaseNeeded = true;
+    if (this.enablingSources.delete("gamepad")) this.publishEnabling();
+    if (!this.isReadOnly) jogClient.command("device-changed");
+  };
 
   stop(): void {
     this.releaseAll();
@@ -112,6 +126,7 @@ export class JogInputController {
     window.removeEventListener("keydown", this.onKeyDown);
     window.removeEventListener("keyup", this.onKeyUp);
     window.removeEventListener("blur", this.releaseAll);
+    window.removeEventListener("focus", this.noteDeviceChanged);
     document.removeEventListener("visibilitychange", this.onVisibility);
   }
 
@@ -248,7 +263,13 @@ export class JogInputController {
   tick(): void {
     const reading = readGamepad(this.mapping, this.gamepad);
     const gamepadId = reading.padIndex >= 0 ? reading.padId : null;
-    if (gamepadId !== this.snapshot.gamepadId) this.publish({ gamepadId });
+    if (gamepadId !== this.snapshot.gamepadId) {
+      // A pad appeared, reappeared or was swapped: its enabling trigger counts only after it has been seen
+      // released (PRODUCT.md step 2), here and on the server (device-changed → a controlled stop there).
+      if (gamepadId !== null) this.noteDeviceChanged();
+      this.publish({ gamepadId });
+    }
+    if (this.isPadReleaseNeeded && !reading.isEnablingHeld) this.isPadReleaseNeeded = false;
 
     if (reading.isEstopPressed && !this.wasEstopPressed) {
       // Only the driver's page sends it: a watcher's gamepad must not reach someone else's session.
@@ -261,8 +282,9 @@ export class JogInputController {
 
     if (!this.isReadOnly) {
       const hadPad = this.enablingSources.has("gamepad");
-      if (reading.isEnablingHeld !== hadPad) {
-        if (reading.isEnablingHeld) this.enablingSources.add("gamepad");
+      const isPadEnabling = reading.isEnablingHeld && !this.isPadReleaseNeeded;
+      if (isPadEnabling !== hadPad) {
+        if (isPadEnabling) this.enablingSources.add("gamepad");
         else this.enablingSources.delete("gamepad");
         this.publishEnabling();
       }

@@ -5,9 +5,9 @@ export const ROLE_SUMMARIES: Record<Role, string> = {
   operator:
     "You drive the simulated arm. You choose one of the rate profiles that was approved and assigned to you, jog the tool with a gamepad, sliders or the keyboard while holding the enabling control, watch how close the arm is to a singularity or a joint limit, and can record the session.",
   engineer:
-    "You tune how the arm answers an operator's hands. You define arms, write rate profiles for each operator, try them live, run scripted trials through and near singular configurations, compare versions side by side, sweep one setting to find a good value, and submit a version for review with its evidence.",
+    "You tune how the arm answers an operator's hands. You write rate profiles for each operator on the site's arms, try them live on the simulated arm, compare versions side by side, and submit a version for review. Scripted trials, sweeps and attached evidence are not available yet.",
   safety_officer:
-    "You decide what may be driven. You set the site ceilings that no profile may exceed, review submitted versions with their trial evidence and what changed since the last approved one, then approve and lock, reject with a reason, or retire a version. You can read the audit trail.",
+    "You decide what may be driven. You set the site ceilings that no profile may exceed, review submitted versions with what changed since the last approved one and the ceiling check, then approve and lock, reject with a reason, or retire a version. You can read the audit trail.",
   admin:
     "You keep the accounts in order: create users, give and take roles, set new passwords, deactivate and reactivate accounts, and read the log of outgoing mail.",
 };
