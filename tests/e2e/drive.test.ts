@@ -102,6 +102,8 @@ describe("drive page", { timeout: 120_000 }, () => {
     await enabling.dispatchEvent("pointerdown", { pointerId: 21, pointerType: "touch", isPrimary: true, button: 0 });
     await expect.poll(() => enabling.getAttribute("aria-pressed")).toBe("true");
     const plusZ = page.getByRole("button", { name: "Jog +Z" });
+    // The mouse presses where the button is on screen: bring it into view first, as a person would scroll.
+    await plusZ.scrollIntoViewIfNeeded();
     const box = (await plusZ.boundingBox())!;
     await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
     await page.mouse.down();

@@ -133,7 +133,8 @@ describe("controlStep", () => {
   });
 
   it("stops before the singular region until acknowledged, and lets the operator back out", () => {
-    // ISO 10218-1 singularity rule, from memory (PRODUCT.md step 7); behaviour of our guard design.
+    // ISO 10218-1:2011 singularity rule (clause and wording from memory, not verified; the 2011 edition was
+    // replaced in February 2025), PRODUCT.md step 7; behaviour of our guard design.
     const start = [0, -20, 30, 0, 25, 0].map((d) => (d * Math.PI) / 180);
     const { ws, state, report } = setup(arm6, start);
     const J = geometricJacobian(arm6.model, start);

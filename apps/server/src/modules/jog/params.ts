@@ -9,13 +9,6 @@ import type { ProfileParams } from "@jogwright/shared";
 export const GUARD_RELEASE_FACTOR = 1.5;
 
 /**
- * The profile defaults for fields that older stored versions may lack (the shared schema fills them in when
- * it parses; these cover a ProfileParams object built without the schema). Same values as the schema's.
- */
-const DEFAULT_JOINT_ACCEL_FRACTION = 0.5;
-const DEFAULT_DRIFT_REANCHOR_M = 0.005;
-
-/**
  * Re-anchor the orientation when its error exceeds ~0.05 rad (common practice, no source): a large error
  * means the arm was held back by a cap or limit, and pulling it back later would be unexpected motion.
  */
@@ -26,7 +19,7 @@ const DRIFT_REANCHOR_ORIENTATION = 0.05;
  * ratedJointAccel) [rad/s² or m/s²]; Infinity for a joint with neither maxAccel nor maxSpeed.
  */
 export function jointAccelLimits(p: ProfileParams, arm: ArmModel): Float64Array {
-  const fraction = p.jointAccelFraction ?? DEFAULT_JOINT_ACCEL_FRACTION;
+  const fraction = p.jointAccelFraction; // older stored versions get the default when the schema parses them
   return Float64Array.from(arm.joints, (j) => ratedJointAccel(j) * fraction);
 }
 
@@ -54,11 +47,11 @@ export function toControlParams(p: ProfileParams, arm: ArmModel): ControlParams 
     guard: { policy: p.guard.policy, sigmaStop: p.guard.sigmaStopM, releaseFactor: GUARD_RELEASE_FACTOR },
     driftCorrection:
       gain > 0
-        ? { gain, maxPositionError: p.driftReanchorM ?? DEFAULT_DRIFT_REANCHOR_M, maxOrientationError: DRIFT_REANCHOR_ORIENTATION }
+        ? { gain, maxPositionError: p.driftReanchorM, maxOrientationError: DRIFT_REANCHOR_ORIENTATION }
         : null,
     jointAccelLimits: jointAccelLimits(p, arm),
     // The null-space term needs redundancy: only arms with more than six joints (Liégeois 1977).
-    nullSpace: nullSpace?.enabled && jointCount > 6 ? { gain: nullSpace.gainPerS } : null,
+    nullSpace: nullSpace.enabled && jointCount > 6 ? { gain: nullSpace.gainPerS } : null,
     twistFrame: "world",
   };
 }

@@ -104,20 +104,28 @@ export class JogInputController {
     window.addEventListener("keydown", this.onKeyDown);
     window.addEventListener("keyup", this.onKeyUp);
     window.addEventListener("blur", this.releaseAll);
-    window.addEventListener("focus", this.noteDeviceChanged);
+    window.addEventListener("focus", this.onFocus);
     document.addEventListener("visibilitychange", this.onVisibility);
   }
 
   /**
-   * An input device appeared or the window regained focus: the gamepad's enabling trigger must be seen
-   * released before it counts again (a key still held is not seen either: keydown repeats are ignored
-   * until a fresh press), and the server makes a controlled stop until it sees a release.
+   * The window regained focus: blur already released everything (and told the server), so only the
+   * gamepad's trigger must be seen released before it counts again; a key still held is not seen either
+   * (keydown repeats are ignored until a fresh press).
    */
-  private readonly noteDeviceChanged = (): void => {
+  private readonly onFocus = (): void => {
     this.isPadReleaseNeeded = true;
     if (this.enablingSources.delete("gamepad")) this.publishEnabling();
-    if (!this.isReadOnly) jogClient.command("device-changed");
   };
+
+  /**
+   * A gamepad appeared, reappeared or was swapped: as on focus, and the server makes a controlled stop and
+   * counts the enabling control only after it has seen it released (device-changed).
+   */
+  private noteDeviceChanged(): void {
+    this.onFocus();
+    if (!this.isReadOnly) jogClient.command("device-changed");
+  }
 
   stop(): void {
     this.releaseAll();
@@ -126,7 +134,7 @@ export class JogInputController {
     window.removeEventListener("keydown", this.onKeyDown);
     window.removeEventListener("keyup", this.onKeyUp);
     window.removeEventListener("blur", this.releaseAll);
-    window.removeEventListener("focus", this.noteDeviceChanged);
+    window.removeEventListener("focus", this.onFocus);
     document.removeEventListener("visibilitychange", this.onVisibility);
   }
 
