@@ -233,6 +233,8 @@ export interface ControlWorkspace {
   readonly bind: Int32Array;
   /** Scalars passed between hot-path functions without boxing (dt in, scale out). */
   readonly box: Float64Array;
+  /** J·v scratch (6) for the achieved-twist sums. */
+  readonly jv: Float64Array;
   readonly lambdaBox: Float64Array;
   /** Acceleration-limited rates (blendRates): τ, f, p and f's binding joint; J·ws.next. */
   readonly blend: Float64Array;
@@ -305,6 +307,7 @@ export function createControlWorkspace(arm: ArmModel): ControlWorkspace {
     zones: new Float64Array(n),
     bind: new Int32Array(1),
     box: new Float64Array(1),
+    jv: new Float64Array(6),
     lambdaBox: new Float64Array(1),
     blend: new Float64Array(4),
     blendTwist: new Float64Array(6),
@@ -594,14 +597,9 @@ function blendRates(ws: ControlWorkspace, state: ControlState, params: ControlPa
   }
   capScaleInto(next, ws.caps, n, box, null);
   let pScale = box[0]!;
-  const J = ws.J;
-  let a0 = 0, a1 = 0, a2 = 0, a3 = 0, a4 = 0, a5 = 0;
-  const n2 = 2 * n, n3 = 3 * n, n4 = 4 * n, n5 = 5 * n;
-  for (let c = 0; c < n; c++) {
-    const v = next[c]!;
-    a0 += J[c]! * v; a1 += J[n + c]! * v; a2 += J[n2 + c]! * v;
-    a3 += J[n3 + c]! * v; a4 += J[n4 + c]! * v; a5 += J[n5 + c]! * v;
-  }
+  const jv = ws.jv;
+  jacobianTimesInto(ws.J, n, next, jv);
+  const a0 = jv[0]!, a1 = jv[1]!, a2 = jv[2]!, a3 = jv[3]!, a4 = jv[4]!, a5 = jv[5]!;
   const lin = Math.sqrt(a0 * a0 + a1 * a1 + a2 * a2);
   const ang = Math.sqrt(a3 * a3 + a4 * a4 + a5 * a5);
   if (lin * pScale > params.tcpLinearCap) pScale = params.tcpLinearCap / lin;
@@ -743,14 +741,9 @@ function limitAndIntegrate(
   let moving = false;
   for (let i = 0; i < n; i++) if (target[i] !== 0) { moving = true; break; }
   // Achieved twist with the unscaled target; it scales linearly with s.
-  // One pass over the columns with the six row sums in locals (same summation order as row by row).
-  let a0 = 0, a1 = 0, a2 = 0, a3 = 0, a4 = 0, a5 = 0;
-  const n2 = 2 * n, n3 = 3 * n, n4 = 4 * n, n5 = 5 * n;
-  for (let c = 0; c < n; c++) {
-    const v = target[c]!;
-    a0 += J[c]! * v; a1 += J[n + c]! * v; a2 += J[n2 + c]! * v;
-    a3 += J[n3 + c]! * v; a4 += J[n4 + c]! * v; a5 += J[n5 + c]! * v;
-  }
+  const jv = ws.jv;
+  jacobianTimesInto(J, n, target, jv);
+  const a0 = jv[0]!, a1 = jv[1]!, a2 = jv[2]!, a3 = jv[3]!, a4 = jv[4]!, a5 = jv[5]!;
   const lin = Math.sqrt(a0 * a0 + a1 * a1 + a2 * a2);
   const ang = Math.sqrt(a3 * a3 + a4 * a4 + a5 * a5);
   const linCap = params.tcpLinearCap, angCap = params.tcpAngularCap;
@@ -1123,4 +1116,19 @@ export function jointJogStep(
   limitAndIntegrate(ws, state, params, dt, report, false, false);
   forwardPoseInto(ws.kernel, state.q, state.referencePose);
   return report;
+}
+
+/**
+ * out = J·v for the 6×n row-major J: one pass over the columns with the six row sums in locals (the same
+ * summation order as row by row, so bit-identical to it). Allocation-free.
+ */
+function jacobianTimesInto(J: Float64Array, n: number, v: ArrayLike<number>, out: Float64Array): void {
+  let a0 = 0, a1 = 0, a2 = 0, a3 = 0, a4 = 0, a5 = 0;
+  const n2 = 2 * n, n3 = 3 * n, n4 = 4 * n, n5 = 5 * n;
+  for (let c = 0; c < n; c++) {
+    const x = v[c]!;
+    a0 += J[c]! * x; a1 += J[n + c]! * x; a2 += J[n2 + c]! * x;
+    a3 += J[n3 + c]! * x; a4 += J[n4 + c]! * x; a5 += J[n5 + c]! * x;
+  }
+  out[0] = a0; out[1] = a1; out[2] = a2; out[3] = a3; out[4] = a4; out[5] = a5;
 }

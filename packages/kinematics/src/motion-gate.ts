@@ -38,7 +38,7 @@
 
 import { KinematicsInputError, MAX_JOINTS } from "./arm.ts";
 import type { BindingLimit, GuardState } from "./control-step.ts";
-import { shapeAxis, slewUniform } from "./shaping.ts";
+import { shapeAxis, slewUniform, slewVector3Into } from "./shaping.ts";
 
 export const STOP_KINDS = ["enabling-released", "watchdog", "singularity-guard", "instant-halt"] as const;
 /**
@@ -571,8 +571,8 @@ export class MotionGate {
       if (windup && (isSlowingDown3(c, target, 0) || isSlowingDown3(c, target, 3))) {
         for (let i = 0; i < 6; i++) c[i] = c[i]! * sCap;
       }
-      slew3(c, target, 0, box, 0);
-      slew3(c, target, 3, box, 1);
+      slewVector3Into(c, target, 0, box, 0);
+      slewVector3Into(c, target, 3, box, 1);
       let zero = true;
       for (let i = 0; i < 6; i++) if (c[i] !== 0) zero = false;
       this.commandZero = zero;
@@ -741,23 +741,4 @@ function clampNorm3(v: Float64Array, o: number, box: Float64Array, i: number): v
 function isSlowingDown3(cur: Float64Array, target: Float64Array, o: number): boolean {
   const c0 = cur[o]!, c1 = cur[o + 1]!, c2 = cur[o + 2]!;
   return (target[o]! - c0) * c0 + (target[o + 1]! - c1) * c1 + (target[o + 2]! - c2) * c2 < 0;
-}
-
-/** slewVector3 (shaping.ts) with the step read from box[i] (see MotionGate.scalars). */
-function slew3(cur: Float64Array, target: Float64Array, o: number, box: Float64Array, i: number): void {
-  const maxStep = box[i]!;
-  const dx = target[o]! - cur[o]!;
-  const dy = target[o + 1]! - cur[o + 1]!;
-  const dz = target[o + 2]! - cur[o + 2]!;
-  const len = Math.sqrt(dx * dx + dy * dy + dz * dz);
-  if (len <= maxStep) {
-    cur[o] = target[o]!;
-    cur[o + 1] = target[o + 1]!;
-    cur[o + 2] = target[o + 2]!;
-    return;
-  }
-  const k = maxStep / len;
-  cur[o] = cur[o]! + dx * k;
-  cur[o + 1] = cur[o + 1]! + dy * k;
-  cur[o + 2] = cur[o + 2]! + dz * k;
 }

@@ -28,11 +28,25 @@ export function shapeAxis(x: number, deadband: number, expo: number): number {
   return y > 1 ? 1 : y < -1 ? -1 : y === y ? y : 0;
 }
 
+const stepBox = new Float64Array(1);
+
 /**
  * Moves the 3-vector cur[offset..offset+2] toward target[offset..] by at most maxStep (Euclidean), so the
  * direction of the change is kept (a slew-rate / acceleration limit on a vector; derived).
  */
 export function slewVector3(cur: Float64Array, target: ArrayLike<number>, offset: number, maxStep: number): void {
+  stepBox[0] = maxStep;
+  slewVector3Into(cur, target, offset, stepBox, 0);
+}
+
+/**
+ * slewVector3 with the step read from steps[stepIndex]: a computed double passed to a call V8 does not
+ * inline is boxed on the heap, a typed-array slot is not (keeps the motion gate's tick allocation-free).
+ */
+export function slewVector3Into(
+  cur: Float64Array, target: ArrayLike<number>, offset: number, steps: Float64Array, stepIndex: number,
+): void {
+  const maxStep = steps[stepIndex]!;
   const dx = target[offset]! - cur[offset]!;
   const dy = target[offset + 1]! - cur[offset + 1]!;
   const dz = target[offset + 2]! - cur[offset + 2]!;
