@@ -229,6 +229,8 @@ export const recordingSummarySchema = z.object({
       z.object({ count: z.number().int(), maxTimeS: finite, maxDistanceM: finite, maxExcessDistanceM: finite }),
     )
     .default(() => ({})),
+  /** Frames the server could not record because the database fell behind (recordings/writer.ts); 0 normally. */
+  droppedFrames: z.number().int().nonnegative().default(0),
 });
 export type RecordingSummary = z.infer<typeof recordingSummarySchema>;
 

@@ -9,13 +9,22 @@ import { finishRecording, insertChunk } from "./model.ts";
  */
 
 export const FLUSH_INTERVAL_MS = 1000;
-/** Above this many queued frames per recording the oldest are dropped (and counted): memory stays bounded. */
+/**
+ * Above this many frames per recording (queued plus being written) the oldest queued ones are dropped, and
+ * counted: memory stays bounded. The count goes into the recording's summary (droppedFrames) and the log.
+ */
 export const MAX_QUEUED_FRAMES = 60 * 600;
 
 interface Pending {
   recordingId: number;
   nextChunk: number;
+  /** Frames not yet handed to a chunk write. */
   frames: string[];
+  /**
+   * The chunk being written (or whose write failed): retried exactly as it was, under the same chunk index,
+   * so a retry after a write that did land is idempotent (insertChunk).
+   */
+  batch: string[] | null;
   dropped: number;
   end: { endedAt: Date; reason: string; summary: object } | null;
 }
@@ -26,13 +35,19 @@ export class RecordingWriter {
   private flushing: Promise<void> | null = null;
   failures = 0;
   chunksWritten = 0;
+  /** Frames dropped over all recordings because the database fell behind (each also in its summary). */
+  droppedFrames = 0;
 
-  constructor(private readonly db: Sequelize, private readonly flushIntervalMs = FLUSH_INTERVAL_MS) {}
+  constructor(
+    private readonly db: Sequelize,
+    private readonly flushIntervalMs = FLUSH_INTERVAL_MS,
+    private readonly maxQueuedFrames = MAX_QUEUED_FRAMES,
+  ) {}
 
   private entry(recordingId: number): Pending {
     let p = this.pending.get(recordingId);
     if (!p) {
-      p = { recordingId, nextChunk: 0, frames: [], dropped: 0, end: null };
+      p = { recordingId, nextChunk: 0, frames: [], batch: null, dropped: 0, end: null };
       this.pending.set(recordingId, p);
     }
     this.ensureTimer();
@@ -49,9 +64,11 @@ export class RecordingWriter {
   push(recordingId: number, frameJson: string): void {
     const p = this.entry(recordingId);
     p.frames.push(frameJson);
-    if (p.frames.length > MAX_QUEUED_FRAMES) {
+    if (p.frames.length + (p.batch?.length ?? 0) > this.maxQueuedFrames && p.frames.length > 0) {
       p.frames.shift();
+      if (p.dropped === 0) console.warn(`[jogwright] recording ${recordingId}: the database is behind; dropping the oldest queued frames (counted in its summary).`);
       p.dropped++;
+      this.droppedFrames++;
     }
   }
 
@@ -72,16 +89,21 @@ export class RecordingWriter {
   private async flushOnce(): Promise<void> {
     for (const p of [...this.pending.values()]) {
       try {
-        if (p.frames.length > 0) {
-          const frames = p.frames;
-          const count = frames.length;
-          await insertChunk(this.db, p.recordingId, p.nextChunk, count, `[${frames.slice(0, count).join(",")}]`);
-          // Only now drop them: frames pushed meanwhile stay queued.
-          p.frames.splice(0, count);
+        while (p.batch || p.frames.length > 0) {
+          // A failed batch first, exactly as it was; else everything queued now. Frames pushed during the
+          // write queue behind it (and are never removed by it).
+          if (!p.batch) {
+            p.batch = p.frames;
+            p.frames = [];
+          }
+          const batch = p.batch;
+          await insertChunk(this.db, p.recordingId, p.nextChunk, batch.length, `[${batch.join(",")}]`);
+          p.batch = null;
           p.nextChunk++;
           this.chunksWritten++;
+          if (!p.end) break; // one chunk per flush while live; an ended recording drains
         }
-        if (p.end && p.frames.length === 0) {
+        if (p.end && p.frames.length === 0 && !p.batch) {
           const summary = p.dropped > 0 ? { ...p.end.summary, droppedFrames: p.dropped } : p.end.summary;
           await finishRecording(this.db, p.recordingId, p.end.endedAt, p.end.reason, summary);
           this.pending.delete(p.recordingId);

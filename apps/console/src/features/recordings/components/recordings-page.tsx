@@ -58,7 +58,7 @@ function summaryText(r: Recording, arm: Arm | undefined): string {
     .filter(([, n]) => n > 0)
     .map(([reason, n]) => `${reason} ×${n}`)
     .join(", ");
-  return `max ${formatFixed(s.maxTcpSpeedMPerS * 1000, 0)} mm/s · min σ ${formatFixed(s.minSigma * 1000, 1)} mm · ${formatFixed(s.maxJointRateFraction * 100, 0)} % of a joint cap${peakAccelText(s.peakJointAccel, arm)}${longestStopText(s.stopsMeasured)}${stops ? ` · stops: ${stops}` : ""}`;
+  return `max ${formatFixed(s.maxTcpSpeedMPerS * 1000, 0)} mm/s · min σ ${formatFixed(s.minSigma * 1000, 1)} mm · ${formatFixed(s.maxJointRateFraction * 100, 0)} % of a joint cap${peakAccelText(s.peakJointAccel, arm)}${longestStopText(s.stopsMeasured)}${stops ? ` · stops: ${stops}` : ""}${s.droppedFrames > 0 ? ` · ${s.droppedFrames} frames not recorded (the database fell behind)` : ""}`;
 }
 
 export function RecordingsPage() {
