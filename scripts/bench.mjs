@@ -3,7 +3,7 @@
 // MariaDB (its own database, jogwright_bench) and the same set-up as `npm test`.
 import { spawn, spawnSync } from "node:child_process";
 import path from "node:path";
-import { buildConsole, DATA_DIR, isPortFree, log, portFromEnv, prepare, ROOT, SetupError } from "./lib/setup.mjs";
+import { buildConsole, DATA_DIR, databaseEnv, isPortFree, log, portFromEnv, prepare, ROOT, SetupError } from "./lib/setup.mjs";
 
 function run(what, cmd, args, cwd, env = {}) {
   log(`benchmark: ${what}`);
@@ -16,7 +16,7 @@ async function main() {
   let server = null;
   try {
     run("kinematics control step", "pnpm", ["bench"], "packages/kinematics");
-    run("live jogging load (50 sessions at 1 kHz)", path.join(ROOT, "apps/server/node_modules/.bin/tsx"), ["bench/jog-load.ts"], "apps/server", { DATABASE_URL: db.url });
+    run("live jogging load (50 sessions at 1 kHz)", path.join(ROOT, "apps/server/node_modules/.bin/tsx"), ["bench/jog-load.ts"], "apps/server", databaseEnv(db));
 
     buildConsole();
     const port = portFromEnv("BENCH_PORT", 3110);
@@ -25,7 +25,7 @@ async function main() {
     server = spawn(path.join(serverDir, "node_modules/.bin/tsx"), ["src/server.ts"], {
       cwd: serverDir,
       stdio: ["ignore", "ignore", "inherit"],
-      env: { ...process.env, DATABASE_URL: db.url, PORT: String(port), SMTP_PORT: "0", MAIL_DIR: path.join(DATA_DIR, "mail-bench"), NODE_ENV: "test" },
+      env: { ...process.env, ...databaseEnv(db), PORT: String(port), SMTP_PORT: "0", MAIL_DIR: path.join(DATA_DIR, "mail-bench"), NODE_ENV: "test" },
     });
     const url = `http://127.0.0.1:${port}`;
     const deadline = Date.now() + 60_000;

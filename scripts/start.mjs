@@ -1,9 +1,9 @@
 // `npm start`: everything needed to run Jogwright on a fresh Debian machine with Node.js 20 and root.
 // pnpm, Debian packages, dependencies, a private MariaDB, the console build, then the server (which
-// migrates and seeds on boot). Ctrl-C stops the server and the database cleanly.
+// migrates as the migration account and seeds and runs as the runtime account). Ctrl-C stops the server and the database cleanly.
 import { spawn } from "node:child_process";
 import path from "node:path";
-import { buildConsole, DATA_DIR, log, portFromEnv, prepare, ROOT, SetupError } from "./lib/setup.mjs";
+import { buildConsole, DATA_DIR, databaseEnv, log, portFromEnv, prepare, ROOT, SetupError } from "./lib/setup.mjs";
 
 async function main() {
   const port = portFromEnv("PORT", 3000);
@@ -24,7 +24,7 @@ async function main() {
   const server = spawn(path.join(serverDir, "node_modules/.bin/tsx"), ["src/server.ts"], {
     cwd: serverDir,
     stdio: "inherit",
-    env: { MAIL_DIR: path.join(DATA_DIR, "mail"), ...process.env, PORT: String(port), DATABASE_URL: db.url, NODE_ENV: process.env.NODE_ENV ?? "production" },
+    env: { MAIL_DIR: path.join(DATA_DIR, "mail"), ...process.env, PORT: String(port), ...databaseEnv(db), NODE_ENV: process.env.NODE_ENV ?? "production" },
   });
   const stop = (signal) => {
     if (shuttingDown) return;

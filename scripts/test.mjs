@@ -4,7 +4,7 @@
 import { spawn, spawnSync } from "node:child_process";
 import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import path from "node:path";
-import { buildConsole, DATA_DIR, isPortFree, log, portFromEnv, prepare, recreateDatabase, ROOT, SetupError } from "./lib/setup.mjs";
+import { buildConsole, DATA_DIR, databaseEnv, isPortFree, log, portFromEnv, prepare, recreateDatabase, ROOT, SetupError } from "./lib/setup.mjs";
 
 const REPORTS = path.join(DATA_DIR, "test-reports");
 const results = [];
@@ -58,7 +58,8 @@ async function main() {
   mkdirSync(REPORTS, { recursive: true });
   const db = await prepare({ withChromium: true, dbName: "mariadb-test", defaultDbPort: 3408, database: "jogwright_test" });
   if (db.socket) recreateDatabase(db.socket, "jogwright_test");
-  const dbEnv = { DATABASE_URL: db.url };
+  // The API tests and the server run as the runtime account; the migrations run as the migration account.
+  const dbEnv = databaseEnv(db);
   let server = null;
   try {
     typecheckSuite();

@@ -3,8 +3,9 @@ import { ConfigError, loadConfig, type Config } from "./config.ts";
 import { createApp } from "./app.ts";
 import { attachJogSockets } from "./modules/jog/socket.ts";
 import { createSequelize, describeConnectionError } from "./db/connection.ts";
-import { migrate } from "./db/migrator.ts";
-import { DEMO_ACCOUNTS, DEMO_PASSWORD, seedDemo } from "./db/seed.ts";
+import { prepareDatabase } from "./db/prepare.ts";
+import { PrivilegeError } from "./db/privileges.ts";
+import { DEMO_ACCOUNTS, DEMO_PASSWORD } from "./db/seed.ts";
 import { SmtpPortInUseError, startFakeSmtp, type FakeSmtp } from "./mail/fake-smtp.ts";
 
 /** Start-up ends with one clear sentence on a bad environment, an unreachable database or a busy port. */
@@ -24,9 +25,22 @@ async function main(): Promise<void> {
   } catch (error) {
     throw new StartupError(describeConnectionError(config.databaseUrl, error));
   }
-  const applied = await migrate(db);
-  if (applied.length) console.log(`[jogwright] migrations applied: ${applied.join(", ")}`);
-  if (config.seedDemo) await seedDemo(db);
+  // Migrate as the migration account, grant the runtime account its privileges, seed as the runtime one.
+  let prepared: Awaited<ReturnType<typeof prepareDatabase>>;
+  try {
+    prepared = await prepareDatabase(config, db, { seed: config.seedDemo });
+  } catch (error) {
+    if (error instanceof PrivilegeError) throw new StartupError(error.message);
+    if (String((error as { name?: string }).name).startsWith("SequelizeConnection")) {
+      throw new StartupError(`migration account (MIGRATION_DATABASE_URL): ${describeConnectionError(config.migrationDatabaseUrl, error)}`);
+    }
+    throw error;
+  }
+  if (prepared.applied.length) console.log(`[jogwright] migrations applied: ${prepared.applied.join(", ")}`);
+  if (prepared.granted.length) console.log(`[jogwright] granted the runtime account: ${prepared.granted.join("; ")}`);
+  if (prepared.excess.length) {
+    console.warn(`[jogwright] warning: the runtime account (DATABASE_URL) holds ${prepared.excess.join(", ")}; it needs only SELECT, INSERT, UPDATE and DELETE on a few tables (see README).`);
+  }
 
   const { app, ctx } = createApp(config, db);
   let fakeSmtp: FakeSmtp | null = null;

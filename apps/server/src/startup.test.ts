@@ -23,6 +23,12 @@ function startServer(env: Record<string, string>, timeoutMs = 20_000): Promise<{
   });
 }
 
+/** The test database's two accounts, as npm test passes them (MIGRATION_DATABASE_URL only when set). */
+const databaseEnv: Record<string, string> = {
+  DATABASE_URL: process.env.DATABASE_URL!,
+  ...(process.env.MIGRATION_DATABASE_URL ? { MIGRATION_DATABASE_URL: process.env.MIGRATION_DATABASE_URL } : {}),
+};
+
 function expectOneClearLine(result: { code: number | null; err: string }, pattern: RegExp) {
   expect(result.code).toBe(1);
   const lines = result.err.trim().split("\n");
@@ -49,12 +55,20 @@ describe("start-up with a bad environment ends with one clear message", () => {
     expectOneClearLine(r, /^\[jogwright\] cannot start: cannot reach the database at 127\.0\.0\.1:\d+\/nothing — /);
   });
 
+  it.runIf(process.env.MIGRATION_DATABASE_URL && process.env.MIGRATION_DATABASE_URL !== process.env.DATABASE_URL)(
+    "the runtime account without MIGRATION_DATABASE_URL: it may not migrate, and the message says which variable to set",
+    async () => {
+      const r = await startServer({ DATABASE_URL: process.env.DATABASE_URL!, PORT: "65000", SEED_DEMO: "0", SMTP_PORT: "0" });
+      expectOneClearLine(r, /^\[jogwright\] cannot start: the database account cannot change the schema \(.*denied.*\); set MIGRATION_DATABASE_URL/);
+    },
+  );
+
   it("a port already in use", async () => {
     const blocker = net.createServer();
     const port = await new Promise<number>((resolve) => blocker.listen(0, "127.0.0.1", () => resolve((blocker.address() as net.AddressInfo).port)));
     try {
       // SMTP_PORT=0: the fake SMTP server takes any free port, so only the HTTP port is busy.
-      const r = await startServer({ DATABASE_URL: process.env.DATABASE_URL!, PORT: String(port), SEED_DEMO: "0", SMTP_PORT: "0" });
+      const r = await startServer({ ...databaseEnv, PORT: String(port), SEED_DEMO: "0", SMTP_PORT: "0" });
       expectOneClearLine(r, new RegExp(`^\\[jogwright\\] cannot start: port ${port} on 127\\.0\\.0\\.1 is already in use; set PORT to a free port\\.$`));
     } finally {
       blocker.close();
@@ -66,7 +80,7 @@ describe("start-up with a bad environment ends with one clear message", () => {
     const port = await new Promise<number>((resolve) => blocker.listen(0, "127.0.0.1", () => resolve((blocker.address() as net.AddressInfo).port)));
     try {
       // The fake SMTP server starts before the HTTP listener, so PORT is never reached.
-      const r = await startServer({ DATABASE_URL: process.env.DATABASE_URL!, PORT: "65000", SEED_DEMO: "0", SMTP_PORT: String(port) });
+      const r = await startServer({ ...databaseEnv, PORT: "65000", SEED_DEMO: "0", SMTP_PORT: String(port) });
       expectOneClearLine(r, new RegExp(`^\\[jogwright\\] cannot start: SMTP port ${port} on 127\\.0\\.0\\.1 is already in use; set SMTP_PORT to a free port`));
     } finally {
       blocker.close();

@@ -1,12 +1,13 @@
 /**
  * `pnpm --filter @jogwright/server migrate` / `seed`: run the migrations, or the migrations and the demo
- * seed, against DATABASE_URL (the same configuration the server reads). `npm start` and `npm test` do both
- * themselves; this is for a database you point at by hand.
+ * seed, with the same configuration the server reads: migrations as MIGRATION_DATABASE_URL's account
+ * (else DATABASE_URL's), which then grants the runtime account (DATABASE_URL) its privileges; the seed as
+ * the runtime account. `npm start` and `npm test` do both themselves; this is for a database you point at
+ * by hand.
  */
 import { ConfigError, loadConfig } from "../config.ts";
 import { createSequelize, describeConnectionError } from "./connection.ts";
-import { migrate } from "./migrator.ts";
-import { seedDemo } from "./seed.ts";
+import { prepareDatabase } from "./prepare.ts";
 
 const COMMANDS = ["migrate", "seed"] as const;
 
@@ -28,12 +29,11 @@ async function main(): Promise<number> {
   }
   const db = createSequelize(config.databaseUrl);
   try {
-    const applied = await migrate(db);
+    const { applied, granted, excess } = await prepareDatabase(config, db, { seed: command === "seed" });
     console.log(applied.length ? `applied migrations: ${applied.join(", ")}` : "the schema is up to date");
-    if (command === "seed") {
-      await seedDemo(db);
-      console.log("demo data seeded");
-    }
+    if (granted.length) console.log(`granted the runtime account: ${granted.join("; ")}`);
+    if (excess.length) console.warn(`warning: the runtime account (DATABASE_URL) holds ${excess.join(", ")}; it needs only SELECT, INSERT, UPDATE and DELETE on a few tables`);
+    if (command === "seed") console.log("demo data seeded");
     return 0;
   } catch (error) {
     const name = (error as { name?: string }).name ?? "";

@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import type { Arm, User } from "@jogwright/shared";
 import { createHarness, freshUser, type Harness } from "../test/harness.ts";
-import { compliantParams, sixAxisArm, uniqueName } from "../test/profiles-fixture.ts";
+import { approveWithSql, compliantParams, sixAxisArm, uniqueName } from "../test/profiles-fixture.ts";
 import { createProfile } from "../modules/profiles/service.ts";
 import { findVersion } from "../modules/profiles/model.ts";
 import { up as flagLongStops } from "./migrations/0013-flag-long-stops.ts";
@@ -15,14 +15,16 @@ let h: Harness;
 let arm: Arm;
 let engineer: User;
 let operator: User;
+let officer: User;
 beforeAll(async () => {
   h = createHarness();
   arm = await sixAxisArm(h);
   engineer = (await freshUser(h, ["engineer"])).user;
   operator = (await freshUser(h, ["operator"])).user;
+  officer = (await freshUser(h, ["safety_officer"])).user;
 });
 afterAll(async () => {
-  await h.db.query("UPDATE users SET is_active = 0 WHERE id IN (?)", { replacements: [[engineer.id, operator.id]] });
+  await h.db.query("UPDATE users SET is_active = 0 WHERE id IN (?)", { replacements: [[engineer.id, operator.id, officer.id]] });
   await h.close();
 });
 
@@ -31,8 +33,7 @@ async function approvedBeforeTheStopCeilings(linearAccelMPerS2: number): Promise
   const params = { ...compliantParams(arm), shaping: { ...compliantParams(arm).shaping, linearAccelMPerS2 } };
   const profile = await createProfile(h.ctx, engineer, { name: uniqueName("old approval"), operatorId: operator.id, armId: arm.id, params, note: "" });
   const id = profile.latestVersion.id;
-  await h.db.query("UPDATE profile_versions SET locked_at = CURRENT_TIMESTAMP(3) WHERE id = ?", { replacements: [id] });
-  await h.db.query("UPDATE version_status SET state = 'approved' WHERE version_id = ?", { replacements: [id] });
+  await approveWithSql(h, id, officer.id);
   return id;
 }
 

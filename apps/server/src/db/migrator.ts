@@ -12,6 +12,7 @@ import * as m0010 from "./migrations/0010-jog-recordings.ts";
 import * as m0011 from "./migrations/0011-gamepad-mappings.ts";
 import * as m0012 from "./migrations/0012-station-estop-latches.ts";
 import * as m0013 from "./migrations/0013-flag-long-stops.ts";
+import * as m0014 from "./migrations/0014-approval-guard.ts";
 
 /** Versioned migrations, applied in order and recorded in `schema_migrations`. Never sync(). */
 const MIGRATIONS = [
@@ -27,6 +28,7 @@ const MIGRATIONS = [
   { name: "0011-gamepad-mappings", ...m0011 },
   { name: "0012-station-estop-latches", ...m0012 },
   { name: "0013-flag-long-stops", ...m0013 },
+  { name: "0014-approval-guard", ...m0014 },
 ];
 
 /** The record of applied migrations, in a table this storage creates itself with plain SQL. */

@@ -62,15 +62,10 @@ export async function seedDemoProfiles(db: Sequelize): Promise<void> {
         t,
       );
       await profiles.updateStatus(db, v1Id, { state: "submitted", submittedAt: "now" }, t);
-      await profiles.lockVersionRow(db, v1Id, t);
       const comment = "Test-driven live through the wrist region; damping and caps are within the site ceilings.";
-      await profiles.updateStatus(
-        db,
-        v1Id,
-        { state: "approved", decidedBy: sigrid, decidedAt: "now", decisionComment: comment, exceedsCeilings: checkCeilings(v1, ceilings, ratedJointSpeeds(arm6)).length > 0 },
-        t,
-      );
+      // The approvals row approves and locks v1 (its triggers, migration 0014).
       const approvalId = await profiles.insertApproval(db, { versionId: v1Id, approverId: sigrid, comment, paramsSha256: paramsSha256(v1) }, t);
+      if (checkCeilings(v1, ceilings, ratedJointSpeeds(arm6)).length > 0) await profiles.updateStatus(db, v1Id, { exceedsCeilings: true }, t);
       await recordAudit(db, t, { actorId: emeka, entity: "version", entityId: v1Id, action: "save", summary: `saved "${olenaName}" v1 (demo seed)`, after: { id: v1Id, paramsSha256: paramsSha256(v1) } });
       await recordAudit(db, t, { actorId: sigrid, entity: "approval", entityId: approvalId, action: "create", summary: `approved "${olenaName}" v1 (demo seed): ${comment}`, after: { versionId: v1Id, paramsSha256: paramsSha256(v1) } });
       const v2Id = await profiles.insertVersion(

@@ -63,3 +63,22 @@ export async function approvedProfile(h: Harness, team: Team, arm: Arm, params =
   if (a.status !== 200) throw new Error(`approve: ${a.status} ${JSON.stringify(a.body)}`);
   return { profile, version: a.body.version as { id: number; number: number; paramsSha256: string } };
 }
+
+/**
+ * Approve a version with plain SQL, as the database allows it (migration 0014): submit it if it is a
+ * draft, then insert its approvals row, whose triggers lock it and set it approved. For tests that need
+ * versions in a given state quickly; `approverId` must not be the author.
+ */
+export async function approveWithSql(h: Harness, versionId: number, approverId: string, comment = "approved for a test"): Promise<void> {
+  await h.db.query("UPDATE version_status SET state = 'submitted', submitted_at = CURRENT_TIMESTAMP(3) WHERE version_id = ? AND state = 'draft'", {
+    replacements: [versionId],
+  });
+  // VALUES, not INSERT … SELECT FROM profile_versions: the trigger updates that table (MariaDB error 1442).
+  const [row] = await h.db.query<{ params_sha256: string }>("SELECT params_sha256 FROM profile_versions WHERE id = ?", {
+    replacements: [versionId],
+    type: QueryTypes.SELECT,
+  });
+  await h.db.query("INSERT INTO approvals (version_id, approver_id, comment, params_sha256) VALUES (?, ?, ?, ?)", {
+    replacements: [versionId, approverId, comment, row!.params_sha256],
+  });
+}

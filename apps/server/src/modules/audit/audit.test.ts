@@ -4,6 +4,7 @@ import { call, createMailHarness, DEMO_BY_ROLE, signIn, type Harness } from "../
 import { approvedProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
 import { createUser } from "../users/service.ts";
 import { csvCell } from "./service.ts";
+import { createOwnerDb } from "../../test/owner-db.ts";
 
 let h: Harness;
 let team: Team;
@@ -96,6 +97,14 @@ describe("the audit trail", () => {
 
   it("entries cannot be updated or deleted, even with raw SQL", async () => {
     await expect(h.db.query("UPDATE audit_log SET summary = 'rewritten' ORDER BY id DESC LIMIT 1")).rejects.toThrow(/append-only/);
-    await expect(h.db.query("DELETE FROM audit_log ORDER BY id DESC LIMIT 1")).rejects.toThrow(/append-only/);
+    // The runtime account may not delete here at all (db/privileges.ts); the trigger refuses even the owner.
+    await expect(h.db.query("DELETE FROM audit_log ORDER BY id DESC LIMIT 1")).rejects.toThrow(/DELETE command denied|append-only/);
+    const owner = createOwnerDb();
+    try {
+      await expect(owner.query("UPDATE audit_log SET summary = 'rewritten' ORDER BY id DESC LIMIT 1")).rejects.toThrow(/append-only/);
+      await expect(owner.query("DELETE FROM audit_log ORDER BY id DESC LIMIT 1")).rejects.toThrow(/append-only/);
+    } finally {
+      await owner.close();
+    }
   });
 });

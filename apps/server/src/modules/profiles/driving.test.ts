@@ -11,7 +11,7 @@ import {
 } from "@jogwright/shared";
 import { call, createHarness, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
 import { JogTestClient } from "../jog/jog-test-client.ts";
-import { compliantParams, sixAxisArm, uniqueName } from "../../test/profiles-fixture.ts";
+import { approveWithSql, compliantParams, sixAxisArm, uniqueName } from "../../test/profiles-fixture.ts";
 import { AppError } from "../../errors.ts";
 import * as model from "./model.ts";
 import { createProfile, driveableVersionsFor, drivingFacts, loadVersionForDriving } from "./service.ts";
@@ -61,9 +61,11 @@ beforeAll(async () => {
           note: "",
         });
         const id = profile.latestVersion.id;
-        // Straight from draft (the lifecycle trigger allows any state from draft); an approved row is locked.
-        if (state === "approved") await h.db.query("UPDATE profile_versions SET locked_at = CURRENT_TIMESTAMP(3) WHERE id = ?", { replacements: [id] });
-        await h.db.query("UPDATE version_status SET state = ?, exceeds_ceilings = ? WHERE version_id = ?", { replacements: [state, flagged ? 1 : 0, id] });
+        // Straight from draft (the lifecycle trigger allows any other state from draft); approved only through
+        // an approvals row by someone other than the author (migration 0014), which also locks the row.
+        if (state === "approved") await approveWithSql(h, id, people.safetyOfficer!.user.id);
+        else await h.db.query("UPDATE version_status SET state = ? WHERE version_id = ?", { replacements: [state, id] });
+        if (flagged) await h.db.query("UPDATE version_status SET exceeds_ceilings = 1 WHERE version_id = ?", { replacements: [id] });
         versions.push({ id, profileId: profile.id, state, flagged, ownerId: owner.user.id });
       }
     }

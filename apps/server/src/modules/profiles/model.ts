@@ -319,14 +319,6 @@ export async function updateStatus(
   await db.query(`UPDATE version_status SET ${sets.join(", ")} WHERE version_id = ?`, { replacements: [...values, versionId], transaction });
 }
 
-/** The one change the trigger allows on a version row: locking it at approval. */
-export async function lockVersionRow(db: Sequelize, versionId: number, transaction: Transaction): Promise<void> {
-  await db.query("UPDATE profile_versions SET locked_at = CURRENT_TIMESTAMP(3) WHERE id = ? AND locked_at IS NULL", {
-    replacements: [versionId],
-    transaction,
-  });
-}
-
 export interface ApprovalRecord {
   id: number;
   versionId: number;
@@ -337,6 +329,10 @@ export interface ApprovalRecord {
   paramsSha256: string;
 }
 
+/**
+ * Approve a submitted version: the approvals row's triggers (migration 0014) check it, lock the version
+ * row and set version_status to approved with this approver, time and comment, in this one statement.
+ */
 export async function insertApproval(
   db: Sequelize,
   a: { versionId: number; approverId: string; comment: string; paramsSha256: string },

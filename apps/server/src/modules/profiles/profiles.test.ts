@@ -1,25 +1,30 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { canonicalJson, profileSummarySchema, profileVersionSchema, type Arm } from "@jogwright/shared";
 import { createHash } from "node:crypto";
-import { QueryTypes } from "sequelize";
+import { QueryTypes, type Sequelize } from "sequelize";
 import { call, createMailHarness, DEMO_BY_ROLE, signIn, type Harness } from "../../test/harness.ts";
 import { approvedProfile, compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
 import type { FakeSmtp } from "../../mail/fake-smtp.ts";
+import { createOwnerDb } from "../../test/owner-db.ts";
 import { driveableVersionsFor, loadVersionForDriving } from "./service.ts";
 import { findUserById } from "../users/model.ts";
 
 let h: Harness & { smtp: FakeSmtp };
+/** The migration account, which holds DELETE: the triggers must refuse it too. */
+let owner: Sequelize;
 let team: Team;
 let arm: Arm;
 let admin: string;
 beforeAll(async () => {
   h = await createMailHarness();
+  owner = createOwnerDb();
   team = await freshTeam(h);
   arm = await sixAxisArm(h);
   admin = await signIn(h, DEMO_BY_ROLE.admin);
 });
 afterAll(async () => {
   await retireTeam(h, team);
+  await owner?.close();
   await h.close();
 });
 
@@ -279,7 +284,8 @@ describe("locked versions in the database itself", () => {
     const { version } = await approvedProfile(h, team, arm);
     await expect(h.db.query("UPDATE profile_versions SET note = 'tampered' WHERE id = ?", { replacements: [version.id] })).rejects.toThrow(/locked \(approved\): it cannot be changed/);
     await expect(h.db.query("UPDATE profile_versions SET locked_at = NULL WHERE id = ?", { replacements: [version.id] })).rejects.toThrow(/locked/);
-    await expect(h.db.query("DELETE FROM profile_versions WHERE id = ?", { replacements: [version.id] })).rejects.toThrow(/locked \(approved\): it cannot be deleted/);
+    // DELETE as the migration account: the runtime account may not delete versions at all (db/privileges.ts).
+    await expect(owner.query("DELETE FROM profile_versions WHERE id = ?", { replacements: [version.id] })).rejects.toThrow(/locked \(approved\): it cannot be deleted/);
   });
 
   it("even an unlocked version's content cannot be changed by SQL: only locking it is allowed", async () => {
@@ -292,7 +298,7 @@ describe("locked versions in the database itself", () => {
     await expect(h.db.query("UPDATE version_status SET state = 'draft' WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/only be superseded or retired/);
     await h.db.query("UPDATE version_status SET exceeds_ceilings = 1 WHERE version_id = ?", { replacements: [version.id] });
     await expect(h.db.query("UPDATE version_status SET exceeds_ceilings = 0 WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/flag stays/);
-    await expect(h.db.query("DELETE FROM version_status WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/never deleted/);
+    await expect(owner.query("DELETE FROM version_status WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/never deleted/);
     await h.db.query("UPDATE version_status SET state = 'retired' WHERE version_id = ?", { replacements: [version.id] });
     await expect(h.db.query("UPDATE version_status SET state = 'approved' WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/stays retired/);
   });
@@ -300,7 +306,127 @@ describe("locked versions in the database itself", () => {
   it("approvals cannot be updated or deleted", async () => {
     const { version } = await approvedProfile(h, team, arm);
     await expect(h.db.query("UPDATE approvals SET comment = 'changed' WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/append-only/);
-    await expect(h.db.query("DELETE FROM approvals WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/append-only/);
+    await expect(owner.query("DELETE FROM approvals WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(/append-only/);
+  });
+});
+
+describe("the approval lifecycle cannot be forged with raw SQL (migration 0014)", () => {
+  const statusOf = async (versionId: number) => {
+    const [row] = await h.db.query<{ state: string; decided_by: string | null; decided_at: Date | null; decision_comment: string | null; locked_at: Date | null }>(
+      `SELECT s.state, s.decided_by, s.decided_at, s.decision_comment, v.locked_at
+       FROM version_status s JOIN profile_versions v ON v.id = s.version_id WHERE s.version_id = ?`,
+      { replacements: [versionId], type: QueryTypes.SELECT },
+    );
+    return row!;
+  };
+  const submitted = async () => {
+    const profile = await createProfile(h, team, arm);
+    await call(h, "post", `/api/versions/${profile.latestVersion.id}/submit`, team.engineer.cookie).expect(200);
+    return profile.latestVersion;
+  };
+
+  it("UPDATE version_status SET state = 'approved' is refused on a draft and on a submitted version, with or without a plausible decision", async () => {
+    const draft = await createProfile(h, team, arm);
+    await expect(h.db.query("UPDATE version_status SET state = 'approved' WHERE version_id = ?", { replacements: [draft.latestVersion.id] })).rejects.toThrow(
+      /only a submitted version can be approved/,
+    );
+    const v = await submitted();
+    await expect(h.db.query("UPDATE version_status SET state = 'approved' WHERE version_id = ?", { replacements: [v.id] })).rejects.toThrow(/approved only by inserting its approvals row/);
+    await expect(
+      h.db.query("UPDATE version_status SET state = 'approved', decided_by = ?, decided_at = CURRENT_TIMESTAMP(3), decision_comment = 'ok' WHERE version_id = ?", {
+        replacements: [team.officer.id, v.id],
+      }),
+    ).rejects.toThrow(/approved only by inserting its approvals row/);
+    // Nor can the lock be taken on its own first, nor a status row be born approved.
+    await expect(h.db.query("UPDATE profile_versions SET locked_at = CURRENT_TIMESTAMP(3) WHERE id = ?", { replacements: [v.id] })).rejects.toThrow(/locked only by its approval/);
+    await expect(h.db.query("UPDATE version_status SET version_id = ? WHERE version_id = ?", { replacements: [v.id + 100000, v.id] })).rejects.toThrow(/belongs to its version/);
+    expect(await statusOf(v.id)).toMatchObject({ state: "submitted", decided_by: null, locked_at: null });
+    // The operator cannot drive it.
+    const operator = (await findUserById(h.db, team.operator.id))!;
+    expect((await driveableVersionsFor(h.db, operator)).some((d) => d.id === v.id)).toBe(false);
+  });
+
+  it("a status row starts as a draft: a version written by raw SQL cannot be given an approved status row", async () => {
+    const profile = await createProfile(h, team, arm);
+    const v1 = profile.latestVersion;
+    // In a transaction that is rolled back, so no version without a status row is left behind.
+    const t = await h.db.transaction();
+    try {
+      const [id] = await h.db.query(
+        `INSERT INTO profile_versions (profile_id, number, parent_version_id, params, params_sha256, note, author_id)
+         SELECT profile_id, 2, id, params, params_sha256, 'forged', author_id FROM profile_versions WHERE id = ?`,
+        { replacements: [v1.id], type: QueryTypes.INSERT, transaction: t },
+      );
+      await expect(
+        h.db.query("INSERT INTO version_status (version_id, state, decided_by, decided_at, decision_comment) VALUES (?, 'approved', ?, CURRENT_TIMESTAMP(3), 'ok')", {
+          replacements: [id, team.officer.id],
+          transaction: t,
+        }),
+      ).rejects.toThrow(/starts as a draft/);
+    } finally {
+      await t.rollback();
+    }
+  });
+
+  it("the approvals row is the approval: inserting it locks the version and approves it in the same statement, and only for a submitted version by someone other than the author with the version's hash", async () => {
+    const v = await submitted();
+    const insert = (approverId: string, sha = v.paramsSha256) =>
+      h.db.query("INSERT INTO approvals (version_id, approver_id, comment, params_sha256) VALUES (?, ?, 'raw approval', ?)", { replacements: [v.id, approverId, sha] });
+    await expect(insert(team.engineer.id)).rejects.toThrow(/author of a version cannot approve it/);
+    await expect(insert(team.officer.id, "0".repeat(64))).rejects.toThrow(/SHA-256 of the version's parameters/);
+    expect(await statusOf(v.id)).toMatchObject({ state: "submitted", locked_at: null });
+    await insert(team.officer.id);
+    const [approval] = await h.db.query<{ approved_at: Date }>("SELECT approved_at FROM approvals WHERE version_id = ?", { replacements: [v.id], type: QueryTypes.SELECT });
+    const status = await statusOf(v.id);
+    expect(status).toMatchObject({ state: "approved", decided_by: team.officer.id, decision_comment: "raw approval" });
+    expect(status.decided_at).toEqual(approval!.approved_at);
+    expect(status.locked_at).toEqual(approval!.approved_at);
+    // A draft cannot be approved this way either.
+    const draft = await createProfile(h, team, arm);
+    await expect(
+      h.db.query("INSERT INTO approvals (version_id, approver_id, comment, params_sha256) VALUES (?, ?, 'raw', ?)", {
+        replacements: [draft.latestVersion.id, team.officer.id, draft.latestVersion.paramsSha256],
+      }),
+    ).rejects.toThrow(/only a submitted version can be approved/);
+  });
+
+  it("an approval through the API still approves, locks and records one approvals row whose approver, time and comment are the version's decision", async () => {
+    const { version } = await approvedProfile(h, team, arm);
+    const [approval] = await h.db.query<{ approver_id: string; approved_at: Date; comment: string }>(
+      "SELECT approver_id, approved_at, comment FROM approvals WHERE version_id = ?",
+      { replacements: [version.id], type: QueryTypes.SELECT },
+    );
+    const status = await statusOf(version.id);
+    expect(status).toMatchObject({ state: "approved", decided_by: approval!.approver_id, decision_comment: approval!.comment });
+    expect(approval!.approver_id).toBe(team.officer.id);
+    expect(status.decided_at).toEqual(approval!.approved_at);
+    expect(status.locked_at).not.toBeNull();
+  });
+
+  it("the approver, time and comment of an approved or rejected version cannot be rewritten", async () => {
+    const { version } = await approvedProfile(h, team, arm);
+    const refused = /cannot be changed once made/;
+    await expect(h.db.query("UPDATE version_status SET decided_by = ? WHERE version_id = ?", { replacements: [team.officer2.id, version.id] })).rejects.toThrow(refused);
+    await expect(h.db.query("UPDATE version_status SET decision_comment = 'rewritten' WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(refused);
+    await expect(h.db.query("UPDATE version_status SET decided_at = '2020-01-01' WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(refused);
+    await expect(h.db.query("UPDATE version_status SET decided_by = NULL, decision_comment = NULL WHERE version_id = ?", { replacements: [version.id] })).rejects.toThrow(refused);
+    expect(await statusOf(version.id)).toMatchObject({ decided_by: team.officer.id, decision_comment: "looks right" });
+
+    const v = await submitted();
+    await call(h, "post", `/api/versions/${v.id}/reject`, team.officer.cookie).send({ reason: "Needs a trial." }).expect(200);
+    await expect(h.db.query("UPDATE version_status SET decision_comment = 'fine after all' WHERE version_id = ?", { replacements: [v.id] })).rejects.toThrow(refused);
+  });
+
+  it("retiring an approved version keeps its decision; the retirement and its reason are audited", async () => {
+    const { version } = await approvedProfile(h, team, arm);
+    const res = await call(h, "post", `/api/versions/${version.id}/retire`, team.officer2.cookie).send({ reason: "Cell re-layout." });
+    expect(res.status).toBe(200);
+    expect(res.body.version).toMatchObject({ state: "retired", decidedById: team.officer.id, decisionComment: "looks right" });
+    const [audit] = await h.db.query<{ actor_id: string; summary: string }>(
+      "SELECT actor_id, summary FROM audit_log WHERE entity = 'version' AND entity_id = ? AND action = 'retire'",
+      { replacements: [String(version.id)], type: QueryTypes.SELECT },
+    );
+    expect(audit).toMatchObject({ actor_id: team.officer2.id, summary: expect.stringContaining("Cell re-layout.") });
   });
 });
 

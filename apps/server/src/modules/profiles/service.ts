@@ -367,13 +367,8 @@ export async function approveVersion(ctx: WorkflowContext, actor: User, versionI
         after: model.publicVersion(after),
       });
     }
-    await model.lockVersionRow(db, version.id, t);
-    await model.updateStatus(
-      db,
-      version.id,
-      { state: "approved", decidedBy: actor.id, decidedAt: "now", decisionComment: input.comment, exceedsCeilings: false },
-      t,
-    );
+    // Inserting the approvals row is the approval: its triggers (migration 0014) lock the version row and
+    // move the status to approved with this approver, time and comment, in the same statement.
     const approvalId = await model.insertApproval(db, { versionId: version.id, approverId: actor.id, comment: input.comment, paramsSha256: version.paramsSha256 }, t);
     const approval = (await model.findApproval(db, version.id, t))!;
     await recordAudit(db, t, {
@@ -420,7 +415,10 @@ export async function retireVersion(ctx: WorkflowContext, actor: User, versionId
     ["draft", "submitted", "approved", "rejected", "superseded"],
     "retired",
     async ({ t, version, profile }) => {
-      await model.updateStatus(ctx.db, version.id, { state: "retired", decidedBy: actor.id, decidedAt: "now", decisionComment: input.reason }, t);
+      // A decision is immutable once made (migration 0014): retiring an approved, rejected or superseded
+      // version keeps who decided it and why; the retirement and its reason are in the audit log.
+      const decision = version.decidedAt === null ? { decidedBy: actor.id, decidedAt: "now" as const, decisionComment: input.reason } : {};
+      await model.updateStatus(ctx.db, version.id, { state: "retired", ...decision }, t);
       return `retired ${versionLabel(profile, version)} (was ${version.state}): ${input.reason}`;
     },
   );
