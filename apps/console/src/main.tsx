@@ -1,3 +1,5 @@
+// First: zod's settings must be in place before any schema is built (see the module).
+import "./lib/zod-jitless.ts";
 import { StrictMode } from "react";
 import { createRoot } from "react-dom/client";
 import { Providers } from "./app/providers.tsx";

@@ -12,8 +12,7 @@ import { defaultProfileParams } from "@jogwright/shared";
 import { createApp } from "../src/app.ts";
 import { loadConfig } from "../src/config.ts";
 import { createSequelize } from "../src/db/connection.ts";
-import { migrate } from "../src/db/migrator.ts";
-import { seedDemo } from "../src/db/seed.ts";
+import { prepareDatabase } from "../src/db/prepare.ts";
 import { listArms } from "../src/modules/arms/model.ts";
 import { attachJogSockets } from "../src/modules/jog/socket.ts";
 import { createProfile } from "../src/modules/profiles/service.ts";
@@ -21,14 +20,16 @@ import { createUser } from "../src/modules/users/service.ts";
 
 const config = loadConfig({ ...process.env, SEED_DEMO: "0", FAKE_SMTP: "0" });
 const db = createSequelize(config.databaseUrl);
-await migrate(db);
-// The demo arms (and accounts) are what the bench profiles run on; idempotent.
-await seedDemo(db);
+// Migrate as the migration account, grant the runtime account, seed: the demo arms (and accounts) are what
+// the bench profiles run on; idempotent.
+await prepareDatabase(config, db, { seed: true });
 const { app, ctx } = createApp(config, db);
 const server = http.createServer(app);
 const jog = attachJogSockets(server, ctx);
 await new Promise<void>((resolve) => server.listen(0, "127.0.0.1", resolve));
 const { port } = server.address() as AddressInfo;
+// The ephemeral port is known only now: the clients' Origin is this address (PUBLIC_ORIGIN cannot say it).
+ctx.config.allowedOrigins.push(`http://127.0.0.1:${port}`);
 
 const stamp = `b${Date.now().toString(36)}`;
 const engineer = await createUser(db, { username: `${stamp}e`, displayName: `Bench engineer ${stamp}`, email: `${stamp}e@bench.example`, password: "bench-password-1", roles: ["engineer"] });

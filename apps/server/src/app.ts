@@ -10,6 +10,7 @@ import type { Config } from "./config.ts";
 import type { AppContext } from "./context.ts";
 import { AppError, errorHandler, notFoundHandler } from "./errors.ts";
 import type { ApiRouter, RouteSpec } from "./http/api-router.ts";
+import { securityHeaders } from "./http/security-headers.ts";
 import { armsRouter } from "./modules/arms/routes.ts";
 import { healthRouter } from "./modules/health/routes.ts";
 import { usersRouter } from "./modules/users/routes.ts";
@@ -35,6 +36,7 @@ export function createApp(config: Config, db: Sequelize): BuiltApp {
   const app = express();
   app.disable("x-powered-by");
   app.set("trust proxy", config.trustProxy ? 1 : false);
+  app.use(securityHeaders(config));
 
   const api = express.Router();
   api.use(express.json({ limit: "256kb", strict: true }));
@@ -72,6 +74,12 @@ export function createApp(config: Config, db: Sequelize): BuiltApp {
 
   const dist = config.consoleDist ?? path.resolve(import.meta.dirname, "../../console/dist");
   if (existsSync(dist)) {
+    // The build keeps its source maps on disk for reading stack traces (vite.config.ts, "hidden"); they
+    // are never served, in any environment.
+    app.use((req, res, next) => {
+      if (!req.path.toLowerCase().endsWith(".map")) return next();
+      res.status(404).type("text/plain").send("Not found");
+    });
     app.use(express.static(dist, { index: false, maxAge: "1h" }));
     app.get("/{*splat}", (_req, res) => {
       res.set("Cache-Control", "no-cache");

@@ -17,8 +17,28 @@ describe("loadConfig", () => {
     [{ ...good, PORT: "http" }, /^PORT /],
     [{ ...good, PORT: "70000" }, /^PORT must be 1-65535/],
     [{ ...good, TRUST_PROXY: "yes" }, /^TRUST_PROXY /],
+    [{ ...good, PUBLIC_ORIGIN: "jog.example.com" }, /^PUBLIC_ORIGIN "jog.example.com" is not an origin; expected e.g. https:\/\/jog.example.com/],
+    [{ ...good, PUBLIC_ORIGIN: "ftp://jog.example.com" }, /^PUBLIC_ORIGIN "ftp:\/\/jog.example.com" must start with http:\/\/ or https:\/\//],
+    [{ ...good, PUBLIC_ORIGIN: "https://jog.example.com/console" }, /^PUBLIC_ORIGIN .* must be only scheme, host and port .*, e.g. https:\/\/jog.example.com$/],
+    [{ ...good, ALLOWED_ORIGINS: "http://localhost:5173,localhost:5174" }, /^ALLOWED_ORIGINS "localhost:5174" must start with http:\/\/ or https:\/\//],
   ])("refuses %j with one clear sentence", (env, message) => {
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(ConfigError);
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(message);
+  });
+});
+
+describe("the public origin", () => {
+  it("defaults to http://127.0.0.1 on PORT, and ALLOWED_ORIGINS to none", () => {
+    expect(loadConfig(good)).toMatchObject({ publicOrigin: "http://127.0.0.1:3000", allowedOrigins: [] });
+    expect(loadConfig({ ...good, PORT: "3150" }).publicOrigin).toBe("http://127.0.0.1:3150");
+  });
+
+  it("is kept in the form browsers send in Origin: lower-case host, no default port, no trailing slash", () => {
+    expect(loadConfig({ ...good, PUBLIC_ORIGIN: "https://Jog.Example.com:443/" }).publicOrigin).toBe("https://jog.example.com");
+    expect(loadConfig({ ...good, PUBLIC_ORIGIN: "http://10.0.0.7:8080" }).publicOrigin).toBe("http://10.0.0.7:8080");
+    expect(loadConfig({ ...good, ALLOWED_ORIGINS: " http://localhost:5173 , https://B.example/ " }).allowedOrigins).toEqual([
+      "http://localhost:5173",
+      "https://b.example",
+    ]);
   });
 });

@@ -28,13 +28,44 @@ const databaseUrl = z.string().superRefine((raw, ctx) => {
   }
 });
 
+/** An origin as browsers send it in the Origin header: http(s)://host[:port], nothing after. */
+const origin = z.string().transform((raw, ctx) => {
+  let url: URL;
+  try {
+    url = new URL(raw);
+  } catch {
+    ctx.addIssue({ code: "custom", message: `"${raw}" is not an origin; expected e.g. https://jog.example.com or http://127.0.0.1:3000` });
+    return z.NEVER;
+  }
+  if (!["http:", "https:"].includes(url.protocol)) {
+    ctx.addIssue({ code: "custom", message: `"${raw}" must start with http:// or https://` });
+    return z.NEVER;
+  }
+  if (url.username || url.password || url.pathname !== "/" || url.search || url.hash) {
+    ctx.addIssue({ code: "custom", message: `"${raw}" must be only scheme, host and port (no path, query or user), e.g. ${url.origin}` });
+    return z.NEVER;
+  }
+  return url.origin; // lower-case host, default port dropped: the form of the Origin header
+});
+
 const envSchema = z.object({
   NODE_ENV: z.enum(["development", "production", "test"]).default("development"),
   PORT: port(3000),
   HOST: z.string().default("127.0.0.1"),
+  /** The runtime account: SELECT, INSERT, UPDATE (DELETE on a few tables), no DDL. See README. */
   DATABASE_URL: databaseUrl,
+  /** The migration account that owns the schema (migrations, triggers, grants); unset: DATABASE_URL's. */
+  MIGRATION_DATABASE_URL: databaseUrl.optional(),
+  /**
+   * The address people open in the browser, e.g. https://jog.example.com; default http://127.0.0.1:PORT.
+   * State-changing requests and the jog socket must come from it (the Host header is never trusted).
+   */
+  PUBLIC_ORIGIN: origin.optional(),
   /** Extra origins allowed to send state-changing requests (comma-separated), e.g. a Vite dev server. */
-  ALLOWED_ORIGINS: z.string().default(""),
+  ALLOWED_ORIGINS: z
+    .string()
+    .default("")
+    .pipe(z.string().transform((raw) => raw.split(",").map((s) => s.trim()).filter(Boolean)).pipe(z.array(origin))),
   /** Set when a TLS-terminating proxy sits in front: then X-Forwarded-Proto decides the Secure cookie flag. */
   TRUST_PROXY: z.enum(["0", "1"]).default("0"),
   /** Failed sign-ins allowed per account and address within the window, then 429 until it passes. */
@@ -66,7 +97,13 @@ export type Config = {
   env: "development" | "production" | "test";
   port: number;
   host: string;
+  /** The runtime account the app runs as. */
   databaseUrl: string;
+  /** The migration account the schema is migrated with (DATABASE_URL's account when not set). */
+  migrationDatabaseUrl: string;
+  /** Where the console is served from as the browser sees it (scheme://host[:port]). */
+  publicOrigin: string;
+  /** Extra origins that may send state-changing requests (ALLOWED_ORIGINS). */
   allowedOrigins: string[];
   trustProxy: boolean;
   signIn: { maxFailures: number; windowS: number; maxFailuresPerAddress: number };
@@ -96,7 +133,9 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     port: v.PORT,
     host: v.HOST,
     databaseUrl: v.DATABASE_URL,
-    allowedOrigins: v.ALLOWED_ORIGINS.split(",").map((s) => s.trim()).filter(Boolean),
+    migrationDatabaseUrl: v.MIGRATION_DATABASE_URL ?? v.DATABASE_URL,
+    publicOrigin: v.PUBLIC_ORIGIN ?? `http://127.0.0.1:${v.PORT}`,
+    allowedOrigins: v.ALLOWED_ORIGINS,
     trustProxy: v.TRUST_PROXY === "1",
     signIn: {
       maxFailures: v.SIGN_IN_MAX_FAILURES,

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { roleSchema } from "./roles.ts";
+import { singleLineName } from "./text.ts";
 
 export const usernameSchema = z
   .string()
@@ -7,6 +8,8 @@ export const usernameSchema = z
   .min(3, "a user name has at least 3 characters")
   .max(40, "a user name has at most 40 characters")
   .regex(/^[a-z0-9._-]+$/, "use lower-case letters, digits, dot, dash or underscore");
+
+export const displayNameSchema = singleLineName({ requiredMessage: "a display name is required", max: 80 });
 
 export const passwordSchema = z
   .string()
@@ -32,7 +35,7 @@ const rolesField = z.array(roleSchema).min(1, "pick at least one role").refine(
 
 export const createUserSchema = z.object({
   username: usernameSchema,
-  displayName: z.string().trim().min(1, "a display name is required").max(80, "at most 80 characters"),
+  displayName: displayNameSchema,
   email: z.email("enter a valid e-mail address").max(120),
   password: passwordSchema,
   roles: rolesField,
@@ -41,7 +44,7 @@ export type CreateUserInput = z.infer<typeof createUserSchema>;
 
 export const updateUserSchema = z
   .object({
-    displayName: z.string().trim().min(1, "a display name is required").max(80, "at most 80 characters"),
+    displayName: displayNameSchema,
     email: z.email("enter a valid e-mail address").max(120),
     roles: rolesField,
     isActive: z.boolean(),

@@ -9,7 +9,9 @@ export function createLucia(db: Sequelize) {
     sessionExpiresIn: new TimeSpan(12, "h"),
     sessionCookie: {
       name: SESSION_COOKIE,
-      expires: false,
+      // The cookie lives as long as the session row (Max-Age = sessionExpiresIn); when lucia extends the
+      // session (session.fresh), the session loader sends the cookie again with a new Max-Age.
+      expires: true,
       // `secure` is decided per request (see cookies.ts): Secure behind https, plain on loopback http.
       attributes: { sameSite: "lax", secure: false },
     },

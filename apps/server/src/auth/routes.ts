@@ -4,6 +4,7 @@ import { AppError } from "../errors.ts";
 import { ApiRouter, requireAccount } from "../http/api-router.ts";
 import { parseBody } from "../http/validate.ts";
 import type { AppContext } from "../context.ts";
+import { accountChangesFor } from "../modules/users/account-changes.ts";
 import { findUserWithHashByUsername } from "../modules/users/model.ts";
 import { setCookie } from "./middleware.ts";
 import { decoyPasswordHash, verifyPassword } from "./password.ts";
@@ -13,7 +14,8 @@ export function authRouter(ctx: AppContext): ApiRouter {
     .add("post", "/sign-in", "public", async (req, res) => {
       const { username, password } = parseBody(req, signInSchema);
       const address = req.ip ?? "unknown";
-      const waitS = await ctx.signInLimiter.retryAfterS(username, address);
+      // The attempt is counted before the password is checked, so parallel guesses cannot outrun the limit.
+      const waitS = await ctx.signInLimiter.takeAttempt(username, address);
       if (waitS > 0) {
         throw new AppError(
           429,
@@ -25,10 +27,8 @@ export function authRouter(ctx: AppContext): ApiRouter {
       }
       const found = await findUserWithHashByUsername(ctx.db, username.toLowerCase());
       const ok = await verifyPassword(found?.passwordHash ?? (await decoyPasswordHash()), password);
-      if (!found || !ok) {
-        await ctx.signInLimiter.recordFailure(username, address);
-        throw new AppError(401, "invalid_credentials", "Wrong user name or password.");
-      }
+      if (!found || !ok) throw new AppError(401, "invalid_credentials", "Wrong user name or password.");
+      await ctx.signInLimiter.refundAttempt(username, address);
       if (!found.user.isActive) {
         throw new AppError(403, "account_inactive", "This account has been deactivated; ask an admin.");
       }
@@ -38,7 +38,10 @@ export function authRouter(ctx: AppContext): ApiRouter {
       res.json({ user: found.user });
     })
     .add("post", "/sign-out", "signed-in", async (req, res) => {
-      await ctx.lucia.invalidateSession((res.locals.session as Session).id);
+      const session = res.locals.session as Session;
+      await ctx.lucia.invalidateSession(session.id);
+      // Live-jogging sockets of this cookie session end their session (ended first) and close now.
+      accountChangesFor(ctx).publish({ kind: "signed-out", userId: session.userId, sessionId: session.id });
       setCookie(req, res, ctx.lucia.createBlankSessionCookie());
       res.status(204).end();
     })

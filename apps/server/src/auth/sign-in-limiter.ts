@@ -1,8 +1,10 @@
 import { RateLimiterMemory, RateLimiterRes } from "rate-limiter-flexible";
 
 /**
- * Failed sign-ins are counted per account-and-address and per address; past either limit the next
- * attempts get 429 until the window passes. A good password resets the account-and-address count.
+ * Sign-in attempts are counted per account-and-address and per address. Every attempt takes its point
+ * *before* the password is checked (`consume` increments and compares in one step, so parallel requests
+ * cannot all slip past a check that only reads the count); a good password gives the point back. Past
+ * either limit the next attempts get 429 until the window passes, without their password being checked.
  */
 export class SignInLimiter {
   private readonly perAccount: RateLimiterMemory;
@@ -17,23 +19,31 @@ export class SignInLimiter {
     return `${username.toLowerCase()}|${address}`;
   }
 
-  /** Seconds to wait before another attempt is allowed, or 0. */
-  async retryAfterS(username: string, address: string): Promise<number> {
-    const [acct, addr] = await Promise.all([
-      this.perAccount.get(SignInLimiter.key(username, address)),
-      this.perAddress.get(address),
-    ]);
-    const blocked = [acct, addr].filter((r): r is RateLimiterRes => r !== null && r.remainingPoints <= 0);
-    return blocked.length ? Math.max(1, Math.ceil(Math.max(...blocked.map((r) => r.msBeforeNext)) / 1000)) : 0;
+  /**
+   * Takes one attempt from both counters. Returns 0 when the password may be checked, else the seconds
+   * to wait; a refused attempt gives back the point it took from the counter that still had room, so
+   * refusals do not count as failures.
+   */
+  async takeAttempt(username: string, address: string): Promise<number> {
+    const acctKey = SignInLimiter.key(username, address);
+    const [acct, addr] = await Promise.allSettled([this.perAccount.consume(acctKey, 1), this.perAddress.consume(address, 1)]);
+    const refused = [acct, addr].filter((r) => r.status === "rejected").map((r) => r.reason as unknown);
+    if (refused.length === 0) return 0;
+    // A store error (not a RateLimiterRes) is a real failure: let the error handler log it.
+    const storeError = refused.find((reason) => !(reason instanceof RateLimiterRes));
+    if (acct.status === "fulfilled") await this.perAccount.reward(acctKey, 1);
+    if (addr.status === "fulfilled") await this.perAddress.reward(address, 1);
+    if (storeError) throw storeError;
+    const waitMs = Math.max(...refused.map((reason) => (reason as RateLimiterRes).msBeforeNext));
+    return Math.max(1, Math.ceil(waitMs / 1000));
   }
 
-  async recordFailure(username: string, address: string): Promise<void> {
-    await Promise.all([
-      this.perAccount.penalty(SignInLimiter.key(username, address), 1),
-      this.perAddress.penalty(address, 1),
-    ]);
+  /** The password was right: the attempt taken by takeAttempt was no failure. */
+  async refundAttempt(username: string, address: string): Promise<void> {
+    await Promise.all([this.perAccount.reward(SignInLimiter.key(username, address), 1), this.perAddress.reward(address, 1)]);
   }
 
+  /** Signed in: the failures counted for this account from this address are forgiven (the address count is not). */
   async recordSuccess(username: string, address: string): Promise<void> {
     await this.perAccount.delete(SignInLimiter.key(username, address));
   }

@@ -11,7 +11,10 @@ import { createUser } from "../modules/users/service.ts";
 import { attachJogSockets, JOG_SOCKET_PATH, type JogSockets } from "../modules/jog/socket.ts";
 import { startFakeSmtp, type FakeSmtp } from "../mail/fake-smtp.ts";
 
-/** The real app on the real test database; supertest talks to it in-process. */
+/**
+ * The real app on the real test database; supertest talks to it in-process. ORIGIN is the harness's
+ * PUBLIC_ORIGIN: the console's address as `call()` presents it.
+ */
 export const ORIGIN = "http://127.0.0.1";
 
 export interface Harness extends BuiltApp {
@@ -25,7 +28,7 @@ export interface Harness extends BuiltApp {
  * close() waits for mail deliveries under way, then closes the database.
  */
 export function createHarness(env: Record<string, string> = {}): Harness {
-  const config = loadConfig({ ...process.env, SIGN_IN_MAX_FAILURES: "5", ...env });
+  const config = loadConfig({ ...process.env, SIGN_IN_MAX_FAILURES: "5", PUBLIC_ORIGIN: ORIGIN, ...env });
   const db = createSequelize(config.databaseUrl);
   const built = createApp(config, db);
   return {
@@ -96,6 +99,9 @@ export async function listenHarness(h: Harness): Promise<{ baseUrl: string; wsUr
   await new Promise<void>((resolve) => server.listen(0, "127.0.0.1", resolve));
   const { port } = server.address() as AddressInfo;
   const baseUrl = `http://127.0.0.1:${port}`;
+  // Real clients of this listener send its address as Origin; the port is known only now, so it joins
+  // the allowed origins here (in production PUBLIC_ORIGIN names it).
+  if (!h.ctx.config.allowedOrigins.includes(baseUrl)) h.ctx.config.allowedOrigins.push(baseUrl);
   return {
     baseUrl,
     wsUrl: `ws://127.0.0.1:${port}${JOG_SOCKET_PATH}`,
