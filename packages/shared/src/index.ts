@@ -1,5 +1,6 @@
 export * from "./roles.ts";
 export * from "./errors.ts";
+export * from "./text.ts";
 export * from "./arm.ts";
 export * from "./users.ts";
 export * from "./health.ts";

@@ -16,7 +16,10 @@ const axis = finite.refine((v) => v >= -1 && v <= 1, "an axis value must lie in 
 /** Start driving (or switch to) a profile version. Drafts only for engineers; operators only their approved version. */
 export const jogStartSchema = z.object({ type: z.literal("start"), versionId: z.number().int().positive() });
 
-/** Watch another live session read-only (engineers and safety officers). */
+/**
+ * Watch another live session (engineers and safety officers). Read-only, except that a watcher who holds
+ * the safety officer role may send `estop`: it latches the driver's station (audited).
+ */
 export const jogWatchSchema = z.object({ type: z.literal("watch"), sessionId: z.string().min(1).max(64) });
 
 /**
@@ -186,10 +189,34 @@ export const jogServerMessageSchema = z.discriminatedUnion("type", [
   z.object({ type: z.literal("session"), session: jogSessionInfoSchema }),
   jogStateSchema,
   z.object({ type: z.literal("pong"), id: z.number().int(), clientTimeMs: finite, serverTimeMs: finite }),
-  z.object({ type: z.literal("ended"), sessionId: z.string(), reason: z.string(), recordingId: z.number().int().nullable() }),
+  /**
+   * A session ended (for a watcher: it ended, or this person may no longer watch it). `reason` is a code
+   * (also the recording's end reason, e.g. "stopped", "account-deactivated"); `message` says it in a
+   * sentence for the person (absent from servers before it was added).
+   */
+  z.object({
+    type: z.literal("ended"),
+    sessionId: z.string(),
+    reason: z.string(),
+    message: z.string().optional(),
+    recordingId: z.number().int().nullable(),
+  }),
   z.object({ type: z.literal("error"), code: z.string(), message: z.string() }),
 ]);
 export type JogServerMessage = z.infer<typeof jogServerMessageSchema>;
+
+/**
+ * WebSocket close codes of /ws/jog beyond the standard ones (1001 server shutting down, 1008 too many bad
+ * messages, 1009 too large). Application codes (4000–4999, RFC 6455 §7.4.2), 4000 + the HTTP status they
+ * mirror; the `ended` frame of a driven or watched session is always sent before the close. A client does
+ * not reconnect after either: the cookie session is gone.
+ */
+export const JOG_CLOSE_CODES = {
+  /** The cookie session ended: signed out (here or in another tab), expired, or the password was changed. */
+  signedOut: 4401,
+  /** An admin deactivated the account. */
+  accountDeactivated: 4403,
+} as const;
 
 // ----------------------------------------------------------------------------------------------------
 // REST around live jogging: live sessions, recordings, gamepad mappings

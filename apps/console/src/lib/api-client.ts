@@ -37,6 +37,11 @@ interface RequestOptions<S extends z.ZodType | undefined> {
   /** Parses the JSON answer; the result type follows the schema. */
   schema?: S;
   signal?: AbortSignal;
+  /**
+   * A request the page makes on a timer, not for something the person did: it never extends the sign-in
+   * (the server's X-Jogwright-Background, session-check.ts), so a page left open still expires.
+   */
+  isBackground?: boolean;
 }
 
 type Result<S> = S extends z.ZodType ? z.output<S> : void;
@@ -49,8 +54,9 @@ export async function apiRequest<S extends z.ZodType | undefined = undefined>(
   path: string,
   options: RequestOptions<S> = {},
 ): Promise<Result<S>> {
-  const { method = "GET", body, schema, signal } = options;
+  const { method = "GET", body, schema, signal, isBackground = false } = options;
   const headers: Record<string, string> = { Accept: "application/json" };
+  if (isBackground) headers["X-Jogwright-Background"] = "1";
   // State-changing requests always send JSON (the server refuses other content types there).
   if (method !== "GET") headers["Content-Type"] = "application/json";
 

@@ -1,5 +1,6 @@
 import { useSyncExternalStore } from "react";
 import {
+  JOG_CLOSE_CODES,
   jogServerMessageSchema,
   type JogClientMessage,
   type JogInput,
@@ -29,8 +30,29 @@ export interface JogError {
 
 export interface JogEnded {
   sessionId: string;
+  /** A code (e.g. "stopped", "account-deactivated"). */
   reason: string;
+  /** The server's sentence for the person, when it sent one. */
+  message?: string;
   recordingId: number | null;
+}
+
+/** What to show for an ended session: the server's sentence, else its reason code. */
+export function describeEnded(ended: JogEnded): string {
+  return ended.message ?? `${ended.reason}.`;
+}
+
+/**
+ * Close codes after which reconnecting cannot help (the cookie session is gone: signed out, expired,
+ * password changed, account deactivated); the client stays closed and says why.
+ */
+export function isFinalClose(code: number): boolean {
+  return code === JOG_CLOSE_CODES.signedOut || code === JOG_CLOSE_CODES.accountDeactivated;
+}
+
+/** Safety officers may stop the session they watch (it latches the driver's station); nobody else from a watch. */
+export function mayStopWatchedSession(roles: readonly string[], session: Pick<JogSessionInfo, "isWatching"> | null): boolean {
+  return session !== null && session.isWatching && roles.includes("safety_officer");
 }
 
 export interface JogSnapshot {
@@ -170,12 +192,28 @@ export class JogSocketClient implements FrameSource {
       this.socket = null;
       this.stopPing();
       const hadSession = this.snapshot.session;
+      // Signed out or deactivated: the server sent `ended` (with its sentence) before closing; a reconnect
+      // would only be refused, so the client stays closed and says why.
+      const isFinal = isFinalClose(event.code);
+      if (isFinal) this.wantOpen = false;
       this.update({
         connection: this.wantOpen ? "reconnecting" : "closed",
         session: null,
         ended: hadSession
           ? { sessionId: hadSession.sessionId, reason: event.reason || "connection lost", recordingId: null }
           : this.snapshot.ended,
+        ...(isFinal
+          ? {
+              error: {
+                code: event.code === JOG_CLOSE_CODES.accountDeactivated ? "account_deactivated" : "signed_out",
+                message:
+                  event.code === JOG_CLOSE_CODES.accountDeactivated
+                    ? "Your account has been deactivated: live jogging is closed."
+                    : "You are signed out (signed out elsewhere, the sign-in expired or the password was changed). Sign in again.",
+                atMs: performance.now(),
+              },
+            }
+          : {}),
       });
       if (this.wantOpen) this.scheduleReconnect();
     };
@@ -240,6 +278,14 @@ export class JogSocketClient implements FrameSource {
     return this.send({ type });
   }
 
+  /**
+   * A safety officer's STOP on the session they watch: the server latches the driver's station (audited
+   * with the officer's name); only the driver's deliberate reset clears it.
+   */
+  stopWatchedSession(): boolean {
+    return this.send({ type: "estop" });
+  }
+
   // ---- receiving --------------------------------------------------------------------------------------
 
   private receive(raw: unknown): void {
@@ -277,7 +323,10 @@ export class JogSocketClient implements FrameSource {
         this.update({ roundTripMs: performance.now() - message.clientTimeMs });
         break;
       case "ended":
-        this.update({ ended: { sessionId: message.sessionId, reason: message.reason, recordingId: message.recordingId }, session: null });
+        this.update({
+          ended: { sessionId: message.sessionId, reason: message.reason, message: message.message, recordingId: message.recordingId },
+          session: null,
+        });
         break;
       case "error":
         this.update({ error: { code: message.code, message: message.message, atMs: performance.now() } });

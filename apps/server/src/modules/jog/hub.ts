@@ -30,7 +30,59 @@ export interface FrameSink {
 
 export type EndReason =
   | "stopped" | "disconnected" | "switched" | "profile-not-driveable" | "server-shutdown" | "signed-out"
-  | "simulation-failed";
+  | "session-expired" | "account-deactivated" | "roles-changed" | "simulation-failed";
+
+/**
+ * The `ended` frame's sentences for each reason, to the driver and to the people watching (the reason
+ * itself is a code, also stored as the recording's end reason).
+ */
+export const END_MESSAGES: Record<EndReason, { driver: string; watcher: string }> = {
+  stopped: { driver: "You ended the session.", watcher: "The driver ended the session." },
+  disconnected: {
+    driver: "The connection was lost, so the session ended.",
+    watcher: "The driver's connection was lost, so the session ended.",
+  },
+  switched: { driver: "You switched versions: a new session started.", watcher: "The driver switched to another version, which started a new session." },
+  "profile-not-driveable": {
+    driver: "This version may no longer be driven (its state or the site ceilings changed), so the session ended.",
+    watcher: "The version may no longer be driven (its state or the site ceilings changed), so the session ended.",
+  },
+  "server-shutdown": {
+    driver: "The server is shutting down: the session ended and its recording was saved.",
+    watcher: "The server is shutting down: the session ended and its recording was saved.",
+  },
+  "signed-out": {
+    driver: "You were signed out, so the arm made a controlled stop and the session ended. Sign in again to drive.",
+    watcher: "The driver was signed out, so the arm made a controlled stop and the session ended.",
+  },
+  "session-expired": {
+    driver: "Your sign-in expired, so the session ended. Sign in again to drive.",
+    watcher: "The driver's sign-in expired, so the session ended.",
+  },
+  "account-deactivated": {
+    driver: "An administrator deactivated your account: the arm made a controlled stop and the session ended.",
+    watcher: "An administrator deactivated the driver's account: the arm made a controlled stop and the session ended.",
+  },
+  "roles-changed": {
+    driver: "Your roles were changed and no longer allow you to drive this version: the arm made a controlled stop and the session ended.",
+    watcher: "The driver's roles were changed and no longer allow driving this version: the arm made a controlled stop and the session ended.",
+  },
+  "simulation-failed": {
+    driver: "The simulation failed: the session ended and the failure was logged.",
+    watcher: "The simulation failed: the session ended and the failure was logged.",
+  },
+};
+
+export interface EndOptions {
+  /**
+   * A moving arm first makes a controlled stop (the ramp of a released enabling control), and the session
+   * ends when it is at rest; inputs are no longer applied from the call on, frames still go out. For ends
+   * the driver did not ask for (account deactivated, roles changed, signed out elsewhere).
+   */
+  afterControlledStop?: boolean;
+  /** The driver's `ended` sentence, when it says more than END_MESSAGES (e.g. "your password was changed"). */
+  driverMessage?: string;
+}
 
 export interface DrivenVersion {
   version: ProfileVersion;
@@ -58,7 +110,10 @@ export class LiveJogSession {
   private ending: Promise<number[] | null> | null = null;
   private finishEnding: ((q: number[] | null) => void) | null = null;
   private endReason: EndReason = "stopped";
+  private endDriverMessage = END_MESSAGES.stopped.driver;
   private endWatchers: FrameSink[] = [];
+  /** Ended with a controlled stop still to run: its frames are sent until the simulation has ended it. */
+  private isWindingDown = false;
 
   constructor(
     private readonly hub: JogHub,
@@ -151,7 +206,8 @@ export class LiveJogSession {
    * before it was applied is sent from here on.
    */
   command(command: SessionCommand): void {
-    if (this.isEnded) return;
+    // While a controlled stop before the end runs, an e-stop still reaches it (nothing else does).
+    if (this.isEnded && !(command === "estop" && this.isWindingDown)) return;
     const cmdSeq = this.hub.nextCmdSeq();
     if (command === "estop") this.estopCmdSeq = cmdSeq;
     this.hub.thread.post({ t: "command", key: this.key, command, cmdSeq });
@@ -160,10 +216,11 @@ export class LiveJogSession {
   /** A state frame from the simulation thread: recorded, and sent to the driver and watchers. */
   deliverFrame(text: string, bodyStart: number, bodyEnd: number, appliedCmdSeq: number): void {
     this.record(text, bodyStart, bodyEnd);
-    // After end() only the last frame is sent (as before the simulation thread); every frame is recorded.
-    if (this.isEnded || appliedCmdSeq < this.estopCmdSeq) return;
+    // After end() only the last frame is sent (as before the simulation thread), except the frames of a
+    // controlled stop before the end; every frame is recorded.
+    if ((this.isEnded && !this.isWindingDown) || appliedCmdSeq < this.estopCmdSeq) return;
     if (!this.driver.sendText(text)) this.framesSkipped++;
-    for (const w of this.watchers) w.sendText(text);
+    for (const w of this.isEnded ? this.endWatchers : this.watchers) w.sendText(text);
   }
 
   private record(text: string, bodyStart: number, bodyEnd: number): void {
@@ -180,12 +237,15 @@ export class LiveJogSession {
    * Ends the session: the connections let go of it at once (commands after this get no_session); the
    * simulation thread stops ticking it and builds its last frame ("session-ended"), which is sent with
    * `ended`, and the recording's end is queued. Resolves with the arm's final joint positions (null when the
-   * simulation thread failed). Idempotent.
+   * simulation thread failed). Idempotent (the first call's reason and options hold). With
+   * afterControlledStop the simulation first brings a moving arm to rest (EndOptions).
    */
-  end(reason: EndReason): Promise<number[] | null> {
+  end(reason: EndReason, options: EndOptions = {}): Promise<number[] | null> {
     if (this.ending) return this.ending;
     this.isEnded = true;
     this.endReason = reason;
+    this.endDriverMessage = options.driverMessage ?? END_MESSAGES[reason].driver;
+    this.isWindingDown = options.afterControlledStop === true && this.hub.thread.isRunning;
     this.hub.sessions.delete(this.id);
     this.endWatchers = [...this.watchers];
     this.watchers.clear();
@@ -194,8 +254,9 @@ export class LiveJogSession {
     });
     this.driver.onSessionEnded(this, reason);
     for (const w of this.endWatchers) w.onSessionEnded(this, reason);
-    if (this.hub.thread.isRunning) this.hub.thread.post({ t: "end", key: this.key, cmdSeq: this.hub.nextCmdSeq() });
-    else this.finishEnd(null, null, null);
+    if (this.hub.thread.isRunning) {
+      this.hub.thread.post({ t: "end", key: this.key, cmdSeq: this.hub.nextCmdSeq(), afterControlledStop: this.isWindingDown });
+    } else this.finishEnd(null, null, null);
     return this.ending;
   }
 
@@ -204,6 +265,7 @@ export class LiveJogSession {
     if (!this.finishEnding) return;
     const resolve = this.finishEnding;
     this.finishEnding = null;
+    this.isWindingDown = false;
     this.hub.forget(this);
     const sinks = [this.driver, ...this.endWatchers];
     this.endWatchers = [];
@@ -216,8 +278,11 @@ export class LiveJogSession {
       const lost = { durationS: (Date.now() - this.startedAt.getTime()) / 1000, frames: this.framesRecorded, lost: "the simulation thread failed" };
       this.hub.writer.end(this.recordingId, new Date(), this.endReason, summary ?? lost);
     }
-    const ended = JSON.stringify({ type: "ended", sessionId: this.id, reason: this.endReason, recordingId: this.recordingId });
-    for (const s of sinks) s.sendText(ended);
+    const ended = (message: string) =>
+      JSON.stringify({ type: "ended", sessionId: this.id, reason: this.endReason, message, recordingId: this.recordingId });
+    this.driver.sendText(ended(this.endDriverMessage));
+    const toWatchers = ended(END_MESSAGES[this.endReason].watcher);
+    for (const s of sinks) if (s !== this.driver) s.sendText(toWatchers);
     resolve(q);
   }
 }
@@ -298,18 +363,23 @@ export class JogHub {
     return session;
   }
 
-  /** The live sessions driven at a station (a person may have the drive page open twice). */
+  /**
+   * The sessions driven at a station (a person may have the drive page open twice), including those still
+   * making their controlled stop before an end.
+   */
   private sessionsAt(station: Station): LiveJogSession[] {
-    return [...this.sessions.values()].filter((s) => s.station.userId === station.userId && s.station.armId === station.armId);
+    return [...this.byKey.values()].filter((s) => s.station.userId === station.userId && s.station.armId === station.armId);
   }
 
   /**
-   * Emergency stop from `session`'s driver: latches the station (in memory first; stored and audited after,
-   * and a failed write never undoes it) and halts every live session at that station at once.
+   * Emergency stop of `session`'s station, pressed by its driver or by a safety officer watching it (`by`,
+   * default the driver): latches the station — the driver at that arm — in memory first (stored and
+   * audited after, naming who pressed it; a failed write never undoes it) and halts every live session at
+   * that station at once. Only the driver's deliberate reset clears it.
    */
-  emergencyStop(session: LiveJogSession): void {
+  emergencyStop(session: LiveJogSession, by: User = session.driver.user): void {
     const station = session.station;
-    this.stations.latch(station, this.stationEvent(session));
+    this.stations.latch(station, this.stationEvent(session, by));
     for (const s of new Set([session, ...this.sessionsAt(station)])) s.command("estop");
   }
 
@@ -323,8 +393,9 @@ export class JogHub {
     for (const s of new Set([session, ...this.sessionsAt(station)])) s.command("reset-estop");
   }
 
-  private stationEvent(session: LiveJogSession) {
-    return { actor: session.driver.user, armName: session.driven.arm.name, sessionId: session.id, versionId: session.driven.version.id };
+  private stationEvent(session: LiveJogSession, actor: User = session.driver.user) {
+    const driver = session.driver.user;
+    return { actor, driver, armName: session.driven.arm.name, sessionId: session.id, versionId: session.driven.version.id };
   }
 
   forget(session: LiveJogSession): void {

@@ -464,7 +464,7 @@ describe("the simulation thread", () => {
 });
 
 describe("watching and the REST routes around live jogging", () => {
-  it("a safety officer watches a live session read-only; inputs from the watcher are refused", async () => {
+  it("a safety officer watches a live session; inputs from the watcher are refused, and an engineer watching cannot stop it", async () => {
     const driver = await startDriving(engineer.cookie, draftVersionId);
     const sessionId = (driver.messages.find((m) => m.msg.type === "session")!.msg as { session: { sessionId: string } }).session.sessionId;
     const live = await call(h, "get", "/api/jog/live", officer.cookie);
@@ -479,10 +479,16 @@ describe("watching and the REST routes around live jogging", () => {
     expect(frame.sessionId).toBe(sessionId);
     watcher.send({ type: "input", seq: 0, clientTimeMs: 0, enabling: true, mode: "cartesian", frame: "world", axes: [0, 0, 1, 0, 0, 0], overridePercent: 40 });
     expect(await watcher.next((m) => m.type === "error")).toMatchObject({ code: "read_only" });
-    watcher.send({ type: "estop" });
-    expect(await watcher.next((m) => m.type === "error")).toMatchObject({ code: "read_only" });
+    // Only a safety officer may stop a watched session (watcher-stop.test.ts); an engineer watching may not.
+    const peer = await freshUser(h, ["engineer"]);
+    const engineerWatcher = await connect(await signIn(h, peer.username, peer.password));
+    engineerWatcher.send({ type: "watch", sessionId });
+    await engineerWatcher.next((m) => m.type === "session");
+    engineerWatcher.send({ type: "estop" });
+    expect(await engineerWatcher.next((m) => m.type === "error")).toMatchObject({ code: "read_only" });
     const s = await driver.nextState();
     expect(s.estopLatched).toBe(false);
+    await engineerWatcher.close();
 
     const op = await connect(operator.cookie);
     op.send({ type: "watch", sessionId });

@@ -39,7 +39,12 @@ export type ToWorker =
   | { t: "run"; key: number }
   | { t: "discard"; key: number }
   | { t: "command"; key: number; command: SessionCommand; cmdSeq: number }
-  | { t: "end"; key: number; cmdSeq: number }
+  /**
+   * Ends the session. With afterControlledStop, a moving arm first makes a controlled stop (the gate's
+   * requireRelease ramp; no inputs reach it any more) and the session ends at the first tick at rest, or
+   * after END_STOP_MAX_S at the latest; frames keep coming meanwhile.
+   */
+  | { t: "end"; key: number; cmdSeq: number; afterControlledStop?: boolean }
   | { t: "stats"; id: number; reset: boolean }
   | { t: "crash-for-test" }
   | { t: "close" };

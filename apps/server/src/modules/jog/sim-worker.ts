@@ -94,6 +94,14 @@ class WorkerSession implements ScheduledClient {
 
 const scheduler = new TickScheduler();
 const sessions = new Map<number, WorkerSession>();
+/**
+ * Longest a controlled stop before an end may take [s]; past it the session ends anyway (its end zeroes the
+ * rates). The site ceilings bound a compliant profile's stop far below it (50 mm at ≥ 0.5 m/s²: v ≤ 0.22
+ * m/s, T = v/a ≤ 0.45 s; derived); a flagged version an engineer test-drives may exceed them.
+ */
+const END_STOP_MAX_S = 2;
+/** Sessions ending after a controlled stop (ToWorker "end" afterControlledStop): key → when to end regardless. */
+const endingAfterStop = new Map<number, { session: WorkerSession; deadlineMs: number }>();
 /** Frames built during the current wake (flattened, see FromWorker "frames"). */
 let pendingFrames: (number | string)[] = [];
 let isClosing = false;
@@ -154,17 +162,15 @@ function handle(msg: ToWorker, nowMs: number): void {
     case "end": {
       const s = sessions.get(msg.key);
       if (!s) return;
-      scheduler.remove(s);
-      sessions.delete(msg.key);
       s.appliedCmdSeq = msg.cmdSeq;
-      s.sim.end();
-      const text = s.frameText();
-      post({
-        t: "ended", key: s.key,
-        frame: { text, bodyStart: s.bodyStart, bodyEnd: s.bodyEnd },
-        summary: s.sim.summary(),
-        q: Array.from(s.sim.state.q),
-      });
+      if (msg.afterControlledStop && !s.sim.isAtRest) {
+        // A controlled stop from the next tick (no input reaches this session any more); it keeps ticking
+        // and sending frames until it is at rest (endStoppedSessions).
+        s.sim.requireRelease("the session is ending");
+        endingAfterStop.set(s.key, { session: s, deadlineMs: nowMs + END_STOP_MAX_S * 1000 });
+        return;
+      }
+      endSession(s);
       return;
     }
     case "stats": {
@@ -181,6 +187,28 @@ function handle(msg: ToWorker, nowMs: number): void {
     case "close":
       isClosing = true;
       return;
+  }
+}
+
+/** Stops ticking the session and posts its last frame ("session-ended"), summary and final joint positions. */
+function endSession(s: WorkerSession): void {
+  scheduler.remove(s);
+  sessions.delete(s.key);
+  endingAfterStop.delete(s.key);
+  s.sim.end();
+  const text = s.frameText();
+  post({
+    t: "ended", key: s.key,
+    frame: { text, bodyStart: s.bodyStart, bodyEnd: s.bodyEnd },
+    summary: s.sim.summary(),
+    q: Array.from(s.sim.state.q),
+  });
+}
+
+/** Ends the sessions whose controlled stop before their end has come to rest (or run out of time). */
+function endStoppedSessions(nowMs: number): void {
+  for (const { session, deadlineMs } of [...endingAfterStop.values()]) {
+    if (session.sim.isAtRest || nowMs >= deadlineMs) endSession(session);
   }
 }
 
@@ -277,6 +305,8 @@ function loop(): void {
     accountStalls(now);
     const next = scheduler.runDue();
     flushFrames();
+    // After the frames of this wake, so an `ended` never overtakes the stop's last frames.
+    if (endingAfterStop.size > 0) endStoppedSessions(performance.now());
     const after = performance.now();
     if (after >= sliceEndMs) {
       plannedWakeMs = Infinity;

@@ -225,6 +225,13 @@ export class JogSimulation {
     return true;
   }
 
+  /** Nothing moves and no controlled stop is under way (whatever the stick says: the gate may hold it). */
+  get isAtRest(): boolean {
+    if (this.gate.isStopping) return false;
+    for (let i = 0; i < this.n; i++) if (this.state.qdot[i] !== 0) return false;
+    return true;
+  }
+
   /** Puts the simulated arm back at the ready pose. Caller checks isStopped and the e-stop latch. */
   moveToReadyPose(): void {
     setJointPositions(this.ws, this.state, this.readyPose);
@@ -437,6 +444,8 @@ export class JogSimulation {
       stops: { ...this.stopCounts },
       peakJointAccel: finiteArray(this.accelPeakSession),
       stopsMeasured,
+      // The simulation drops nothing; the recording writer adds the frames it had to drop when it ends it.
+      droppedFrames: 0,
     };
   }
 }

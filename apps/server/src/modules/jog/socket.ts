@@ -1,14 +1,18 @@
 import type { IncomingMessage, Server } from "node:http";
 import type { Duplex } from "node:stream";
 import { performance } from "node:perf_hooks";
-import type { Request } from "express";
 import { WebSocketServer, type RawData, type WebSocket } from "ws";
-import { hasAnyRole, jogClientMessageSchema, type JogClientMessage, type User } from "@jogwright/shared";
+import {
+  hasAnyRole, isDriveable, JOG_CLOSE_CODES, jogClientMessageSchema, type JogClientMessage, type Role, type User,
+} from "@jogwright/shared";
 import { isAllowedOrigin, readSessionId, resolveAccount } from "../../auth/middleware.ts";
+import { checkSessionWithoutExtending } from "../../auth/session-check.ts";
 import type { AppContext } from "../../context.ts";
 import { AppError } from "../../errors.ts";
-import { loadVersionForDriving } from "../profiles/service.ts";
-import { jogHubFor, type EndReason, type FrameSink, type JogHub, type LiveJogSession } from "./hub.ts";
+import { drivingFacts, loadVersionForDriving } from "../profiles/service.ts";
+import { accountChangesFor, type AccountChange, type AccountChanges } from "../users/account-changes.ts";
+import { findUserById } from "../users/model.ts";
+import { END_MESSAGES, jogHubFor, type EndReason, type FrameSink, type JogHub, type LiveJogSession } from "./hub.ts";
 
 /**
  * The live-jogging WebSocket endpoint, /ws/jog on the app's own http.Server (protocol in
@@ -16,6 +20,14 @@ import { jogHubFor, type EndReason, type FrameSink, type JogHub, type LiveJogSes
  * from a foreign Origin and 401 without a valid session cookie, before any WebSocket exists. Each text
  * frame is size-checked, rate-limited, JSON-parsed and validated with the shared zod schema; every bad
  * one gets {type:"error"} and changes nothing.
+ *
+ * Authority is re-checked, not cached (issue 11, items 2 and 10): an account change made through the API
+ * (roles, deactivation, password) and a sign-out reach the connections of that account at once
+ * (users/account-changes.ts) — a deactivated or signed-out driver's arm makes a controlled stop, the
+ * `ended` frame goes out, then the socket closes (JOG_CLOSE_CODES); lost roles end what they no longer
+ * allow. Every privileged message compares the account's epoch (a Map lookup) and re-reads the account
+ * when it moved. The periodic re-check reads the cookie session without extending it (an idle page
+ * expires) and re-reads the account, for changes made outside the API.
  */
 
 export const JOG_SOCKET_PATH = "/ws/jog";
@@ -33,8 +45,59 @@ const STRIKE_LIMIT = 100;
 const STRIKE_LEAK_PER_S = 10;
 /** A client with more than this much unsent data gets no frames until it catches up (frames are snapshots). */
 const MAX_BUFFERED_BYTES = 512 * 1024;
-/** How often live sessions re-check that the driver may still drive the version and is still signed in. */
+/**
+ * How often each connection re-checks, off the message path, that its cookie session is still valid (read
+ * without extending it), re-reads its account (changes made outside the API) and that the driven version
+ * is still driveable. Changes made through the API reach it at once instead.
+ */
 export const REVALIDATE_INTERVAL_MS = 10_000;
+/** Longest wait for a session's end (its controlled stop and `ended` frame) before the socket closes anyway. */
+const END_BEFORE_CLOSE_MAX_MS = 3000;
+/** Who may watch live sessions; of them, safety officers may also stop the session they watch. */
+const WATCH_ROLES: Role[] = ["engineer", "safety_officer"];
+const STOP_WATCHED_ROLES: Role[] = ["safety_officer"];
+/** Messages that use a role or the account's standing, re-checked on every one (estop and ping are handled apart). */
+const PRIVILEGED = new Set<JogClientMessage["type"]>(["start", "watch", "input", "reset-estop", "acknowledge", "device-changed", "ready-pose"]);
+
+/** Why a connection is closed by its account or cookie session: the close code and the words for the person. */
+interface Revocation {
+  reason: EndReason;
+  code: number;
+  /** The close frame's reason (≤ 123 bytes). */
+  closeReason: string;
+  /** The `ended` frame of the session they drove (its watchers get END_MESSAGES' words). */
+  driverMessage: string;
+  /** The `ended` frame of the session they watched (which goes on). */
+  watcherMessage: string;
+}
+
+const REVOKED = {
+  deactivated: {
+    reason: "account-deactivated", code: JOG_CLOSE_CODES.accountDeactivated, closeReason: "account deactivated",
+    driverMessage: END_MESSAGES["account-deactivated"].driver,
+    watcherMessage: "An administrator deactivated your account, so you no longer watch this session.",
+  },
+  signedOut: {
+    reason: "signed-out", code: JOG_CLOSE_CODES.signedOut, closeReason: "signed out",
+    driverMessage: "You signed out, so the arm made a controlled stop and the session ended. Sign in again to drive.",
+    watcherMessage: "You signed out, so you no longer watch this session.",
+  },
+  passwordChanged: {
+    reason: "signed-out", code: JOG_CLOSE_CODES.signedOut, closeReason: "signed out: password changed",
+    driverMessage: "Your password was changed, which signs you out everywhere: the arm made a controlled stop and the session ended. Sign in again.",
+    watcherMessage: "Your password was changed, which signs you out everywhere, so you no longer watch this session. Sign in again.",
+  },
+  gone: {
+    reason: "signed-out", code: JOG_CLOSE_CODES.signedOut, closeReason: "signed out",
+    driverMessage: "Your sign-in has ended (signed out elsewhere), so the arm made a controlled stop and the session ended. Sign in again.",
+    watcherMessage: "Your sign-in has ended (signed out elsewhere), so you no longer watch this session. Sign in again.",
+  },
+  expired: {
+    reason: "session-expired", code: JOG_CLOSE_CODES.signedOut, closeReason: "sign-in expired",
+    driverMessage: END_MESSAGES["session-expired"].driver,
+    watcherMessage: "Your sign-in expired, so you no longer watch this session. Sign in again.",
+  },
+} satisfies Record<string, Revocation>;
 
 class TokenBucket {
   private tokens: number;
@@ -63,19 +126,35 @@ class JogConnection implements FrameSink {
   private lastRateErrorAt = -Infinity;
   private isStarting = false;
   private isClosed = false;
+  /** Closing because of the account or the cookie session: nothing but ping and the driver's e-stop is handled. */
+  private revocation: Revocation | null = null;
+  /** The session of this driver still making its controlled stop before a revocation closes the socket. */
+  private stoppingSession: LiveJogSession | null = null;
+  /** The account's epoch (users/account-changes.ts) that `user` reflects; −1: re-read it before anything privileged. */
+  private accountEpoch: number;
+  private accountReload: Promise<void> | null = null;
 
   constructor(
     private readonly hub: JogHub,
     private readonly ws: WebSocket,
-    readonly user: User,
+    /** The account as last read or pushed: current roles and active flag (replaced on every change). */
+    public user: User,
     readonly sessionId: string,
+    private readonly accounts: AccountChanges,
+    /** accounts.serial read before the account was read at the upgrade. */
+    serialBeforeRead: number,
     private readonly registry: Set<JogConnection>,
   ) {
     registry.add(this);
+    // A change published between the upgrade's read of the account and now was not pushed to this
+    // connection: the first privileged message re-reads the account, and the session is checked now.
+    const isMaybeStale = accounts.serial !== serialBeforeRead;
+    this.accountEpoch = isMaybeStale ? -1 : accounts.epochOf(user.id);
     ws.on("message", (data, isBinary) => this.onMessage(data, isBinary));
     ws.on("close", () => this.onClose());
     ws.on("error", () => this.onClose());
     this.sendJson({ type: "welcome", userId: user.id, roles: user.roles });
+    if (isMaybeStale) void this.recheck().catch((error: unknown) => console.error("[jogwright] jog re-check failed:", (error as Error).message));
   }
 
   sendText(text: string): boolean {
@@ -152,7 +231,27 @@ class JogConnection implements FrameSink {
     }
   }
 
+  /**
+   * True when `user` reflects the account's latest published change. Otherwise the account is re-read
+   * (and applied) and the caller refuses the message: nothing privileged runs on a stale account.
+   */
+  private isAccountCurrent(): boolean {
+    if (this.accounts.epochOf(this.user.id) === this.accountEpoch) return true;
+    if (!this.accountReload) {
+      this.sendError("account_changed", "Your account was just changed; this was not done. Try again in a moment.");
+      void this.reloadAccount().catch((error: unknown) => console.error("[jogwright] jog account re-read failed:", (error as Error).message));
+    }
+    return false;
+  }
+
   private handle(msg: JogClientMessage, now: number): void {
+    if (this.revocation) {
+      // Closing: only a stop of the arm still stopping, and pings, are answered.
+      if (msg.type === "estop" && this.stoppingSession) this.hub.emergencyStop(this.stoppingSession);
+      else if (msg.type === "ping") this.sendJson({ type: "pong", id: msg.id, clientTimeMs: msg.clientTimeMs, serverTimeMs: Date.now() });
+      return;
+    }
+    if (PRIVILEGED.has(msg.type) && !this.isAccountCurrent()) return;
     switch (msg.type) {
       case "ping":
         return this.sendJson({ type: "pong", id: msg.id, clientTimeMs: msg.clientTimeMs, serverTimeMs: Date.now() });
@@ -176,12 +275,8 @@ class JogConnection implements FrameSink {
         }
         return;
       }
-      case "estop": {
-        // Latches this person's station at this arm, not just this session (hub.ts, station-latches.ts).
-        const s = this.requireDriving();
-        if (s) this.hub.emergencyStop(s);
-        return;
-      }
+      case "estop":
+        return this.emergencyStop();
       case "reset-estop": {
         const s = this.requireDriving();
         if (s) this.hub.resetEmergencyStop(s);
@@ -212,6 +307,22 @@ class JogConnection implements FrameSink {
     }
   }
 
+  /**
+   * The driver's e-stop latches their own station and is never refused. A watcher's latches the DRIVER's
+   * station (the driver at that arm), only for a safety officer (roles as of now), audited with the
+   * officer as the one who pressed it; the driver's deliberate reset clears it.
+   */
+  private emergencyStop(): void {
+    if (this.driving) return this.hub.emergencyStop(this.driving);
+    const watched = this.watching;
+    if (!watched) return void this.requireDriving();
+    if (!this.isAccountCurrent()) return;
+    if (!hasAnyRole(this.user.roles, STOP_WATCHED_ROLES)) {
+      return this.sendError("read_only", "You are watching this session: only a safety officer may stop it from here.");
+    }
+    this.hub.emergencyStop(watched, this.user);
+  }
+
   private requireDriving(): LiveJogSession | null {
     if (this.driving) return this.driving;
     if (this.watching) this.sendError("read_only", "You are watching this session: it cannot be driven from here.");
@@ -219,21 +330,30 @@ class JogConnection implements FrameSink {
     return null;
   }
 
+  /** Closed or closing for its account or cookie session: whatever is under way must not go on. */
+  private get isGone(): boolean {
+    return this.isClosed || this.revocation !== null;
+  }
+
   private async start(versionId: number): Promise<void> {
     if (this.isStarting) return this.sendError("busy", "A session is already starting.");
     this.isStarting = true;
     try {
       const driven = await loadVersionForDriving(this.hub.ctx.db, this.user, versionId);
-      if (this.isClosed) return;
+      if (this.isGone) return;
       const previous = this.driving;
       this.stopWatching();
       // Switching on the same arm keeps the arm where it is (from rest); another arm starts at its ready pose.
       const finalQ = previous ? await previous.end("switched") : null;
       const q0 = previous && finalQ && previous.driven.arm.id === driven.arm.id ? finalQ : undefined;
-      if (this.isClosed) return;
+      if (this.isGone) return;
       const session = await this.hub.start(this, driven, q0);
-      if (this.isClosed) {
-        void session.end("disconnected");
+      // Gone meanwhile, or the account changed while the version was read: the rule decides again on the
+      // account as it is now (an engineer demoted during the start must not be left driving a draft).
+      const decision = isDriveable(drivingFacts(driven.version, driven.profile), this.user);
+      if (this.isGone || !decision.isDriveable) {
+        void session.end(this.revocation?.reason ?? (this.isClosed ? "disconnected" : "roles-changed"));
+        if (!this.isGone) this.sendError("forbidden", "Your roles were changed while the session was starting: it was not started.");
         return;
       }
       this.driving = session;
@@ -250,7 +370,7 @@ class JogConnection implements FrameSink {
   }
 
   private watch(sessionId: string): void {
-    if (!hasAnyRole(this.user.roles, ["engineer", "safety_officer"])) {
+    if (!hasAnyRole(this.user.roles, WATCH_ROLES)) {
       return this.sendError("forbidden", "Watching live sessions needs the engineer or safety officer role.");
     }
     const session = this.hub.sessions.get(sessionId);
@@ -267,23 +387,105 @@ class JogConnection implements FrameSink {
     this.watching = null;
   }
 
-  /** Periodic re-check off the tick path: still signed in, version still driveable. */
-  async revalidate(): Promise<void> {
-    if (this.isClosed) return;
-    const ctx = this.hub.ctx;
-    const { session } = await ctx.lucia.validateSession(this.sessionId);
-    if (!session) {
-      void this.driving?.end("signed-out");
-      this.sendError("unauthenticated", "Your session has ended: sign in again.");
-      this.ws.close(1008, "signed out");
+  /** A change published by the users service or the sign-out route (account-changes.ts), applied at once. */
+  onAccountChange(change: AccountChange): void {
+    if (this.isGone) return;
+    if (change.kind === "signed-out") {
+      if (change.sessionId === this.sessionId) void this.revoke(REVOKED.signedOut);
       return;
     }
+    if (change.user.id !== this.user.id) return;
+    if (change.isPasswordChanged && change.user.isActive) return void this.revoke(REVOKED.passwordChanged);
+    this.applyAccount(change.user, this.accounts.epochOf(change.user.id));
+  }
+
+  /**
+   * The account as it is now (pushed or re-read) at `epoch`. Deactivated: the controlled stop, `ended`,
+   * close (4403). Other roles: what they no longer allow ends at once — the drive (the driving rule on the
+   * version's facts as last checked; a controlled stop), the watch — and a new `welcome` carries the roles.
+   */
+  private applyAccount(user: User, epoch: number): void {
+    if (this.isGone) return;
+    this.accountEpoch = epoch;
+    if (!user.isActive) return void this.revoke(REVOKED.deactivated);
+    const isSameRoles = user.roles.join() === this.user.roles.join();
+    this.user = user;
+    if (isSameRoles) return;
     const s = this.driving;
-    if (!s) return;
+    if (s) {
+      const decision = isDriveable(drivingFacts(s.driven.version, s.driven.profile), user);
+      if (decision.isDriveable) s.driven.kind = decision.kind;
+      else void s.end("roles-changed", { afterControlledStop: true });
+    }
+    const watched = this.watching;
+    if (watched && !hasAnyRole(user.roles, WATCH_ROLES)) {
+      this.stopWatching();
+      this.sendJson({
+        type: "ended", sessionId: watched.id, reason: "roles-changed", recordingId: watched.recordingId,
+        message: "Your roles were changed: watching live sessions needs the engineer or safety officer role.",
+      });
+    }
+    this.sendJson({ type: "welcome", userId: user.id, roles: user.roles });
+  }
+
+  /** Re-reads the account from the database and applies it (one read at a time). */
+  private reloadAccount(): Promise<void> {
+    this.accountReload ??= (async () => {
+      try {
+        // The epoch before the read: a change published during it raises it again, so it is read again.
+        const epoch = this.accounts.epochOf(this.user.id);
+        const user = await findUserById(this.hub.ctx.db, this.user.id);
+        this.applyAccount(user ?? { ...this.user, isActive: false }, epoch);
+      } finally {
+        this.accountReload = null;
+      }
+    })();
+    return this.accountReload;
+  }
+
+  /**
+   * Ends what this connection drives (a controlled stop, then `ended`) or watches (`ended` for it), then
+   * closes the socket with the revocation's code — in that order, so the person reads why.
+   */
+  private async revoke(why: Revocation): Promise<void> {
+    if (this.isGone) return;
+    this.revocation = why;
+    const watched = this.watching;
+    this.stopWatching();
+    if (watched) {
+      this.sendJson({ type: "ended", sessionId: watched.id, reason: why.reason, message: why.watcherMessage, recordingId: watched.recordingId });
+    }
+    const driven = this.driving;
+    if (driven) {
+      this.stoppingSession = driven;
+      const ended = driven.end(why.reason, { afterControlledStop: true, driverMessage: why.driverMessage });
+      let timer: NodeJS.Timeout | undefined;
+      await Promise.race([ended, new Promise((resolve) => (timer = setTimeout(resolve, END_BEFORE_CLOSE_MAX_MS)))]);
+      clearTimeout(timer);
+      this.stoppingSession = null;
+    }
+    this.ws.close(why.code, why.closeReason);
+  }
+
+  /**
+   * The periodic re-check, off the tick path: the cookie session still valid (read WITHOUT extending it,
+   * so a page left open expires with its session), the account re-read (changes made outside the API),
+   * the driven version still driveable.
+   */
+  async recheck(): Promise<void> {
+    if (this.isGone) return;
+    const ctx = this.hub.ctx;
+    const check = await checkSessionWithoutExtending(ctx, this.sessionId);
+    if (check !== "valid") return this.revoke(check === "expired" ? REVOKED.expired : REVOKED.gone);
+    await this.reloadAccount();
+    const s = this.driving;
+    if (!s || this.isGone) return;
     try {
       // Still driveable; an engineer's drive of a version flagged since the start becomes a test drive.
       const now = await loadVersionForDriving(ctx.db, this.user, s.driven.version.id);
       s.driven.kind = now.kind;
+      // The facts a role change is decided on at once (applyAccount); the parameters stay those it runs with.
+      s.driven.version = { ...s.driven.version, state: now.version.state, exceedsCeilings: now.version.exceedsCeilings };
     } catch (error) {
       if (error instanceof AppError && (error.status === 403 || error.status === 404) && this.driving === s) {
         s.command("estop");
@@ -314,16 +516,10 @@ function refuse(socket: Duplex, status: 401 | 403 | 404, code: string, message: 
   );
 }
 
-/** Just enough of an Express request for isAllowedOrigin/ownOrigin (protocol and Host as Express reads them). */
-function requestShim(ctx: AppContext, req: IncomingMessage): Request {
-  const forwarded = String(req.headers["x-forwarded-proto"] ?? "").split(",")[0]!.trim();
-  const encrypted = (req.socket as { encrypted?: boolean }).encrypted === true;
-  const protocol = ctx.config.trustProxy && forwarded ? forwarded : encrypted ? "https" : "http";
-  return { protocol, get: (name: string) => req.headers[name.toLowerCase()] as string | undefined } as unknown as Request;
-}
-
 export interface JogSockets {
   hub: JogHub;
+  /** Runs every connection's periodic re-check now (the timer does it every REVALIDATE_INTERVAL_MS). */
+  recheck(): Promise<void>;
   close(): Promise<void>;
 }
 
@@ -331,6 +527,7 @@ export interface JogSockets {
 export function attachJogSockets(server: Server, ctx: AppContext): JogSockets {
   const hub = jogHubFor(ctx);
   const connections = new Set<JogConnection>();
+  const accounts = accountChangesFor(ctx);
   const wss = new WebSocketServer({ noServer: true, maxPayload: HARD_MAX_PAYLOAD_BYTES, perMessageDeflate: false });
 
   const onUpgrade = (req: IncomingMessage, socket: Duplex, head: Buffer) => {
@@ -342,16 +539,17 @@ export function attachJogSockets(server: Server, ctx: AppContext): JogSockets {
     }
     socket.on("error", () => socket.destroy());
     const origin = req.headers.origin;
-    if (!isAllowedOrigin(ctx, requestShim(ctx, req), origin)) {
+    if (!isAllowedOrigin(ctx, origin)) {
       return refuse(socket, 403, "bad_origin", origin ? `Connections from ${origin} are not allowed.` : "A WebSocket connection must carry an Origin header.");
     }
+    const serialBeforeRead = accounts.serial;
     resolveAccount(ctx, req.headers.cookie).then(
       (resolved) => {
         if (!resolved.session || !resolved.account) return refuse(socket, 401, "unauthenticated", "Sign in first.");
         const user = resolved.account;
         const sessionId = readSessionId(req.headers.cookie)!;
         wss.handleUpgrade(req, socket, head, (ws) => {
-          new JogConnection(hub, ws, user, sessionId, connections);
+          new JogConnection(hub, ws, user, sessionId, accounts, serialBeforeRead, connections);
         });
       },
       (error: unknown) => {
@@ -362,16 +560,23 @@ export function attachJogSockets(server: Server, ctx: AppContext): JogSockets {
   };
   server.on("upgrade", onUpgrade);
 
-  const revalidateTimer = setInterval(() => {
-    for (const c of connections) {
-      c.revalidate().catch((error: unknown) => console.error("[jogwright] jog revalidation failed:", (error as Error).message));
-    }
-  }, REVALIDATE_INTERVAL_MS);
+  // Account changes and sign-outs made through the API reach the connections at once.
+  const unsubscribe = accounts.subscribe((change) => {
+    for (const c of [...connections]) c.onAccountChange(change);
+  });
+
+  const recheck = () =>
+    Promise.all(
+      [...connections].map((c) => c.recheck().catch((error: unknown) => console.error("[jogwright] jog re-check failed:", (error as Error).message))),
+    ).then(() => undefined);
+  const revalidateTimer = setInterval(() => void recheck(), REVALIDATE_INTERVAL_MS);
   revalidateTimer.unref();
 
   return {
     hub,
+    recheck,
     async close() {
+      unsubscribe();
       clearInterval(revalidateTimer);
       server.off("upgrade", onUpgrade);
       await hub.close();

@@ -23,7 +23,10 @@ export interface Station {
 
 /** What the audit trail says about one latch or reset. */
 export interface StationEvent {
+  /** Who pressed it: the driver, or a safety officer watching the driver's session (latch only). */
   actor: Pick<User, "id" | "displayName">;
+  /** The station's person. */
+  driver: Pick<User, "id" | "displayName">;
   armName: string;
   sessionId: string;
   versionId: number;
@@ -37,6 +40,8 @@ export interface StationLatchStore {
 }
 
 const stationAuditId = (s: Station) => `station:${s.userId}:${s.armId}`;
+/** " by <name>, watching the session" when someone other than the driver pressed it. */
+const byWatcher = (e: StationEvent) => (e.actor.id === e.driver.id ? "" : ` by ${e.actor.displayName}, watching the session as safety officer`);
 
 /** The store on the app's database: one row per latched station, the latch and the reset audited with it. */
 export function sqlStationLatchStore(db: Sequelize): StationLatchStore {
@@ -57,8 +62,8 @@ export function sqlStationLatchStore(db: Sequelize): StationLatchStore {
           entity: "session",
           entityId: stationAuditId(station),
           action: "estop-latch",
-          summary: `emergency stop latched at ${event.actor.displayName}'s station on ${event.armName} (session ${event.sessionId}, version id ${event.versionId}); it stays latched until reset`,
-          after: { ...station, isLatched: true },
+          summary: `emergency stop latched at ${event.driver.displayName}'s station on ${event.armName}${byWatcher(event)} (session ${event.sessionId}, version id ${event.versionId}); it stays latched until reset`,
+          after: { ...station, isLatched: true, latchedBy: event.actor.id },
         });
       });
     },
@@ -70,7 +75,7 @@ export function sqlStationLatchStore(db: Sequelize): StationLatchStore {
           entity: "session",
           entityId: stationAuditId(station),
           action: "estop-reset",
-          summary: `emergency stop reset at ${event.actor.displayName}'s station on ${event.armName} (session ${event.sessionId}, version id ${event.versionId}); motion needs the enabling control released and pressed again`,
+          summary: `emergency stop reset at ${event.driver.displayName}'s station on ${event.armName} (session ${event.sessionId}, version id ${event.versionId}); motion needs the enabling control released and pressed again`,
           before: { ...station, isLatched: true },
           after: { ...station, isLatched: false },
         });

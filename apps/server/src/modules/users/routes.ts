@@ -16,6 +16,6 @@ export function usersRouter(ctx: AppContext): ApiRouter {
     .add("patch", "/:id", ["admin"], async (req, res) => {
       const { id } = parseParams(req, idParamSchema);
       const input = parseBody(req, updateUserSchema);
-      res.json({ user: await service.updateUser(ctx.db, ctx.lucia, requireAccount(res), id, input) });
+      res.json({ user: await service.updateUser(ctx, requireAccount(res), id, input) });
     });
 }

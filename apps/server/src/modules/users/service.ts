@@ -3,8 +3,9 @@ import { UniqueConstraintError, type Sequelize } from "sequelize";
 import type { CreateUserInput, UpdateUserInput, User } from "@jogwright/shared";
 import { AppError } from "../../errors.ts";
 import { hashPassword } from "../../auth/password.ts";
-import type { AppLucia } from "../../auth/lucia.ts";
+import type { AppContext } from "../../context.ts";
 import { recordAudit } from "../audit/service.ts";
+import { accountChangesFor } from "./account-changes.ts";
 import * as model from "./model.ts";
 
 export const listUsers = (db: Sequelize) => model.listUsers(db);
@@ -38,18 +39,15 @@ export async function createUser(db: Sequelize, input: CreateUserInput, actor: U
 }
 
 /**
- * Change an account. Deactivating it (or changing its password) ends its sessions. An admin cannot take
- * away their own admin role or deactivate themselves, and the last active admin always stays.
+ * Change an account. Deactivating it (or changing its password) ends its sessions; a change of roles,
+ * active flag or password is published to the open live-jogging sockets at once (account-changes.ts). An
+ * admin cannot take away their own admin role or deactivate themselves, and the last active admin always
+ * stays.
  */
-export async function updateUser(
-  db: Sequelize,
-  lucia: AppLucia,
-  actor: User,
-  id: string,
-  input: UpdateUserInput,
-): Promise<User> {
+export async function updateUser(ctx: AppContext, actor: User, id: string, input: UpdateUserInput): Promise<User> {
+  const { db, lucia } = ctx;
   const passwordHash = input.password === undefined ? undefined : await hashPassword(input.password);
-  await db.transaction(async (transaction) => {
+  const { before, after } = await db.transaction(async (transaction) => {
     const existing = await model.findUserById(db, id, transaction);
     if (!existing) throw new AppError(404, "not_found", "No such user.");
     if (actor.id === id && input.isActive === false) {
@@ -93,7 +91,14 @@ export async function updateUser(
       before: existing,
       after,
     });
+    return { before: existing, after };
   });
-  if (input.isActive === false || passwordHash !== undefined) await lucia.invalidateUserSessions(id);
+  const isSignedOut = input.isActive === false || passwordHash !== undefined;
+  if (isSignedOut) await lucia.invalidateUserSessions(id);
+  // After the commit, before the answer: open live-jogging sockets of this account stop, close or lose
+  // what the new roles no longer allow now, not at their next periodic re-check (account-changes.ts).
+  if (isSignedOut || before.isActive !== after.isActive || before.roles.join() !== after.roles.join()) {
+    accountChangesFor(ctx).publish({ kind: "account", user: after, isSignedOut, isPasswordChanged: passwordHash !== undefined });
+  }
   return (await model.findUserById(db, id))!;
 }

@@ -1,6 +1,6 @@
 import { useEffect, useState } from "react";
 import { useQuery } from "@tanstack/react-query";
-import { Eye } from "lucide-react";
+import { Eye, OctagonX } from "lucide-react";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
@@ -8,21 +8,28 @@ import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { describeError } from "../../../lib/api-client.ts";
 import { formatDateTime } from "../../../lib/format.ts";
-import { jogClient, useJogSnapshot } from "../../../lib/jog-socket.ts";
+import { describeEnded, jogClient, mayStopWatchedSession, useJogSnapshot } from "../../../lib/jog-socket.ts";
 import { useArms } from "../../arms/hooks/use-arms.ts";
-import { liveSessionsQueryOptions, profileDetailQueryOptions } from "../api/drive-api.ts";
+import { liveSessionsQueryOptions } from "../api/drive-api.ts";
+import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
 import { ConnectionState, DriveWorkspace, UnapprovedBanner } from "./drive-workspace.tsx";
 
-/** Engineers and safety officers watch any live session read-only: same view, no controls. */
+/**
+ * Engineers and safety officers watch any live session: same view, no driving controls. A safety officer
+ * also gets a STOP, which latches the driver's station (the server checks the role on the message and
+ * audits it); only the driver's deliberate reset clears it.
+ */
 export function LivePage() {
   const snapshot = useJogSnapshot();
   const live = useQuery(liveSessionsQueryOptions());
   const arms = useArms();
   const [watchedId, setWatchedId] = useState<string | null>(null);
   const session = snapshot.session;
-  const detail = useQuery({ ...profileDetailQueryOptions(session?.profileId ?? 0), enabled: session !== null, retry: false });
+  const detail = useQuery({ ...profileDetailQueryOptions(session?.profileId ?? null), retry: false });
   const params = detail.data?.versions.find((v) => v.id === session?.versionId)?.params ?? null;
   const arm = arms.data?.find((a) => a.id === session?.armId) ?? null;
+  const mayStop = mayStopWatchedSession(snapshot.roles, session);
+  const mayStopAny = snapshot.roles.includes("safety_officer");
 
   useEffect(() => {
     jogClient.connect();
@@ -33,7 +40,11 @@ export function LivePage() {
     <>
       <PageHeader
         title="Live sessions"
-        description="Watch a session while it runs. Read-only: nothing here can move or stop the arm."
+        description={
+          mayStopAny
+            ? "Watch a session while it runs. Nothing here moves the arm; as safety officer you can STOP it, which latches the driver's station until the driver resets it."
+            : "Watch a session while it runs. Read-only: nothing here can move or stop the arm."
+        }
         actions={<ConnectionState snapshot={snapshot} />}
       />
       <div className="flex flex-col gap-4">
@@ -89,7 +100,7 @@ export function LivePage() {
             {snapshot.error.message}
           </Message>
         ) : null}
-        {snapshot.ended ? <Message title="The watched session ended">{snapshot.ended.reason}.</Message> : null}
+        {snapshot.ended ? <Message title="The watched session ended">{describeEnded(snapshot.ended)}</Message> : null}
         {session?.isUnapproved ? <UnapprovedBanner versionNumber={session.versionNumber} versionState={session.versionState} /> : null}
         {session && arm ? (
           <>
@@ -97,10 +108,35 @@ export function LivePage() {
               Watching <span className="font-mono text-ink-100">{session.driverName}</span> drive {session.profileName}, version{" "}
               <span className="num">{session.versionNumber}</span>, on {session.armName}.
             </p>
+            {mayStop ? <WatchedStop isLatched={snapshot.state?.estopLatched ?? false} driverName={session.driverName} /> : null}
             <DriveWorkspace arm={arm} params={params} frame={snapshot.state} source={jogClient} />
           </>
         ) : null}
       </div>
     </>
+  );
+}
+
+/**
+ * The safety officer's STOP for the watched session. The latch shows in the frames (the same ones the
+ * driver sees); it is not an emergency-stop device (ISO 13850): a browser and a network are never part of
+ * a safety function.
+ */
+function WatchedStop({ isLatched, driverName }: { isLatched: boolean; driverName: string }) {
+  return (
+    <div className="flex items-center gap-4">
+      <button
+        type="button"
+        onClick={() => jogClient.stopWatchedSession()}
+        className="flex h-16 w-56 items-center justify-center gap-3 rounded-lg border-2 border-stop-400 bg-stop-400 text-lg font-bold tracking-wide text-ink-950 hover:brightness-110"
+      >
+        <OctagonX aria-hidden className="size-6" /> STOP
+      </button>
+      <p className="text-sm text-ink-300" aria-live="polite">
+        {isLatched
+          ? `Stopped: ${driverName}'s station is latched until ${driverName} resets it.`
+          : `Halts ${driverName}'s arm at once and latches their station; recorded in the audit log under your name.`}
+      </p>
+    </div>
   );
 }
