@@ -170,7 +170,7 @@ describe("drive page", { timeout: 120_000 }, () => {
     await context.close();
   });
 
-  it("a safety officer watches olena's live session read-only", async () => {
+  it("a safety officer watches olena's live session without driving controls, and can STOP it", async () => {
     const driver = await newPage();
     await signIn(driver.page, url, "olena", "/drive");
     await startDriving(driver.page, /Olena/);
@@ -181,10 +181,15 @@ describe("drive page", { timeout: 120_000 }, () => {
     await row.getByRole("button", { name: "Watch" }).click();
     await watcher.page.getByText(/Watching Olena Brandt drive/).waitFor();
     await expect.poll(async () => (await watcher.page.getByTestId("tcp-x").innerText()).trim()).toMatch(/^-?\d/);
-    // Read-only: no stop, enabling or jog controls on the watcher's page.
-    expect(await watcher.page.getByRole("button", { name: "STOP" }).count()).toBe(0);
+    // No enabling or jog controls on the watcher's page; a safety officer gets one STOP (issue 11).
+    expect(await watcher.page.getByRole("button", { name: "STOP" }).count()).toBe(1);
     expect(await watcher.page.getByTestId("enabling-control").count()).toBe(0);
     await saveScreenshot(watcher.page, "live-watch");
+    // The officer's STOP latches olena's station; only her deliberate reset clears it.
+    await watcher.page.getByRole("button", { name: "STOP" }).click();
+    await watcher.page.getByText(/station is latched until Olena Brandt resets it/).waitFor();
+    await driver.page.getByRole("button", { name: "Reset emergency stop" }).click();
+    await driver.page.getByRole("button", { name: "Reset emergency stop" }).waitFor({ state: "detached" });
     await driver.page.getByRole("button", { name: "End session" }).click();
     await watcher.page.getByText("The watched session ended").waitFor();
     await watcher.context.close();

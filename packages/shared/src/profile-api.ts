@@ -1,12 +1,13 @@
 import { z } from "zod";
 import { ceilingsSchema, profileParamsSchema, versionStateSchema } from "./profile.ts";
+import { singleLineName } from "./text.ts";
 
 /** Request and response shapes of the profiles, versions, ceilings, approvals, mail and audit API. */
 
 const note = z.string().trim().max(2000, "at most 2000 characters");
 
 export const createProfileSchema = z.object({
-  name: z.string().trim().min(1, "a profile needs a name").max(120, "at most 120 characters"),
+  name: singleLineName({ requiredMessage: "a profile needs a name", max: 120 }),
   operatorId: z.string().min(1, "pick an operator"),
   armId: z.number().int().positive("pick an arm"),
   params: profileParamsSchema,
@@ -120,3 +121,32 @@ export const mailMessageSchema = z.object({
   sentAt: z.string().nullable(),
 });
 export type MailMessage = z.infer<typeof mailMessageSchema>;
+
+// Responses of the profiles and versions routes (the console parses every answer with these).
+
+export const operatorOptionSchema = z.object({ id: z.string(), displayName: z.string(), username: z.string() });
+export type OperatorOption = z.infer<typeof operatorOptionSchema>;
+/** GET /api/operators */
+export const operatorListResponseSchema = z.object({ operators: z.array(operatorOptionSchema) });
+/** GET /api/profiles */
+export const profileListResponseSchema = z.object({ profiles: z.array(profileSummarySchema) });
+/** GET /api/profiles/:id: the profile and all its versions, newest first. */
+export const profileDetailResponseSchema = z.object({ profile: profileSummarySchema, versions: z.array(profileVersionSchema) });
+export type ProfileDetail = z.infer<typeof profileDetailResponseSchema>;
+/** POST /api/profiles */
+export const profileResponseSchema = z.object({ profile: profileSummarySchema });
+/** POST /api/profiles/:id/versions and the version transitions. */
+export const versionResponseSchema = z.object({ version: profileVersionSchema });
+
+export const ceilingViolationSchema = z.object({ field: z.string(), ceiling: z.string(), message: z.string() });
+/** GET /api/versions/:id: the version, its profile, its ceiling check, the approved version and its approval. */
+export const versionDetailResponseSchema = z.object({
+  version: profileVersionSchema,
+  profile: profileSummarySchema,
+  violations: z.array(ceilingViolationSchema),
+  approvedVersion: profileVersionSchema.nullable(),
+  approval: z
+    .object({ approverName: z.string(), approvedAt: z.string(), comment: z.string(), paramsSha256: z.string() })
+    .nullable(),
+});
+export type VersionDetail = z.infer<typeof versionDetailResponseSchema>;

@@ -1,3 +1,2 @@
 // The drive feature's public pieces, reused by the recordings replay.
 export { DriveWorkspace } from "./components/drive-workspace.tsx";
-export { profileDetailQueryOptions } from "./api/drive-api.ts";

@@ -1,7 +1,7 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { Ceilings } from "@jogwright/shared";
 import { ceilingKeys, ceilingsQueryOptions, updateCeilings } from "../api/ceilings-api.ts";
-import { profileKeys, versionKeys } from "../../profiles/api/profiles-api.ts";
+import { profileKeys, versionKeys } from "../../../lib/queries/profiles.ts";
 import { auditKeys } from "../../audit/api/audit-api.ts";
 
 export const useCeilings = () => useQuery(ceilingsQueryOptions());

@@ -6,10 +6,11 @@ import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { describeError } from "../../../lib/api-client.ts";
-import { jogClient, useJogSnapshot } from "../../../lib/jog-socket.ts";
+import { describeEnded, jogClient, useJogSnapshot } from "../../../lib/jog-socket.ts";
 import { useArms } from "../../arms/hooks/use-arms.ts";
 import { useCurrentUser } from "../../auth/hooks/use-session.ts";
-import { gamepadMappingQueryOptions, profileDetailQueryOptions, profileListQueryOptions } from "../api/drive-api.ts";
+import { gamepadMappingQueryOptions } from "../api/drive-api.ts";
+import { profileDetailQueryOptions, profileListQueryOptions } from "../../../lib/queries/profiles.ts";
 import { jogInput } from "../input/jog-input.ts";
 import { ConnectionState, DriveWorkspace, UnapprovedBanner } from "./drive-workspace.tsx";
 import { GamepadMappingDialog } from "./gamepad-mapping-dialog.tsx";
@@ -33,7 +34,7 @@ export function DrivePage() {
   const isDriving = session !== null && !session.isWatching;
   const profileId = session?.profileId ?? picked.profileId;
   const versionId = session?.versionId ?? picked.versionId;
-  const detail = useQuery({ ...profileDetailQueryOptions(profileId ?? 0), enabled: profileId !== null });
+  const detail = useQuery(profileDetailQueryOptions(profileId));
   const version = detail.data?.versions.find((v) => v.id === versionId) ?? null;
   const params = version?.params ?? null;
   const profileSummary = profiles.data?.find((p) => p.id === profileId) ?? null;
@@ -135,7 +136,7 @@ export function DrivePage() {
         ) : null}
         {snapshot.ended ? (
           <Message tone="info" title="Session ended">
-            {snapshot.ended.reason}.{" "}
+            {describeEnded(snapshot.ended)}{" "}
             {snapshot.ended.recordingId !== null ? (
               <Link className="text-iris-300 underline" to={`/recordings?recording=${snapshot.ended.recordingId}`}>
                 Open its recording

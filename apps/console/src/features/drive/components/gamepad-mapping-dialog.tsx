@@ -54,6 +54,18 @@ function useCapture(capture: Capture | null, onCaptured: (index: number) => void
   }, [capture]);
 }
 
+const isSameCapture = (a: Capture, b: Capture) => JSON.stringify(a) === JSON.stringify(b);
+
+/** Arms the capture of the next stick movement or button press for one mapping target (press again to cancel). */
+function CaptureButton({ target, current, onToggle }: { target: Capture; current: Capture | null; onToggle: (target: Capture) => void }) {
+  const isCapturing = current !== null && isSameCapture(current, target);
+  return (
+    <Button size="sm" variant="ghost" onClick={() => onToggle(target)}>
+      {isCapturing ? (target.kind === "axis" ? "Move a stick…" : "Press a button…") : "Assign"}
+    </Button>
+  );
+}
+
 export function GamepadMappingDialog({ open, onClose, mapping }: { open: boolean; onClose: () => void; mapping: GamepadMapping }) {
   const [draft, setDraft] = useState<GamepadMapping>(mapping);
   const [capture, setCapture] = useState<Capture | null>(null);
@@ -96,16 +108,8 @@ export function GamepadMappingDialog({ open, onClose, mapping }: { open: boolean
   });
 
   const parsed = gamepadMappingSchema.safeParse(draft);
-  const captureLabel = (c: Capture) => (c.kind === "axis" ? "Move a stick…" : "Press a button…");
-  const isCapturing = (c: Capture) => capture !== null && JSON.stringify(capture) === JSON.stringify(c);
+  const toggleCapture = (c: Capture) => setCapture(capture !== null && isSameCapture(capture, c) ? null : c);
 
-  function CaptureButton({ target }: { target: Capture }) {
-    return (
-      <Button size="sm" variant="ghost" onClick={() => setCapture(isCapturing(target) ? null : target)}>
-        {isCapturing(target) ? captureLabel(target) : "Assign"}
-      </Button>
-    );
-  }
 
   return (
     <Dialog
@@ -168,7 +172,7 @@ export function GamepadMappingDialog({ open, onClose, mapping }: { open: boolean
                           value={entry.source.index}
                           onChange={(event) => setEntry(target, { ...entry, source: { kind: "axis", index: Number(event.target.value) } })}
                         />
-                        <CaptureButton target={{ kind: "axis", target }} />
+                        <CaptureButton target={{ kind: "axis", target }} current={capture} onToggle={toggleCapture} />
                       </span>
                     ) : entry?.source.kind === "buttons" ? (
                       <span className="flex flex-wrap items-center gap-1 text-xs text-ink-300">
@@ -185,7 +189,7 @@ export function GamepadMappingDialog({ open, onClose, mapping }: { open: boolean
                             setEntry(target, { ...entry, source: { ...entry.source, positive: Number(event.target.value) } })
                           }
                         />
-                        <CaptureButton target={{ kind: "button", field: `${target}.positive` }} />−
+                        <CaptureButton target={{ kind: "button", field: `${target}.positive` }} current={capture} onToggle={toggleCapture} />−
                         <input
                           type="number"
                           min={0}
@@ -198,7 +202,7 @@ export function GamepadMappingDialog({ open, onClose, mapping }: { open: boolean
                             setEntry(target, { ...entry, source: { ...entry.source, negative: Number(event.target.value) } })
                           }
                         />
-                        <CaptureButton target={{ kind: "button", field: `${target}.negative` }} />
+                        <CaptureButton target={{ kind: "button", field: `${target}.negative` }} current={capture} onToggle={toggleCapture} />
                       </span>
                     ) : (
                       <span className="text-xs text-ink-400">—</span>
@@ -257,7 +261,7 @@ export function GamepadMappingDialog({ open, onClose, mapping }: { open: boolean
                 value={draft.enablingButton}
                 onChange={(event) => setDraft((d) => ({ ...d, enablingButton: Number(event.target.value) }))}
               />
-              <CaptureButton target={{ kind: "button", field: "enablingButton" }} />
+              <CaptureButton target={{ kind: "button", field: "enablingButton" }} current={capture} onToggle={toggleCapture} />
             </span>
           </div>
           <div className="flex items-center justify-between gap-2">
@@ -273,7 +277,7 @@ export function GamepadMappingDialog({ open, onClose, mapping }: { open: boolean
                 value={draft.estopButton ?? ""}
                 onChange={(event) => setDraft((d) => ({ ...d, estopButton: event.target.value === "" ? null : Number(event.target.value) }))}
               />
-              <CaptureButton target={{ kind: "button", field: "estopButton" }} />
+              <CaptureButton target={{ kind: "button", field: "estopButton" }} current={capture} onToggle={toggleCapture} />
             </span>
           </div>
         </div>

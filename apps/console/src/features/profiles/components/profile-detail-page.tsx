@@ -19,7 +19,7 @@ import { isApiRequestError, type ApiIssue } from "../../../lib/api-client.ts";
 import { formatDateTime } from "../../../lib/format.ts";
 import { useArms } from "../../arms/hooks/use-arms.ts";
 import { useCeilings } from "../../ceilings/hooks/use-ceilings.ts";
-import type { ProfileDetail } from "../api/profiles-api.ts";
+import type { ProfileDetail } from "@jogwright/shared";
 import { useProfile, useSaveVersion, useSubmitVersion } from "../hooks/use-profiles.ts";
 import { jointKindsOf, ratedSpeedsOf } from "./arm-joints.ts";
 import { CompareVersions, type ComparePair } from "./compare-versions.tsx";

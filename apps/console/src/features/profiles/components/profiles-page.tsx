@@ -9,7 +9,7 @@ import { DataTable, TableFilter, useSortableFilterableTable } from "../../../com
 import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
-import { profileDetailQueryOptions } from "../api/profiles-api.ts";
+import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
 import { useProfiles } from "../hooks/use-profiles.ts";
 import { VersionLabel } from "./version-state-badge.tsx";
 

@@ -1,16 +1,14 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { CreateProfileInput, SaveVersionInput } from "@jogwright/shared";
+import { createProfile, saveVersion, submitVersion } from "../api/profiles-api.ts";
 import {
-  createProfile,
   operatorListQueryOptions,
   profileDetailQueryOptions,
   profileKeys,
   profileListQueryOptions,
-  saveVersion,
-  submitVersion,
   versionDetailQueryOptions,
   versionKeys,
-} from "../api/profiles-api.ts";
+} from "../../../lib/queries/profiles.ts";
 import { reviewKeys } from "../../reviews/api/reviews-api.ts";
 import { auditKeys } from "../../audit/api/audit-api.ts";
 

@@ -11,7 +11,8 @@ import { Message } from "../../../components/ui/message.tsx";
 import { describeError } from "../../../lib/api-client.ts";
 import { formatDateTime, formatFixed } from "../../../lib/format.ts";
 import { useArms } from "../../arms/hooks/use-arms.ts";
-import { DriveWorkspace, profileDetailQueryOptions } from "../../drive/index.ts";
+import { DriveWorkspace } from "../../drive/index.ts";
+import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
 import { recordingDetailQueryOptions, recordingListQueryOptions } from "../api/recordings-api.ts";
 import { ReplaySource } from "../replay-source.ts";
 
@@ -126,7 +127,7 @@ function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () =
   const arms = useArms();
   const recording = detail.data?.recording;
   const arm = arms.data?.find((a) => a.id === recording?.armId) ?? null;
-  const profile = useQuery({ ...profileDetailQueryOptions(recording?.profileId ?? 0), enabled: recording !== undefined, retry: false });
+  const profile = useQuery({ ...profileDetailQueryOptions(recording?.profileId ?? null), retry: false });
   const params = profile.data?.versions.find((v) => v.id === recording?.versionId)?.params ?? null;
 
   return (

@@ -9,7 +9,7 @@ import { isApiRequestError } from "../../../lib/api-client.ts";
 import { useCreateUser } from "../hooks/use-users.ts";
 import { FormMessageList } from "./form-messages.tsx";
 import { RoleCheckboxes } from "./role-checkboxes.tsx";
-import { applyServerIssues } from "./server-issues.ts";
+import { applyServerIssues } from "../../../lib/server-issues.ts";
 
 const FIELDS = ["username", "displayName", "email", "password", "roles"] as const;
 

@@ -10,7 +10,7 @@ import { isApiRequestError } from "../../../lib/api-client.ts";
 import { useUpdateUser } from "../hooks/use-users.ts";
 import { FormMessageList } from "./form-messages.tsx";
 import { RoleCheckboxes } from "./role-checkboxes.tsx";
-import { applyServerIssues } from "./server-issues.ts";
+import { applyServerIssues } from "../../../lib/server-issues.ts";
 
 // The edit form shows every field; the request carries only what changed. The field rules are
 // updateUserSchema's own; an empty new password means "keep the current one".

@@ -1,5 +1,5 @@
 import type { FieldValues, Path, UseFormSetError } from "react-hook-form";
-import { isApiRequestError } from "../../../lib/api-client.ts";
+import { isApiRequestError } from "./api-client.ts";
 
 /**
  * Puts the server's 400 issues onto the form fields they name (first segment of `path`); returns the

@@ -1,0 +1,58 @@
+import { queryOptions, skipToken } from "@tanstack/react-query";
+import {
+  operatorListResponseSchema,
+  profileDetailResponseSchema,
+  profileListResponseSchema,
+  versionDetailResponseSchema,
+} from "@jogwright/shared";
+import { apiRequest } from "../api-client.ts";
+
+/**
+ * The one query-key factory and the query options for profiles and their versions (TanStack Query's
+ * query-key factory with queryOptions). Every feature that reads a profile or a version uses these, so a
+ * mutation's invalidation of `profileKeys.all` / `versionKeys.all` reaches every screen.
+ */
+export const profileKeys = {
+  all: ["profiles"] as const,
+  lists: () => [...profileKeys.all, "list"] as const,
+  details: () => [...profileKeys.all, "detail"] as const,
+  /** null: nothing picked yet (the query is skipped, never fetched with a placeholder id). */
+  detail: (profileId: number | null) => [...profileKeys.details(), profileId] as const,
+  operators: () => [...profileKeys.all, "operators"] as const,
+};
+
+export const versionKeys = {
+  all: ["versions"] as const,
+  detail: (versionId: number) => [...versionKeys.all, "detail", versionId] as const,
+  /** What the signed-in person may drive; under "versions", so any version or ceiling change refetches it. */
+  driveable: () => [...versionKeys.all, "driveable"] as const,
+};
+
+export const operatorListQueryOptions = () =>
+  queryOptions({
+    queryKey: profileKeys.operators(),
+    queryFn: async ({ signal }) => (await apiRequest("/api/operators", { schema: operatorListResponseSchema, signal })).operators,
+    staleTime: 5 * 60_000,
+  });
+
+export const profileListQueryOptions = () =>
+  queryOptions({
+    queryKey: profileKeys.lists(),
+    queryFn: async ({ signal }) => (await apiRequest("/api/profiles", { schema: profileListResponseSchema, signal })).profiles,
+  });
+
+/** GET /api/profiles/:id, or a skipped query while profileId is null. */
+export const profileDetailQueryOptions = (profileId: number | null) =>
+  queryOptions({
+    queryKey: profileKeys.detail(profileId),
+    queryFn:
+      profileId === null
+        ? skipToken
+        : ({ signal }) => apiRequest(`/api/profiles/${profileId}`, { schema: profileDetailResponseSchema, signal }),
+  });
+
+export const versionDetailQueryOptions = (versionId: number) =>
+  queryOptions({
+    queryKey: versionKeys.detail(versionId),
+    queryFn: ({ signal }) => apiRequest(`/api/versions/${versionId}`, { schema: versionDetailResponseSchema, signal }),
+  });
