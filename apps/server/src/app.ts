@@ -1,4 +1,4 @@
-import express, { type Express } from "express";
+import express, { type Express, type Router } from "express";
 import path from "node:path";
 import { existsSync } from "node:fs";
 import type { Sequelize } from "sequelize";
@@ -28,6 +28,8 @@ export interface BuiltApp {
   ctx: AppContext;
   /** Every API route with its access rule (the role matrix test walks this). */
   routes: RouteSpec[];
+  /** The router every /api request goes through, so a test can list what Express really registered. */
+  api: Router;
 }
 
 export function createApp(config: Config, db: Sequelize): BuiltApp {
@@ -86,5 +88,5 @@ export function createApp(config: Config, db: Sequelize): BuiltApp {
       res.sendFile(path.join(dist, "index.html"));
     });
   }
-  return { app, ctx, routes: routers.flatMap((r) => r.routes) };
+  return { app, ctx, routes: routers.flatMap((r) => r.routes), api };
 }

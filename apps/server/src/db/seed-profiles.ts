@@ -26,15 +26,39 @@ async function armIdBySlug(db: Sequelize, slug: string): Promise<number | null> 
   return rows[0]?.id ?? null;
 }
 
-export async function seedDemoProfiles(db: Sequelize): Promise<void> {
-  const [olena, tomas, emeka, sigrid] = await Promise.all(["olena", "tomas", "emeka", "sigrid"].map((u) => userId(db, u)));
+/**
+ * Who the demo profiles belong to (user names) and what they are called: the demo's own cast by default;
+ * the seed's test seeds a fresh cast of its own, so what it checks no other test can have moved on.
+ */
+export interface DemoProfileCast {
+  packOperator: string;
+  coverOperator: string;
+  engineer: string;
+  safetyOfficer: string;
+  packProfileName: string;
+  coverProfileName: string;
+}
+
+export const DEMO_PROFILE_CAST: DemoProfileCast = {
+  packOperator: "olena",
+  coverOperator: "tomas",
+  engineer: "emeka",
+  safetyOfficer: "sigrid",
+  packProfileName: "Olena — pack opening",
+  coverProfileName: "Tomás — cover plates",
+};
+
+export async function seedDemoProfiles(db: Sequelize, cast: DemoProfileCast = DEMO_PROFILE_CAST): Promise<void> {
+  const [olena, tomas, emeka, sigrid] = await Promise.all(
+    [cast.packOperator, cast.coverOperator, cast.engineer, cast.safetyOfficer].map((u) => userId(db, u)),
+  );
   const [arm6Id, arm7Id] = await Promise.all([armIdBySlug(db, "cell-arm-6"), armIdBySlug(db, "cell-arm-7")]);
   if (!olena || !tomas || !emeka || !sigrid || !arm6Id || !arm7Id) return;
   const arm6 = (await findArm(db, arm6Id))!;
   const arm7 = (await findArm(db, arm7Id))!;
   const ceilings = (await findLatestCeilings(db)).ceilings;
 
-  const olenaName = "Olena — pack opening";
+  const olenaName = cast.packProfileName;
   if (!(await profiles.findProfileByName(db, olenaName, olena))) {
     // Defaults: half of each rated joint speed, 250 mm/s TCP (the manual reduced-speed figure of
     // ISO 10218-1:2011, replaced in February 2025 by ISO 10218-1:2025), the stop-before guard.
@@ -78,7 +102,7 @@ export async function seedDemoProfiles(db: Sequelize): Promise<void> {
     });
   }
 
-  const tomasName = "Tomás — cover plates";
+  const tomasName = cast.coverProfileName;
   if (!(await profiles.findProfileByName(db, tomasName, tomas))) {
     // Seven joints: the null-space term keeps the spare joint away from its limits (Liégeois 1977).
     const params: ProfileParams = {

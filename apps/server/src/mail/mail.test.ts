@@ -71,14 +71,13 @@ describe("workflow mail through the fake SMTP server", () => {
     expect(mail!.text).toContain("Damping too low at the wrist.");
   });
 
-  it("admins read the outbox, newest first; other roles may not", async () => {
+  it("admins read the outbox, newest first", async () => {
     const res = await call(h, "get", "/api/mail", admin);
     expect(res.status).toBe(200);
     const messages = res.body.messages.map((m: unknown) => mailMessageSchema.parse(m));
     expect(messages.length).toBeGreaterThan(0);
     expect(messages[0].id).toBeGreaterThan(messages[messages.length - 1].id);
     expect(messages.find((m: { kind: string; status: string }) => m.kind === "version-approved")?.status).toBe("sent");
-    expect((await call(h, "get", "/api/mail", team.officer.cookie)).status).toBe(403);
   });
 
   it("with the SMTP server down the workflow step still succeeds, the mail is kept as failed, and a retry sends it once the server is up", async () => {

@@ -180,9 +180,6 @@ describe("the one driving rule", () => {
     expect({ status: foreign.status, code: foreign.code, message: foreign.message }).toEqual({ status: missing.status, code: missing.code, message: missing.message });
   });
 
-  it("GET /api/drive/versions needs a session", async () => {
-    expect((await call(h, "get", "/api/drive/versions")).status).toBe(401);
-  });
 });
 
 describe("the driving rule on the jog socket", () => {
