@@ -18,7 +18,11 @@ import { attachJogSockets } from "../src/modules/jog/socket.ts";
 import { createProfile } from "../src/modules/profiles/service.ts";
 import { createUser } from "../src/modules/users/service.ts";
 
-const config = loadConfig({ ...process.env, SEED_DEMO: "0", FAKE_SMTP: "0" });
+// One bench account drives up to 100 sessions, started back to back: the caps and the start rate are raised
+// for it (the environment can still set them).
+const config = loadConfig({
+  JOG_MAX_SESSIONS_PER_ACCOUNT: "100", JOG_STARTS_PER_WINDOW: "1000", ...process.env, SEED_DEMO: "0", FAKE_SMTP: "0",
+});
 const db = createSequelize(config.databaseUrl);
 // Migrate as the migration account, grant the runtime account, seed: the demo arms (and accounts) are what
 // the bench profiles run on; idempotent.

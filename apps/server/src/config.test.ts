@@ -21,6 +21,10 @@ describe("loadConfig", () => {
     [{ ...good, PUBLIC_ORIGIN: "ftp://jog.example.com" }, /^PUBLIC_ORIGIN "ftp:\/\/jog.example.com" must start with http:\/\/ or https:\/\//],
     [{ ...good, PUBLIC_ORIGIN: "https://jog.example.com/console" }, /^PUBLIC_ORIGIN .* must be only scheme, host and port .*, e.g. https:\/\/jog.example.com$/],
     [{ ...good, ALLOWED_ORIGINS: "http://localhost:5173,localhost:5174" }, /^ALLOWED_ORIGINS "localhost:5174" must start with http:\/\/ or https:\/\//],
+    [{ ...good, JOG_MAX_SESSIONS_PER_ACCOUNT: "0" }, /^JOG_MAX_SESSIONS_PER_ACCOUNT must be 1-1000$/],
+    [{ ...good, JOG_MAX_SESSIONS: "lots" }, /^JOG_MAX_SESSIONS must be a whole number$/],
+    [{ ...good, JOG_STARTS_PER_WINDOW: "2.5" }, /^JOG_STARTS_PER_WINDOW must be a whole number$/],
+    [{ ...good, JOG_START_WINDOW_S: "7200" }, /^JOG_START_WINDOW_S must be 1-3600$/],
   ])("refuses %j with one clear sentence", (env, message) => {
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(ConfigError);
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(message);
@@ -40,5 +44,16 @@ describe("the public origin", () => {
       "http://localhost:5173",
       "https://b.example",
     ]);
+  });
+});
+
+describe("the live-jogging limits", () => {
+  it("default to 3 live sessions per account, 200 per server and 5 starts per account per 10 s (issue 11, item 8)", () => {
+    expect(loadConfig(good).jogLimits).toEqual({ maxSessionsPerAccount: 3, maxSessions: 200, startsPerWindow: 5, startWindowS: 10 });
+  });
+
+  it("are read from JOG_MAX_SESSIONS_PER_ACCOUNT, JOG_MAX_SESSIONS, JOG_STARTS_PER_WINDOW and JOG_START_WINDOW_S", () => {
+    const env = { ...good, JOG_MAX_SESSIONS_PER_ACCOUNT: "5", JOG_MAX_SESSIONS: "40", JOG_STARTS_PER_WINDOW: "12", JOG_START_WINDOW_S: "60" };
+    expect(loadConfig(env).jogLimits).toEqual({ maxSessionsPerAccount: 5, maxSessions: 40, startsPerWindow: 12, startWindowS: 60 });
   });
 });

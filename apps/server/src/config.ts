@@ -13,6 +13,14 @@ const port = (fallback: number) =>
     .max(65535, "must be 1-65535")
     .default(fallback);
 
+/** A whole number within [min, max], with the range in the message. */
+const count = (min: number, max: number) =>
+  z.coerce
+    .number({ error: "must be a whole number" })
+    .int("must be a whole number")
+    .min(min, `must be ${min}-${max}`)
+    .max(max, `must be ${min}-${max}`);
+
 const databaseUrl = z.string().superRefine((raw, ctx) => {
   let url: URL;
   try {
@@ -91,6 +99,13 @@ const envSchema = z.object({
   MAIL_FROM: z.string().min(3).default("Jogwright <jogwright@localhost>"),
   /** State frames per second sent to each live-jogging client (the simulation ticks at the profile's rate). */
   JOG_FRAME_RATE_HZ: z.coerce.number().int("a whole number of hertz").min(10, "must be 10-120").max(120, "must be 10-120").default(60),
+  /** Live sessions one account may drive at once (all its tabs and devices); a start beyond is refused. */
+  JOG_MAX_SESSIONS_PER_ACCOUNT: count(1, 1000).default(3),
+  /** Live sessions this server runs at once, over all accounts; a start beyond is refused. */
+  JOG_MAX_SESSIONS: count(1, 100_000).default(200),
+  /** `start` messages one account may send within JOG_START_WINDOW_S (refused ones beyond create nothing). */
+  JOG_STARTS_PER_WINDOW: count(1, 10_000).default(5),
+  JOG_START_WINDOW_S: count(1, 3600).default(10),
 }).refine((v) => v.SMTP_PORT !== 0 || v.FAKE_SMTP === "1", { message: "may be 0 only with FAKE_SMTP=1", path: ["SMTP_PORT"] });
 
 export type Config = {
@@ -112,7 +127,16 @@ export type Config = {
   mail: { smtpHost: string; smtpPort: number; fakeSmtp: boolean; dir: string; from: string };
   /** Live jogging: state frames per second to each client. */
   jogFrameRateHz: number;
+  /** Live jogging: caps on live sessions and the rate of `start` messages (issue 11, item 8). */
+  jogLimits: JogLimits;
 };
+
+export interface JogLimits {
+  maxSessionsPerAccount: number;
+  maxSessions: number;
+  startsPerWindow: number;
+  startWindowS: number;
+}
 
 export class ConfigError extends Error {}
 
@@ -152,5 +176,11 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
       from: v.MAIL_FROM,
     },
     jogFrameRateHz: v.JOG_FRAME_RATE_HZ,
+    jogLimits: {
+      maxSessionsPerAccount: v.JOG_MAX_SESSIONS_PER_ACCOUNT,
+      maxSessions: v.JOG_MAX_SESSIONS,
+      startsPerWindow: v.JOG_STARTS_PER_WINDOW,
+      startWindowS: v.JOG_START_WINDOW_S,
+    },
   };
 }

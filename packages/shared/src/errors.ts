@@ -29,5 +29,7 @@ export const ERROR_CODES = [
   "invalid_transition",
   "internal",
   "unavailable",
+  /** MariaDB is stopped, paused or unreachable: 503; live jogging continues, saving waits (issue 11, item 5). */
+  "database_unavailable",
 ] as const;
 export type ErrorCode = (typeof ERROR_CODES)[number];

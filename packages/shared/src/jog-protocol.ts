@@ -216,6 +216,11 @@ export const JOG_CLOSE_CODES = {
   signedOut: 4401,
   /** An admin deactivated the account. */
   accountDeactivated: 4403,
+  /**
+   * The upgrade could not check the sign-in because the database is unavailable (issue 11, item 5): RFC
+   * 6455's registered 1013 "Try Again Later". Not final: the console reconnects with backoff.
+   */
+  databaseUnavailable: 1013,
 } as const;
 
 // ----------------------------------------------------------------------------------------------------

@@ -1,5 +1,6 @@
 import type { z } from "zod";
 import { apiErrorSchema } from "@jogwright/shared";
+import { reportDatabaseAvailable, reportDatabaseUnavailable } from "./database-status.ts";
 
 /** One field problem reported by the server; `path` is dot-separated, e.g. "roles" or "roles.0". */
 export interface ApiIssue {
@@ -74,7 +75,13 @@ export async function apiRequest<S extends z.ZodType | undefined = undefined>(
     throw new ApiRequestError(0, "unavailable", "Cannot reach the Jogwright server. Check your connection and try again.");
   }
 
-  if (!response.ok) throw await errorFromResponse(response);
+  if (!response.ok) {
+    const error = await errorFromResponse(response);
+    // The one place that learns the database is gone or back; the app shell shows a banner meanwhile.
+    if (error.code === "database_unavailable") reportDatabaseUnavailable();
+    throw error;
+  }
+  reportDatabaseAvailable();
   if (response.status === 204 || schema === undefined) return undefined as Result<S>;
 
   let json: unknown;

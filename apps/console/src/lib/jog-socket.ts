@@ -9,6 +9,7 @@ import {
   type RecordedFrame,
 } from "@jogwright/shared";
 import { FrameTrace, type FrameSource } from "./frame-trace.ts";
+import { reportDatabaseUnavailable } from "./database-status.ts";
 
 /**
  * The one client of the live-jogging socket (/ws/jog, same origin; the browser sends the session cookie
@@ -196,6 +197,8 @@ export class JogSocketClient implements FrameSource {
       // would only be refused, so the client stays closed and says why.
       const isFinal = isFinalClose(event.code);
       if (isFinal) this.wantOpen = false;
+      // The upgrade could not check the sign-in: the shell's banner says why; the reconnect backoff retries.
+      if (event.code === JOG_CLOSE_CODES.databaseUnavailable) reportDatabaseUnavailable();
       this.update({
         connection: this.wantOpen ? "reconnecting" : "closed",
         session: null,

@@ -16,7 +16,9 @@ export async function prepareDatabase(
   db: Sequelize,
   options: { seed: boolean },
 ): Promise<{ applied: string[]; granted: string[]; excess: string[] }> {
-  const owner = config.migrationDatabaseUrl === config.databaseUrl ? db : createSequelize(config.migrationDatabaseUrl);
+  // Its own connection even when both URLs name one account: the runtime pool's short query timeout
+  // (connection.ts) is not for DDL, which may run silent for long.
+  const owner = createSequelize(config.migrationDatabaseUrl, { isSchemaOwner: true });
   try {
     let applied: string[];
     try {
@@ -32,6 +34,6 @@ export async function prepareDatabase(
     if (options.seed) await seedDemo(db);
     return { applied, granted, excess };
   } finally {
-    if (owner !== db) await owner.close();
+    await owner.close();
   }
 }

@@ -28,7 +28,9 @@ export interface Harness extends BuiltApp {
  * close() waits for mail deliveries under way, then closes the database.
  */
 export function createHarness(env: Record<string, string> = {}): Harness {
-  const config = loadConfig({ ...process.env, SIGN_IN_MAX_FAILURES: "5", PUBLIC_ORIGIN: ORIGIN, ...env });
+  // Tests start many sessions of one account in a few seconds: the start rate is relaxed unless a test sets
+  // it (session-limits.test.ts tests the default); the caps on live sessions keep their defaults.
+  const config = loadConfig({ ...process.env, SIGN_IN_MAX_FAILURES: "5", JOG_STARTS_PER_WINDOW: "1000", PUBLIC_ORIGIN: ORIGIN, ...env });
   const db = createSequelize(config.databaseUrl);
   const built = createApp(config, db);
   return {

@@ -8,5 +8,5 @@ import { createSequelize } from "../db/connection.ts";
  * that compare it with the runtime account the app (and the harness) runs as. Close it when done.
  */
 export function createOwnerDb(): Sequelize {
-  return createSequelize(loadConfig(process.env).migrationDatabaseUrl);
+  return createSequelize(loadConfig(process.env).migrationDatabaseUrl, { isSchemaOwner: true });
 }

@@ -2,6 +2,7 @@ import { NavLink, Outlet, useNavigation } from "react-router";
 import { LogOut } from "lucide-react";
 import { ROLES, ROLE_LABELS } from "@jogwright/shared";
 import { CautionsBanner } from "../../components/layout/cautions-banner.tsx";
+import { DatabaseBanner } from "../../components/layout/database-banner.tsx";
 import { Badge } from "../../components/ui/badge.tsx";
 import { Button } from "../../components/ui/button.tsx";
 import { cn } from "../../lib/cn.ts";
@@ -24,6 +25,7 @@ export function AppShell() {
         Skip to content
       </a>
       <CautionsBanner />
+      <DatabaseBanner />
       <header className="flex h-14 items-center justify-between gap-4 border-b border-ink-700 bg-ink-900 px-4">
         <Brand className="text-lg" />
         <div className="flex items-center gap-4">

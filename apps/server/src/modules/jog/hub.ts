@@ -1,5 +1,7 @@
 import { randomUUID } from "node:crypto";
+import { RateLimiterMemory, RateLimiterRes } from "rate-limiter-flexible";
 import type { Arm, DrivingKind, JogInput, JogSessionInfo, LiveSession, ProfileSummary, ProfileVersion, User } from "@jogwright/shared";
+import type { JogLimits } from "../../config.ts";
 import type { AppContext } from "../../context.ts";
 import { insertRecording } from "../recordings/model.ts";
 import { RecordingWriter } from "../recordings/writer.ts";
@@ -287,6 +289,17 @@ export class LiveJogSession {
   }
 }
 
+/** A `start` the hub refused before anything was created: an error frame's code and its sentence. */
+export interface StartRefusal {
+  code: "start_rate_limited" | "account_session_limit" | "server_session_limit";
+  message: string;
+}
+
+/** A place among the live sessions, held from admission until the session is live (or the start failed). */
+export interface StartAdmission {
+  release(): void;
+}
+
 export class JogHub {
   readonly writer: RecordingWriter;
   readonly thread: SimulationThread;
@@ -299,8 +312,14 @@ export class JogHub {
   private readonly creating = new Map<number, { resolve: () => void; reject: (e: Error) => void }>();
   private nextKey = 1;
   private cmdSeq = 0;
+  /** `start` messages per account within the window (issue 11, item 8: 200 starts in 1 s made 145 recordings). */
+  private readonly startLimiter: RateLimiterMemory;
+  /** Admitted starts not yet live, per account and in all: they count against the caps like live sessions. */
+  private readonly admittedBy = new Map<string, number>();
+  private admittedTotal = 0;
 
-  constructor(readonly ctx: AppContext, readonly frameRateHz: number) {
+  constructor(readonly ctx: AppContext, readonly frameRateHz: number, readonly limits: JogLimits = ctx.config.jogLimits) {
+    this.startLimiter = new RateLimiterMemory({ keyPrefix: "jog-start", points: limits.startsPerWindow, duration: limits.startWindowS });
     this.writer = new RecordingWriter(ctx.db);
     this.thread = new SimulationThread((msg) => this.onWorkerMessage(msg), (error) => this.onWorkerFailure(error));
     this.stations = new StationLatches(sqlStationLatchStore(ctx.db));
@@ -313,6 +332,61 @@ export class JogHub {
 
   listLive(): LiveSession[] {
     return [...this.sessions.values()].map((s) => s.live());
+  }
+
+  /**
+   * Admits a `start` of `user` before anything is read or created: takes one point of the account's start
+   * rate (consume counts and compares in one step, so a flood cannot slip past), then checks the caps on
+   * live sessions per account and per server, counting the starts admitted and not yet live. `replacing`
+   * is the session this start switches away from (it ends first, so it frees its own place). A refusal by
+   * a cap gives the rate point back: the person reads the cap's sentence, not the rate's, when trying again.
+   * The caller releases the admission once the session is live or the start failed.
+   */
+  async admitStart(user: User, replacing: LiveJogSession | null): Promise<StartAdmission | StartRefusal> {
+    const key = user.id;
+    try {
+      await this.startLimiter.consume(key, 1);
+    } catch (error) {
+      if (!(error instanceof RateLimiterRes)) throw error;
+      const waitS = Math.max(1, Math.ceil(error.msBeforeNext / 1000));
+      return {
+        code: "start_rate_limited",
+        message: `You started ${this.limits.startsPerWindow} sessions within ${this.limits.startWindowS} s, the most allowed: wait ${waitS} s, then start again.`,
+      };
+    }
+    // Synchronous from here to the reservation: no other start can interleave between check and count.
+    const freed = replacing && this.sessions.has(replacing.id) ? 1 : 0;
+    let ofAccount = this.admittedBy.get(key) ?? 0;
+    for (const s of this.sessions.values()) if (s.driver.user.id === key) ofAccount++;
+    const refusal: StartRefusal | null =
+      ofAccount - freed >= this.limits.maxSessionsPerAccount
+        ? {
+            code: "account_session_limit",
+            message: `You already drive ${this.limits.maxSessionsPerAccount} live sessions, the most one account may: stop one (on this or another tab or device), then start again.`,
+          }
+        : this.sessions.size + this.admittedTotal - freed >= this.limits.maxSessions
+          ? {
+              code: "server_session_limit",
+              message: `The server is running ${this.limits.maxSessions} live sessions, its limit: try again when one has ended, or ask an administrator to raise JOG_MAX_SESSIONS.`,
+            }
+          : null;
+    if (refusal) {
+      await this.startLimiter.reward(key, 1);
+      return refusal;
+    }
+    this.admittedBy.set(key, (this.admittedBy.get(key) ?? 0) + 1);
+    this.admittedTotal++;
+    let isReleased = false;
+    return {
+      release: () => {
+        if (isReleased) return;
+        isReleased = true;
+        this.admittedTotal--;
+        const n = (this.admittedBy.get(key) ?? 1) - 1;
+        if (n > 0) this.admittedBy.set(key, n);
+        else this.admittedBy.delete(key);
+      },
+    };
   }
 
   /**

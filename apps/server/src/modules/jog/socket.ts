@@ -8,16 +8,21 @@ import {
 import { isAllowedOrigin, readSessionId, resolveAccount } from "../../auth/middleware.ts";
 import { checkSessionWithoutExtending } from "../../auth/session-check.ts";
 import type { AppContext } from "../../context.ts";
+import { isDatabaseUnavailable } from "../../db/connection.ts";
 import { AppError } from "../../errors.ts";
 import { drivingFacts, loadVersionForDriving } from "../profiles/service.ts";
 import { accountChangesFor, type AccountChange, type AccountChanges } from "../users/account-changes.ts";
 import { findUserById } from "../users/model.ts";
-import { END_MESSAGES, jogHubFor, type EndReason, type FrameSink, type JogHub, type LiveJogSession } from "./hub.ts";
+import {
+  END_MESSAGES, jogHubFor, type EndReason, type FrameSink, type JogHub, type LiveJogSession, type StartAdmission,
+} from "./hub.ts";
 
 /**
  * The live-jogging WebSocket endpoint, /ws/jog on the app's own http.Server (protocol in
  * packages/shared/src/jog-protocol.ts and DEVELOPERS.md "Live jogging"). The upgrade is refused with 403
- * from a foreign Origin and 401 without a valid session cookie, before any WebSocket exists. Each text
+ * from a foreign Origin and 401 without a valid session cookie, before any WebSocket exists; when the
+ * database cannot be asked (issue 11, item 5) it is completed and closed at once with 1013 and a reason,
+ * which a browser can show (it never sees a refused upgrade's status). Each text
  * frame is size-checked, rate-limited, JSON-parsed and validated with the shared zod schema; every bad
  * one gets {type:"error"} and changes nothing.
  *
@@ -338,7 +343,13 @@ class JogConnection implements FrameSink {
   private async start(versionId: number): Promise<void> {
     if (this.isStarting) return this.sendError("busy", "A session is already starting.");
     this.isStarting = true;
+    let admission: StartAdmission | null = null;
     try {
+      // The start rate and the caps on live sessions, before anything is read or created (issue 11, item 8).
+      const admitted = await this.hub.admitStart(this.user, this.driving);
+      if ("code" in admitted) return this.sendError(admitted.code, admitted.message);
+      admission = admitted;
+      if (this.isGone) return;
       const driven = await loadVersionForDriving(this.hub.ctx.db, this.user, versionId);
       if (this.isGone) return;
       const previous = this.driving;
@@ -365,6 +376,8 @@ class JogConnection implements FrameSink {
         this.sendError("internal", "The session could not be started; it has been logged.");
       }
     } finally {
+      // Live (counted among the sessions) or failed: either way the place held for the start is given back.
+      admission?.release();
       this.isStarting = false;
     }
   }
@@ -508,9 +521,12 @@ class JogConnection implements FrameSink {
   }
 }
 
-function refuse(socket: Duplex, status: 401 | 403 | 404, code: string, message: string): void {
+/** The close reason for an upgrade refused while the database is unavailable (at most 123 bytes, RFC 6455 §5.5). */
+export const DATABASE_UNAVAILABLE_CLOSE_REASON = "Database unavailable: the sign-in cannot be checked; try again shortly.";
+
+function refuse(socket: Duplex, status: 401 | 403 | 404 | 500, code: string, message: string): void {
   const body = JSON.stringify({ error: { code, message } });
-  const text = status === 401 ? "Unauthorized" : status === 403 ? "Forbidden" : "Not Found";
+  const text = status === 401 ? "Unauthorized" : status === 403 ? "Forbidden" : status === 404 ? "Not Found" : "Internal Server Error";
   socket.end(
     `HTTP/1.1 ${status} ${text}\r\nConnection: close\r\nContent-Type: application/json\r\nContent-Length: ${Buffer.byteLength(body)}\r\n\r\n${body}`,
   );
@@ -553,8 +569,14 @@ export function attachJogSockets(server: Server, ctx: AppContext): JogSockets {
         });
       },
       (error: unknown) => {
+        if (isDatabaseUnavailable(error)) {
+          // A browser's WebSocket never shows the page an HTTP status of a refused upgrade (only a 1006
+          // close), so the upgrade is completed and closed at once with a code and a sentence it can show.
+          wss.handleUpgrade(req, socket, head, (ws) => ws.close(JOG_CLOSE_CODES.databaseUnavailable, DATABASE_UNAVAILABLE_CLOSE_REASON));
+          return;
+        }
         console.error("[jogwright] jog upgrade failed:", error);
-        socket.destroy();
+        refuse(socket, 500, "internal", "The connection could not be set up; it has been logged.");
       },
     );
   };
