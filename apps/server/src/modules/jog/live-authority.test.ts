@@ -68,6 +68,17 @@ async function startDriving(cookie: string, versionId: number): Promise<{ c: Jog
 }
 
 /** Released, then held with +z deflected (a fresh press), streamed; resolves once moving at speed. */
+/** An engineer driving a draft of their own, and a fresh safety officer watching that session. */
+async function watchedDraftSession() {
+  const driver = await person(["engineer"]);
+  const { c: d, sessionId } = await startDriving(driver.cookie, await draft(driver.user));
+  const officer = await person(["safety_officer"]);
+  const w = await connect(officer.cookie);
+  w.send({ type: "watch", sessionId });
+  await w.next((m) => m.type === "session");
+  return { driver, d, sessionId, officer, w };
+}
+
 async function moveAlongZ(c: JogTestClient): Promise<void> {
   c.input = { ...c.input, enabling: false, axes: [0, 0, 0, 0, 0, 0] };
   c.sendInput();
@@ -161,12 +172,7 @@ describe("a role change reaches the open socket at once", () => {
   });
 
   it("a watcher who loses both watching roles stops watching at once, with an `ended` that says why", async () => {
-    const driver = await person(["engineer"]);
-    const { c: d, sessionId } = await startDriving(driver.cookie, await draft(driver.user));
-    const officer = await person(["safety_officer"]);
-    const w = await connect(officer.cookie);
-    w.send({ type: "watch", sessionId });
-    await w.next((m) => m.type === "session");
+    const { driver, d, sessionId, officer, w } = await watchedDraftSession();
     await patchUser(officer.user.id, { roles: ["operator"] });
     const ended = await after(w, 0, isEnded, 1000);
     expect(ended).toMatchObject({ sessionId, reason: "roles-changed" });
@@ -274,12 +280,7 @@ describe("signing out", () => {
   });
 
   it("a watcher who signs out gets `ended` for the watched session, then the close; the driver drives on", async () => {
-    const driver = await person(["engineer"]);
-    const { c: d, sessionId } = await startDriving(driver.cookie, await draft(driver.user));
-    const officer = await person(["safety_officer"]);
-    const w = await connect(officer.cookie);
-    w.send({ type: "watch", sessionId });
-    await w.next((m) => m.type === "session");
+    const { driver, d, sessionId, officer, w } = await watchedDraftSession();
     const closing = closed(w);
     await call(h, "post", "/api/auth/sign-out", officer.cookie).expect(204);
     expect(await after(w, 0, isEnded, 1000)).toMatchObject({ sessionId, reason: "signed-out", message: expect.stringMatching(/no longer watch/) });
@@ -299,12 +300,7 @@ describe("an idle page expires", () => {
     ).getTime();
 
   it("the socket's re-check never extends the cookie session; once it expires, the watch ends (`ended`, then close 4401)", async () => {
-    const driver = await person(["engineer"]);
-    const { c: d, sessionId } = await startDriving(driver.cookie, await draft(driver.user));
-    const officer = await person(["safety_officer"]);
-    const w = await connect(officer.cookie);
-    w.send({ type: "watch", sessionId });
-    await w.next((m) => m.type === "session");
+    const { driver, d, sessionId, officer, w } = await watchedDraftSession();
     // Past half its 12 h life, where lucia's validateSession would move the expiry 12 h ahead (lucia 3).
     const id = sessionIdOf(officer.cookie);
     const inOneHour = new Date(Date.now() + 3600_000);
@@ -342,12 +338,7 @@ describe("an idle page expires", () => {
   });
 
   it("a change made outside the API (the database directly) is found by the re-check: a deactivated watcher is closed (4403)", async () => {
-    const driver = await person(["engineer"]);
-    const { c: d, sessionId } = await startDriving(driver.cookie, await draft(driver.user));
-    const officer = await person(["safety_officer"]);
-    const w = await connect(officer.cookie);
-    w.send({ type: "watch", sessionId });
-    await w.next((m) => m.type === "session");
+    const { driver, d, sessionId, officer, w } = await watchedDraftSession();
     await h.db.query("UPDATE users SET is_active = 0 WHERE id = ?", { replacements: [officer.user.id] });
     const closing = closed(w);
     await net.jog.recheck();
