@@ -13,9 +13,9 @@ import { createApp } from "../src/app.ts";
 import { loadConfig } from "../src/config.ts";
 import { createSequelize } from "../src/db/connection.ts";
 import { prepareDatabase } from "../src/db/prepare.ts";
-import { listArms } from "../src/modules/arms/model.ts";
+import { listArms } from "../src/modules/arms/service.ts";
 import { attachJogSockets } from "../src/modules/jog/socket.ts";
-import { createProfile } from "../src/modules/profiles/service.ts";
+import { createProfile } from "../src/modules/versions/service.ts";
 import { createUser } from "../src/modules/users/service.ts";
 
 // One bench account drives up to 100 sessions, started back to back: the caps and the start rate are raised

@@ -13,11 +13,14 @@ import type { ApiRouter, RouteSpec } from "./http/api-router.ts";
 import { securityHeaders } from "./http/security-headers.ts";
 import { armsRouter } from "./modules/arms/routes.ts";
 import { healthRouter } from "./modules/health/routes.ts";
-import { usersRouter } from "./modules/users/routes.ts";
+import { operatorsRouter, usersRouter } from "./modules/users/routes.ts";
 import { auditRouter } from "./modules/audit/routes.ts";
 import { ceilingsRouter } from "./modules/ceilings/routes.ts";
 import { mailRouter } from "./modules/mail/routes.ts";
-import { profileRouters } from "./modules/profiles/routes.ts";
+import { profilesRouter } from "./modules/profiles/routes.ts";
+import { versionsRouters } from "./modules/versions/routes.ts";
+import { reviewsRouters } from "./modules/reviews/routes.ts";
+import { drivingRouter } from "./modules/driving/routes.ts";
 import { Mailer } from "./mail/mailer.ts";
 import { jogRouter } from "./modules/jog/routes.ts";
 import { recordingsRouter } from "./modules/recordings/routes.ts";
@@ -57,7 +60,11 @@ export function createApp(config: Config, db: Sequelize): BuiltApp {
     authRouter(ctx),
     usersRouter(ctx),
     armsRouter(ctx),
-    ...profileRouters(ctx),
+    operatorsRouter(ctx),
+    profilesRouter(ctx),
+    ...versionsRouters(ctx),
+    ...reviewsRouters(ctx),
+    drivingRouter(ctx),
     ceilingsRouter(ctx),
     auditRouter(ctx),
     mailRouter(ctx),

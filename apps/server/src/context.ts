@@ -4,7 +4,10 @@ import type { Config } from "./config.ts";
 import type { SignInLimiter } from "./auth/sign-in-limiter.ts";
 import type { Mailer } from "./mail/mailer.ts";
 
-/** What every module gets: the database, the session store, the settings, the outgoing mail. */
+/**
+ * What every module gets: the database, the session store, the settings, the outgoing mail. The models
+ * of `db` are `modelsOf(db)` (db/models.ts), kept per Sequelize instance.
+ */
 export interface AppContext {
   db: Sequelize;
   lucia: AppLucia;

@@ -2,7 +2,7 @@ import type { Request, RequestHandler, Response } from "express";
 import type { Cookie } from "lucia";
 import { AppError } from "../errors.ts";
 import type { AppContext } from "../context.ts";
-import { findUserById } from "../modules/users/model.ts";
+import { findUserById } from "../modules/users/service.ts";
 import { SESSION_COOKIE } from "./lucia.ts";
 import { BACKGROUND_REQUEST_HEADER, readSessionWithoutExtending } from "./session-check.ts";
 

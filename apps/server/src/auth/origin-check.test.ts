@@ -1,4 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { QueryTypes } from "sequelize";
 import { JogTestClient } from "../modules/jog/jog-test-client.ts";
 import { createHarness, freshUser, listenHarness, type Harness } from "../test/harness.ts";
 
@@ -44,7 +45,7 @@ describe("state-changing requests", () => {
       code: "bad_origin",
       message: "Requests from http://evil.example may not change anything here; open Jogwright at https://jog.example (or set PUBLIC_ORIGIN).",
     });
-    const [rows] = await h.db.query("SELECT id FROM users WHERE username = ?", { replacements: [`forgedhost${stamp}`] });
+    const rows = await h.db.query("SELECT id FROM users WHERE username = ?", { replacements: [`forgedhost${stamp}`], type: QueryTypes.SELECT });
     expect(rows).toHaveLength(0);
   });
 

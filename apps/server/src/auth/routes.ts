@@ -5,7 +5,7 @@ import { ApiRouter, requireAccount } from "../http/api-router.ts";
 import { parseBody } from "../http/validate.ts";
 import type { AppContext } from "../context.ts";
 import { accountChangesFor } from "../modules/users/account-changes.ts";
-import { findUserWithHashByUsername } from "../modules/users/model.ts";
+import { findUserWithHashByUsername } from "../modules/users/service.ts";
 import { setCookie } from "./middleware.ts";
 import { decoyPasswordHash, verifyPassword } from "./password.ts";
 

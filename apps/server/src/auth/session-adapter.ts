@@ -1,7 +1,6 @@
 import type { Adapter, DatabaseSession, DatabaseUser } from "lucia";
-import { QueryTypes, type Sequelize } from "sequelize";
-
-type SessionRow = { id: string; user_id: string; expires_at: Date };
+import { Op, type Sequelize } from "sequelize";
+import { modelsOf } from "../db/models.ts";
 
 /**
  * The small adapter lucia 3 needs, on the `sessions` table through Sequelize. Users come back with
@@ -10,47 +9,43 @@ type SessionRow = { id: string; user_id: string; expires_at: Date };
 export class SequelizeSessionAdapter implements Adapter {
   constructor(private readonly db: Sequelize) {}
 
-  private toSession(row: SessionRow): DatabaseSession {
-    return { id: row.id, userId: row.user_id, expiresAt: new Date(row.expires_at), attributes: {} };
+  private get Session() {
+    return modelsOf(this.db).Session;
   }
 
   async getSessionAndUser(sessionId: string): Promise<[DatabaseSession | null, DatabaseUser | null]> {
-    const rows = await this.db.query<SessionRow>(
-      "SELECT s.id, s.user_id, s.expires_at FROM sessions s JOIN users u ON u.id = s.user_id WHERE s.id = ?",
-      { replacements: [sessionId], type: QueryTypes.SELECT },
-    );
-    const row = rows[0];
-    if (!row) return [null, null];
-    return [this.toSession(row), { id: row.user_id, attributes: {} }];
+    // No join to users: sessions_user_fk (ON DELETE CASCADE) means a session's user exists, and the auth
+    // middleware loads the account next anyway. This runs on every signed-in request. Measured on the dev
+    // MariaDB (1000 calls after warm-up, per call): the former raw SELECT with the join 0.19 ms CPU /
+    // 0.24 ms wall; findByPk 0.35 ms CPU / 0.34 ms wall; findOne with an inner-join include 0.5–0.67 ms CPU.
+    // The model stays: 0.1 ms per request, beside the account lookup that follows it.
+    const session = await this.Session.findByPk(sessionId);
+    if (!session) return [null, null];
+    return [session.toLucia(), { id: session.userId, attributes: {} }];
   }
 
   async getUserSessions(userId: string): Promise<DatabaseSession[]> {
-    const rows = await this.db.query<SessionRow>("SELECT id, user_id, expires_at FROM sessions WHERE user_id = ?", {
-      replacements: [userId],
-      type: QueryTypes.SELECT,
-    });
-    return rows.map((r) => this.toSession(r));
+    const sessions = await this.Session.findAll({ where: { userId } });
+    return sessions.map((s) => s.toLucia());
   }
 
   async setSession(session: DatabaseSession): Promise<void> {
-    await this.db.query("INSERT INTO sessions (id, user_id, expires_at) VALUES (?, ?, ?)", {
-      replacements: [session.id, session.userId, session.expiresAt],
-    });
+    await this.Session.create({ id: session.id, userId: session.userId, expiresAt: session.expiresAt });
   }
 
   async updateSessionExpiration(sessionId: string, expiresAt: Date): Promise<void> {
-    await this.db.query("UPDATE sessions SET expires_at = ? WHERE id = ?", { replacements: [expiresAt, sessionId] });
+    await this.Session.update({ expiresAt }, { where: { id: sessionId } });
   }
 
   async deleteSession(sessionId: string): Promise<void> {
-    await this.db.query("DELETE FROM sessions WHERE id = ?", { replacements: [sessionId] });
+    await this.Session.destroy({ where: { id: sessionId } });
   }
 
   async deleteUserSessions(userId: string): Promise<void> {
-    await this.db.query("DELETE FROM sessions WHERE user_id = ?", { replacements: [userId] });
+    await this.Session.destroy({ where: { userId } });
   }
 
   async deleteExpiredSessions(): Promise<void> {
-    await this.db.query("DELETE FROM sessions WHERE expires_at <= ?", { replacements: [new Date()] });
+    await this.Session.destroy({ where: { expiresAt: { [Op.lte]: new Date() } } });
   }
 }

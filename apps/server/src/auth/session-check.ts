@@ -1,6 +1,6 @@
 import type { Session } from "lucia";
-import { QueryTypes } from "sequelize";
 import type { AppContext } from "../context.ts";
+import { modelsOf } from "../db/models.ts";
 
 /**
  * Cookie sessions read WITHOUT extending them. lucia's validateSession moves the expiry forward once a
@@ -20,15 +20,11 @@ export async function readSessionWithoutExtending(
   ctx: AppContext,
   sessionId: string,
 ): Promise<{ check: "valid"; session: Session } | { check: "expired" | "missing"; session: null }> {
-  const rows = await ctx.db.query<{ user_id: string; expires_at: Date }>(
-    "SELECT s.user_id, s.expires_at FROM sessions s JOIN users u ON u.id = s.user_id WHERE s.id = ?",
-    { replacements: [sessionId], type: QueryTypes.SELECT },
-  );
-  const row = rows[0];
+  // A session's user always exists: sessions.user_id references users ON DELETE CASCADE.
+  const row = await modelsOf(ctx.db).Session.findByPk(sessionId);
   if (!row) return { check: "missing", session: null };
-  const expiresAt = new Date(row.expires_at);
-  if (expiresAt.getTime() <= Date.now()) return { check: "expired", session: null };
-  return { check: "valid", session: { id: sessionId, userId: row.user_id, expiresAt, fresh: false } };
+  if (row.expiresAt.getTime() <= Date.now()) return { check: "expired", session: null };
+  return { check: "valid", session: { id: sessionId, userId: row.userId, expiresAt: row.expiresAt, fresh: false } };
 }
 
 export async function checkSessionWithoutExtending(ctx: AppContext, sessionId: string): Promise<SessionCheck> {

@@ -1,4 +1,5 @@
 import { BaseError, ConnectionError, Sequelize } from "sequelize";
+import { initModels } from "./models.ts";
 
 /**
  * How long the app waits on the database before it answers 503 `database_unavailable` (issue 11, item 5):
@@ -22,14 +23,14 @@ export const DATABASE_ACQUIRE_TIMEOUT_MS = 1500;
 export const DATABASE_QUERY_SILENCE_TIMEOUT_MS = 1500;
 
 /**
- * One Sequelize instance on MariaDB; times are stored in UTC. `isSchemaOwner`: the migration account's
- * connection, whose DDL may legitimately run silent for long (an ALTER on a big table), so it has no
- * query silence timeout.
+ * One Sequelize instance on MariaDB, with its models (db/models.ts); times are stored in UTC.
+ * `isSchemaOwner`: the migration account's connection, whose DDL may legitimately run silent for long
+ * (an ALTER on a big table), so it has no query silence timeout.
  */
 export function createSequelize(databaseUrl: string, options: { isSchemaOwner?: boolean } = {}): Sequelize {
   const url = new URL(databaseUrl);
   url.protocol = "mariadb:";
-  return new Sequelize(url.toString(), {
+  const sequelize = new Sequelize(url.toString(), {
     dialect: "mariadb",
     logging: false,
     timezone: "+00:00",
@@ -40,6 +41,8 @@ export function createSequelize(databaseUrl: string, options: { isSchemaOwner?: 
     pool: { max: 10, min: 0, idle: 1000, evict: 250, acquire: DATABASE_ACQUIRE_TIMEOUT_MS },
     define: { underscored: true },
   });
+  initModels(sequelize);
+  return sequelize;
 }
 
 /**

@@ -3,8 +3,7 @@ import { QueryTypes } from "sequelize";
 import type { Arm, User } from "@jogwright/shared";
 import { createHarness, freshUser, type Harness } from "../test/harness.ts";
 import { approveWithSql, compliantParams, sixAxisArm, uniqueName } from "../test/profiles-fixture.ts";
-import { createProfile } from "../modules/profiles/service.ts";
-import { findVersion } from "../modules/profiles/model.ts";
+import { createProfile, findVersion } from "../modules/versions/service.ts";
 import { up as flagLongStops } from "./migrations/0013-flag-long-stops.ts";
 
 /**

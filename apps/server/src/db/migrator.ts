@@ -1,5 +1,6 @@
 import { Umzug, type UmzugStorage } from "umzug";
-import { QueryTypes, type Sequelize } from "sequelize";
+import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from "sequelize";
+import { NOW } from "./migrations/columns.ts";
 import * as m0001 from "./migrations/0001-accounts.ts";
 import * as m0002 from "./migrations/0002-arms.ts";
 import * as m0003 from "./migrations/0003-profiles.ts";
@@ -31,32 +32,53 @@ const MIGRATIONS = [
   { name: "0014-approval-guard", ...m0014 },
 ];
 
-/** The record of applied migrations, in a table this storage creates itself with plain SQL. */
+/** One applied migration, as `schema_migrations` records it. */
+class SchemaMigration extends Model<InferAttributes<SchemaMigration>, InferCreationAttributes<SchemaMigration>> {
+  declare name: string;
+  declare appliedAt: CreationOptional<Date>;
+}
+
+const SCHEMA_MIGRATION_COLUMNS = {
+  name: { type: DataTypes.STRING(190), allowNull: false, primaryKey: true },
+  applied_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+};
+
+/**
+ * The record of applied migrations, in a table this storage creates itself (umzug's SequelizeStorage
+ * would create it with sync()). The model is this Sequelize instance's own subclass, like the app's models
+ * (db/models.ts).
+ */
 class MigrationTable implements UmzugStorage<Sequelize> {
-  constructor(private readonly db: Sequelize) {}
+  private readonly model: typeof SchemaMigration;
+  private isEnsured = false;
+
+  constructor(private readonly db: Sequelize) {
+    this.model = class extends SchemaMigration {};
+    this.model.init(
+      { name: SCHEMA_MIGRATION_COLUMNS.name, appliedAt: { ...SCHEMA_MIGRATION_COLUMNS.applied_at, field: "applied_at" } },
+      { sequelize: db, modelName: "SchemaMigration", tableName: "schema_migrations", timestamps: false, underscored: true },
+    );
+  }
 
   private async ensure(): Promise<void> {
-    await this.db.query(
-      `CREATE TABLE IF NOT EXISTS schema_migrations (
-         name VARCHAR(190) NOT NULL PRIMARY KEY,
-         applied_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3)
-       ) ENGINE=InnoDB`,
-    );
+    if (this.isEnsured) return;
+    await this.db.getQueryInterface().createTable("schema_migrations", SCHEMA_MIGRATION_COLUMNS); // IF NOT EXISTS
+    this.isEnsured = true;
   }
 
   async logMigration({ name }: { name: string }): Promise<void> {
     await this.ensure();
-    await this.db.query("INSERT INTO schema_migrations (name) VALUES (?)", { replacements: [name] });
+    await this.model.create({ name });
   }
 
   async unlogMigration({ name }: { name: string }): Promise<void> {
     await this.ensure();
-    await this.db.query("DELETE FROM schema_migrations WHERE name = ?", { replacements: [name] });
+    await this.model.destroy({ where: { name } });
   }
 
   async executed(): Promise<string[]> {
     await this.ensure();
-    const rows = await this.db.query<{ name: string }>("SELECT name FROM schema_migrations ORDER BY name", { type: QueryTypes.SELECT });
+    const rows = await this.model.findAll({ attributes: ["name"], order: [["name", "ASC"]] });
     return rows.map((r) => r.name);
   }
 }

@@ -1,10 +1,12 @@
-import { QueryTypes, type Sequelize } from "sequelize";
+import type { Sequelize } from "sequelize";
 import { checkCeilings, defaultProfileParams, type ProfileParams } from "@jogwright/shared";
-import { findArm } from "../modules/arms/model.ts";
+import { findArm, findArmIdBySlug } from "../modules/arms/service.ts";
 import { recordAudit } from "../modules/audit/service.ts";
-import { findLatestCeilings } from "../modules/ceilings/model.ts";
-import * as profiles from "../modules/profiles/model.ts";
-import { paramsSha256, ratedJointSpeeds } from "../modules/profiles/service.ts";
+import { findCeilingsInForce, ratedJointSpeeds } from "../modules/ceilings/service.ts";
+import { findProfileByName, insertProfile } from "../modules/profiles/service.ts";
+import { insertApproval } from "../modules/reviews/service.ts";
+import { findUserIdByUsername } from "../modules/users/service.ts";
+import { insertVersion, paramsSha256, setStatus } from "../modules/versions/service.ts";
 
 /**
  * The demo's profiles (idempotent; a profile that exists is left alone, so locked rows are never
@@ -16,15 +18,9 @@ import { paramsSha256, ratedJointSpeeds } from "../modules/profiles/service.ts";
  * approved, the order the workflow and the lifecycle triggers (0003, 0008) expect, with its ceiling flag
  * set from the ceilings in force.
  */
-async function userId(db: Sequelize, username: string): Promise<string | null> {
-  const rows = await db.query<{ id: string }>("SELECT id FROM users WHERE username = ?", { replacements: [username], type: QueryTypes.SELECT });
-  return rows[0]?.id ?? null;
-}
+const userId = findUserIdByUsername;
 
-async function armIdBySlug(db: Sequelize, slug: string): Promise<number | null> {
-  const rows = await db.query<{ id: number }>("SELECT id FROM arms WHERE slug = ?", { replacements: [slug], type: QueryTypes.SELECT });
-  return rows[0]?.id ?? null;
-}
+const armIdBySlug = findArmIdBySlug;
 
 /**
  * Who the demo profiles belong to (user names) and what they are called: the demo's own cast by default;
@@ -56,10 +52,10 @@ export async function seedDemoProfiles(db: Sequelize, cast: DemoProfileCast = DE
   if (!olena || !tomas || !emeka || !sigrid || !arm6Id || !arm7Id) return;
   const arm6 = (await findArm(db, arm6Id))!;
   const arm7 = (await findArm(db, arm7Id))!;
-  const ceilings = (await findLatestCeilings(db)).ceilings;
+  const ceilings = (await findCeilingsInForce(db)).ceilings;
 
   const olenaName = cast.packProfileName;
-  if (!(await profiles.findProfileByName(db, olenaName, olena))) {
+  if (!(await findProfileByName(db, olenaName, olena))) {
     // Defaults: half of each rated joint speed, 250 mm/s TCP (the manual reduced-speed figure of
     // ISO 10218-1:2011, replaced in February 2025 by ISO 10218-1:2025), the stop-before guard.
     const v1: ProfileParams = defaultProfileParams(ratedJointSpeeds(arm6).map((s) => s!));
@@ -71,7 +67,7 @@ export async function seedDemoProfiles(db: Sequelize, cast: DemoProfileCast = DE
       shaping: { ...v1.shaping, expo: 0.45 },
     };
     await db.transaction(async (t) => {
-      const profileId = await profiles.insertProfile(db, { name: olenaName, operatorId: olena, armId: arm6Id, createdBy: emeka }, t);
+      const profileId = await insertProfile(db, t, { name: olenaName, operatorId: olena, armId: arm6Id, createdBy: emeka });
       await recordAudit(db, t, {
         actorId: emeka,
         entity: "profile",
@@ -80,30 +76,22 @@ export async function seedDemoProfiles(db: Sequelize, cast: DemoProfileCast = DE
         summary: `created profile "${olenaName}" (demo seed)`,
         after: { id: profileId, name: olenaName, operatorId: olena, armId: arm6Id, createdBy: emeka },
       });
-      const v1Id = await profiles.insertVersion(
-        db,
-        { profileId, number: 1, parentVersionId: null, params: v1, paramsSha256: paramsSha256(v1), note: "Starting point: defaults for the six-axis arm.", authorId: emeka },
-        t,
-      );
-      await profiles.updateStatus(db, v1Id, { state: "submitted", submittedAt: "now" }, t);
+      const v1Id = await insertVersion(db, t, { profileId, number: 1, parentVersionId: null, params: v1, note: "Starting point: defaults for the six-axis arm.", authorId: emeka });
+      await setStatus(db, t, v1Id, { state: "submitted", submittedAt: new Date() });
       const comment = "Test-driven live through the wrist region; damping and caps are within the site ceilings.";
       // The approvals row approves and locks v1 (its triggers, migration 0014).
-      const approvalId = await profiles.insertApproval(db, { versionId: v1Id, approverId: sigrid, comment, paramsSha256: paramsSha256(v1) }, t);
-      if (checkCeilings(v1, ceilings, ratedJointSpeeds(arm6)).length > 0) await profiles.updateStatus(db, v1Id, { exceedsCeilings: true }, t);
+      const approvalId = await insertApproval(db, t, { versionId: v1Id, approverId: sigrid, comment, paramsSha256: paramsSha256(v1) });
+      if (checkCeilings(v1, ceilings, ratedJointSpeeds(arm6)).length > 0) await setStatus(db, t, v1Id, { exceedsCeilings: true });
       await recordAudit(db, t, { actorId: emeka, entity: "version", entityId: v1Id, action: "save", summary: `saved "${olenaName}" v1 (demo seed)`, after: { id: v1Id, paramsSha256: paramsSha256(v1) } });
       await recordAudit(db, t, { actorId: sigrid, entity: "approval", entityId: approvalId, action: "create", summary: `approved "${olenaName}" v1 (demo seed): ${comment}`, after: { versionId: v1Id, paramsSha256: paramsSha256(v1) } });
-      const v2Id = await profiles.insertVersion(
-        db,
-        { profileId, number: 2, parentVersionId: v1Id, params: v2, paramsSha256: paramsSha256(v2), note: "More damping near the wrist singularity; slower tool for cover bolts.", authorId: emeka },
-        t,
-      );
-      await profiles.updateStatus(db, v2Id, { state: "submitted", submittedAt: "now" }, t);
+      const v2Id = await insertVersion(db, t, { profileId, number: 2, parentVersionId: v1Id, params: v2, note: "More damping near the wrist singularity; slower tool for cover bolts.", authorId: emeka });
+      await setStatus(db, t, v2Id, { state: "submitted", submittedAt: new Date() });
       await recordAudit(db, t, { actorId: emeka, entity: "version", entityId: v2Id, action: "submit", summary: `saved and submitted "${olenaName}" v2 (demo seed)`, after: { id: v2Id, paramsSha256: paramsSha256(v2) } });
     });
   }
 
   const tomasName = cast.coverProfileName;
-  if (!(await profiles.findProfileByName(db, tomasName, tomas))) {
+  if (!(await findProfileByName(db, tomasName, tomas))) {
     // Seven joints: the null-space term keeps the spare joint away from its limits (Liégeois 1977).
     const params: ProfileParams = {
       ...defaultProfileParams(ratedJointSpeeds(arm7).map((s) => s!)),
@@ -111,12 +99,8 @@ export async function seedDemoProfiles(db: Sequelize, cast: DemoProfileCast = DE
       nullSpace: { enabled: true, gainPerS: 0.5 },
     };
     await db.transaction(async (t) => {
-      const profileId = await profiles.insertProfile(db, { name: tomasName, operatorId: tomas, armId: arm7Id, createdBy: emeka }, t);
-      const versionId = await profiles.insertVersion(
-        db,
-        { profileId, number: 1, parentVersionId: null, params, paramsSha256: paramsSha256(params), note: "First try on the seven-axis arm.", authorId: emeka },
-        t,
-      );
+      const profileId = await insertProfile(db, t, { name: tomasName, operatorId: tomas, armId: arm7Id, createdBy: emeka });
+      const versionId = await insertVersion(db, t, { profileId, number: 1, parentVersionId: null, params, note: "First try on the seven-axis arm.", authorId: emeka });
       await recordAudit(db, t, {
         actorId: emeka,
         entity: "profile",

@@ -2,17 +2,16 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { checkCeilings, type ProfileParams } from "@jogwright/shared";
 import { call, createHarness, freshUser, signIn, type Harness } from "../test/harness.ts";
-import { findArm } from "../modules/arms/model.ts";
-import { findLatestCeilings } from "../modules/ceilings/model.ts";
-import { paramsSha256, ratedJointSpeeds } from "../modules/profiles/service.ts";
+import { findArm } from "../modules/arms/service.ts";
+import { findCeilingsInForce, ratedJointSpeeds } from "../modules/ceilings/service.ts";
+import { paramsSha256 } from "../modules/versions/service.ts";
 import { seedDemo } from "./seed.ts";
 import { DEMO_PROFILE_CAST, seedDemoProfiles, type DemoProfileCast } from "./seed-profiles.ts";
 
 /**
- * The demo seed is checked on rows no other test can have moved on: the seed's demo profiles are
- * written again for a fresh cast (new accounts, new profile names) that only this file knows, and the
- * shared demo data is checked only where the database itself keeps it fixed (locked versions and
- * approvals cannot be changed by anyone).
+ * The demo seed on this file's own freshly seeded database (src/test/fresh-database.ts): seeding again
+ * changes nothing, and the seed's demo profiles, written again for a cast of new accounts and profile
+ * names, come out exactly as the seed means them (locked, approved, hashed, driveable).
  */
 let h: Harness;
 beforeAll(() => {
@@ -119,7 +118,7 @@ describe("the demo seed", () => {
       const [v2, v1] = detail.body.versions;
       // The seed flags version 1 from the ceilings in force, as the ceilings service would (derived).
       const arm = (await findArm(h.db, detail.body.profile.armId))!;
-      const flagged = checkCeilings(v1.params, (await findLatestCeilings(h.db)).ceilings, ratedJointSpeeds(arm)).length > 0;
+      const flagged = checkCeilings(v1.params, (await findCeilingsInForce(h.db)).ceilings, ratedJointSpeeds(arm)).length > 0;
       expect(v1).toMatchObject({ number: 1, state: "approved", exceedsCeilings: flagged, authorName: people.engineer.user.displayName, decidedByName: people.safetyOfficer.user.displayName });
       expect(v2).toMatchObject({ number: 2, state: "submitted", parentVersionId: v1.id, authorName: people.engineer.user.displayName });
       expect(detail.body.profile.driveableVersionId).toBe(flagged ? null : v1.id);

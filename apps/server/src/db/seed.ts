@@ -1,11 +1,11 @@
 import { generateIdFromEntropySize } from "lucia";
-import { QueryTypes, type Sequelize } from "sequelize";
+import type { Sequelize } from "sequelize";
 import { demoArms } from "@jogwright/kinematics";
 import { canonicalJson, type Role } from "@jogwright/shared";
 import { hashPassword } from "../auth/password.ts";
-import { findArmDefinitionBySlug, upsertArmBySlug } from "../modules/arms/model.ts";
+import { findArmDefinitionBySlug, upsertArmBySlug } from "../modules/arms/service.ts";
 import { recordAudit } from "../modules/audit/service.ts";
-import { findUserById, insertUser } from "../modules/users/model.ts";
+import { findUserById, findUserIdByUsername, insertUser } from "../modules/users/service.ts";
 import { seedDemoProfiles } from "./seed-profiles.ts";
 
 /** The invented scenario of PRODUCT.md: a shielded cell where damaged EV battery packs are dismantled. */
@@ -44,11 +44,7 @@ export async function seedDemo(db: Sequelize): Promise<void> {
     });
   }
   for (const account of DEMO_ACCOUNTS) {
-    const existing = await db.query("SELECT id FROM users WHERE username = ?", {
-      replacements: [account.username],
-      type: QueryTypes.SELECT,
-    });
-    if (existing.length > 0) continue;
+    if (await findUserIdByUsername(db, account.username)) continue;
     const passwordHash = await hashPassword(DEMO_PASSWORD);
     await db.transaction(async (transaction) => {
       const id = generateIdFromEntropySize(10);

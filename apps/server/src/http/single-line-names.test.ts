@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { SINGLE_LINE_MESSAGE, type Arm } from "@jogwright/shared";
 import { call, createHarness, DEMO_BY_ROLE, freshUser, signIn, type Harness } from "../test/harness.ts";
-import { compliantParams, freshTeam, retireTeam, sixAxisArm, type Team } from "../test/profiles-fixture.ts";
+import { compliantParams, freshTeam, sixAxisArm, type Team } from "../test/profiles-fixture.ts";
 
 /**
  * Names are shown on one line in lists, the audit log and mail subjects: a CR/LF (or any control
@@ -19,7 +19,6 @@ beforeAll(async () => {
   admin = await signIn(h, DEMO_BY_ROLE.admin);
 });
 afterAll(async () => {
-  await retireTeam(h, team);
   await h.close();
 });
 

@@ -6,9 +6,9 @@ import nodemailer from "nodemailer";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { mailMessageSchema, type Arm } from "@jogwright/shared";
 import { call, createHarness, createMailHarness, DEMO_BY_ROLE, signIn, type Harness } from "../test/harness.ts";
-import { createProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../test/profiles-fixture.ts";
+import { createProfile, freshTeam, sixAxisArm, type Team } from "../test/profiles-fixture.ts";
 import { startFakeSmtp, type FakeSmtp } from "./fake-smtp.ts";
-import { listActiveWithRole } from "../modules/profiles/model.ts";
+import { listActiveWithRole } from "../modules/users/service.ts";
 
 let h: Harness & { smtp: FakeSmtp };
 let team: Team;
@@ -21,7 +21,6 @@ beforeAll(async () => {
   admin = await signIn(h, DEMO_BY_ROLE.admin);
 });
 afterAll(async () => {
-  await retireTeam(h, team);
   await h.close();
 });
 

@@ -1,6 +1,6 @@
 import nodemailer, { type Transporter } from "nodemailer";
 import type { Sequelize, Transaction } from "sequelize";
-import * as outbox from "../modules/mail/model.ts";
+import * as outbox from "../modules/mail/service.ts";
 
 /**
  * Outgoing mail. A workflow step enqueues its mails inside its own transaction (`enqueue`), so the step

@@ -1,21 +1,19 @@
-import { loadConfig } from "../config.ts";
-import { createSequelize } from "../db/connection.ts";
-import { prepareDatabase } from "../db/prepare.ts";
+import { scratchDatabase, withMigrationAccount } from "./scratch-databases.ts";
 
 /**
- * Migrate the test database once before the API tests as the migration account (MIGRATION_DATABASE_URL,
- * else DATABASE_URL's), grant the runtime account (DATABASE_URL) its privileges and seed as it: the tests
- * then run as the runtime account, as the server does.
+ * Once before the API tests: check that the migration account (MIGRATION_DATABASE_URL, else
+ * DATABASE_URL's) may create and drop the first test database, so a missing grant is one clear sentence
+ * instead of a failure in every file. Each file then gets its own fresh database (fresh-database.ts).
+ * Each Vitest project runs it (vitest.config.ts), so it is idempotent.
  */
 export default async function setup(): Promise<void> {
-  if (!process.env.DATABASE_URL) {
+  const base = process.env.DATABASE_URL;
+  if (!base) {
     throw new Error("DATABASE_URL is not set: run the API tests through `npm test`, which starts the test MariaDB.");
   }
-  const config = loadConfig(process.env);
-  const db = createSequelize(config.databaseUrl);
-  try {
-    await prepareDatabase(config, db, { seed: true });
-  } finally {
-    await db.close();
-  }
+  const first = scratchDatabase(decodeURIComponent(new URL(base).pathname.slice(1)), "1");
+  await withMigrationAccount(process.env.MIGRATION_DATABASE_URL || base, first, async (sql) => {
+    await sql(`CREATE DATABASE IF NOT EXISTS \`${first}\``);
+    await sql(`DROP DATABASE IF EXISTS \`${first}\``);
+  });
 }

@@ -19,8 +19,9 @@ export async function freshTeam(h: Harness) {
 export type Team = Awaited<ReturnType<typeof freshTeam>>;
 
 /**
- * Deactivate a test's people afterwards, so "all active safety officers" (the submit mail) stays the
- * demo officer plus the running test's own. Plain SQL: this is test cleanup, not an audited change.
+ * Deactivate a test's people when it is done with them, so "all active safety officers" (the submit
+ * mail) stays what the file's later tests expect (each file has its own database: fresh-database.ts).
+ * Plain SQL: this is test cleanup, not an audited change.
  */
 export async function retireTeam(h: Harness, team: Team | undefined): Promise<void> {
   if (!team) return;

@@ -1,41 +1,42 @@
 import type { MigrationFn } from "umzug";
-import type { Sequelize } from "sequelize";
+import { DataTypes, type Sequelize } from "sequelize";
+import { addForeignKey, NOW, NOW_ON_UPDATE } from "./columns.ts";
 
 /** Users, their roles (a user may hold several) and lucia's sessions. */
 export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query(`
-    CREATE TABLE users (
-      id VARCHAR(40) NOT NULL PRIMARY KEY,
-      username VARCHAR(40) NOT NULL,
-      display_name VARCHAR(80) NOT NULL,
-      email VARCHAR(120) NOT NULL,
-      password_hash VARCHAR(255) NOT NULL,
-      is_active TINYINT(1) NOT NULL DEFAULT 1,
-      created_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3),
-      updated_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3) ON UPDATE CURRENT_TIMESTAMP(3),
-      UNIQUE KEY users_username_unique (username)
-    ) ENGINE=InnoDB`);
-  await db.query(`
-    CREATE TABLE user_roles (
-      user_id VARCHAR(40) NOT NULL,
-      role ENUM('operator','engineer','safety_officer','admin') NOT NULL,
-      PRIMARY KEY (user_id, role),
-      KEY user_roles_role (role),
-      CONSTRAINT user_roles_user_fk FOREIGN KEY (user_id) REFERENCES users (id) ON DELETE CASCADE
-    ) ENGINE=InnoDB`);
-  await db.query(`
-    CREATE TABLE sessions (
-      id VARCHAR(64) NOT NULL PRIMARY KEY,
-      user_id VARCHAR(40) NOT NULL,
-      expires_at DATETIME(3) NOT NULL,
-      KEY sessions_user (user_id),
-      KEY sessions_expires (expires_at),
-      CONSTRAINT sessions_user_fk FOREIGN KEY (user_id) REFERENCES users (id) ON DELETE CASCADE
-    ) ENGINE=InnoDB`);
+  const qi = db.getQueryInterface();
+  await qi.createTable("users", {
+    id: { type: DataTypes.STRING(40), allowNull: false, primaryKey: true },
+    username: { type: DataTypes.STRING(40), allowNull: false },
+    display_name: { type: DataTypes.STRING(80), allowNull: false },
+    email: { type: DataTypes.STRING(120), allowNull: false },
+    password_hash: { type: DataTypes.STRING(255), allowNull: false },
+    is_active: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
+    created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    updated_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW_ON_UPDATE },
+  });
+  await qi.addConstraint("users", { type: "unique", name: "users_username_unique", fields: ["username"] });
+
+  await qi.createTable("user_roles", {
+    user_id: { type: DataTypes.STRING(40), allowNull: false, primaryKey: true },
+    role: { type: DataTypes.ENUM("operator", "engineer", "safety_officer", "admin"), allowNull: false, primaryKey: true },
+  });
+  await qi.addIndex("user_roles", ["role"], { name: "user_roles_role" });
+  await addForeignKey(qi, "user_roles", "user_roles_user_fk", "user_id", "users", { onDelete: "CASCADE" });
+
+  await qi.createTable("sessions", {
+    id: { type: DataTypes.STRING(64), allowNull: false, primaryKey: true },
+    user_id: { type: DataTypes.STRING(40), allowNull: false },
+    expires_at: { type: DataTypes.DATE(3), allowNull: false },
+  });
+  await qi.addIndex("sessions", ["user_id"], { name: "sessions_user" });
+  await qi.addIndex("sessions", ["expires_at"], { name: "sessions_expires" });
+  await addForeignKey(qi, "sessions", "sessions_user_fk", "user_id", "users", { onDelete: "CASCADE" });
 };
 
 export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query("DROP TABLE IF EXISTS sessions");
-  await db.query("DROP TABLE IF EXISTS user_roles");
-  await db.query("DROP TABLE IF EXISTS users");
+  const qi = db.getQueryInterface();
+  await qi.dropTable("sessions");
+  await qi.dropTable("user_roles");
+  await qi.dropTable("users");
 };

@@ -1,22 +1,26 @@
 import type { MigrationFn } from "umzug";
-import type { Sequelize } from "sequelize";
+import { DataTypes, type Sequelize } from "sequelize";
+import { NOW, NOW_ON_UPDATE } from "./columns.ts";
 
-/** Arms: the DH model as JSON (SI units, the arm JSON of PRODUCT.md) and the ready pose in radians. */
+/**
+ * Arms: the DH model as JSON (SI units, the arm JSON of PRODUCT.md) and the ready pose in radians.
+ * MariaDB's JSON is LONGTEXT (utf8mb4_bin) with a CHECK (JSON_VALID(column)) it adds itself.
+ */
 export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query(`
-    CREATE TABLE arms (
-      id INT UNSIGNED NOT NULL AUTO_INCREMENT PRIMARY KEY,
-      slug VARCHAR(60) NOT NULL,
-      name VARCHAR(120) NOT NULL,
-      description TEXT NOT NULL,
-      model JSON NOT NULL CHECK (JSON_VALID(model)),
-      ready_pose JSON NOT NULL CHECK (JSON_VALID(ready_pose)),
-      created_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3),
-      updated_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3) ON UPDATE CURRENT_TIMESTAMP(3),
-      UNIQUE KEY arms_slug_unique (slug)
-    ) ENGINE=InnoDB`);
+  const qi = db.getQueryInterface();
+  await qi.createTable("arms", {
+    id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, autoIncrement: true, primaryKey: true },
+    slug: { type: DataTypes.STRING(60), allowNull: false },
+    name: { type: DataTypes.STRING(120), allowNull: false },
+    description: { type: DataTypes.TEXT, allowNull: false },
+    model: { type: DataTypes.JSON, allowNull: false },
+    ready_pose: { type: DataTypes.JSON, allowNull: false },
+    created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    updated_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW_ON_UPDATE },
+  });
+  await qi.addConstraint("arms", { type: "unique", name: "arms_slug_unique", fields: ["slug"] });
 };
 
 export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query("DROP TABLE IF EXISTS arms");
+  await db.getQueryInterface().dropTable("arms");
 };

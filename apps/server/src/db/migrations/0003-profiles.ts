@@ -1,5 +1,6 @@
 import type { MigrationFn } from "umzug";
-import type { Sequelize } from "sequelize";
+import { DataTypes, type Sequelize } from "sequelize";
+import { addForeignKey, NOW, NOW_ON_UPDATE } from "./columns.ts";
 
 /**
  * Rate profiles and their versions. A version's content is immutable from the moment it is written:
@@ -7,38 +8,39 @@ import type { Sequelize } from "sequelize";
  * refuses everything once locked_at is set; the BEFORE DELETE trigger refuses deleting a locked row.
  * The lifecycle state lives in version_status, so moving a version through its states never touches
  * the locked row. No ON DELETE CASCADE here: MariaDB does not fire triggers for cascaded deletes.
+ * The triggers are SQL: queryInterface's createTrigger exists for PostgreSQL only.
  */
 export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query(`
-    CREATE TABLE profiles (
-      id INT UNSIGNED NOT NULL AUTO_INCREMENT PRIMARY KEY,
-      name VARCHAR(120) NOT NULL,
-      operator_id VARCHAR(40) NOT NULL,
-      arm_id INT UNSIGNED NOT NULL,
-      created_by VARCHAR(40) NOT NULL,
-      created_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3),
-      KEY profiles_operator (operator_id),
-      CONSTRAINT profiles_operator_fk FOREIGN KEY (operator_id) REFERENCES users (id),
-      CONSTRAINT profiles_arm_fk FOREIGN KEY (arm_id) REFERENCES arms (id),
-      CONSTRAINT profiles_created_by_fk FOREIGN KEY (created_by) REFERENCES users (id)
-    ) ENGINE=InnoDB`);
-  await db.query(`
-    CREATE TABLE profile_versions (
-      id INT UNSIGNED NOT NULL AUTO_INCREMENT PRIMARY KEY,
-      profile_id INT UNSIGNED NOT NULL,
-      number INT UNSIGNED NOT NULL,
-      parent_version_id INT UNSIGNED NULL,
-      params JSON NOT NULL CHECK (JSON_VALID(params)),
-      params_sha256 CHAR(64) NOT NULL,
-      note TEXT NOT NULL,
-      author_id VARCHAR(40) NOT NULL,
-      created_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3),
-      locked_at DATETIME(3) NULL,
-      UNIQUE KEY profile_versions_number_unique (profile_id, number),
-      CONSTRAINT profile_versions_profile_fk FOREIGN KEY (profile_id) REFERENCES profiles (id),
-      CONSTRAINT profile_versions_parent_fk FOREIGN KEY (parent_version_id) REFERENCES profile_versions (id),
-      CONSTRAINT profile_versions_author_fk FOREIGN KEY (author_id) REFERENCES users (id)
-    ) ENGINE=InnoDB`);
+  const qi = db.getQueryInterface();
+  await qi.createTable("profiles", {
+    id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, autoIncrement: true, primaryKey: true },
+    name: { type: DataTypes.STRING(120), allowNull: false },
+    operator_id: { type: DataTypes.STRING(40), allowNull: false },
+    arm_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+    created_by: { type: DataTypes.STRING(40), allowNull: false },
+    created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+  });
+  await qi.addIndex("profiles", ["operator_id"], { name: "profiles_operator" });
+  await addForeignKey(qi, "profiles", "profiles_operator_fk", "operator_id", "users");
+  await addForeignKey(qi, "profiles", "profiles_arm_fk", "arm_id", "arms");
+  await addForeignKey(qi, "profiles", "profiles_created_by_fk", "created_by", "users");
+
+  await qi.createTable("profile_versions", {
+    id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, autoIncrement: true, primaryKey: true },
+    profile_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+    number: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+    parent_version_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
+    params: { type: DataTypes.JSON, allowNull: false },
+    params_sha256: { type: DataTypes.CHAR(64), allowNull: false },
+    note: { type: DataTypes.TEXT, allowNull: false },
+    author_id: { type: DataTypes.STRING(40), allowNull: false },
+    created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    locked_at: { type: DataTypes.DATE(3), allowNull: true },
+  });
+  await qi.addConstraint("profile_versions", { type: "unique", name: "profile_versions_number_unique", fields: ["profile_id", "number"] });
+  await addForeignKey(qi, "profile_versions", "profile_versions_profile_fk", "profile_id", "profiles");
+  await addForeignKey(qi, "profile_versions", "profile_versions_parent_fk", "parent_version_id", "profile_versions");
+  await addForeignKey(qi, "profile_versions", "profile_versions_author_fk", "author_id", "users");
   await db.query(`
     CREATE TRIGGER profile_versions_before_update BEFORE UPDATE ON profile_versions FOR EACH ROW
     BEGIN
@@ -59,24 +61,29 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
         SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'profile version is locked (approved): it cannot be deleted';
       END IF;
     END`);
-  await db.query(`
-    CREATE TABLE version_status (
-      version_id INT UNSIGNED NOT NULL PRIMARY KEY,
-      state ENUM('draft','submitted','approved','rejected','superseded','retired') NOT NULL DEFAULT 'draft',
-      submitted_at DATETIME(3) NULL,
-      decided_by VARCHAR(40) NULL,
-      decided_at DATETIME(3) NULL,
-      decision_comment TEXT NULL,
-      exceeds_ceilings TINYINT(1) NOT NULL DEFAULT 0,
-      updated_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3) ON UPDATE CURRENT_TIMESTAMP(3),
-      KEY version_status_state (state),
-      CONSTRAINT version_status_version_fk FOREIGN KEY (version_id) REFERENCES profile_versions (id),
-      CONSTRAINT version_status_decided_by_fk FOREIGN KEY (decided_by) REFERENCES users (id)
-    ) ENGINE=InnoDB`);
+
+  await qi.createTable("version_status", {
+    version_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, primaryKey: true },
+    state: {
+      type: DataTypes.ENUM("draft", "submitted", "approved", "rejected", "superseded", "retired"),
+      allowNull: false,
+      defaultValue: "draft",
+    },
+    submitted_at: { type: DataTypes.DATE(3), allowNull: true },
+    decided_by: { type: DataTypes.STRING(40), allowNull: true },
+    decided_at: { type: DataTypes.DATE(3), allowNull: true },
+    decision_comment: { type: DataTypes.TEXT, allowNull: true },
+    exceeds_ceilings: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
+    updated_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW_ON_UPDATE },
+  });
+  await qi.addIndex("version_status", ["state"], { name: "version_status_state" });
+  await addForeignKey(qi, "version_status", "version_status_version_fk", "version_id", "profile_versions");
+  await addForeignKey(qi, "version_status", "version_status_decided_by_fk", "decided_by", "users");
 };
 
 export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query("DROP TABLE IF EXISTS version_status");
-  await db.query("DROP TABLE IF EXISTS profile_versions");
-  await db.query("DROP TABLE IF EXISTS profiles");
+  const qi = db.getQueryInterface();
+  await qi.dropTable("version_status");
+  await qi.dropTable("profile_versions");
+  await qi.dropTable("profiles");
 };

@@ -1,28 +1,28 @@
 import type { MigrationFn } from "umzug";
-import type { Sequelize } from "sequelize";
+import { DataTypes, type Sequelize } from "sequelize";
+import { addForeignKey, NOW, refuseEveryRow } from "./columns.ts";
 
-/** The record of each approval: who, when, the comment and the hash approved. Append-only (triggers). */
+/**
+ * The record of each approval: who, when, the comment and the hash approved. Append-only (triggers; SQL,
+ * since queryInterface's createTrigger exists for PostgreSQL only).
+ */
 export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query(`
-    CREATE TABLE approvals (
-      id INT UNSIGNED NOT NULL AUTO_INCREMENT PRIMARY KEY,
-      version_id INT UNSIGNED NOT NULL,
-      approver_id VARCHAR(40) NOT NULL,
-      approved_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3),
-      comment TEXT NOT NULL,
-      params_sha256 CHAR(64) NOT NULL,
-      UNIQUE KEY approvals_version_unique (version_id),
-      CONSTRAINT approvals_version_fk FOREIGN KEY (version_id) REFERENCES profile_versions (id),
-      CONSTRAINT approvals_approver_fk FOREIGN KEY (approver_id) REFERENCES users (id)
-    ) ENGINE=InnoDB`);
-  await db.query(`
-    CREATE TRIGGER approvals_before_update BEFORE UPDATE ON approvals FOR EACH ROW
-      SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'approvals are append-only: they cannot be changed'`);
-  await db.query(`
-    CREATE TRIGGER approvals_before_delete BEFORE DELETE ON approvals FOR EACH ROW
-      SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'approvals are append-only: they cannot be deleted'`);
+  const qi = db.getQueryInterface();
+  await qi.createTable("approvals", {
+    id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, autoIncrement: true, primaryKey: true },
+    version_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+    approver_id: { type: DataTypes.STRING(40), allowNull: false },
+    approved_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    comment: { type: DataTypes.TEXT, allowNull: false },
+    params_sha256: { type: DataTypes.CHAR(64), allowNull: false },
+  });
+  await qi.addConstraint("approvals", { type: "unique", name: "approvals_version_unique", fields: ["version_id"] });
+  await addForeignKey(qi, "approvals", "approvals_version_fk", "version_id", "profile_versions");
+  await addForeignKey(qi, "approvals", "approvals_approver_fk", "approver_id", "users");
+  await refuseEveryRow(qi, "approvals_before_update", "BEFORE UPDATE", "approvals", "approvals are append-only: they cannot be changed");
+  await refuseEveryRow(qi, "approvals_before_delete", "BEFORE DELETE", "approvals", "approvals are append-only: they cannot be deleted");
 };
 
 export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query("DROP TABLE IF EXISTS approvals");
+  await db.getQueryInterface().dropTable("approvals");
 };

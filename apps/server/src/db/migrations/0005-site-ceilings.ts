@@ -1,5 +1,6 @@
 import type { MigrationFn } from "umzug";
-import type { Sequelize } from "sequelize";
+import { DataTypes, type Sequelize } from "sequelize";
+import { addForeignKey, NOW } from "./columns.ts";
 
 /**
  * Site ceilings, one row per revision (history kept; the highest revision is in force). Revision 1 is
@@ -18,20 +19,18 @@ const REVISION_1 = {
 };
 
 export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query(`
-    CREATE TABLE site_ceilings (
-      revision INT UNSIGNED NOT NULL PRIMARY KEY,
-      ceilings JSON NOT NULL CHECK (JSON_VALID(ceilings)),
-      note TEXT NOT NULL,
-      updated_by VARCHAR(40) NULL,
-      updated_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3),
-      CONSTRAINT site_ceilings_updated_by_fk FOREIGN KEY (updated_by) REFERENCES users (id)
-    ) ENGINE=InnoDB`);
-  await db.query("INSERT INTO site_ceilings (revision, ceilings, note) VALUES (1, ?, 'site defaults (ISO 10218-1 reduced speed)')", {
-    replacements: [JSON.stringify(REVISION_1)],
+  const qi = db.getQueryInterface();
+  await qi.createTable("site_ceilings", {
+    revision: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, primaryKey: true },
+    ceilings: { type: DataTypes.JSON, allowNull: false },
+    note: { type: DataTypes.TEXT, allowNull: false },
+    updated_by: { type: DataTypes.STRING(40), allowNull: true },
+    updated_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
   });
+  await addForeignKey(qi, "site_ceilings", "site_ceilings_updated_by_fk", "updated_by", "users");
+  await qi.bulkInsert("site_ceilings", [{ revision: 1, ceilings: JSON.stringify(REVISION_1), note: "site defaults (ISO 10218-1 reduced speed)" }]);
 };
 
 export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query("DROP TABLE IF EXISTS site_ceilings");
+  await db.getQueryInterface().dropTable("site_ceilings");
 };

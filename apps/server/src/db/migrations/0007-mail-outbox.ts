@@ -1,5 +1,6 @@
 import type { MigrationFn } from "umzug";
-import type { Sequelize } from "sequelize";
+import { DataTypes, type Sequelize } from "sequelize";
+import { NOW } from "./columns.ts";
 
 /**
  * Outgoing mail. Rows are written in the same transaction as the workflow step they announce, then
@@ -8,24 +9,24 @@ import type { Sequelize } from "sequelize";
  * delivering the same row at once.
  */
 export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query(`
-    CREATE TABLE mail_outbox (
-      id INT UNSIGNED NOT NULL AUTO_INCREMENT PRIMARY KEY,
-      created_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3),
-      kind VARCHAR(40) NOT NULL,
-      recipients JSON NOT NULL CHECK (JSON_VALID(recipients)),
-      subject VARCHAR(250) NOT NULL,
-      body TEXT NOT NULL,
-      status ENUM('pending','sent','failed') NOT NULL DEFAULT 'pending',
-      attempts INT UNSIGNED NOT NULL DEFAULT 0,
-      last_error TEXT NULL,
-      sent_at DATETIME(3) NULL,
-      next_attempt_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3),
-      claimed_until DATETIME(3) NULL,
-      KEY mail_outbox_due (status, next_attempt_at)
-    ) ENGINE=InnoDB`);
+  const qi = db.getQueryInterface();
+  await qi.createTable("mail_outbox", {
+    id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, autoIncrement: true, primaryKey: true },
+    created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    kind: { type: DataTypes.STRING(40), allowNull: false },
+    recipients: { type: DataTypes.JSON, allowNull: false },
+    subject: { type: DataTypes.STRING(250), allowNull: false },
+    body: { type: DataTypes.TEXT, allowNull: false },
+    status: { type: DataTypes.ENUM("pending", "sent", "failed"), allowNull: false, defaultValue: "pending" },
+    attempts: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
+    last_error: { type: DataTypes.TEXT, allowNull: true },
+    sent_at: { type: DataTypes.DATE(3), allowNull: true },
+    next_attempt_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    claimed_until: { type: DataTypes.DATE(3), allowNull: true },
+  });
+  await qi.addIndex("mail_outbox", ["status", "next_attempt_at"], { name: "mail_outbox_due" });
 };
 
 export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query("DROP TABLE IF EXISTS mail_outbox");
+  await db.getQueryInterface().dropTable("mail_outbox");
 };

@@ -6,6 +6,7 @@ import type { Sequelize } from "sequelize";
  * superseded or retired, nothing comes back from retired, superseded or rejected (except to retired),
  * a ceiling flag once set stays set (the version needs a compliant successor), and status rows are
  * never deleted. The service enforces the same rules with clear API errors; this catches raw SQL.
+ * Triggers are SQL: queryInterface's createTrigger and dropTrigger exist for PostgreSQL only.
  */
 export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
   await db.query(`

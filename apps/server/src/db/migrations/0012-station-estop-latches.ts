@@ -1,5 +1,6 @@
 import type { MigrationFn } from "umzug";
-import type { Sequelize } from "sequelize";
+import { DataTypes, type Sequelize } from "sequelize";
+import { addForeignKey, NOW } from "./columns.ts";
 
 /**
  * The emergency-stop latch of each operator station (user and arm), so a latch survives a server
@@ -8,18 +9,17 @@ import type { Sequelize } from "sequelize";
  * id "station:<user id>:<arm id>".
  */
 export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query(`
-    CREATE TABLE station_estop_latches (
-      user_id VARCHAR(40) NOT NULL,
-      arm_id INT UNSIGNED NOT NULL,
-      latched_at DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3),
-      latched_by_session VARCHAR(64) NOT NULL,
-      PRIMARY KEY (user_id, arm_id),
-      CONSTRAINT station_estop_latches_user_fk FOREIGN KEY (user_id) REFERENCES users (id),
-      CONSTRAINT station_estop_latches_arm_fk FOREIGN KEY (arm_id) REFERENCES arms (id)
-    ) ENGINE=InnoDB`);
+  const qi = db.getQueryInterface();
+  await qi.createTable("station_estop_latches", {
+    user_id: { type: DataTypes.STRING(40), allowNull: false, primaryKey: true },
+    arm_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, primaryKey: true },
+    latched_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    latched_by_session: { type: DataTypes.STRING(64), allowNull: false },
+  });
+  await addForeignKey(qi, "station_estop_latches", "station_estop_latches_user_fk", "user_id", "users");
+  await addForeignKey(qi, "station_estop_latches", "station_estop_latches_arm_fk", "arm_id", "arms");
 };
 
 export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.query("DROP TABLE IF EXISTS station_estop_latches");
+  await db.getQueryInterface().dropTable("station_estop_latches");
 };

@@ -18,7 +18,10 @@ const num = (v: unknown) => (typeof v === "number" && Number.isFinite(v) ? v : N
 const parse = (v: unknown): Json => (typeof v === "string" ? JSON.parse(v) : (v as Json)) ?? {};
 
 export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
+  const qi = db.getQueryInterface();
   await db.transaction(async (transaction) => {
+    // The two reads are SQL: queryInterface's select takes one table without order or limit, and a
+    // migration must not use the app's models (they change with the code; this migration must not).
     const ceilingRows = await db.query<{ revision: number; ceilings: unknown }>(
       "SELECT revision, ceilings FROM site_ceilings ORDER BY revision DESC LIMIT 1",
       { type: QueryTypes.SELECT, transaction },
@@ -44,16 +47,19 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
       if (!(decel >= minDecel - 1e-12)) breaches.push("decelerationMinMPerS2");
       if (!(stopM <= maxStopM + 1e-12)) breaches.push("stoppingDistanceMaxM");
       if (breaches.length === 0) continue;
-      await db.query("UPDATE version_status SET exceeds_ceilings = 1 WHERE version_id = ?", { replacements: [v.id], transaction });
-      await db.query(
-        "INSERT INTO audit_log (actor_id, entity, entity_id, action, summary) VALUES (NULL, 'version', ?, 'flag', ?)",
-        {
-          replacements: [
-            String(v.id),
-            `version id ${v.id} exceeds ceilings revision ${ceilingRows[0].revision} under the new stop ceilings (${breaches.join(", ")}); not driveable until a compliant version is approved (migration 0013)`,
-          ],
-          transaction,
-        },
+      await qi.bulkUpdate("version_status", { exceeds_ceilings: true }, { version_id: v.id }, { transaction });
+      await qi.bulkInsert(
+        "audit_log",
+        [
+          {
+            actor_id: null,
+            entity: "version",
+            entity_id: String(v.id),
+            action: "flag",
+            summary: `version id ${v.id} exceeds ceilings revision ${ceilingRows[0].revision} under the new stop ceilings (${breaches.join(", ")}); not driveable until a compliant version is approved (migration 0013)`,
+          },
+        ],
+        { transaction },
       );
     }
   });

@@ -26,7 +26,8 @@ import type { Sequelize } from "sequelize";
  * - decided_by, decided_at and decision_comment are immutable once set (NULL → value is allowed once).
  *
  * The triggers run with their definer's privileges (the migration account), so they read and write
- * the tables they guard even when the runtime account could not.
+ * the tables they guard even when the runtime account could not. Triggers are SQL: queryInterface's
+ * createTrigger and dropTrigger exist for PostgreSQL only.
  */
 export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
   await db.query(`

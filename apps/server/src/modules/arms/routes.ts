@@ -3,7 +3,7 @@ import { AppError } from "../../errors.ts";
 import { ApiRouter } from "../../http/api-router.ts";
 import { parseParams } from "../../http/validate.ts";
 import type { AppContext } from "../../context.ts";
-import { findArm, listArms } from "./model.ts";
+import { findArm, listArms } from "./service.ts";
 
 export function armsRouter(ctx: AppContext): ApiRouter {
   return new ApiRouter("/api/arms")

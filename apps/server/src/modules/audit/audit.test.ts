@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { auditEntrySchema, type Arm } from "@jogwright/shared";
 import { call, createMailHarness, DEMO_BY_ROLE, signIn, type Harness } from "../../test/harness.ts";
-import { approvedProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
+import { approvedProfile, freshTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
 import { createUser } from "../users/service.ts";
 import { csvCell } from "./service.ts";
 import { createOwnerDb } from "../../test/owner-db.ts";
@@ -19,7 +19,6 @@ beforeAll(async () => {
   officer = await signIn(h, DEMO_BY_ROLE.safety_officer);
 });
 afterAll(async () => {
-  await retireTeam(h, team);
   await h.close();
 });
 

@@ -1,7 +1,12 @@
-import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
+import { DataTypes, Model, Op, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize, type WhereOptions } from "sequelize";
 import type { AuditEntry } from "@jogwright/shared";
 
-/** Data access for the append-only audit trail (the table's triggers refuse UPDATE and DELETE). */
+/**
+ * The append-only audit trail (`audit_log`, migration 0006; its triggers refuse UPDATE and DELETE). The
+ * class gives the types; `defineAuditModels` binds a copy of it to one Sequelize instance (db/models.ts).
+ * `actor` (the user who acted, for the display name) is associated in db/models.ts, without a foreign key:
+ * the trail outlives whatever it mentions.
+ */
 export type AuditEntity = AuditEntry["entity"];
 
 export interface AuditFilter {
@@ -12,88 +17,70 @@ export interface AuditFilter {
   to?: string;
 }
 
-type AuditRow = {
-  id: number | bigint;
-  at: Date;
-  actor_id: string | null;
-  actor_name: string | null;
-  entity: AuditEntity;
-  entity_id: string;
-  action: string;
-  summary: string;
-  sha256_before: string | null;
-  sha256_after: string | null;
-};
+export class AuditEntryModel extends Model<InferAttributes<AuditEntryModel, { omit: "actor" }>, InferCreationAttributes<AuditEntryModel, { omit: "actor" }>> {
+  /** BIGINT: the driver hands it back as a bigint. */
+  declare id: CreationOptional<number | bigint>;
+  /** Stamped by the database (DEFAULT CURRENT_TIMESTAMP(3)). */
+  declare at: CreationOptional<Date>;
+  declare actorId: string | null;
+  declare entity: AuditEntity;
+  declare entityId: string;
+  declare action: string;
+  declare summary: string;
+  declare sha256Before: string | null;
+  declare sha256After: string | null;
+  /** Included by the `withActorName` scope. */
+  declare actor?: NonAttribute<{ displayName: string } | null>;
+}
 
-function toEntry(row: AuditRow): AuditEntry {
+/**
+ * An entry as the API shows it, from a row read with `withActorName` (an instance or, as the listing
+ * reads them, `raw: true, nest: true` attributes).
+ */
+export function toAuditEntry(row: InferAttributes<AuditEntryModel, { omit: "actor" }> & { actor?: { displayName: string | null } | null }): AuditEntry {
   return {
     id: Number(row.id),
-    at: new Date(row.at).toISOString(),
-    actorId: row.actor_id,
-    actorName: row.actor_name,
+    at: row.at.toISOString(),
+    actorId: row.actorId,
+    actorName: row.actor?.displayName ?? null,
     entity: row.entity,
-    entityId: row.entity_id,
+    entityId: row.entityId,
     action: row.action,
     summary: row.summary,
-    sha256Before: row.sha256_before,
-    sha256After: row.sha256_after,
+    sha256Before: row.sha256Before,
+    sha256After: row.sha256After,
   };
 }
 
-export async function insertAuditRow(
-  db: Sequelize,
-  row: {
-    actorId: string | null;
-    entity: AuditEntity;
-    entityId: string;
-    action: string;
-    summary: string;
-    sha256Before: string | null;
-    sha256After: string | null;
-  },
-  transaction?: Transaction,
-): Promise<void> {
-  await db.query(
-    `INSERT INTO audit_log (actor_id, entity, entity_id, action, summary, sha256_before, sha256_after)
-     VALUES (?, ?, ?, ?, ?, ?, ?)`,
+export function defineAuditModels(sequelize: Sequelize) {
+  const AuditEntry = class extends AuditEntryModel {};
+  AuditEntry.init(
     {
-      replacements: [row.actorId, row.entity, row.entityId, row.action, row.summary.slice(0, 4000), row.sha256Before, row.sha256After],
-      transaction,
+      id: { type: DataTypes.BIGINT.UNSIGNED, autoIncrement: true, primaryKey: true },
+      // NOT NULL with the database's default: left unset here, so Sequelize leaves it to the database.
+      at: { type: DataTypes.DATE(3) },
+      actorId: { type: DataTypes.STRING(40), allowNull: true },
+      entity: { type: DataTypes.ENUM("user", "arm", "profile", "version", "ceilings", "approval", "session"), allowNull: false },
+      entityId: { type: DataTypes.STRING(64), allowNull: false },
+      action: { type: DataTypes.STRING(60), allowNull: false },
+      summary: { type: DataTypes.TEXT, allowNull: false },
+      sha256Before: { type: DataTypes.CHAR(64), allowNull: true },
+      sha256After: { type: DataTypes.CHAR(64), allowNull: true },
     },
+    { sequelize, modelName: "AuditEntry", tableName: "audit_log", underscored: true, timestamps: false },
   );
+  return { AuditEntry };
 }
 
-function whereOf(filter: AuditFilter): { sql: string; values: unknown[] } {
-  const parts: string[] = [];
-  const values: unknown[] = [];
-  if (filter.entity) (parts.push("a.entity = ?"), values.push(filter.entity));
-  if (filter.actorId) (parts.push("a.actor_id = ?"), values.push(filter.actorId));
-  if (filter.action) (parts.push("a.action = ?"), values.push(filter.action));
-  if (filter.from) (parts.push("a.at >= ?"), values.push(new Date(filter.from)));
-  if (filter.to) (parts.push("a.at <= ?"), values.push(new Date(filter.to)));
-  return { sql: parts.length ? `WHERE ${parts.join(" AND ")}` : "", values };
-}
-
-const SELECT_ENTRIES = `
-  SELECT a.id, a.at, a.actor_id, u.display_name AS actor_name, a.entity, a.entity_id, a.action, a.summary,
-         a.sha256_before, a.sha256_after
-  FROM audit_log a LEFT JOIN users u ON u.id = a.actor_id`;
-
-/** Newest first; `limit`/`offset` page through them. */
-export async function listAuditEntries(db: Sequelize, filter: AuditFilter, limit: number, offset: number): Promise<AuditEntry[]> {
-  const where = whereOf(filter);
-  const rows = await db.query<AuditRow>(`${SELECT_ENTRIES} ${where.sql} ORDER BY a.id DESC LIMIT ? OFFSET ?`, {
-    replacements: [...where.values, limit, offset],
-    type: QueryTypes.SELECT,
-  });
-  return rows.map(toEntry);
-}
-
-export async function countAuditEntries(db: Sequelize, filter: AuditFilter): Promise<number> {
-  const where = whereOf(filter);
-  const rows = await db.query<{ n: number | bigint }>(`SELECT COUNT(*) AS n FROM audit_log a ${where.sql}`, {
-    replacements: where.values,
-    type: QueryTypes.SELECT,
-  });
-  return Number(rows[0]?.n ?? 0);
+/** The WHERE of a filter (the routes validated it with `auditQuerySchema`). */
+export function auditWhere(filter: AuditFilter): WhereOptions<AuditEntryModel> {
+  const at: Record<symbol, Date> = {};
+  if (filter.from) at[Op.gte] = new Date(filter.from);
+  if (filter.to) at[Op.lte] = new Date(filter.to);
+  return {
+    ...(filter.entity ? { entity: filter.entity } : {}),
+    ...(filter.actorId ? { actorId: filter.actorId } : {}),
+    ...(filter.action ? { action: filter.action } : {}),
+    ...(filter.from || filter.to ? { at } : {}),
+  };
 }

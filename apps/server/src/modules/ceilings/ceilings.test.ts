@@ -1,10 +1,10 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { ceilingsRecordSchema, type Arm, type Ceilings } from "@jogwright/shared";
 import { call, createMailHarness, signIn, type Harness } from "../../test/harness.ts";
-import { approvedProfile, compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
+import { approvedProfile, compliantParams, createProfile, freshTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
 import type { FakeSmtp } from "../../mail/fake-smtp.ts";
-import { findUserById } from "../users/model.ts";
-import { loadVersionForDriving } from "../profiles/service.ts";
+import { findUserById } from "../users/service.ts";
+import { loadVersionForDriving } from "../driving/service.ts";
 
 let h: Harness & { smtp: FakeSmtp };
 let team: Team;
@@ -17,12 +17,6 @@ beforeAll(async () => {
   original = (await call(h, "get", "/api/ceilings", team.operator.cookie)).body.ceilings;
 });
 afterAll(async () => {
-  // Put the site back as it was, so other tests see the ceilings they expect.
-  const now = (await call(h, "get", "/api/ceilings", team.officer.cookie)).body;
-  if (JSON.stringify(now.ceilings) !== JSON.stringify(original)) {
-    await call(h, "put", "/api/ceilings", team.officer.cookie).send({ revision: now.revision, ceilings: original, note: "test: restore" });
-  }
-  await retireTeam(h, team);
   await h.close();
 });
 

@@ -1,48 +1,48 @@
-import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
-import { ceilingsSchema, DEFAULT_CEILINGS, type Ceilings, type CeilingsRecord } from "@jogwright/shared";
+import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
+import { ceilingsSchema, type Ceilings, type CeilingsRecord } from "@jogwright/shared";
 
-/** Data access for site ceilings: one row per revision, the highest revision is in force. */
-type CeilingsRow = {
-  revision: number;
-  ceilings: string | object;
-  updated_by: string | null;
-  updated_by_name: string | null;
-  updated_at: Date;
-};
+/** Site ceilings (`site_ceilings`): one row per revision, never changed; the highest revision is in force. */
+export class CeilingsModel extends Model<InferAttributes<CeilingsModel, { omit: "updatedByUser" }>, InferCreationAttributes<CeilingsModel, { omit: "updatedByUser" }>> {
+  declare revision: number;
+  declare ceilings: Ceilings;
+  declare note: string;
+  declare updatedBy: ForeignKey<string> | null;
+  /** When this revision was written. */
+  declare updatedAt: CreationOptional<Date>;
+  /** Included through the association declared in db/models.ts. */
+  declare updatedByUser?: NonAttribute<{ displayName: string } | null>;
 
-function toRecord(row: CeilingsRow): CeilingsRecord {
-  return {
-    revision: row.revision,
-    ceilings: ceilingsSchema.parse(typeof row.ceilings === "string" ? JSON.parse(row.ceilings) : row.ceilings),
-    updatedById: row.updated_by,
-    updatedByName: row.updated_by_name,
-    updatedAt: new Date(row.updated_at).toISOString(),
-  };
+  /** The API shape (`ceilingsRecordSchema`); include `updatedByUser` for the name. */
+  toApi(): CeilingsRecord {
+    return {
+      revision: this.revision,
+      ceilings: this.ceilings,
+      updatedById: this.updatedBy ?? null,
+      updatedByName: this.updatedByUser?.displayName ?? null,
+      updatedAt: this.updatedAt.toISOString(),
+    };
+  }
 }
 
-/**
- * The ceilings in force. `lock: "update"` holds the latest row until the transaction ends, so two safety
- * officers cannot both write the next revision; `lock: "share"` lets a submit or approval read the
- * ceilings while a change to them waits (and the other way round).
- */
-export async function findLatestCeilings(db: Sequelize, transaction?: Transaction, lock?: "share" | "update"): Promise<CeilingsRecord> {
-  const rows = await db.query<CeilingsRow>(
-    `SELECT c.revision, c.ceilings, c.updated_by, u.display_name AS updated_by_name, c.updated_at
-     FROM site_ceilings c LEFT JOIN users u ON u.id = c.updated_by
-     ORDER BY c.revision DESC LIMIT 1 ${lock === "update" ? "FOR UPDATE" : lock === "share" ? "LOCK IN SHARE MODE" : ""}`,
-    { type: QueryTypes.SELECT, transaction },
+export function defineCeilingsModels(sequelize: Sequelize) {
+  const SiteCeilings = class extends CeilingsModel {};
+  SiteCeilings.init(
+    {
+      revision: { type: DataTypes.INTEGER.UNSIGNED, primaryKey: true },
+      ceilings: {
+        type: DataTypes.JSON,
+        allowNull: false,
+        // Older revisions lack later ceilings: they parse with their defaults (ceilingsSchema).
+        get() {
+          const raw = this.getDataValue("ceilings") as unknown;
+          return ceilingsSchema.parse(typeof raw === "string" ? JSON.parse(raw) : raw);
+        },
+      },
+      note: { type: DataTypes.TEXT, allowNull: false },
+      updatedBy: { type: DataTypes.STRING(40), allowNull: true },
+      updatedAt: DataTypes.DATE(3),
+    },
+    { sequelize, modelName: "SiteCeilings", tableName: "site_ceilings", underscored: true, timestamps: true, createdAt: false },
   );
-  // The migration writes revision 1; an empty table only happens if someone emptied it by hand.
-  return rows[0] ? toRecord(rows[0]) : { revision: 0, ceilings: DEFAULT_CEILINGS, updatedById: null, updatedByName: null, updatedAt: new Date(0).toISOString() };
-}
-
-export async function insertCeilings(
-  db: Sequelize,
-  row: { revision: number; ceilings: Ceilings; note: string; updatedBy: string | null },
-  transaction: Transaction,
-): Promise<void> {
-  await db.query("INSERT INTO site_ceilings (revision, ceilings, note, updated_by) VALUES (?, ?, ?, ?)", {
-    replacements: [row.revision, JSON.stringify(row.ceilings), row.note, row.updatedBy],
-    transaction,
-  });
+  return { SiteCeilings };
 }

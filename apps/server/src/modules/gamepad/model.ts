@@ -1,21 +1,26 @@
-import { QueryTypes, type Sequelize } from "sequelize";
-import { DEFAULT_GAMEPAD_MAPPING, gamepadMappingSchema, type GamepadMapping } from "@jogwright/shared";
+import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from "sequelize";
 
-/** One gamepad mapping per user (migration 0011); the default mapping until one is saved. */
-export async function findGamepadMapping(db: Sequelize, userId: string): Promise<GamepadMapping> {
-  const rows = await db.query<{ mapping: string | object }>("SELECT mapping FROM gamepad_mappings WHERE user_id = ?", {
-    replacements: [userId],
-    type: QueryTypes.SELECT,
-  });
-  if (!rows[0]) return DEFAULT_GAMEPAD_MAPPING;
-  const raw = typeof rows[0].mapping === "string" ? JSON.parse(rows[0].mapping) : rows[0].mapping;
-  const parsed = gamepadMappingSchema.safeParse(raw);
-  return parsed.success ? parsed.data : DEFAULT_GAMEPAD_MAPPING;
+/**
+ * One gamepad mapping per user (`gamepad_mappings`, migration 0011); the default mapping until one is
+ * saved. The class gives the types; `defineGamepadModels` binds a copy of it to one Sequelize instance
+ * (db/models.ts). The queries are in service.ts.
+ */
+export class GamepadMappingModel extends Model<InferAttributes<GamepadMappingModel>, InferCreationAttributes<GamepadMappingModel>> {
+  declare userId: string;
+  /** As stored; `findGamepadMapping` parses it with the shared schema. */
+  declare mapping: unknown;
+  declare updatedAt: CreationOptional<Date>;
 }
 
-export async function saveGamepadMapping(db: Sequelize, userId: string, mapping: GamepadMapping): Promise<void> {
-  await db.query(
-    `INSERT INTO gamepad_mappings (user_id, mapping) VALUES (?, ?) ON DUPLICATE KEY UPDATE mapping = VALUES(mapping)`,
-    { replacements: [userId, JSON.stringify(mapping)] },
+export function defineGamepadModels(sequelize: Sequelize) {
+  const GamepadMapping = class extends GamepadMappingModel {};
+  GamepadMapping.init(
+    {
+      userId: { type: DataTypes.STRING(40), primaryKey: true },
+      mapping: { type: DataTypes.JSON, allowNull: false },
+      updatedAt: DataTypes.DATE(3),
+    },
+    { sequelize, modelName: "GamepadMapping", tableName: "gamepad_mappings", underscored: true, timestamps: true, createdAt: false },
   );
+  return { GamepadMapping };
 }

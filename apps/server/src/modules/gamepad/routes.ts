@@ -3,7 +3,7 @@ import { gamepadMappingSchema } from "@jogwright/shared";
 import type { AppContext } from "../../context.ts";
 import { ApiRouter, requireAccount } from "../../http/api-router.ts";
 import { parseBody } from "../../http/validate.ts";
-import { findGamepadMapping, saveGamepadMapping } from "./model.ts";
+import { findGamepadMapping, saveGamepadMapping } from "./service.ts";
 
 const putMappingSchema = z.object({ mapping: gamepadMappingSchema });
 

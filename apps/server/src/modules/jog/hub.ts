@@ -3,7 +3,7 @@ import { RateLimiterMemory, RateLimiterRes } from "rate-limiter-flexible";
 import type { Arm, DrivingKind, JogInput, JogSessionInfo, LiveSession, ProfileSummary, ProfileVersion, User } from "@jogwright/shared";
 import type { JogLimits } from "../../config.ts";
 import type { AppContext } from "../../context.ts";
-import { insertRecording } from "../recordings/model.ts";
+import { insertRecording } from "../recordings/service.ts";
 import { RecordingWriter } from "../recordings/writer.ts";
 import type { FrameText, FromWorker, SessionCommand, SimThreadStats } from "./sim-messages.ts";
 import { SimulationThread } from "./sim-thread.ts";

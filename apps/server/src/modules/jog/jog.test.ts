@@ -1,9 +1,10 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { ratedJointAccel } from "@jogwright/kinematics";
 import { defaultProfileParams, jogStateSchema, type JogState, type ProfileParams, type RecordedFrame, type User } from "@jogwright/shared";
-import { findArm } from "../arms/model.ts";
-import { createProfile, driveableVersionsFor } from "../profiles/service.ts";
-import { listArms } from "../arms/model.ts";
+import { findArm } from "../arms/service.ts";
+import { createProfile } from "../versions/service.ts";
+import { driveableVersionsFor } from "../driving/service.ts";
+import { listArms } from "../arms/service.ts";
 import { call, createHarness, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
 import { JogTestClient, sleep } from "./jog-test-client.ts";
 
@@ -49,6 +50,14 @@ async function holdEnabling(c: JogTestClient, axes: number[], mode: "cartesian" 
   await sleep(20);
   c.input = { ...c.input, enabling: true, mode, axes };
   c.stream(INPUT_PERIOD_MS);
+}
+
+/** A release and a fresh press of the enabling control (held +z) moves the arm again; then the session closes. */
+async function expectMovesAfterReleaseAndPress(c: JogTestClient) {
+  c.stopStream();
+  await holdEnabling(c, [0, 0, 1, 0, 0, 0]);
+  await c.nextState((s) => s.enabled && s.qdot.some((v) => v !== 0), 2000);
+  await c.close();
 }
 
 const tcpZ = (s: JogState) => s.pose[11]!;
@@ -149,10 +158,7 @@ describe("jogging", () => {
     expect(held.enabled).toBe(false);
     expect(held.qdot.every((v) => v === 0)).toBe(true);
     expect(held.warnings.join(" ")).toMatch(/Release and press the enabling control again to move/);
-    c.stopStream();
-    await holdEnabling(c, [0, 0, 1, 0, 0, 0]); // released, then pressed
-    await c.nextState((s) => s.enabled && s.qdot.some((v) => v !== 0), 2000);
-    await c.close();
+    await expectMovesAfterReleaseAndPress(c);
   });
 
   it("after the driver's device reappears (device-changed), a still-held enabling control stops the arm and counts only after a release", async () => {
@@ -173,10 +179,7 @@ describe("jogging", () => {
       expect(f.enabled).toBe(false);
       expect(f.qdot.every((v) => v === 0)).toBe(true);
     }
-    c.stopStream();
-    await holdEnabling(c, [0, 0, 1, 0, 0, 0]); // released, then pressed
-    await c.nextState((s) => s.enabled && s.qdot.some((v) => v !== 0), 2000);
-    await c.close();
+    await expectMovesAfterReleaseAndPress(c);
   });
 
   it("+z in the world frame with the enabling control held moves the TCP along +z at the commanded speed within 2 %", async () => {

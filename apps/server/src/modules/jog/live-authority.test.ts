@@ -2,8 +2,8 @@ import { performance } from "node:perf_hooks";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { defaultProfileParams, JOG_CLOSE_CODES, type JogServerMessage, type JogState, type ProfileParams, type RecordedFrame, type Role, type User } from "@jogwright/shared";
-import { findArm, listArms } from "../arms/model.ts";
-import { createProfile } from "../profiles/service.ts";
+import { findArm, listArms } from "../arms/service.ts";
+import { createProfile } from "../versions/service.ts";
 import { call, createHarness, DEMO_BY_ROLE, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
 import { JogTestClient, sleep } from "./jog-test-client.ts";
 
@@ -172,7 +172,7 @@ describe("a role change reaches the open socket at once", () => {
   });
 
   it("a watcher who loses both watching roles stops watching at once, with an `ended` that says why", async () => {
-    const { driver, d, sessionId, officer, w } = await watchedDraftSession();
+    const { d, sessionId, officer, w } = await watchedDraftSession();
     await patchUser(officer.user.id, { roles: ["operator"] });
     const ended = await after(w, 0, isEnded, 1000);
     expect(ended).toMatchObject({ sessionId, reason: "roles-changed" });
@@ -280,7 +280,7 @@ describe("signing out", () => {
   });
 
   it("a watcher who signs out gets `ended` for the watched session, then the close; the driver drives on", async () => {
-    const { driver, d, sessionId, officer, w } = await watchedDraftSession();
+    const { d, sessionId, officer, w } = await watchedDraftSession();
     const closing = closed(w);
     await call(h, "post", "/api/auth/sign-out", officer.cookie).expect(204);
     expect(await after(w, 0, isEnded, 1000)).toMatchObject({ sessionId, reason: "signed-out", message: expect.stringMatching(/no longer watch/) });
@@ -300,7 +300,7 @@ describe("an idle page expires", () => {
     ).getTime();
 
   it("the socket's re-check never extends the cookie session; once it expires, the watch ends (`ended`, then close 4401)", async () => {
-    const { driver, d, sessionId, officer, w } = await watchedDraftSession();
+    const { d, sessionId, officer, w } = await watchedDraftSession();
     // Past half its 12 h life, where lucia's validateSession would move the expiry 12 h ahead (lucia 3).
     const id = sessionIdOf(officer.cookie);
     const inOneHour = new Date(Date.now() + 3600_000);
@@ -338,7 +338,7 @@ describe("an idle page expires", () => {
   });
 
   it("a change made outside the API (the database directly) is found by the re-check: a deactivated watcher is closed (4403)", async () => {
-    const { driver, d, sessionId, officer, w } = await watchedDraftSession();
+    const { d, sessionId, officer, w } = await watchedDraftSession();
     await h.db.query("UPDATE users SET is_active = 0 WHERE id = ?", { replacements: [officer.user.id] });
     const closing = closed(w);
     await net.jog.recheck();

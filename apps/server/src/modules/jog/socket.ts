@@ -10,9 +10,9 @@ import { checkSessionWithoutExtending } from "../../auth/session-check.ts";
 import type { AppContext } from "../../context.ts";
 import { isDatabaseUnavailable } from "../../db/connection.ts";
 import { AppError } from "../../errors.ts";
-import { drivingFacts, loadVersionForDriving } from "../profiles/service.ts";
+import { drivingFacts, loadVersionForDriving } from "../driving/service.ts";
 import { accountChangesFor, type AccountChange, type AccountChanges } from "../users/account-changes.ts";
-import { findUserById } from "../users/model.ts";
+import { findUserById } from "../users/service.ts";
 import {
   END_MESSAGES, jogHubFor, type EndReason, type FrameSink, type JogHub, type LiveJogSession, type StartAdmission,
 } from "./hub.ts";

@@ -1,5 +1,6 @@
-import { QueryTypes, type Sequelize } from "sequelize";
+import type { Sequelize } from "sequelize";
 import type { User } from "@jogwright/shared";
+import { modelsOf } from "../../db/models.ts";
 import { recordAudit } from "../audit/service.ts";
 
 /**
@@ -47,15 +48,15 @@ const byWatcher = (e: StationEvent) => (e.actor.id === e.driver.id ? "" : ` by $
 export function sqlStationLatchStore(db: Sequelize): StationLatchStore {
   return {
     async loadLatched() {
-      const rows = await db.query<{ user_id: string; arm_id: number }>("SELECT user_id, arm_id FROM station_estop_latches", { type: QueryTypes.SELECT });
-      return rows.map((r) => ({ userId: r.user_id, armId: Number(r.arm_id) }));
+      const rows = await modelsOf(db).StationLatch.findAll({ attributes: ["userId", "armId"] });
+      return rows.map((r) => ({ userId: r.userId, armId: Number(r.armId) }));
     },
     async saveLatched(station, event) {
       await db.transaction(async (t) => {
-        await db.query(
-          `INSERT INTO station_estop_latches (user_id, arm_id, latched_by_session) VALUES (?, ?, ?)
-           ON DUPLICATE KEY UPDATE latched_at = CURRENT_TIMESTAMP(3), latched_by_session = VALUES(latched_by_session)`,
-          { replacements: [station.userId, station.armId, event.sessionId], transaction: t },
+        // Latched again: the row is refreshed (INSERT … ON DUPLICATE KEY UPDATE).
+        await modelsOf(db).StationLatch.bulkCreate(
+          [{ userId: station.userId, armId: station.armId, latchedBySession: event.sessionId, latchedAt: new Date() }],
+          { updateOnDuplicate: ["latchedAt", "latchedBySession"], transaction: t },
         );
         await recordAudit(db, t, {
           actorId: event.actor.id,
@@ -69,7 +70,7 @@ export function sqlStationLatchStore(db: Sequelize): StationLatchStore {
     },
     async saveReset(station, event) {
       await db.transaction(async (t) => {
-        await db.query("DELETE FROM station_estop_latches WHERE user_id = ? AND arm_id = ?", { replacements: [station.userId, station.armId], transaction: t });
+        await modelsOf(db).StationLatch.destroy({ where: { userId: station.userId, armId: station.armId }, transaction: t });
         await recordAudit(db, t, {
           actorId: event.actor.id,
           entity: "session",

@@ -1,8 +1,8 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { defaultProfileParams, type JogState, type Role, type User } from "@jogwright/shared";
-import { findArm, listArms } from "../arms/model.ts";
-import { createProfile } from "../profiles/service.ts";
+import { findArm, listArms } from "../arms/service.ts";
+import { createProfile } from "../versions/service.ts";
 import { call, createHarness, DEMO_BY_ROLE, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
 import { JogTestClient, sleep } from "./jog-test-client.ts";
 

@@ -3,7 +3,7 @@ import { AppError } from "../../errors.ts";
 import { ApiRouter } from "../../http/api-router.ts";
 import { parseParams } from "../../http/validate.ts";
 import type { AppContext } from "../../context.ts";
-import { findMail, listMail } from "./model.ts";
+import { findMail, listMail } from "./service.ts";
 
 /** The outbox page: every message the server sent or tried to send, newest first. */
 export function mailRouter(ctx: AppContext): ApiRouter {

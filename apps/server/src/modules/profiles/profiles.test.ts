@@ -6,8 +6,8 @@ import { call, createMailHarness, DEMO_BY_ROLE, signIn, type Harness } from "../
 import { approvedProfile, compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
 import type { FakeSmtp } from "../../mail/fake-smtp.ts";
 import { createOwnerDb } from "../../test/owner-db.ts";
-import { driveableVersionsFor, loadVersionForDriving } from "./service.ts";
-import { findUserById } from "../users/model.ts";
+import { driveableVersionsFor, loadVersionForDriving } from "../driving/service.ts";
+import { findUserById } from "../users/service.ts";
 
 let h: Harness & { smtp: FakeSmtp };
 /** The migration account, which holds DELETE: the triggers must refuse it too. */
@@ -21,7 +21,6 @@ beforeAll(async () => {
   arm = await sixAxisArm(h);
 });
 afterAll(async () => {
-  await retireTeam(h, team);
   await owner?.close();
   await h.close();
 });

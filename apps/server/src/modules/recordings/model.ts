@@ -1,108 +1,130 @@
-import { QueryTypes, type Sequelize } from "sequelize";
-import { recordedFrameSchema, recordingSummarySchema, type RecordedFrame, type Recording } from "@jogwright/shared";
+import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
+import { recordingSummarySchema, type Recording } from "@jogwright/shared";
 
-/** Data access for jog recordings (tables of migration 0010). Plain objects out. */
-type RecordingRow = {
-  id: number;
-  session_id: string;
-  driver_id: string;
-  driver_name: string | null;
-  arm_id: number;
-  arm_name: string | null;
-  profile_id: number;
-  profile_name: string | null;
-  version_id: number;
-  version_number: number | null;
-  started_at: Date;
-  ended_at: Date | null;
-  end_reason: string | null;
-  summary: string | object | null;
-};
+/**
+ * Recordings of live jog sessions (`jog_recordings` and `jog_recording_chunks`, migration 0010): one row
+ * per session and its frames in chunks of about one second (Recording–Chunk). The classes give the types;
+ * `defineRecordingModels` binds a copy of each to one Sequelize instance (db/models.ts). The driver, arm,
+ * profile and version a recording names are associated in db/models.ts (`withNames`). The queries are in
+ * service.ts.
+ */
+type Named<K extends string, V> = NonAttribute<{ [key in K]: V } | null>;
 
-const SELECT_RECORDINGS = `
-  SELECT r.id, r.session_id, r.driver_id, u.display_name AS driver_name, r.arm_id, a.name AS arm_name,
-         r.profile_id, p.name AS profile_name, r.version_id, v.number AS version_number,
-         r.started_at, r.ended_at, r.end_reason, r.summary
-  FROM jog_recordings r
-  LEFT JOIN users u ON u.id = r.driver_id
-  LEFT JOIN arms a ON a.id = r.arm_id
-  LEFT JOIN profiles p ON p.id = r.profile_id
-  LEFT JOIN profile_versions v ON v.id = r.version_id`;
+export class RecordingModel extends Model<
+  InferAttributes<RecordingModel, { omit: "driver" | "arm" | "profile" | "version" | "chunks" }>,
+  InferCreationAttributes<RecordingModel, { omit: "driver" | "arm" | "profile" | "version" | "chunks" }>
+> {
+  declare id: CreationOptional<number>;
+  declare sessionId: string;
+  declare driverId: string;
+  declare armId: number;
+  declare profileId: number;
+  declare versionId: number;
+  declare startedAt: Date;
+  declare endedAt: CreationOptional<Date | null>;
+  declare endReason: CreationOptional<string | null>;
+  /** As stored; `toApi` parses it with the shared schema. */
+  declare summary: CreationOptional<unknown>;
+  /** Included by the `withNames` scope. */
+  declare driver?: Named<"displayName", string>;
+  declare arm?: Named<"name", string>;
+  declare profile?: Named<"name", string>;
+  declare version?: Named<"number", number>;
+  declare chunks?: NonAttribute<RecordingChunkModel[]>;
 
-function toRecording(row: RecordingRow): Recording {
-  const raw = typeof row.summary === "string" ? JSON.parse(row.summary) : row.summary;
-  const summary = raw === null ? null : recordingSummarySchema.safeParse(raw);
-  return {
-    id: row.id,
-    sessionId: row.session_id,
-    driverId: row.driver_id,
-    driverName: row.driver_name ?? "",
-    armId: row.arm_id,
-    armName: row.arm_name ?? "",
-    profileId: row.profile_id,
-    profileName: row.profile_name ?? "",
-    versionId: row.version_id,
-    versionNumber: row.version_number ?? 0,
-    startedAt: new Date(row.started_at).toISOString(),
-    endedAt: row.ended_at ? new Date(row.ended_at).toISOString() : null,
-    endReason: row.end_reason,
-    summary: summary && summary.success ? summary.data : null,
-  };
-}
-
-export async function insertRecording(
-  db: Sequelize,
-  r: { sessionId: string; driverId: string; armId: number; profileId: number; versionId: number; startedAt: Date },
-): Promise<number> {
-  const [id] = await db.query(
-    `INSERT INTO jog_recordings (session_id, driver_id, arm_id, profile_id, version_id, started_at) VALUES (?, ?, ?, ?, ?, ?)`,
-    { replacements: [r.sessionId, r.driverId, r.armId, r.profileId, r.versionId, r.startedAt], type: QueryTypes.INSERT },
-  );
-  return Number(id);
-}
-
-export async function insertChunk(db: Sequelize, recordingId: number, chunkIndex: number, frameCount: number, framesJson: string): Promise<void> {
-  // Idempotent on retry: a chunk whose first attempt did land is not written twice.
-  await db.query(
-    `INSERT INTO jog_recording_chunks (recording_id, chunk_index, frame_count, frames) VALUES (?, ?, ?, ?)
-     ON DUPLICATE KEY UPDATE frame_count = VALUES(frame_count)`,
-    { replacements: [recordingId, chunkIndex, frameCount, framesJson] },
-  );
-}
-
-export async function finishRecording(db: Sequelize, recordingId: number, endedAt: Date, endReason: string, summary: object): Promise<void> {
-  await db.query(`UPDATE jog_recordings SET ended_at = ?, end_reason = ?, summary = ? WHERE id = ?`, {
-    replacements: [endedAt, endReason, JSON.stringify(summary), recordingId],
-  });
-}
-
-export async function listRecordings(db: Sequelize, driverId: string | null, limit = 200): Promise<Recording[]> {
-  const rows = await db.query<RecordingRow>(
-    `${SELECT_RECORDINGS} ${driverId ? "WHERE r.driver_id = ?" : ""} ORDER BY r.started_at DESC, r.id DESC LIMIT ${Number(limit)}`,
-    { replacements: driverId ? [driverId] : [], type: QueryTypes.SELECT },
-  );
-  return rows.map(toRecording);
-}
-
-export async function findRecording(db: Sequelize, id: number): Promise<Recording | null> {
-  const rows = await db.query<RecordingRow>(`${SELECT_RECORDINGS} WHERE r.id = ?`, { replacements: [id], type: QueryTypes.SELECT });
-  return rows[0] ? toRecording(rows[0]) : null;
-}
-
-/** All frames in order; each parsed with the shared schema (extra keys stripped, bad ones skipped). */
-export async function readFrames(db: Sequelize, recordingId: number): Promise<RecordedFrame[]> {
-  const rows = await db.query<{ frames: string | unknown[] }>(
-    "SELECT frames FROM jog_recording_chunks WHERE recording_id = ? ORDER BY chunk_index",
-    { replacements: [recordingId], type: QueryTypes.SELECT },
-  );
-  const out: RecordedFrame[] = [];
-  for (const row of rows) {
-    // The driver hands a JSON-checked column back already parsed.
-    const list = (typeof row.frames === "string" ? JSON.parse(row.frames) : row.frames) as unknown[];
-    for (const f of list) {
-      const parsed = recordedFrameSchema.safeParse(f);
-      if (parsed.success) out.push(parsed.data);
-    }
+  /** The recording as the API shows it (`Recording`); load it with `withNames` for the names. */
+  toApi(): Recording {
+    const summary = this.summary === null || this.summary === undefined ? null : recordingSummarySchema.safeParse(this.summary);
+    return {
+      id: this.id,
+      sessionId: this.sessionId,
+      driverId: this.driverId,
+      driverName: this.driver?.displayName ?? "",
+      armId: this.armId,
+      armName: this.arm?.name ?? "",
+      profileId: this.profileId,
+      profileName: this.profile?.name ?? "",
+      versionId: this.versionId,
+      versionNumber: this.version?.number ?? 0,
+      startedAt: this.startedAt.toISOString(),
+      endedAt: this.endedAt ? this.endedAt.toISOString() : null,
+      endReason: this.endReason,
+      summary: summary && summary.success ? summary.data : null,
+    };
   }
-  return out;
+}
+
+export class RecordingChunkModel extends Model<InferAttributes<RecordingChunkModel>, InferCreationAttributes<RecordingChunkModel>> {
+  declare recordingId: number;
+  declare chunkIndex: number;
+  declare frameCount: number;
+  /**
+   * The chunk's frames: written as JSON array text (LONGTEXT checked as JSON; the writer joins frame JSON it
+   * already has), read back parsed by the driver.
+   */
+  declare frames: string | unknown[];
+}
+
+export function defineRecordingModels(sequelize: Sequelize) {
+  const Recording = class extends RecordingModel {};
+  Recording.init(
+    {
+      id: { type: DataTypes.INTEGER.UNSIGNED, autoIncrement: true, primaryKey: true },
+      sessionId: { type: DataTypes.STRING(64), allowNull: false, unique: "jog_recordings_session_unique" },
+      driverId: { type: DataTypes.STRING(40), allowNull: false },
+      armId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+      profileId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+      versionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+      startedAt: { type: DataTypes.DATE(3), allowNull: false },
+      endedAt: { type: DataTypes.DATE(3), allowNull: true },
+      endReason: { type: DataTypes.STRING(60), allowNull: true },
+      summary: {
+        type: DataTypes.JSON,
+        allowNull: true,
+        // Its CHECK is "NULL or valid JSON", not MariaDB's own JSON check, so the server does not mark the
+        // column as JSON and the driver hands back text.
+        get() {
+          const raw = this.getDataValue("summary");
+          return typeof raw === "string" ? (JSON.parse(raw) as unknown) : raw;
+        },
+      },
+    },
+    {
+      sequelize,
+      modelName: "Recording",
+      tableName: "jog_recordings",
+      underscored: true,
+      timestamps: false,
+      scopes: {
+        /** With the names the API shows (the associations are declared in db/models.ts). */
+        withNames: {
+          include: [
+            { association: "driver", attributes: ["displayName"] },
+            { association: "arm", attributes: ["name"] },
+            { association: "profile", attributes: ["name"] },
+            { association: "version", attributes: ["number"] },
+          ],
+        },
+      },
+    },
+  );
+  const RecordingChunk = class extends RecordingChunkModel {};
+  RecordingChunk.init(
+    {
+      recordingId: { type: DataTypes.INTEGER.UNSIGNED, primaryKey: true },
+      chunkIndex: { type: DataTypes.INTEGER.UNSIGNED, primaryKey: true },
+      frameCount: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+      frames: { type: DataTypes.TEXT("long"), allowNull: false },
+    },
+    { sequelize, modelName: "RecordingChunk", tableName: "jog_recording_chunks", underscored: true, timestamps: false },
+  );
+  return { Recording, RecordingChunk };
+}
+
+type RecordingModels = ReturnType<typeof defineRecordingModels>;
+
+/** Recording–Chunk (the chunks go with their recording: ON DELETE CASCADE in the schema). */
+export function associateRecordingModels({ Recording, RecordingChunk }: RecordingModels): void {
+  Recording.hasMany(RecordingChunk, { as: "chunks", foreignKey: "recordingId", onDelete: "CASCADE" });
+  RecordingChunk.belongsTo(Recording, { as: "recording", foreignKey: "recordingId" });
 }

@@ -3,7 +3,7 @@ import type { AppContext } from "../../context.ts";
 import { AppError } from "../../errors.ts";
 import { ApiRouter, requireAccount } from "../../http/api-router.ts";
 import { parseParams } from "../../http/validate.ts";
-import { findRecording, listRecordings, readFrames } from "./model.ts";
+import { findRecording, listRecordings, readFrames } from "./service.ts";
 
 /** Operators see their own recordings; engineers and safety officers see all; admins none (403). */
 const MAY_SEE_ALL = ["engineer", "safety_officer"] as const;

@@ -1,7 +1,8 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
+import { modelsOf } from "../../db/models.ts";
 import { createHarness, type Harness } from "../../test/harness.ts";
-import { findRecording, insertRecording } from "./model.ts";
+import { findRecording, insertRecording } from "./service.ts";
 import { RecordingWriter } from "./writer.ts";
 
 /**
@@ -46,7 +47,7 @@ describe("the recording writer", () => {
 
     // Hold the recording row: the chunk insert waits for the lock.
     const blocker = await h.db.transaction();
-    await h.db.query("SELECT id FROM jog_recordings WHERE id = ? FOR UPDATE", { replacements: [id], transaction: blocker });
+    await modelsOf(h.db).Recording.findByPk(id, { attributes: ["id"], lock: true, transaction: blocker });
     const flushing = writer.flush();
     await new Promise((r) => setTimeout(r, 200)); // the insert is now waiting on the lock
     for (let i = 6; i < 20; i++) writer.push(id, frame(i));

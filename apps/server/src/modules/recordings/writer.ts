@@ -1,5 +1,5 @@
 import type { Sequelize } from "sequelize";
-import { finishRecording, insertChunk } from "./model.ts";
+import { finishRecording, insertChunk } from "./service.ts";
 
 /**
  * Buffered recording writer: the simulation hands over each frame's JSON (a string, built anyway for the

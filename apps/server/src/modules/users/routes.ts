@@ -4,6 +4,13 @@ import { parseBody, parseParams } from "../../http/validate.ts";
 import type { AppContext } from "../../context.ts";
 import * as service from "./service.ts";
 
+/** The operators a profile can be assigned to (engineers and safety officers pick from them). */
+export function operatorsRouter(ctx: AppContext): ApiRouter {
+  return new ApiRouter("/api/operators").add("get", "/", ["engineer", "safety_officer"], async (_req, res) => {
+    res.json({ operators: await service.listOperators(ctx.db) });
+  });
+}
+
 export function usersRouter(ctx: AppContext): ApiRouter {
   return new ApiRouter("/api/users")
     .add("get", "/", ["admin"], async (_req, res) => {

@@ -13,12 +13,13 @@ import { call, createHarness, freshUser, listenHarness, signIn, type Harness } f
 import { JogTestClient } from "../jog/jog-test-client.ts";
 import { approveWithSql, compliantParams, sixAxisArm, uniqueName } from "../../test/profiles-fixture.ts";
 import { AppError } from "../../errors.ts";
-import * as model from "./model.ts";
-import { createProfile, driveableVersionsFor, drivingFacts, loadVersionForDriving } from "./service.ts";
+import { findProfile } from "../profiles/service.ts";
+import { createProfile } from "../versions/service.ts";
+import { driveableVersionsFor, drivingFacts, listDriveableVersions, loadVersionForDriving } from "./service.ts";
 
 /**
  * One driving rule (issue 8): every version state × role × ceiling flag, walked through each user of the
- * rule — the shared isDriveable, the SQL (the listing and the profile summary's driveable version),
+ * rule — the shared isDriveable, the listing's query (driveableWhere), the profile summary's driveable version,
  * driveableVersionsFor, loadVersionForDriving (the socket's check) and GET /api/drive/versions — which
  * must all agree. Before this, five copies disagreed (hub.ts, for one, ignored the ceiling flag).
  */
@@ -73,9 +74,6 @@ beforeAll(async () => {
 }, 120_000);
 
 afterAll(async () => {
-  // Deactivate this file's people, so "every active safety officer" stays what other tests expect.
-  const ids = Object.values(people).map((p) => p.user.id);
-  if (ids.length) await h.db.query("UPDATE users SET is_active = 0 WHERE id IN (?)", { replacements: [ids] });
   await h?.close();
 });
 
@@ -91,10 +89,10 @@ describe("the one driving rule", () => {
     expect(Object.keys(people)).toHaveLength(9);
   });
 
-  it("the SQL listing and driveableVersionsFor select exactly what isDriveable allows, with the same kind", async () => {
+  it("the listing query (driveableWhere) and driveableVersionsFor select exactly what isDriveable allows, with the same kind", async () => {
     const mismatches: string[] = [];
     for (const [who, p] of Object.entries(people)) {
-      const sql = new Set((await model.listDriveableVersions(h.db, p.user)).map((r) => r.id).filter(ours));
+      const sql = new Set((await listDriveableVersions(h.db, p.user)).map((r) => r.id).filter(ours));
       const listed = new Map((await driveableVersionsFor(h.db, p.user)).filter((v) => ours(v.id)).map((v) => [v.id, v.kind]));
       for (const v of versions) {
         const d = decide(v, p.user);
@@ -106,10 +104,10 @@ describe("the one driving rule", () => {
     expect(mismatches).toEqual([]);
   });
 
-  it("the profile summary's driveable version (SQL subquery) is the version isDriveable lets its own operator drive", async () => {
+  it("the profile summary's driveable version is the version isDriveable lets its own operator drive", async () => {
     const mismatches: string[] = [];
     for (const v of versions) {
-      const profile = (await model.findProfile(h.db, v.profileId))!;
+      const profile = (await findProfile(h.db, v.profileId))!;
       const d = isDriveable(drivingFacts({ state: v.state, exceedsCeilings: v.flagged }, profile), { id: profile.operatorId, roles: ["operator"] });
       const want = d.isDriveable ? v.id : null;
       if (profile.driveableVersionId !== want) mismatches.push(`${v.state}${v.flagged ? " flagged" : ""}: ${profile.driveableVersionId} vs ${want}`);

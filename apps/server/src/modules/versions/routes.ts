@@ -1,0 +1,28 @@
+import { createProfileSchema, numericIdParamSchema, retireVersionSchema, saveVersionSchema } from "@jogwright/shared";
+import { ApiRouter, requireAccount } from "../../http/api-router.ts";
+import { parseBody, parseParams } from "../../http/validate.ts";
+import type { AppContext } from "../../context.ts";
+import * as service from "./service.ts";
+
+/**
+ * Saving: a new profile with its version 1, a new version of a profile; retiring a version. Reading a
+ * version for review, submitting and deciding are the reviews module's (reviews/routes.ts).
+ */
+export function versionsRouters(ctx: AppContext): ApiRouter[] {
+  const saves = new ApiRouter("/api/profiles")
+    .add("post", "/", ["engineer"], async (req, res) => {
+      const input = parseBody(req, createProfileSchema);
+      res.status(201).json({ profile: await service.createProfile(ctx, requireAccount(res), input) });
+    })
+    .add("post", "/:id/versions", ["engineer"], async (req, res) => {
+      const { id } = parseParams(req, numericIdParamSchema);
+      const input = parseBody(req, saveVersionSchema);
+      res.status(201).json({ version: await service.saveVersion(ctx, requireAccount(res), id, input) });
+    });
+  const retire = new ApiRouter("/api/versions").add("post", "/:id/retire", ["safety_officer"], async (req, res) => {
+    const { id } = parseParams(req, numericIdParamSchema);
+    const input = parseBody(req, retireVersionSchema);
+    res.json({ version: await service.retireVersion(ctx, requireAccount(res), id, input) });
+  });
+  return [saves, retire];
+}

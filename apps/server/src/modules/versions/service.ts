@@ -1,0 +1,297 @@
+import { col, fn, Op, UniqueConstraintError, type Sequelize, type Transaction } from "sequelize";
+import type { Arm, CreateProfileInput, ProfileParams, ProfileSummary, ProfileVersion, SaveVersionInput, User, VersionState } from "@jogwright/shared";
+import { AppError } from "../../errors.ts";
+import { sha256OfCanonical } from "../../hashing.ts";
+import type { Mailer } from "../../mail/mailer.ts";
+import { modelsOf } from "../../db/models.ts";
+import { findArm } from "../arms/service.ts";
+import { recordAudit } from "../audit/service.ts";
+import { findProfile, insertProfile, lockProfile, versionLabel, visibleProfile } from "../profiles/service.ts";
+import { isActiveOperator } from "../users/service.ts";
+import type { VersionStatusModel } from "./model.ts";
+
+/**
+ * Saving versions: every save is a new immutable version on top of the profile's latest (optimistic
+ * concurrency on the parent); a new profile is saved with its version 1. Also the lifecycle steps every
+ * workflow shares — `transition` (lock, check the state, change, audit, one transaction) and retiring —
+ * and the reads of versions. Submitting, approving and rejecting are the reviews module's; re-flagging
+ * after a ceiling change is the ceilings module's (through `listApprovedVersions` and `flagAboveCeilings`).
+ */
+export interface WorkflowContext {
+  db: Sequelize;
+  mailer: Mailer;
+}
+
+export const paramsSha256 = (params: ProfileParams) => sha256OfCanonical(params);
+
+/** The arm of a profile, or 400 on the field that named it. */
+export async function armFor(db: Sequelize, armId: number): Promise<Arm> {
+  const arm = await findArm(db, armId);
+  if (!arm) throw new AppError(400, "validation_failed", "No such arm.", [{ path: "armId", message: "pick an existing arm" }]);
+  return arm;
+}
+
+/** The parameters must fit the arm: one joint-rate cap per joint. */
+function checkParamsFitArm(params: ProfileParams, arm: Arm): void {
+  const joints = arm.model.joints.length;
+  if (params.jointRateCapsRadPerS.length !== joints) {
+    throw new AppError(
+      400,
+      "validation_failed",
+      `The arm "${arm.name}" has ${joints} joints, so the profile needs ${joints} joint rate caps (got ${params.jointRateCapsRadPerS.length}).`,
+      [{ path: "params.jointRateCapsRadPerS", message: `one cap per joint: ${joints} values` }],
+    );
+  }
+}
+
+// ---------------------------------------------------------------------------------------------------
+// Reading
+// ---------------------------------------------------------------------------------------------------
+
+export async function findVersion(db: Sequelize, id: number, transaction?: Transaction): Promise<ProfileVersion | null> {
+  const version = await modelsOf(db).Version.scope("withStatus").findByPk(id, { transaction });
+  return version?.toApi() ?? null;
+}
+
+/** The profile's approved version (at most one: a newer approval supersedes the older). */
+export async function findApprovedVersion(db: Sequelize, profileId: number, transaction?: Transaction): Promise<ProfileVersion | null> {
+  const version = await modelsOf(db)
+    .Version.scope("withStatus")
+    .findOne({ where: { profileId, "$status.state$": "approved" }, order: [["number", "DESC"]], transaction });
+  return version?.toApi() ?? null;
+}
+
+/** Versions in `state`, oldest submission (else creation) first. */
+export async function listVersionsInState(db: Sequelize, state: VersionState, transaction?: Transaction): Promise<ProfileVersion[]> {
+  const versions = await modelsOf(db)
+    .Version.scope("withStatus")
+    .findAll({
+      where: { "$status.state$": state },
+      order: [[fn("COALESCE", col("status.submitted_at"), col("ProfileVersion.created_at")), "ASC"], ["id", "ASC"]],
+      transaction,
+    });
+  return versions.map((v) => v.toApi());
+}
+
+/** The authors of every version of these profiles (the ceilings module mails them). */
+export async function versionAuthorIds(db: Sequelize, profileIds: readonly number[], transaction?: Transaction): Promise<string[]> {
+  if (profileIds.length === 0) return [];
+  const rows = await modelsOf(db).Version.findAll({ where: { profileId: { [Op.in]: [...profileIds] } }, attributes: ["authorId"], transaction });
+  return [...new Set(rows.map((r) => r.authorId))];
+}
+
+// ---------------------------------------------------------------------------------------------------
+// Writing rows (in the caller's transaction)
+// ---------------------------------------------------------------------------------------------------
+
+/** A new immutable version and its lifecycle row (a draft). Returns its id. */
+export async function insertVersion(
+  db: Sequelize,
+  transaction: Transaction,
+  v: { profileId: number; number: number; parentVersionId: number | null; params: ProfileParams; note: string; authorId: string },
+): Promise<number> {
+  const { Version, VersionStatus } = modelsOf(db);
+  const version = await Version.create({ ...v, paramsSha256: paramsSha256(v.params) }, { transaction });
+  await VersionStatus.create({ versionId: version.id }, { transaction });
+  return version.id;
+}
+
+/**
+ * Change a version's lifecycle row. The triggers (migrations 0008, 0014) refuse what the lifecycle does
+ * not allow, e.g. setting 'approved' here: a version is approved only by inserting its approvals row.
+ */
+export async function setStatus(
+  db: Sequelize,
+  transaction: Transaction,
+  versionId: number,
+  fields: Partial<Pick<VersionStatusModel, "state" | "submittedAt" | "decidedBy" | "decidedAt" | "decisionComment" | "exceedsCeilings">>,
+): Promise<void> {
+  await modelsOf(db).VersionStatus.update(fields, { where: { versionId }, transaction });
+}
+
+// ---------------------------------------------------------------------------------------------------
+// Saving
+// ---------------------------------------------------------------------------------------------------
+
+/** POST /api/profiles: a profile and its version 1 (a draft), audited, in one transaction. */
+export async function createProfile(ctx: WorkflowContext, actor: User, input: CreateProfileInput): Promise<ProfileSummary> {
+  const { db } = ctx;
+  const arm = await armFor(db, input.armId);
+  checkParamsFitArm(input.params, arm);
+  if (!(await isActiveOperator(db, input.operatorId))) {
+    throw new AppError(400, "validation_failed", "Pick an active operator for the profile.", [{ path: "operatorId", message: "not an active operator" }]);
+  }
+  const profileId = await db.transaction(async (t) => {
+    const id = await insertProfile(db, t, { name: input.name, operatorId: input.operatorId, armId: arm.id, createdBy: actor.id });
+    const versionId = await insertVersion(db, t, { profileId: id, number: 1, parentVersionId: null, params: input.params, note: input.note, authorId: actor.id });
+    const profile = (await findProfile(db, id, t))!;
+    const version = (await findVersion(db, versionId, t))!;
+    await recordAudit(db, t, {
+      actorId: actor.id,
+      entity: "profile",
+      entityId: id,
+      action: "create",
+      summary: `created profile "${profile.name}" for ${profile.operatorName} on ${profile.armName}`,
+      after: { id, name: profile.name, operatorId: profile.operatorId, armId: profile.armId, createdBy: actor.id },
+    });
+    await recordAudit(db, t, {
+      actorId: actor.id,
+      entity: "version",
+      entityId: versionId,
+      action: "save",
+      summary: `saved ${versionLabel(profile, version)} as a draft (params ${version.paramsSha256.slice(0, 12)}…)`,
+      after: version,
+    });
+    return id;
+  });
+  return (await findProfile(db, profileId))!;
+}
+
+/**
+ * Save a new version on top of `parentVersionId`, which must still be the profile's latest version: the
+ * profile row is locked for the check and the insert, so of two saves from the same parent exactly one
+ * wins and the other gets 409 stale_parent (nothing is overwritten; versions are never edited).
+ */
+export async function saveVersion(ctx: WorkflowContext, actor: User, profileId: number, input: SaveVersionInput): Promise<ProfileVersion> {
+  const { db } = ctx;
+  const profile = await visibleProfile(db, actor, profileId);
+  const arm = await armFor(db, profile.armId);
+  checkParamsFitArm(input.params, arm);
+  try {
+    return await db.transaction(async (t) => {
+      await lockProfile(db, profileId, t);
+      const latestRow = await modelsOf(db)
+        .Version.scope("withStatus")
+        .findOne({ where: { profileId }, order: [["number", "DESC"]], lock: t.LOCK.SHARE, transaction: t });
+      const latest = latestRow!.toApi();
+      if (latest.id !== input.parentVersionId) {
+        const when = latest.createdAt.slice(0, 16).replace("T", " ");
+        throw new AppError(
+          409,
+          "stale_parent",
+          `Version ${latest.number} of "${profile.name}" was saved by ${latest.authorName} at ${when} UTC since you opened the version you edited; nothing was saved. Reload, compare with version ${latest.number} and save again.`,
+          [{ path: "parentVersionId", message: `the latest version is now ${latest.number} (id ${latest.id}) by ${latest.authorName}` }],
+        );
+      }
+      const versionId = await insertVersion(db, t, {
+        profileId,
+        number: latest.number + 1,
+        parentVersionId: latest.id,
+        params: input.params,
+        note: input.note,
+        authorId: actor.id,
+      });
+      const version = (await findVersion(db, versionId, t))!;
+      await recordAudit(db, t, {
+        actorId: actor.id,
+        entity: "version",
+        entityId: versionId,
+        action: "save",
+        summary: `saved ${versionLabel(profile, version)} from v${latest.number} as a draft`,
+        before: latest,
+        after: version,
+      });
+      return version;
+    });
+  } catch (error) {
+    // Belt and braces: the unique (profile, number) key catches a race the lock did not.
+    if (error instanceof UniqueConstraintError) {
+      throw new AppError(409, "stale_parent", `Another version of "${profile.name}" was saved at the same moment; nothing was saved. Reload and save again.`);
+    }
+    throw error;
+  }
+}
+
+// ---------------------------------------------------------------------------------------------------
+// Transitions
+// ---------------------------------------------------------------------------------------------------
+
+const ACTIONS: Record<string, string> = { submitted: "submit", approved: "approve", rejected: "reject", retired: "retire" };
+
+/**
+ * Run one transition of one version: lock its profile, load it, check the state, apply `change`, audit
+ * the version before/after, all in one transaction; mails enqueued by `change` go out after commit.
+ * `verb` is the past participle ("submitted"); the audit action is its verb ("submit").
+ */
+export async function transition(
+  ctx: WorkflowContext,
+  actor: User,
+  versionId: number,
+  allowedFrom: readonly VersionState[],
+  verb: string,
+  change: (args: { t: Transaction; version: ProfileVersion; profile: ProfileSummary }) => Promise<string>,
+): Promise<ProfileVersion> {
+  const { db } = ctx;
+  const existing = await findVersion(db, versionId);
+  if (!existing) throw new AppError(404, "not_found", "No such version.");
+  await visibleProfile(db, actor, existing.profileId);
+  return db.transaction(async (t) => {
+    await lockProfile(db, existing.profileId, t);
+    const version = (await findVersion(db, versionId, t))!;
+    const profile = (await findProfile(db, version.profileId, t))!;
+    if (!allowedFrom.includes(version.state)) {
+      throw new AppError(
+        409,
+        "invalid_transition",
+        `${versionLabel(profile, version)} is ${version.state}; only a version that is ${allowedFrom.join(" or ")} can be ${verb}.`,
+      );
+    }
+    const summary = await change({ t, version, profile });
+    const after = (await findVersion(db, versionId, t))!;
+    await recordAudit(db, t, { actorId: actor.id, entity: "version", entityId: versionId, action: ACTIONS[verb] ?? verb, summary, before: version, after });
+    return after;
+  });
+}
+
+export async function retireVersion(ctx: WorkflowContext, actor: User, versionId: number, input: { reason: string }): Promise<ProfileVersion> {
+  return transition(ctx, actor, versionId, ["draft", "submitted", "approved", "rejected", "superseded"], "retired", async ({ t, version, profile }) => {
+    // A decision is immutable once made (migration 0014): retiring an approved, rejected or superseded
+    // version keeps who decided it and why; the retirement and its reason are in the audit log.
+    const decision = version.decidedAt === null ? { decidedBy: actor.id, decidedAt: new Date(), decisionComment: input.reason } : {};
+    await setStatus(ctx.db, t, version.id, { state: "retired", ...decision });
+    return `retired ${versionLabel(profile, version)} (was ${version.state}): ${input.reason}`;
+  });
+}
+
+/** The previous approved version of a profile becomes superseded (the reviews module, approving a newer one). */
+export async function supersede(db: Sequelize, t: Transaction, actor: User, previous: ProfileVersion, profile: ProfileSummary, by: ProfileVersion): Promise<void> {
+  await setStatus(db, t, previous.id, { state: "superseded" });
+  const after = (await findVersion(db, previous.id, t))!;
+  await recordAudit(db, t, {
+    actorId: actor.id,
+    entity: "version",
+    entityId: previous.id,
+    action: "supersede",
+    summary: `${versionLabel(profile, previous)} superseded by v${by.number}`,
+    before: previous,
+    after,
+  });
+}
+
+// ---------------------------------------------------------------------------------------------------
+// For the ceilings module's re-flagging
+// ---------------------------------------------------------------------------------------------------
+
+/** Every approved version with its profile's name and arm. */
+export async function listApprovedVersions(db: Sequelize, transaction: Transaction): Promise<{ version: ProfileVersion; profile: { name: string; armId: number } }[]> {
+  const versions = await listVersionsInState(db, "approved", transaction);
+  const out: { version: ProfileVersion; profile: { name: string; armId: number } }[] = [];
+  const profiles = new Map<number, ProfileSummary>();
+  for (const version of versions) {
+    if (!profiles.has(version.profileId)) profiles.set(version.profileId, (await findProfile(db, version.profileId, transaction))!);
+    const p = profiles.get(version.profileId)!;
+    out.push({ version, profile: { name: p.name, armId: p.armId } });
+  }
+  return out;
+}
+
+/**
+ * Flag a version as above the site ceilings (sticky: the lifecycle trigger refuses clearing it), audited
+ * with `summary`. Returns the version after the change.
+ */
+export async function flagAboveCeilings(db: Sequelize, t: Transaction, actor: User, version: ProfileVersion, summary: string): Promise<ProfileVersion> {
+  await setStatus(db, t, version.id, { exceedsCeilings: true });
+  const after = (await findVersion(db, version.id, t))!;
+  await recordAudit(db, t, { actorId: actor.id, entity: "version", entityId: version.id, action: "flag", summary, before: version, after });
+  return after;
+}

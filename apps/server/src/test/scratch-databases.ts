@@ -1,0 +1,61 @@
+import mariadb, { type Connection } from "mariadb";
+import { accessDeniedMessage } from "../db/privileges.ts";
+
+/**
+ * The API tests' own databases: each test file runs on `<base>_<slot>` (fresh-database.ts), where the
+ * base is DATABASE_URL's database and the slot the worker's VITEST_POOL_ID (1 … maxWorkers). The
+ * migration account creates, grants and drops them, so it needs every privilege WITH GRANT OPTION on each
+ * of them by name; `npm test` gives it `<base>_1` … `<base>_4` on its private MariaDB
+ * (TEST_DATABASE_SLOTS in scripts/lib/setup.mjs). A wildcard grant would not do: MariaDB lets the holder
+ * of `<base>\_%` create the databases but not grant database privileges on one of them.
+ */
+export function scratchDatabase(base: string, slot: string): string {
+  const name = `${base}_${slot}`;
+  if (!/^[\w$]{1,64}$/.test(name)) throw new Error(`"${name}" cannot name a test database (letters, digits, _ and $, at most 64 characters).`);
+  return name;
+}
+
+/** A connection as `url`'s account (no default database unless `withDatabase`), closed after `work`. */
+async function withConnection<T>(url: string, withDatabase: boolean, work: (c: Connection) => Promise<T>): Promise<T> {
+  const u = new URL(url);
+  const connection = await mariadb.createConnection({
+    host: u.hostname,
+    port: Number(u.port || 3306),
+    user: decodeURIComponent(u.username),
+    password: decodeURIComponent(u.password),
+    ...(withDatabase ? { database: decodeURIComponent(u.pathname.slice(1)) } : {}),
+    connectTimeout: 5000,
+  });
+  try {
+    return await work(connection);
+  } finally {
+    await connection.end();
+  }
+}
+
+/** `'user'@'host'` as the server names `url`'s account (CURRENT_USER()). */
+export function accountOf(url: string): Promise<string> {
+  return withConnection(url, true, async (c) => {
+    const [row] = (await c.query("SELECT CURRENT_USER() AS a")) as { a: string }[];
+    const at = row!.a.lastIndexOf("@");
+    const quote = (s: string) => `'${s.replace(/'/g, "''")}'`;
+    return `${quote(row!.a.slice(0, at))}@${quote(row!.a.slice(at + 1))}`;
+  });
+}
+
+/**
+ * Runs `work` as the migration account (MIGRATION_DATABASE_URL's, without a default database) and turns
+ * an access denial into one sentence naming the grant that is missing.
+ */
+export async function withMigrationAccount(migrationUrl: string, database: string, work: (sql: (statement: string) => Promise<unknown>) => Promise<unknown>): Promise<void> {
+  try {
+    await withConnection(migrationUrl, false, (c) => work((statement) => c.query(statement)));
+  } catch (error) {
+    const denied = accessDeniedMessage(error);
+    if (!denied) throw error;
+    const account = decodeURIComponent(new URL(migrationUrl).username);
+    throw new Error(
+      `the migration account ${account} cannot create, grant or drop ${database}, the database of one API test file (${denied}). As an administrator: GRANT ALL PRIVILEGES ON \`${database}\`.* TO '${account}'@'<its host>' WITH GRANT OPTION — npm test grants <base>_1 … <base>_4 on its private MariaDB, one per test file running at once.`,
+    );
+  }
+}
