@@ -1,7 +1,7 @@
 import type { ReactNode } from "react";
 import { QueryClientProvider } from "@tanstack/react-query";
 import { createQueryClient } from "../lib/query-client.ts";
-import { storeSession } from "../features/auth/api/auth-api.ts";
+import { storeSession } from "../lib/session.ts";
 
 // Any request answered 401 "unauthenticated" means the session ended (expired, or signed out in another
 // tab): mark the session signed out, and the guard sends the person to the sign-in page and back after.

@@ -1,4 +1,4 @@
-import { useCurrentUser } from "../../features/auth/hooks/use-session.ts";
+import { useCurrentUser } from "../../lib/session.ts";
 import { AuditPage } from "../../features/audit/components/audit-page.tsx";
 
 export default function AuditRoute() {

@@ -1,4 +1,4 @@
-import { useCurrentUser } from "../../features/auth/hooks/use-session.ts";
+import { useCurrentUser } from "../../lib/session.ts";
 import { CeilingsPage } from "../../features/ceilings/components/ceilings-page.tsx";
 
 export default function CeilingsRoute() {

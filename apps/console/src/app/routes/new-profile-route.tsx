@@ -1,4 +1,4 @@
-import { useCurrentUser } from "../../features/auth/hooks/use-session.ts";
+import { useCurrentUser } from "../../lib/session.ts";
 import { NewProfilePage } from "../../features/profiles/components/new-profile-page.tsx";
 import { NotAvailable } from "./not-available.tsx";
 

@@ -1,4 +1,4 @@
-import { useCurrentUser } from "../../features/auth/hooks/use-session.ts";
+import { useCurrentUser } from "../../lib/session.ts";
 import { RoleSummaries } from "../../features/overview/components/role-summaries.tsx";
 import { PageHeader } from "../../components/layout/page-header.tsx";
 

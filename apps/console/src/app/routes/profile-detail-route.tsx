@@ -1,5 +1,5 @@
 import { useParams } from "react-router";
-import { useCurrentUser } from "../../features/auth/hooks/use-session.ts";
+import { useCurrentUser } from "../../lib/session.ts";
 import { ProfileDetailPage } from "../../features/profiles/components/profile-detail-page.tsx";
 import { NotFoundRoute } from "./not-found-route.tsx";
 

@@ -1,4 +1,4 @@
-import { useCurrentUser } from "../../features/auth/hooks/use-session.ts";
+import { useCurrentUser } from "../../lib/session.ts";
 import { ProfilesPage } from "../../features/profiles/components/profiles-page.tsx";
 
 export default function ProfilesRoute() {

@@ -1,5 +1,5 @@
 import { useParams } from "react-router";
-import { useCurrentUser } from "../../features/auth/hooks/use-session.ts";
+import { useCurrentUser } from "../../lib/session.ts";
 import { ReviewPage } from "../../features/reviews/components/review-page.tsx";
 import { NotFoundRoute } from "./not-found-route.tsx";
 

@@ -3,7 +3,7 @@ import { CautionsBanner } from "../../components/layout/cautions-banner.tsx";
 import { Loading } from "../../components/ui/loading.tsx";
 import { Message } from "../../components/ui/message.tsx";
 import { SignInForm } from "../../features/auth/components/sign-in-form.tsx";
-import { useSession } from "../../features/auth/hooks/use-session.ts";
+import { useSession } from "../../lib/session.ts";
 import { Brand } from "../shell/brand.tsx";
 
 /** Only same-site paths are followed after sign-in ("//host" would leave the site). */

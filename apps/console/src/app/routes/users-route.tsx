@@ -1,4 +1,4 @@
-import { useCurrentUser } from "../../features/auth/hooks/use-session.ts";
+import { useCurrentUser } from "../../lib/session.ts";
 import { UsersPage } from "../../features/users/components/users-page.tsx";
 
 export default function UsersRoute() {

@@ -6,7 +6,8 @@ import { DatabaseBanner } from "../../components/layout/database-banner.tsx";
 import { Badge } from "../../components/ui/badge.tsx";
 import { Button } from "../../components/ui/button.tsx";
 import { cn } from "../../lib/cn.ts";
-import { useCurrentUser, useSignOut } from "../../features/auth/hooks/use-session.ts";
+import { useSignOut } from "../../features/auth/hooks/use-sign-in.ts";
+import { useCurrentUser } from "../../lib/session.ts";
 import { navItemsFor } from "../navigation.ts";
 import { Brand } from "./brand.tsx";
 

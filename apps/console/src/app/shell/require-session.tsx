@@ -1,7 +1,7 @@
 import { Navigate, Outlet, useLocation } from "react-router";
 import { Button } from "../../components/ui/button.tsx";
 import { Message } from "../../components/ui/message.tsx";
-import { useSession } from "../../features/auth/hooks/use-session.ts";
+import { useSession } from "../../lib/session.ts";
 import { BootScreen } from "./boot-screen.tsx";
 
 /** Lets signed-in people through; sends everyone else to /sign-in?next=<where they were going>. */

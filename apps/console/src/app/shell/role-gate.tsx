@@ -1,6 +1,6 @@
 import { Outlet } from "react-router";
 import { hasAnyRole, type Role } from "@jogwright/shared";
-import { useCurrentUser } from "../../features/auth/hooks/use-session.ts";
+import { useCurrentUser } from "../../lib/session.ts";
 import { NotAvailable } from "../routes/not-available.tsx";
 
 /** Renders the page only for someone holding one of `roles`. The server checks the same on every request. */

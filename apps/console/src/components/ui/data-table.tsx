@@ -1,4 +1,4 @@
-import { useState, type ReactNode } from "react";
+import { Fragment, useState, type ReactNode } from "react";
 import {
   flexRender,
   getCoreRowModel,
@@ -6,19 +6,39 @@ import {
   getSortedRowModel,
   useReactTable,
   type ColumnDef,
+  type RowData,
   type SortingState,
   type Table,
 } from "@tanstack/react-table";
+import { formatDateTime } from "../../lib/format.ts";
 import { ArrowDown, ArrowUp, ArrowUpDown, Search } from "lucide-react";
+import { cn } from "../../lib/cn.ts";
 import { EmptyTableRow, TableFrame, TableHeadCell } from "./table-frame.tsx";
 
-// A TanStack table in the console's table look (table-frame.tsx): sortable columns get a heading button,
-// an arrow and `aria-sort`; plus the search box and state for a client-side sorted, filtered table.
+// The console's one table: a TanStack table in the console's table look (table-frame.tsx). Every page that
+// lists rows uses it: columns are ColumnDefs (cells may hold links, badges, buttons or inputs), sortable
+// columns get a heading button, an arrow and `aria-sort`; plus the search box and state for a client-side
+// sorted, filtered table, and `useDataTable` for a plain one.
+
+declare module "@tanstack/react-table" {
+  // eslint-disable-next-line @typescript-eslint/no-unused-vars -- the generics must match TanStack's declaration to merge
+  interface ColumnMeta<TData extends RowData, TValue> {
+    /** Classes for this column's cells (e.g. "text-right num"). */
+    className?: string;
+    /** Classes for this column's heading. */
+    headClassName?: string;
+    /** The cells are the row's heading (`<th scope="row">`), e.g. a name. */
+    isRowHeader?: boolean;
+  }
+}
 
 const ROW_CLASS = {
   middle: { row: "border-b border-ink-700 last:border-b-0 hover:bg-ink-850", cell: "px-3 py-2 align-middle" },
   top: { row: "border-b border-ink-700 align-top last:border-b-0 hover:bg-ink-850", cell: "px-3 py-2" },
 } as const;
+
+/** Extra attributes for a row: a class, or `data-*` attributes that tests and styles select on. */
+export type RowAttributes = { className?: string | undefined } & { [data: `data-${string}`]: string | undefined };
 
 interface DataTableProps<Row> {
   table: Table<Row>;
@@ -28,12 +48,16 @@ interface DataTableProps<Row> {
   testId?: string;
   /** "top" for rows whose cells wrap onto several lines. */
   verticalAlign?: keyof typeof ROW_CLASS;
+  rowAttributes?: (row: Row) => RowAttributes;
+  /** Rows are shown in groups: a heading row spanning the table whenever this changes from one row to the next. */
+  groupOf?: (row: Row) => string;
 }
 
 /** Renders a TanStack table: sortable columns get a heading button, an arrow and `aria-sort`. */
-export function DataTable<Row>({ table, caption, emptyMessage, testId, verticalAlign = "middle" }: DataTableProps<Row>) {
+export function DataTable<Row>({ table, caption, emptyMessage, testId, verticalAlign = "middle", rowAttributes, groupOf }: DataTableProps<Row>) {
   const rows = table.getRowModel().rows;
   const rowClass = ROW_CLASS[verticalAlign];
+  const columnCount = table.getVisibleLeafColumns().length;
   return (
     <TableFrame testId={testId} caption={caption}>
       <thead className="bg-ink-800 text-ink-300">
@@ -46,6 +70,7 @@ export function DataTable<Row>({ table, caption, emptyMessage, testId, verticalA
                 <TableHeadCell
                   key={header.id}
                   sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : canSort ? "none" : undefined}
+                  className={header.column.columnDef.meta?.headClassName}
                 >
                   {canSort ? (
                     <button
@@ -72,19 +97,61 @@ export function DataTable<Row>({ table, caption, emptyMessage, testId, verticalA
         ))}
       </thead>
       <tbody>
-        {rows.map((row) => (
-          <tr key={row.id} className={rowClass.row}>
-            {row.getVisibleCells().map((cell) => (
-              <td key={cell.id} className={rowClass.cell}>
-                {flexRender(cell.column.columnDef.cell, cell.getContext())}
-              </td>
-            ))}
-          </tr>
-        ))}
-        {rows.length === 0 ? <EmptyTableRow colSpan={table.getVisibleLeafColumns().length}>{emptyMessage}</EmptyTableRow> : null}
+        {rows.map((row, i) => {
+          const group = groupOf?.(row.original);
+          const isNewGroup = group !== undefined && (i === 0 || groupOf?.(rows[i - 1]!.original) !== group);
+          const { className, ...attributes } = rowAttributes?.(row.original) ?? {};
+          return (
+            <Fragment key={row.id}>
+              {isNewGroup ? (
+                <tr className="bg-ink-900">
+                  <th colSpan={columnCount} scope="colgroup" className="border-b border-ink-700 px-3 py-1.5 text-left text-xs font-semibold text-ink-300">
+                    {group}
+                  </th>
+                </tr>
+              ) : null}
+              <tr className={cn(rowClass.row, className)} {...attributes}>
+                {row.getVisibleCells().map((cell) => {
+                  const meta = cell.column.columnDef.meta;
+                  const content = flexRender(cell.column.columnDef.cell, cell.getContext());
+                  return meta?.isRowHeader ? (
+                    <th key={cell.id} scope="row" className={cn(rowClass.cell, "text-left", meta.className ?? "font-normal")}>
+                      {content}
+                    </th>
+                  ) : (
+                    <td key={cell.id} className={cn(rowClass.cell, meta?.className)}>
+                      {content}
+                    </td>
+                  );
+                })}
+              </tr>
+            </Fragment>
+          );
+        })}
+        {rows.length === 0 ? <EmptyTableRow colSpan={columnCount}>{emptyMessage}</EmptyTableRow> : null}
       </tbody>
     </TableFrame>
   );
+}
+
+/**
+ * The "Created" column of a table whose rows carry an ISO 8601 `createdAt` (such strings sort in time order);
+ * it is not searched by the filter box.
+ */
+export function createdAtColumn<Row extends { createdAt: string }>(): ColumnDef<Row> {
+  return {
+    id: "created",
+    accessorKey: "createdAt",
+    header: "Created",
+    enableGlobalFilter: false,
+    sortingFn: "alphanumeric",
+    cell: (c) => <span className="num whitespace-nowrap text-ink-300">{formatDateTime(c.row.original.createdAt)}</span>,
+  };
+}
+
+/** A plain table (no sorting or filtering): rows in the order given, identified by `getRowId` (stable keys keep inputs in cells focused). */
+export function useDataTable<Row>({ data, columns, getRowId }: { data: Row[]; columns: ColumnDef<Row>[]; getRowId?: (row: Row, index: number) => string }) {
+  return useReactTable({ data, columns, getRowId, getCoreRowModel: getCoreRowModel() });
 }
 
 /** A client-side table sorted by its column headings and filtered by one search box over every filterable column. */

@@ -1,4 +1,5 @@
 import type { ReactNode } from "react";
+import { cn } from "../../lib/cn.ts";
 
 // The console's one table look: a bordered, horizontally scrolling frame, a header row on ink-800, rows
 // divided by ink-700 lines, and an empty-state row. These pieces serve tables whose rows are written by
@@ -6,9 +7,9 @@ import type { ReactNode } from "react";
 // page with a hand-written table does not load TanStack Table.
 
 /** One column heading. */
-export function TableHeadCell({ sort, children }: { sort?: "ascending" | "descending" | "none" | undefined; children: ReactNode }) {
+export function TableHeadCell({ sort, className, children }: { sort?: "ascending" | "descending" | "none" | undefined; className?: string | undefined; children: ReactNode }) {
   return (
-    <th scope="col" aria-sort={sort} className="border-b border-ink-700 px-3 py-2 font-semibold">
+    <th scope="col" aria-sort={sort} className={cn("border-b border-ink-700 px-3 py-2 font-semibold", className)}>
       {children}
     </th>
   );

@@ -1,4 +1,4 @@
-import { queryOptions, skipToken } from "@tanstack/react-query";
+import { queryOptions, skipToken, useQuery, useQueryClient } from "@tanstack/react-query";
 import {
   operatorListResponseSchema,
   profileDetailResponseSchema,
@@ -6,6 +6,8 @@ import {
   versionDetailResponseSchema,
 } from "@jogwright/shared";
 import { apiRequest } from "../api-client.ts";
+import { auditKeys } from "./audit.ts";
+import { reviewKeys } from "./reviews.ts";
 
 /**
  * The one query-key factory and the query options for profiles and their versions (TanStack Query's
@@ -56,3 +58,18 @@ export const versionDetailQueryOptions = (versionId: number) =>
     queryKey: versionKeys.detail(versionId),
     queryFn: ({ signal }) => apiRequest(`/api/versions/${versionId}`, { schema: versionDetailResponseSchema, signal }),
   });
+
+export const useProfiles = () => useQuery(profileListQueryOptions());
+export const useVersionDetail = (versionId: number) => useQuery(versionDetailQueryOptions(versionId));
+
+/** After anything that creates or moves a version: profiles, versions, the review queue and the audit trail. */
+export function useInvalidateProfiles() {
+  const queryClient = useQueryClient();
+  return () =>
+    Promise.all([
+      queryClient.invalidateQueries({ queryKey: profileKeys.all }),
+      queryClient.invalidateQueries({ queryKey: versionKeys.all }),
+      queryClient.invalidateQueries({ queryKey: reviewKeys.all }),
+      queryClient.invalidateQueries({ queryKey: auditKeys.all }),
+    ]);
+}

@@ -1,6 +1,8 @@
-import type { ReactNode } from "react";
-import type { Arm } from "@jogwright/shared";
+import { useMemo } from "react";
+import type { ColumnDef } from "@tanstack/react-table";
+import type { Arm, ArmJoint } from "@jogwright/shared";
 import { Badge } from "../../../components/ui/badge.tsx";
+import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
 import { angleDeg, jointSpeed, jointValue, lengthMm, type DisplayValue } from "./joint-units.ts";
 
 const CONVENTION_TEXT = {
@@ -17,13 +19,64 @@ function Value({ value }: { value: DisplayValue | null }) {
   );
 }
 
-function Th({ children, title }: { children: ReactNode; title?: string }) {
-  return (
-    <th scope="col" title={title} className="border-b border-ink-700 px-3 py-2 text-right font-semibold whitespace-nowrap first:text-left">
-      {children}
-    </th>
-  );
+/** One joint of the DH table, with its ready-pose value. */
+interface JointRow {
+  index: number;
+  joint: ArmJoint;
+  ready: number | undefined;
 }
+
+const number = "num py-1.5 text-right";
+const right = { headClassName: "text-right whitespace-nowrap" };
+
+const JOINT_COLUMNS: ColumnDef<JointRow>[] = [
+  {
+    id: "joint",
+    header: "Joint",
+    cell: ({ row: { original: r } }) => (
+      <>
+        J{r.index + 1} <span className="text-xs font-normal text-ink-400">{r.joint.type}</span>
+      </>
+    ),
+    meta: { isRowHeader: true, className: "py-1.5 font-semibold whitespace-nowrap" },
+  },
+  { id: "a", header: () => <span title="link length">a [mm]</span>, cell: ({ row }) => lengthMm(row.original.joint.a), meta: { className: number, ...right } },
+  { id: "alpha", header: () => <span title="link twist">α [deg]</span>, cell: ({ row }) => angleDeg(row.original.joint.alpha), meta: { className: number, ...right } },
+  { id: "d", header: () => <span title="link offset">d [mm]</span>, cell: ({ row }) => lengthMm(row.original.joint.d), meta: { className: number, ...right } },
+  {
+    id: "theta",
+    header: () => <span title="joint angle offset">θ offset [deg]</span>,
+    cell: ({ row }) => angleDeg(row.original.joint.theta),
+    meta: { className: number, ...right },
+  },
+  {
+    id: "range",
+    header: "Range",
+    cell: ({ row: { original: r } }) =>
+      r.joint.min !== undefined || r.joint.max !== undefined ? (
+        <>
+          <span className="num">{r.joint.min === undefined ? "—" : jointValue(r.joint, r.joint.min).text}</span>
+          <span className="text-ink-400"> to </span>
+          <Value value={r.joint.max === undefined ? null : jointValue(r.joint, r.joint.max)} />
+        </>
+      ) : (
+        <span className="text-ink-400">unlimited</span>
+      ),
+    meta: { className: "py-1.5 text-right whitespace-nowrap", ...right },
+  },
+  {
+    id: "maxSpeed",
+    header: "Max speed",
+    cell: ({ row: { original: r } }) => <Value value={r.joint.maxSpeed === undefined ? null : jointSpeed(r.joint, r.joint.maxSpeed)} />,
+    meta: { className: "py-1.5 text-right whitespace-nowrap", ...right },
+  },
+  {
+    id: "ready",
+    header: "Ready pose",
+    cell: ({ row: { original: r } }) => <Value value={r.ready === undefined ? null : jointValue(r.joint, r.ready)} />,
+    meta: { className: "py-1.5 text-right whitespace-nowrap", ...right },
+  },
+];
 
 /** Translation part of a row-major 4x4 transform, in mm, and whether it also rotates. */
 function describeTransform(t: readonly number[]): string {
@@ -37,6 +90,8 @@ function describeTransform(t: readonly number[]): string {
 export function ArmCard({ arm }: { arm: Arm }) {
   const { model } = arm;
   const headingId = `arm-${arm.id}-name`;
+  const rows = useMemo<JointRow[]>(() => model.joints.map((joint, index) => ({ index, joint, ready: arm.readyPose[index] })), [model.joints, arm.readyPose]);
+  const table = useDataTable({ data: rows, columns: JOINT_COLUMNS, getRowId: (r) => String(r.index) });
   return (
     <section aria-labelledby={headingId} className="rounded-lg border border-ink-700 bg-ink-850">
       <header className="flex flex-wrap items-start justify-between gap-3 border-b border-ink-700 px-5 py-4">
@@ -51,56 +106,9 @@ export function ArmCard({ arm }: { arm: Arm }) {
           <Badge>{model.convention === "standard" ? "standard DH" : "modified DH"}</Badge>
         </div>
       </header>
-      <div className="overflow-x-auto px-2 py-2">
-        <table className="w-full border-collapse text-sm">
-          <caption className="px-3 pb-2 text-left text-xs text-ink-400">{CONVENTION_TEXT[model.convention]}</caption>
-          <thead className="text-ink-300">
-            <tr>
-              <Th>Joint</Th>
-              <Th title="link length">a [mm]</Th>
-              <Th title="link twist">α [deg]</Th>
-              <Th title="link offset">d [mm]</Th>
-              <Th title="joint angle offset">θ offset [deg]</Th>
-              <Th>Range</Th>
-              <Th>Max speed</Th>
-              <Th>Ready pose</Th>
-            </tr>
-          </thead>
-          <tbody>
-            {model.joints.map((joint, i) => {
-              const ready = arm.readyPose[i];
-              const hasRange = joint.min !== undefined || joint.max !== undefined;
-              return (
-                <tr key={i} className="border-b border-ink-700/60 last:border-b-0">
-                  <th scope="row" className="px-3 py-1.5 text-left font-semibold whitespace-nowrap">
-                    J{i + 1} <span className="text-xs font-normal text-ink-400">{joint.type}</span>
-                  </th>
-                  <td className="num px-3 py-1.5 text-right">{lengthMm(joint.a)}</td>
-                  <td className="num px-3 py-1.5 text-right">{angleDeg(joint.alpha)}</td>
-                  <td className="num px-3 py-1.5 text-right">{lengthMm(joint.d)}</td>
-                  <td className="num px-3 py-1.5 text-right">{angleDeg(joint.theta)}</td>
-                  <td className="px-3 py-1.5 text-right whitespace-nowrap">
-                    {hasRange ? (
-                      <>
-                        <span className="num">{joint.min === undefined ? "—" : jointValue(joint, joint.min).text}</span>
-                        <span className="text-ink-400"> to </span>
-                        <Value value={joint.max === undefined ? null : jointValue(joint, joint.max)} />
-                      </>
-                    ) : (
-                      <span className="text-ink-400">unlimited</span>
-                    )}
-                  </td>
-                  <td className="px-3 py-1.5 text-right whitespace-nowrap">
-                    <Value value={joint.maxSpeed === undefined ? null : jointSpeed(joint, joint.maxSpeed)} />
-                  </td>
-                  <td className="px-3 py-1.5 text-right whitespace-nowrap">
-                    <Value value={ready === undefined ? null : jointValue(joint, ready)} />
-                  </td>
-                </tr>
-              );
-            })}
-          </tbody>
-        </table>
+      <div className="flex flex-col gap-2 px-4 py-3">
+        <p className="text-xs text-ink-400">{CONVENTION_TEXT[model.convention]}</p>
+        <DataTable table={table} caption={`DH parameters of ${arm.name}`} emptyMessage="This arm has no joints." />
       </div>
       {model.base || model.tool ? (
         <dl className="flex flex-wrap gap-x-8 gap-y-1 border-t border-ink-700 px-5 py-3 text-sm">

@@ -1,21 +1,10 @@
 import { keepPreviousData, queryOptions } from "@tanstack/react-query";
 import { z } from "zod";
-import { auditEntrySchema, type AuditEntry } from "@jogwright/shared";
+import { auditEntrySchema } from "@jogwright/shared";
 import { apiRequest } from "../../../lib/api-client.ts";
+import { auditKeys, type AuditFilters } from "../../../lib/queries/audit.ts";
 
 export const AUDIT_ENTITIES = auditEntrySchema.shape.entity.options;
-export type AuditEntity = AuditEntry["entity"];
-
-/** The filters of GET /api/audit and /api/audit/export.csv; from/to are ISO 8601 instants. */
-export interface AuditFilters {
-  entity?: AuditEntity;
-  action?: string;
-  actorId?: string;
-  from?: string;
-  to?: string;
-  page: number;
-  pageSize: number;
-}
 
 const auditPageSchema = z.object({ entries: z.array(auditEntrySchema), total: z.number().int(), page: z.number().int(), pageSize: z.number().int() });
 
@@ -31,12 +20,6 @@ export function auditSearchParams(filters: AuditFilters, withPaging = true): URL
   }
   return params;
 }
-
-export const auditKeys = {
-  all: ["audit"] as const,
-  pages: () => [...auditKeys.all, "page"] as const,
-  page: (filters: AuditFilters) => [...auditKeys.pages(), filters] as const,
-};
 
 export const auditPageQueryOptions = (filters: AuditFilters) =>
   queryOptions({

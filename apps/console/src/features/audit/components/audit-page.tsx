@@ -1,4 +1,4 @@
-import { useEffect, useMemo, useState, type FormEvent } from "react";
+import { useMemo, useState, type FormEvent } from "react";
 import { useSearchParams } from "react-router";
 import { useQuery } from "@tanstack/react-query";
 import { getCoreRowModel, useReactTable, type ColumnDef } from "@tanstack/react-table";
@@ -7,13 +7,13 @@ import type { AuditEntry } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { DataTable } from "../../../components/ui/data-table.tsx";
-import { Loading } from "../../../components/ui/loading.tsx";
-import { Message } from "../../../components/ui/message.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
-import { userListQueryOptions } from "../../users/api/users-api.ts";
-import { AUDIT_ENTITIES, auditExportHref, auditPageQueryOptions, type AuditEntity, type AuditFilters } from "../api/audit-api.ts";
+import type { AuditEntity, AuditFilters } from "../../../lib/queries/audit.ts";
+import { userListQueryOptions } from "../../../lib/queries/users.ts";
+import { AUDIT_ENTITIES, auditExportHref, auditPageQueryOptions } from "../api/audit-api.ts";
+import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 const PAGE_SIZE = 50;
 
@@ -46,15 +46,14 @@ export function AuditPage({ isAdmin }: { isAdmin: boolean }) {
   const users = useQuery({ ...userListQueryOptions(), enabled: isAdmin });
   const [seenActors, setSeenActors] = useState<Map<string, string>>(new Map());
 
-  useEffect(() => {
-    const entries = audit.data?.entries ?? [];
-    if (entries.every((e) => !e.actorId || seenActors.has(e.actorId))) return;
-    setSeenActors((prev) => {
-      const next = new Map(prev);
-      for (const e of entries) if (e.actorId) next.set(e.actorId, e.actorName ?? e.actorId);
-      return next;
-    });
-  }, [audit.data, seenActors]);
+  // Every actor seen on any page so far, for the actor filter (updated while rendering, React's pattern for
+  // state derived from changing data: no effect, no extra paint).
+  const entries = audit.data?.entries ?? [];
+  if (entries.some((e) => e.actorId && !seenActors.has(e.actorId))) {
+    const next = new Map(seenActors);
+    for (const e of entries) if (e.actorId) next.set(e.actorId, e.actorName ?? e.actorId);
+    setSeenActors(next);
+  }
 
   const actors = useMemo(() => {
     const all = new Map(seenActors);
@@ -124,12 +123,7 @@ export function AuditPage({ isAdmin }: { isAdmin: boolean }) {
           {hasFilters ? <Button onClick={() => setSearchParams(new URLSearchParams())}>Clear</Button> : null}
         </div>
       </form>
-      {audit.isPending ? <Loading label="Loading the audit trail…" /> : null}
-      {audit.isError ? (
-        <Message tone="stop" title="Could not load the audit trail">
-          {audit.error.message}
-        </Message>
-      ) : null}
+      <QueryStatus query={audit} loading="Loading the audit trail…" failed="Could not load the audit trail" />
       {audit.data ? (
         <>
           <AuditTable entries={audit.data.entries} />

@@ -6,7 +6,8 @@ import { Button } from "../../../components/ui/button.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
-import { useSignIn } from "../hooks/use-session.ts";
+import { applyServerIssues } from "../../../lib/server-issues.ts";
+import { useSignIn } from "../hooks/use-sign-in.ts";
 
 const titles: Record<string, string> = {
   invalid_credentials: "Sign-in failed",
@@ -17,27 +18,15 @@ const titles: Record<string, string> = {
 
 export function SignInForm() {
   const signIn = useSignIn();
-  const {
-    register,
-    handleSubmit,
-    setError,
-    formState: { errors },
-  } = useForm({
+  const { register, handleSubmit, setError, formState: { errors } } = useForm({
     resolver: zodResolver(signInSchema),
     mode: "onTouched",
     defaultValues: { username: "", password: "" },
   });
 
   const onSubmit = handleSubmit((input: SignInInput) => {
-    signIn.mutate(input, {
-      onError: (error) => {
-        if (!isApiRequestError(error)) return;
-        for (const issue of error.issues) {
-          const field = issue.path.split(".")[0];
-          if (field === "username" || field === "password") setError(field, { type: "server", message: issue.message });
-        }
-      },
-    });
+    // Issues on other paths need no second place: the message below shows the error itself.
+    signIn.mutate(input, { onError: (error) => applyServerIssues(error, ["username", "password"], setError) });
   });
 
   const error = signIn.error;

@@ -1,92 +1,29 @@
 import { useMemo, useState } from "react";
 import { Link } from "react-router";
-import { useForm, type FieldErrors, type Resolver } from "react-hook-form";
+import { useForm } from "react-hook-form";
+import { zodResolver } from "@hookform/resolvers/zod";
 import { Save } from "lucide-react";
-import {
-  ceilingsSchema,
-  GUARD_POLICIES,
-  GUARD_POLICY_LABELS,
-  roundTo,
-  UNITS,
-  type Ceilings,
-  type CeilingsRecord,
-  type GuardPolicy,
-} from "@jogwright/shared";
+import { GUARD_POLICIES, GUARD_POLICY_LABELS, type CeilingsRecord } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { Checkbox } from "../../../components/ui/checkbox.tsx";
-import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { NumberField } from "../../../components/ui/number-field.tsx";
 import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
 import { formatDateTime } from "../../../lib/format.ts";
-import { useProfiles } from "../../profiles/hooks/use-profiles.ts";
-import { ISO_CEILING_CITATION } from "../../profiles/components/profile-params-form.tsx";
-import { useCeilings, useUpdateCeilings } from "../hooks/use-ceilings.ts";
+import { applyServerIssues } from "../../../lib/server-issues.ts";
+import { useProfiles } from "../../../lib/queries/profiles.ts";
+import { ISO_CEILING_CITATION } from "../../../components/profiles/ceiling-citation.ts";
+import { useCeilings } from "../../../lib/queries/ceilings.ts";
+import { ceilingsFormCodec, ceilingsFormValuesOf, uiFieldOfCeilingsPath, type CeilingsFormOutput, type CeilingsFormValues } from "../forms/ceilings-form-codec.ts";
+import { useUpdateCeilings } from "../hooks/use-ceilings.ts";
+import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
-/** The ceilings in the units people set them in. */
-interface CeilingsFormValues {
-  tcpLinearMaxMmPerS: number;
-  tcpAngularMaxDegPerS: number;
-  jointSpeedFractionMaxPercent: number;
-  watchdogMaxMs: number;
-  allowedGuardPolicies: GuardPolicy[];
-  lambdaMaxMinM: number;
-  stoppingDistanceMaxMm: number;
-  decelerationMinMPerS2: number;
-  note: string;
-}
-
-const PATH_TO_KEY: Record<keyof Ceilings, keyof CeilingsFormValues> = {
-  tcpLinearMaxMPerS: "tcpLinearMaxMmPerS",
-  tcpAngularMaxRadPerS: "tcpAngularMaxDegPerS",
-  jointSpeedFractionMax: "jointSpeedFractionMaxPercent",
-  watchdogMaxMs: "watchdogMaxMs",
-  allowedGuardPolicies: "allowedGuardPolicies",
-  lambdaMaxMinM: "lambdaMaxMinM",
-  stoppingDistanceMaxM: "stoppingDistanceMaxMm",
-  decelerationMinMPerS2: "decelerationMinMPerS2",
-};
-
-const toUi = (c: Ceilings): Omit<CeilingsFormValues, "note"> => ({
-  tcpLinearMaxMmPerS: roundTo(UNITS.mPerSToMmPerS.toUi(c.tcpLinearMaxMPerS), 1),
-  tcpAngularMaxDegPerS: roundTo(UNITS.radPerSToDegPerS.toUi(c.tcpAngularMaxRadPerS), 2),
-  jointSpeedFractionMaxPercent: roundTo(UNITS.fractionToPercent.toUi(c.jointSpeedFractionMax), 1),
-  watchdogMaxMs: c.watchdogMaxMs,
-  allowedGuardPolicies: [...c.allowedGuardPolicies],
-  lambdaMaxMinM: c.lambdaMaxMinM,
-  stoppingDistanceMaxMm: roundTo(UNITS.metresToMm.toUi(c.stoppingDistanceMaxM), 1),
-  decelerationMinMPerS2: roundTo(c.decelerationMinMPerS2, 3),
-});
-
-const fromUi = (v: CeilingsFormValues): Record<keyof Ceilings, unknown> => ({
-  tcpLinearMaxMPerS: UNITS.mPerSToMmPerS.toSi(v.tcpLinearMaxMmPerS),
-  tcpAngularMaxRadPerS: UNITS.radPerSToDegPerS.toSi(v.tcpAngularMaxDegPerS),
-  jointSpeedFractionMax: UNITS.fractionToPercent.toSi(v.jointSpeedFractionMaxPercent),
-  watchdogMaxMs: v.watchdogMaxMs,
-  // An unticked group of checkboxes reads as false in react-hook-form.
-  allowedGuardPolicies: Array.isArray(v.allowedGuardPolicies) ? v.allowedGuardPolicies : [],
-  lambdaMaxMinM: v.lambdaMaxMinM,
-  stoppingDistanceMaxM: UNITS.metresToMm.toSi(v.stoppingDistanceMaxMm),
-  decelerationMinMPerS2: v.decelerationMinMPerS2,
-});
-
-/** The UI values are converted to SI and checked with the shared ceilingsSchema, as the server does. */
-const resolver: Resolver<CeilingsFormValues> = async (values) => {
-  const errors: Record<string, { type: string; message: string }> = {};
-  const parsed = ceilingsSchema.safeParse(fromUi(values));
-  if (!parsed.success) {
-    for (const issue of parsed.error.issues) {
-      const key = PATH_TO_KEY[issue.path[0] as keyof Ceilings] ?? "note";
-      const message = issue.code === "invalid_type" ? "Enter a number" : issue.message.charAt(0).toUpperCase() + issue.message.slice(1);
-      errors[key] ??= { type: issue.code, message };
-    }
-  }
-  if (values.note.length > 2000) errors.note = { type: "max", message: "At most 2000 characters" };
-  return Object.keys(errors).length === 0 ? { values, errors: {} } : { values: {}, errors: errors as FieldErrors<CeilingsFormValues> };
-};
+/** Server issues name request paths ("ceilings.tcpLinearMaxMPerS", "note"); the form shows them on its UI fields. */
+const fieldOfServerIssue = (path: string): keyof CeilingsFormValues | undefined =>
+  path === "note" ? "note" : path.startsWith("ceilings.") ? uiFieldOfCeilingsPath(path.slice("ceilings.".length)) : undefined;
 
 export function CeilingsPage({ canEdit }: { canEdit: boolean }) {
   const record = useCeilings();
@@ -96,12 +33,7 @@ export function CeilingsPage({ canEdit }: { canEdit: boolean }) {
         title="Site ceilings"
         description="Limits no profile version may exceed. A version above a ceiling cannot be submitted or approved; lowering a ceiling marks approved versions above it, which then cannot be driven until a compliant version is approved."
       />
-      {record.isPending ? <Loading label="Loading the ceilings…" /> : null}
-      {record.isError ? (
-        <Message tone="stop" title="Could not load the ceilings">
-          {record.error.message}
-        </Message>
-      ) : null}
+      <QueryStatus query={record} loading="Loading the ceilings…" failed="Could not load the ceilings" />
       {record.data ? <CeilingsEditor latest={record.data} canEdit={canEdit} /> : null}
     </>
   );
@@ -117,21 +49,28 @@ function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: 
   const [loaded, setLoaded] = useState(latest);
   const [flagged, setFlagged] = useState<number[] | null>(null);
   // Only the first render counts for react-hook-form; later revisions arrive through reset().
-  const defaultValues = useMemo(() => ({ ...toUi(loaded.ceilings), note: "" }), [loaded]);
-  const { register, handleSubmit, formState, reset } = useForm<CeilingsFormValues>({ resolver, mode: "onChange", defaultValues });
+  const defaultValues = useMemo(() => ceilingsFormValuesOf(loaded.ceilings), [loaded]);
+  const { register, handleSubmit, formState, reset, setError } = useForm<CeilingsFormValues, unknown, CeilingsFormOutput>({
+    resolver: zodResolver(ceilingsFormCodec),
+    mode: "onChange",
+    defaultValues,
+  });
+  const [unplacedIssues, setUnplacedIssues] = useState<string[]>([]);
   const errors = formState.errors;
   const isStale = isApiRequestError(update.error) && update.error.code === "stale_parent";
 
-  const onSubmit = handleSubmit((values) => {
+  // The resolver decoded the UI values: `ceilings` is SI and checked with the shared ceilingsSchema.
+  const onSubmit = handleSubmit(({ ceilings, note }) => {
     setFlagged(null);
+    setUnplacedIssues([]);
     snapshotNames();
-    const ceilings = ceilingsSchema.parse(fromUi(values));
-    update.mutate({ revision: loaded.revision, ceilings, note: values.note.trim() }, {
+    update.mutate({ revision: loaded.revision, ceilings, note }, {
       onSuccess: (r) => {
         setLoaded(r.record);
-        reset({ ...toUi(r.record.ceilings), note: "" });
+        reset(ceilingsFormValuesOf(r.record.ceilings));
         setFlagged(r.flaggedVersionIds);
       },
+      onError: (error) => setUnplacedIssues(applyServerIssues(error, fieldOfServerIssue, setError)),
     });
   });
 
@@ -274,7 +213,7 @@ function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: 
                     className="mt-2"
                     onClick={() => {
                       setLoaded(latest);
-                      reset({ ...toUi(latest.ceilings), note: "" });
+                      reset(ceilingsFormValuesOf(latest.ceilings));
                       update.reset();
                     }}
                   >
@@ -284,8 +223,16 @@ function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: 
               ) : update.isError ? (
                 <Message tone="stop" title="Not saved">
                   {update.error.message}
+                  {unplacedIssues.length > 0 ? (
+                    <ul className="mt-1 list-disc pl-4">
+                      {unplacedIssues.map((m) => (
+                        <li key={m}>{m}</li>
+                      ))}
+                    </ul>
+                  ) : null}
                 </Message>
               ) : null}
+              {errors.root ? <Message tone="stop">{errors.root.message}</Message> : null}
               <div className="flex justify-end">
                 <Button type="submit" variant="primary" disabled={update.isPending}>
                   <Save aria-hidden className="size-4" />

@@ -1,10 +1,9 @@
-import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { useMutation, useQueryClient } from "@tanstack/react-query";
 import type { Ceilings } from "@jogwright/shared";
-import { ceilingKeys, ceilingsQueryOptions, updateCeilings } from "../api/ceilings-api.ts";
+import { auditKeys } from "../../../lib/queries/audit.ts";
+import { ceilingKeys } from "../../../lib/queries/ceilings.ts";
 import { profileKeys, versionKeys } from "../../../lib/queries/profiles.ts";
-import { auditKeys } from "../../audit/api/audit-api.ts";
-
-export const useCeilings = () => useQuery(ceilingsQueryOptions());
+import { updateCeilings } from "../api/ceilings-api.ts";
 
 /** Lowering a ceiling can flag approved versions, so profiles and versions are refetched too. */
 export function useUpdateCeilings() {

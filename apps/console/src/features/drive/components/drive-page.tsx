@@ -3,19 +3,18 @@ import { Link } from "react-router";
 import { useQuery } from "@tanstack/react-query";
 import { DEFAULT_GAMEPAD_MAPPING, hasAnyRole } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
-import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
-import { describeError } from "../../../lib/api-client.ts";
 import { describeEnded, jogClient, useJogSnapshot } from "../../../lib/jog-socket.ts";
-import { useArms } from "../../arms/hooks/use-arms.ts";
-import { useCurrentUser } from "../../auth/hooks/use-session.ts";
+import { useArms } from "../../../lib/queries/arms.ts";
+import { useCurrentUser } from "../../../lib/session.ts";
 import { gamepadMappingQueryOptions } from "../api/drive-api.ts";
 import { profileDetailQueryOptions, profileListQueryOptions } from "../../../lib/queries/profiles.ts";
 import { jogInput } from "../input/jog-input.ts";
-import { ConnectionState, DriveWorkspace, UnapprovedBanner } from "./drive-workspace.tsx";
+import { ConnectionState, DriveWorkspace, UnapprovedBanner } from "../../../components/jog/drive-workspace.tsx";
 import { GamepadMappingDialog } from "./gamepad-mapping-dialog.tsx";
 import { EnablingButton, JogControls, StopControls } from "./jog-controls.tsx";
 import { VersionPicker, type PickedVersion } from "./version-picker.tsx";
+import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 /** How long "End session" waits for the server's "ended" (with the recording id) before closing. */
 const END_WAIT_MS = 1500;
@@ -103,12 +102,7 @@ export function DrivePage() {
         actions={<ConnectionState snapshot={snapshot} />}
       />
       <div className="flex flex-col gap-4">
-        {profiles.isPending || arms.isPending ? <Loading label="Loading your profiles…" /> : null}
-        {profiles.isError ? (
-          <Message tone="stop" title="Could not load the profiles">
-            {describeError(profiles.error)}
-          </Message>
-        ) : null}
+        <QueryStatus query={profiles} isPending={profiles.isPending || arms.isPending} loading="Loading your profiles…" failed="Could not load the profiles" />
         {profiles.data ? (
           <VersionPicker
             isEngineer={isEngineer}

@@ -1,4 +1,5 @@
-import { useEffect, useRef, useState } from "react";
+import { useEffect, useEffectEvent, useState, type ReactNode } from "react";
+import type { ColumnDef } from "@tanstack/react-table";
 import { useMutation, useQueryClient } from "@tanstack/react-query";
 import {
   DEFAULT_GAMEPAD_MAPPING,
@@ -7,6 +8,7 @@ import {
   type GamepadMapping,
 } from "@jogwright/shared";
 import { Button } from "../../../components/ui/button.tsx";
+import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
 import { Dialog } from "../../../components/ui/dialog.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { describeError } from "../../../lib/api-client.ts";
@@ -26,6 +28,8 @@ const TARGET_LABELS: Record<(typeof TWIST_TARGETS)[number], string> = {
 };
 
 type Entry = GamepadMapping["axes"][number];
+type Target = Entry["target"];
+const TARGET_ROWS: Target[] = [...TWIST_TARGETS];
 type Capture = { kind: "axis"; target: Entry["target"] } | { kind: "button"; field: "enablingButton" | "estopButton" | `${Entry["target"]}.positive` | `${Entry["target"]}.negative` };
 
 const selectClass = "h-8 rounded-md border border-ink-600 bg-ink-800 px-2 text-sm text-ink-100";
@@ -33,8 +37,8 @@ const numberClass = "num h-8 w-16 rounded-md border border-ink-600 bg-ink-800 px
 
 /** Waits for a stick pushed past half or a button pressed on the first gamepad. */
 function useCapture(capture: Capture | null, onCaptured: (index: number) => void) {
-  const callback = useRef(onCaptured);
-  callback.current = onCaptured;
+  // Always the latest callback, without restarting the polling when it changes.
+  const captured = useEffectEvent(onCaptured);
   useEffect(() => {
     if (!capture) return;
     const start = firstGamepad();
@@ -44,14 +48,24 @@ function useCapture(capture: Capture | null, onCaptured: (index: number) => void
       if (!pad) return;
       if (capture.kind === "axis") {
         const index = pad.axes.findIndex((v) => Math.abs(v) > 0.5);
-        if (index >= 0) callback.current(index);
+        if (index >= 0) captured(index);
       } else {
         const index = pad.buttons.findIndex((b, i) => b.pressed && !restingButtons[i]);
-        if (index >= 0) callback.current(index);
+        if (index >= 0) captured(index);
       }
     }, 30);
     return () => clearInterval(timer);
   }, [capture]);
+}
+
+/** A stick or button number with its "Assign" (capture) button beside it. */
+function IndexInput({ label, value, max, onChange, children }: { label: string; value: number; max: number; onChange: (index: number) => void; children: ReactNode }) {
+  return (
+    <span className="flex items-center gap-1">
+      <input type="number" min={0} max={max} aria-label={label} className={numberClass} value={value} onChange={(event) => onChange(Number(event.target.value))} />
+      {children}
+    </span>
+  );
 }
 
 const isSameCapture = (a: Capture, b: Capture) => JSON.stringify(a) === JSON.stringify(b);
@@ -66,7 +80,22 @@ function CaptureButton({ target, current, onToggle }: { target: Capture; current
   );
 }
 
+/** The dialog; its form is mounted on each opening, so it starts from the saved mapping with no leftover state. */
 export function GamepadMappingDialog({ open, onClose, mapping }: { open: boolean; onClose: () => void; mapping: GamepadMapping }) {
+  return (
+    <Dialog
+      open={open}
+      onClose={onClose}
+      title="Gamepad mapping"
+      description="Saved for your account. Device deadband and expo calibrate the stick; the profile's own shaping applies on top."
+      className="w-[min(46rem,calc(100vw-2rem))]"
+    >
+      {open ? <GamepadMappingForm mapping={mapping} onClose={onClose} /> : null}
+    </Dialog>
+  );
+}
+
+function GamepadMappingForm({ onClose, mapping }: { onClose: () => void; mapping: GamepadMapping }) {
   const [draft, setDraft] = useState<GamepadMapping>(mapping);
   const [capture, setCapture] = useState<Capture | null>(null);
   const queryClient = useQueryClient();
@@ -77,15 +106,6 @@ export function GamepadMappingDialog({ open, onClose, mapping }: { open: boolean
       onClose();
     },
   });
-
-  useEffect(() => {
-    if (open) {
-      setDraft(mapping);
-      setCapture(null);
-      save.reset();
-    }
-    // Reset only when (re)opened.
-  }, [open]);
 
   const entryFor = (target: Entry["target"]): Entry | undefined => draft.axes.find((a) => a.target === target);
   const setEntry = (target: Entry["target"], entry: Entry | null) =>
@@ -109,201 +129,170 @@ export function GamepadMappingDialog({ open, onClose, mapping }: { open: boolean
 
   const parsed = gamepadMappingSchema.safeParse(draft);
   const toggleCapture = (c: Capture) => setCapture(capture !== null && isSameCapture(capture, c) ? null : c);
+  const indexInput = (label: string, value: number, max: number, captureAs: Capture, onChange: (index: number) => void) => (
+    <IndexInput label={label} value={value} max={max} onChange={onChange}>
+      <CaptureButton target={captureAs} current={capture} onToggle={toggleCapture} />
+    </IndexInput>
+  );
+  const columns: ColumnDef<Target>[] = [
+    { id: "motion", header: "Motion", meta: { isRowHeader: true }, cell: (c) => TARGET_LABELS[c.row.original] },
+    {
+      id: "source",
+      header: "Source",
+      cell: ({ row: { original: target } }) => {
+        const entry = entryFor(target);
+        return (
+          <select
+            aria-label={`${TARGET_LABELS[target]} source`}
+            className={selectClass}
+            value={entry?.source.kind ?? "none"}
+            onChange={(event) => {
+              const k = event.target.value;
+              const invert = entry?.invert ?? false;
+              if (k === "none") setEntry(target, null);
+              else if (k === "axis") setEntry(target, { target, source: { kind: "axis", index: 0 }, invert });
+              else setEntry(target, { target, source: { kind: "buttons", positive: 12, negative: 13 }, invert });
+            }}
+          >
+            <option value="none">Not used</option>
+            <option value="axis">Stick axis</option>
+            <option value="buttons">Button pair</option>
+          </select>
+        );
+      },
+    },
+    {
+      id: "index",
+      header: "Index",
+      cell: ({ row: { original: target } }) => {
+        const entry = entryFor(target);
+        const source = entry?.source;
+        if (!entry || !source) return <span className="text-xs text-ink-400">—</span>;
+        if (source.kind === "axis") {
+          return indexInput(`${TARGET_LABELS[target]} axis index`, source.index, 15, { kind: "axis", target }, (index) =>
+            setEntry(target, { ...entry, source: { kind: "axis", index } }),
+          );
+        }
+        const side = (which: "positive" | "negative") =>
+          indexInput(`${TARGET_LABELS[target]} ${which} button`, source[which], 31, { kind: "button", field: `${target}.${which}` }, (index) =>
+            setEntry(target, { ...entry, source: { ...source, [which]: index } }),
+          );
+        return (
+          <span className="flex flex-wrap items-center gap-1 text-xs text-ink-300">
+            +{side("positive")}−{side("negative")}
+          </span>
+        );
+      },
+    },
+    {
+      id: "invert",
+      header: "Invert",
+      cell: ({ row: { original: target } }) => {
+        const entry = entryFor(target);
+        return (
+          <input
+            type="checkbox"
+            aria-label={`Invert ${TARGET_LABELS[target]}`}
+            className="size-4 accent-iris-400"
+            disabled={!entry}
+            checked={entry?.invert ?? false}
+            onChange={(event) => entry && setEntry(target, { ...entry, invert: event.target.checked })}
+          />
+        );
+      },
+    },
+  ];
+  const table = useDataTable({ data: TARGET_ROWS, columns, getRowId: (target) => target });
 
 
   return (
-    <Dialog
-      open={open}
-      onClose={onClose}
-      title="Gamepad mapping"
-      description="Saved for your account. Device deadband and expo calibrate the stick; the profile's own shaping applies on top."
-      className="w-[min(46rem,calc(100vw-2rem))]"
+    <form
+      className="flex flex-col gap-4"
+      onSubmit={(event) => {
+        event.preventDefault();
+        if (parsed.success) save.mutate(parsed.data);
+      }}
     >
-      <form
-        className="flex flex-col gap-4"
-        onSubmit={(event) => {
-          event.preventDefault();
-          if (parsed.success) save.mutate(parsed.data);
-        }}
-      >
-        <table className="w-full text-sm">
-          <thead className="text-left text-xs text-ink-300">
-            <tr>
-              <th className="py-1 font-semibold">Motion</th>
-              <th className="py-1 font-semibold">Source</th>
-              <th className="py-1 font-semibold">Index</th>
-              <th className="py-1 font-semibold">Invert</th>
-              <th />
-            </tr>
-          </thead>
-          <tbody>
-            {TWIST_TARGETS.map((target) => {
-              const entry = entryFor(target);
-              const kind = entry?.source.kind ?? "none";
-              return (
-                <tr key={target} className="border-t border-ink-700">
-                  <td className="py-1.5 pr-2">{TARGET_LABELS[target]}</td>
-                  <td className="py-1.5 pr-2">
-                    <select
-                      aria-label={`${TARGET_LABELS[target]} source`}
-                      className={selectClass}
-                      value={kind}
-                      onChange={(event) => {
-                        const k = event.target.value;
-                        if (k === "none") setEntry(target, null);
-                        else if (k === "axis") setEntry(target, { target, source: { kind: "axis", index: 0 }, invert: entry?.invert ?? false });
-                        else setEntry(target, { target, source: { kind: "buttons", positive: 12, negative: 13 }, invert: entry?.invert ?? false });
-                      }}
-                    >
-                      <option value="none">Not used</option>
-                      <option value="axis">Stick axis</option>
-                      <option value="buttons">Button pair</option>
-                    </select>
-                  </td>
-                  <td className="py-1.5 pr-2">
-                    {entry?.source.kind === "axis" ? (
-                      <span className="flex items-center gap-1">
-                        <input
-                          type="number"
-                          min={0}
-                          max={15}
-                          aria-label={`${TARGET_LABELS[target]} axis index`}
-                          className={numberClass}
-                          value={entry.source.index}
-                          onChange={(event) => setEntry(target, { ...entry, source: { kind: "axis", index: Number(event.target.value) } })}
-                        />
-                        <CaptureButton target={{ kind: "axis", target }} current={capture} onToggle={toggleCapture} />
-                      </span>
-                    ) : entry?.source.kind === "buttons" ? (
-                      <span className="flex flex-wrap items-center gap-1 text-xs text-ink-300">
-                        +
-                        <input
-                          type="number"
-                          min={0}
-                          max={31}
-                          aria-label={`${TARGET_LABELS[target]} positive button`}
-                          className={numberClass}
-                          value={entry.source.positive}
-                          onChange={(event) =>
-                            entry.source.kind === "buttons" &&
-                            setEntry(target, { ...entry, source: { ...entry.source, positive: Number(event.target.value) } })
-                          }
-                        />
-                        <CaptureButton target={{ kind: "button", field: `${target}.positive` }} current={capture} onToggle={toggleCapture} />−
-                        <input
-                          type="number"
-                          min={0}
-                          max={31}
-                          aria-label={`${TARGET_LABELS[target]} negative button`}
-                          className={numberClass}
-                          value={entry.source.negative}
-                          onChange={(event) =>
-                            entry.source.kind === "buttons" &&
-                            setEntry(target, { ...entry, source: { ...entry.source, negative: Number(event.target.value) } })
-                          }
-                        />
-                        <CaptureButton target={{ kind: "button", field: `${target}.negative` }} current={capture} onToggle={toggleCapture} />
-                      </span>
-                    ) : (
-                      <span className="text-xs text-ink-400">—</span>
-                    )}
-                  </td>
-                  <td className="py-1.5">
-                    <input
-                      type="checkbox"
-                      aria-label={`Invert ${TARGET_LABELS[target]}`}
-                      className="size-4 accent-iris-400"
-                      disabled={!entry}
-                      checked={entry?.invert ?? false}
-                      onChange={(event) => entry && setEntry(target, { ...entry, invert: event.target.checked })}
-                    />
-                  </td>
-                  <td />
-                </tr>
-              );
-            })}
-          </tbody>
-        </table>
-        <div className="grid grid-cols-2 gap-4 text-sm">
-          <label className="flex items-center justify-between gap-2">
-            Deadband (%)
+      <DataTable table={table} caption="Which stick or button pair drives each motion" emptyMessage="No motions" />
+      <div className="grid grid-cols-2 gap-4 text-sm">
+        <label className="flex items-center justify-between gap-2">
+          Deadband (%)
+          <input
+            type="number"
+            min={0}
+            max={50}
+            step={1}
+            className={numberClass}
+            value={Math.round(draft.deadband * 100)}
+            onChange={(event) => setDraft((d) => ({ ...d, deadband: Number(event.target.value) / 100 }))}
+          />
+        </label>
+        <label className="flex items-center justify-between gap-2">
+          Expo (0 linear … 1 cubic)
+          <input
+            type="number"
+            min={0}
+            max={1}
+            step={0.05}
+            className={numberClass}
+            value={draft.expo}
+            onChange={(event) => setDraft((d) => ({ ...d, expo: Number(event.target.value) }))}
+          />
+        </label>
+        <div className="flex items-center justify-between gap-2">
+          <label htmlFor="enabling-button">Enabling button (hold to run)</label>
+          <span className="flex items-center gap-1">
             <input
+              id="enabling-button"
               type="number"
               min={0}
-              max={50}
-              step={1}
+              max={31}
               className={numberClass}
-              value={Math.round(draft.deadband * 100)}
-              onChange={(event) => setDraft((d) => ({ ...d, deadband: Number(event.target.value) / 100 }))}
+              value={draft.enablingButton}
+              onChange={(event) => setDraft((d) => ({ ...d, enablingButton: Number(event.target.value) }))}
             />
-          </label>
-          <label className="flex items-center justify-between gap-2">
-            Expo (0 linear … 1 cubic)
-            <input
-              type="number"
-              min={0}
-              max={1}
-              step={0.05}
-              className={numberClass}
-              value={draft.expo}
-              onChange={(event) => setDraft((d) => ({ ...d, expo: Number(event.target.value) }))}
-            />
-          </label>
-          <div className="flex items-center justify-between gap-2">
-            <label htmlFor="enabling-button">Enabling button (hold to run)</label>
-            <span className="flex items-center gap-1">
-              <input
-                id="enabling-button"
-                type="number"
-                min={0}
-                max={31}
-                className={numberClass}
-                value={draft.enablingButton}
-                onChange={(event) => setDraft((d) => ({ ...d, enablingButton: Number(event.target.value) }))}
-              />
-              <CaptureButton target={{ kind: "button", field: "enablingButton" }} current={capture} onToggle={toggleCapture} />
-            </span>
-          </div>
-          <div className="flex items-center justify-between gap-2">
-            <label htmlFor="estop-button">Emergency-stop button</label>
-            <span className="flex items-center gap-1">
-              <input
-                id="estop-button"
-                type="number"
-                min={0}
-                max={31}
-                placeholder="none"
-                className={numberClass}
-                value={draft.estopButton ?? ""}
-                onChange={(event) => setDraft((d) => ({ ...d, estopButton: event.target.value === "" ? null : Number(event.target.value) }))}
-              />
-              <CaptureButton target={{ kind: "button", field: "estopButton" }} current={capture} onToggle={toggleCapture} />
-            </span>
-          </div>
+            <CaptureButton target={{ kind: "button", field: "enablingButton" }} current={capture} onToggle={toggleCapture} />
+          </span>
         </div>
-        <p className="text-xs text-ink-400">
-          Standard layout: axes 0/1 left stick x/y, 2/3 right stick x/y; buttons 4/5 bumpers, 6/7 triggers, 12–15 d-pad.
-        </p>
-        {!parsed.success ? (
-          <Message tone="warn">{parsed.error.issues.map((i) => i.message).join("; ")}</Message>
-        ) : null}
-        {save.isError ? (
-          <Message tone="stop" title="Could not save the mapping">
-            {describeError(save.error)}
-          </Message>
-        ) : null}
-        <div className="flex justify-between gap-2">
-          <Button variant="ghost" onClick={() => setDraft(DEFAULT_GAMEPAD_MAPPING)}>
-            Restore defaults
+        <div className="flex items-center justify-between gap-2">
+          <label htmlFor="estop-button">Emergency-stop button</label>
+          <span className="flex items-center gap-1">
+            <input
+              id="estop-button"
+              type="number"
+              min={0}
+              max={31}
+              placeholder="none"
+              className={numberClass}
+              value={draft.estopButton ?? ""}
+              onChange={(event) => setDraft((d) => ({ ...d, estopButton: event.target.value === "" ? null : Number(event.target.value) }))}
+            />
+            <CaptureButton target={{ kind: "button", field: "estopButton" }} current={capture} onToggle={toggleCapture} />
+          </span>
+        </div>
+      </div>
+      <p className="text-xs text-ink-400">
+        Standard layout: axes 0/1 left stick x/y, 2/3 right stick x/y; buttons 4/5 bumpers, 6/7 triggers, 12–15 d-pad.
+      </p>
+      {!parsed.success ? (
+        <Message tone="warn">{parsed.error.issues.map((i) => i.message).join("; ")}</Message>
+      ) : null}
+      {save.isError ? (
+        <Message tone="stop" title="Could not save the mapping">
+          {describeError(save.error)}
+        </Message>
+      ) : null}
+      <div className="flex justify-between gap-2">
+        <Button variant="ghost" onClick={() => setDraft(DEFAULT_GAMEPAD_MAPPING)}>
+          Restore defaults
+        </Button>
+        <div className="flex gap-2">
+          <Button onClick={onClose}>Cancel</Button>
+          <Button type="submit" variant="primary" disabled={!parsed.success || save.isPending}>
+            Save mapping
           </Button>
-          <div className="flex gap-2">
-            <Button onClick={onClose}>Cancel</Button>
-            <Button type="submit" variant="primary" disabled={!parsed.success || save.isPending}>
-              Save mapping
-            </Button>
-          </div>
         </div>
-      </form>
-    </Dialog>
+      </div>
+    </form>
   );
 }

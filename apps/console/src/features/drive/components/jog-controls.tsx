@@ -5,7 +5,7 @@ import { Button } from "../../../components/ui/button.tsx";
 import { cn } from "../../../lib/cn.ts";
 import { jogClient } from "../../../lib/jog-socket.ts";
 import { jogInput, useJogInput } from "../input/jog-input.ts";
-import { Panel } from "./status-panels.tsx";
+import { Panel } from "../../../components/jog/status-panels.tsx";
 
 // On-screen jog controls. They only call the input controller (which sends through the jog client);
 // press-and-hold: pointerdown presses, pointerup / pointercancel / pointerleave / blur release.

@@ -1,18 +1,20 @@
-import { useEffect, useState } from "react";
+import { useEffect, useMemo, useState } from "react";
 import { useQuery } from "@tanstack/react-query";
+import type { ColumnDef } from "@tanstack/react-table";
+import type { LiveSession } from "@jogwright/shared";
 import { Eye, OctagonX } from "lucide-react";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
-import { Loading } from "../../../components/ui/loading.tsx";
+import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
 import { Message } from "../../../components/ui/message.tsx";
-import { describeError } from "../../../lib/api-client.ts";
 import { formatDateTime } from "../../../lib/format.ts";
 import { describeEnded, jogClient, mayStopWatchedSession, useJogSnapshot } from "../../../lib/jog-socket.ts";
-import { useArms } from "../../arms/hooks/use-arms.ts";
+import { useArms } from "../../../lib/queries/arms.ts";
 import { liveSessionsQueryOptions } from "../api/drive-api.ts";
 import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
-import { ConnectionState, DriveWorkspace, UnapprovedBanner } from "./drive-workspace.tsx";
+import { ConnectionState, DriveWorkspace, UnapprovedBanner } from "../../../components/jog/drive-workspace.tsx";
+import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 /**
  * Engineers and safety officers watch any live session: same view, no driving controls. A safety officer
@@ -48,52 +50,13 @@ export function LivePage() {
         actions={<ConnectionState snapshot={snapshot} />}
       />
       <div className="flex flex-col gap-4">
-        {live.isPending ? <Loading label="Loading live sessions…" /> : null}
-        {live.isError ? (
-          <Message tone="stop" title="Could not load the live sessions">
-            {describeError(live.error)}
-          </Message>
-        ) : null}
+        <QueryStatus query={live} loading="Loading live sessions…" failed="Could not load the live sessions" />
         {live.data?.length === 0 ? <Message>Nobody is driving right now.</Message> : null}
         {live.data && live.data.length > 0 ? (
-          <div className="overflow-hidden rounded-lg border border-ink-700">
-            <table className="w-full text-sm">
-              <thead className="bg-ink-800 text-left text-ink-300">
-                <tr>
-                  <th className="px-3 py-2 font-semibold">Driver</th>
-                  <th className="px-3 py-2 font-semibold">Profile</th>
-                  <th className="px-3 py-2 font-semibold">Arm</th>
-                  <th className="px-3 py-2 font-semibold">Started</th>
-                  <th />
-                </tr>
-              </thead>
-              <tbody>
-                {live.data.map((s) => (
-                  <tr key={s.sessionId} className="border-t border-ink-700 hover:bg-ink-850">
-                    <td className="px-3 py-2 font-mono">{s.driverName}</td>
-                    <td className="px-3 py-2">
-                      {s.profileName} <span className="num text-ink-400">v{s.versionNumber}</span>{" "}
-                      {s.isUnapproved ? <Badge tone="warn">unapproved</Badge> : null}
-                    </td>
-                    <td className="px-3 py-2">{s.armName}</td>
-                    <td className="px-3 py-2 text-ink-300">{formatDateTime(s.startedAt)}</td>
-                    <td className="px-3 py-2 text-right">
-                      <Button
-                        size="sm"
-                        variant={watchedId === s.sessionId ? "primary" : "secondary"}
-                        onClick={() => {
-                          setWatchedId(s.sessionId);
-                          jogClient.watch(s.sessionId);
-                        }}
-                      >
-                        <Eye aria-hidden className="size-3.5" /> Watch
-                      </Button>
-                    </td>
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          </div>
+          <LiveSessionsTable sessions={live.data} watchedId={watchedId} onWatch={(sessionId) => {
+            setWatchedId(sessionId);
+            jogClient.watch(sessionId);
+          }} />
         ) : null}
         {snapshot.error ? (
           <Message tone="stop" title="The server refused or failed">
@@ -115,6 +78,38 @@ export function LivePage() {
       </div>
     </>
   );
+}
+
+function LiveSessionsTable({ sessions, watchedId, onWatch }: { sessions: LiveSession[]; watchedId: string | null; onWatch: (sessionId: string) => void }) {
+  const columns = useMemo<ColumnDef<LiveSession>[]>(
+    () => [
+      { id: "driver", header: "Driver", cell: ({ row }) => row.original.driverName, meta: { className: "font-mono" } },
+      {
+        id: "profile",
+        header: "Profile",
+        cell: ({ row: { original: s } }) => (
+          <>
+            {s.profileName} <span className="num text-ink-400">v{s.versionNumber}</span> {s.isUnapproved ? <Badge tone="warn">unapproved</Badge> : null}
+          </>
+        ),
+      },
+      { id: "arm", header: "Arm", cell: ({ row }) => row.original.armName },
+      { id: "started", header: "Started", cell: ({ row }) => formatDateTime(row.original.startedAt), meta: { className: "text-ink-300" } },
+      {
+        id: "actions",
+        header: () => <span className="sr-only">Actions</span>,
+        cell: ({ row: { original: s } }) => (
+          <Button size="sm" variant={watchedId === s.sessionId ? "primary" : "secondary"} onClick={() => onWatch(s.sessionId)}>
+            <Eye aria-hidden className="size-3.5" /> Watch
+          </Button>
+        ),
+        meta: { className: "text-right" },
+      },
+    ],
+    [watchedId, onWatch],
+  );
+  const table = useDataTable({ data: sessions, columns, getRowId: (s) => s.sessionId });
+  return <DataTable table={table} caption="Live sessions" emptyMessage="Nobody is driving right now." testId="live-sessions" />;
 }
 
 /**

@@ -5,10 +5,10 @@ import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { EmptyTableRow, TableFrame, TableHead } from "../../../components/ui/table-frame.tsx";
-import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
 import { useOutbox, useRetryMail } from "../hooks/use-outbox.ts";
+import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 const STATUS_TONE = { pending: "warn", sent: "ok", failed: "stop" } as const;
 const STATUS_LABEL = { pending: "Pending", sent: "Sent", failed: "Failed" } as const;
@@ -25,12 +25,7 @@ export function OutboxPage() {
           {retry.error.message}
         </Message>
       ) : null}
-      {outbox.isPending ? <Loading label="Loading the outbox…" /> : null}
-      {outbox.isError ? (
-        <Message tone="stop" title="Could not load the outbox">
-          {outbox.error.message}
-        </Message>
-      ) : null}
+      <QueryStatus query={outbox} loading="Loading the outbox…" failed="Could not load the outbox" />
       {outbox.data ? (
         <TableFrame testId="outbox-table" caption="Outgoing mail">
           <TableHead

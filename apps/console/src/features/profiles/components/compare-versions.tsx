@@ -2,7 +2,7 @@ import { useState } from "react";
 import type { JointKind, ProfileVersion } from "@jogwright/shared";
 import { Checkbox } from "../../../components/ui/checkbox.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
-import { ParamsDiffTable } from "./params-table.tsx";
+import { ParamsDiffTable } from "../../../components/profiles/params-table.tsx";
 
 export interface ComparePair {
   fromId: number;

@@ -9,9 +9,9 @@ import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
-import { isApiRequestError, type ApiIssue } from "../../../lib/api-client.ts";
-import { useArms } from "../../arms/hooks/use-arms.ts";
-import { useCeilings } from "../../ceilings/hooks/use-ceilings.ts";
+import { isApiRequestError } from "../../../lib/api-client.ts";
+import { useArms } from "../../../lib/queries/arms.ts";
+import { useCeilings } from "../../../lib/queries/ceilings.ts";
 import { useCreateProfile, useOperators } from "../hooks/use-profiles.ts";
 import { ProfileParamsForm } from "./profile-params-form.tsx";
 
@@ -30,13 +30,14 @@ export function NewProfilePage() {
   const [operatorId, setOperatorId] = useState("");
   const [armId, setArmId] = useState<number | null>(null);
   const [isHeadTouched, setHeadTouched] = useState(false);
-  const [serverIssues, setServerIssues] = useState<ApiIssue[]>([]);
 
   const arm = arms.data?.find((a) => a.id === (armId ?? arms.data[0]?.id));
   const initialParams = useMemo(() => (arm ? defaultsFor(arm) : null), [arm]);
   const head = headSchema.safeParse({ name, operatorId });
   const headErrors: Record<string, string> = {};
   if (!head.success) for (const issue of head.error.issues) headErrors[String(issue.path[0])] ??= issue.message;
+  // The server's issues on the name and operator (the parameters form places its own).
+  const serverIssues = isApiRequestError(create.error) ? create.error.issues : [];
   for (const issue of serverIssues) if (issue.path === "name" || issue.path === "operatorId") headErrors[issue.path] = issue.message;
   const showHead = (key: string) => (isHeadTouched ? headErrors[key] : undefined);
 
@@ -51,17 +52,8 @@ export function NewProfilePage() {
 
   const onSave = (params: ProfileParams, note: string) => {
     setHeadTouched(true);
-    setServerIssues([]);
     if (!head.success || !arm) return;
-    create.mutate(
-      { name: name.trim(), operatorId, armId: arm.id, params, note },
-      {
-        onSuccess: (profile) => navigate(`/profiles/${profile.id}`),
-        onError: (error) => {
-          if (isApiRequestError(error)) setServerIssues([...error.issues]);
-        },
-      },
-    );
+    create.mutate({ name: name.trim(), operatorId, armId: arm.id, params, note }, { onSuccess: (profile) => navigate(`/profiles/${profile.id}`) });
   };
 
   return (
@@ -105,7 +97,7 @@ export function NewProfilePage() {
               arm={arm}
               ceilings={ceilings.data?.ceilings}
               initialParams={initialParams}
-              serverIssues={serverIssues}
+              serverError={create.error}
               onSave={onSave}
               footer={() => (
                 <div className="flex flex-col gap-3">

@@ -15,18 +15,19 @@ import { Button } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
-import { isApiRequestError, type ApiIssue } from "../../../lib/api-client.ts";
+import { isApiRequestError } from "../../../lib/api-client.ts";
 import { formatDateTime } from "../../../lib/format.ts";
-import { useArms } from "../../arms/hooks/use-arms.ts";
-import { useCeilings } from "../../ceilings/hooks/use-ceilings.ts";
+import { useArms } from "../../../lib/queries/arms.ts";
+import { useCeilings } from "../../../lib/queries/ceilings.ts";
 import type { ProfileDetail } from "@jogwright/shared";
 import { useProfile, useSaveVersion, useSubmitVersion } from "../hooks/use-profiles.ts";
-import { jointKindsOf, ratedSpeedsOf } from "./arm-joints.ts";
+import { jointKindsOf, ratedSpeedsOf } from "../../../lib/arm-joints.ts";
 import { CompareVersions, type ComparePair } from "./compare-versions.tsx";
-import { ParamsDiffTable, ParamsTable } from "./params-table.tsx";
+import { ParamsDiffTable, ParamsTable } from "../../../components/profiles/params-table.tsx";
 import { ProfileParamsForm } from "./profile-params-form.tsx";
 import { VersionHistoryTable } from "./version-history-table.tsx";
-import { VersionLabel } from "./version-state-badge.tsx";
+import { ProfileFacts } from "../../../components/profiles/profile-facts.tsx";
+import { VersionLabel } from "../../../components/profiles/version-state-badge.tsx";
 
 export function ProfileDetailPage({ profileId, user }: { profileId: number; user: User }) {
   const profile = useProfile(profileId);
@@ -94,12 +95,7 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
         title={profile.name}
         description={
           <span className="flex flex-wrap items-center gap-x-4 gap-y-1 text-sm">
-            <span>
-              Operator <strong className="text-ink-100">{profile.operatorName}</strong>
-            </span>
-            <span>
-              Arm <strong className="text-ink-100">{profile.armName}</strong>
-            </span>
+            <ProfileFacts profile={profile} />
             <span className="flex items-center gap-2" data-testid="driveable-version">
               Driveable {driveable ? <VersionLabel version={driveable} /> : <strong className="text-ink-100">none yet</strong>}
             </span>
@@ -211,7 +207,6 @@ function NewVersionCard({
   const [saved, setSaved] = useState<ProfileVersion | null>(null);
   const [conflict, setConflict] = useState<StaleConflict | null>(null);
   const [isComparingConflict, setComparingConflict] = useState(false);
-  const [serverIssues, setServerIssues] = useState<ApiIssue[]>([]);
   const save = useSaveVersion(profileId);
   const latest = versions[0]!;
   const savedNow = saved ? (versions.find((v) => v.id === saved.id) ?? saved) : null;
@@ -220,7 +215,6 @@ function NewVersionCard({
   const onSave = (params: ProfileParams, note: string) => {
     setConflict(null);
     setSaved(null);
-    setServerIssues([]);
     save.mutate(
       { parentVersionId: parent.id, params, note },
       {
@@ -230,11 +224,10 @@ function NewVersionCard({
           onSaved(version);
         },
         onError: (error) => {
+          // Other errors: the form puts a 400's issues on its fields (serverError below).
           if (isApiRequestError(error) && error.code === "stale_parent") {
             setConflict({ message: error.message, params });
             setComparingConflict(false);
-          } else if (isApiRequestError(error)) {
-            setServerIssues([...error.issues]);
           }
         },
       },
@@ -317,7 +310,7 @@ function NewVersionCard({
           arm={arm}
           ceilings={ceilings}
           initialParams={parent.params}
-          serverIssues={serverIssues}
+          serverError={save.error}
           onSave={onSave}
           footer={({ violations }) => (
             <div className="flex flex-col gap-3">

@@ -1,5 +1,6 @@
 import { useEffect, useMemo, type ReactNode } from "react";
-import { useForm, useWatch, type FieldErrors, type Resolver } from "react-hook-form";
+import { useForm, useWatch } from "react-hook-form";
+import { zodResolver } from "@hookform/resolvers/zod";
 import {
   checkCeilings,
   controlledStopDistanceM,
@@ -9,9 +10,6 @@ import {
   GUARD_POLICY_LABELS,
   JOINT_RATE_CAP_FIELD,
   NUMERIC_PROFILE_FIELDS,
-  profileParamsFromUi,
-  profileParamsSchema,
-  profileParamsToUi,
   profileWarnings,
   roundTo,
   topTcpSpeedMPerS,
@@ -23,74 +21,31 @@ import {
   type NumericProfileField,
   type ProfileFieldGroup,
   type ProfileParams,
-  type ProfileUiValues,
   type ProfileWarning,
 } from "@jogwright/shared";
+import { ISO_CEILING_CITATION } from "../../../components/profiles/ceiling-citation.ts";
 import { Checkbox } from "../../../components/ui/checkbox.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { NumberField } from "../../../components/ui/number-field.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
-import type { ApiIssue } from "../../../lib/api-client.ts";
-import { jointKindsOf, ratedSpeedsOf } from "./arm-joints.ts";
-
-/** The form state: every parameter in its UI unit (ProfileUiValues) plus the version note. */
-export type ProfileFormValues = ProfileUiValues & { note: string };
-
-/**
- * Where the 250 mm/s figure comes from. The 2011 edition was replaced in February 2025; the clause number is
- * from memory, not verified.
- */
-export const ISO_CEILING_CITATION =
-  "ISO 10218-1:2011, manual reduced speed: TCP ≤ 250 mm/s (figure confirmed in secondary sources; clause number from memory). That edition was replaced in February 2025 by ISO 10218-1:2025, which keeps a reduced-speed mode";
-
-type FlatErrors = Record<string, string>;
-
-function nest(flat: FlatErrors): FieldErrors<ProfileFormValues> {
-  const out: Record<string, unknown> = {};
-  for (const [key, message] of Object.entries(flat)) {
-    const parts = key.split(".");
-    let at = out;
-    for (const part of parts.slice(0, -1)) {
-      at[part] ??= {};
-      at = at[part] as Record<string, unknown>;
-    }
-    at[parts[parts.length - 1]!] = { type: "validate", message };
-  }
-  return out as FieldErrors<ProfileFormValues>;
-}
-
-/**
- * Validation as you type: the UI values are converted to SI and checked with the shared
- * profileParamsSchema (the same schema the server applies); its issues are put back on the UI fields.
- * An empty or non-numeric input gets "enter a number" in its unit instead of the schema's message.
- */
-export function validateProfileForm(values: ProfileFormValues, jointKinds: readonly JointKind[] | undefined): { params?: ProfileParams; errors: FlatErrors } {
-  const errors: FlatErrors = {};
-  values.jointRateCapsDegPerS.forEach((v, i) => {
-    if (!Number.isFinite(Number(v))) errors[`${JOINT_RATE_CAP_FIELD.uiKey}.${i}`] = "Enter a number";
-  });
-  for (const field of NUMERIC_PROFILE_FIELDS) {
-    if (field.dampingKind && field.dampingKind !== values.dampingKind) continue;
-    if (!Number.isFinite(Number(values[field.uiKey]))) errors[field.uiKey] = `Enter a number in ${field.uiUnit}`;
-  }
-  if (values.note.length > 2000) errors.note = "At most 2000 characters";
-  const parsed = profileParamsSchema.safeParse(profileParamsFromUi(values, jointKinds));
-  if (!parsed.success) {
-    for (const issue of parsed.error.issues) {
-      const key = uiKeyForProfilePath(issue.path.map(String).join(".")) ?? "root";
-      errors[key] ??= issue.message.charAt(0).toUpperCase() + issue.message.slice(1);
-    }
-  }
-  return Object.keys(errors).length === 0 && parsed.success ? { params: parsed.data, errors } : { errors };
-}
+import { jointKindsOf, ratedSpeedsOf } from "../../../lib/arm-joints.ts";
+import { applyServerIssues } from "../../../lib/server-issues.ts";
+import { profileCandidateOf, profileFormCodec, profileFormValuesOf, type ProfileFormOutput, type ProfileFormValues } from "../forms/profile-form-codec.ts";
 
 /** The values as SI parameters; may be incomplete while typing (NaN compares false, so a blank field raises nothing). */
-const candidateOf = (values: ProfileFormValues, arm: Arm) => profileParamsFromUi(values, jointKindsOf(arm)) as unknown as ProfileParams;
+const candidateOf = (values: ProfileFormValues, jointKinds: readonly JointKind[] | undefined) => profileCandidateOf(values, jointKinds) as unknown as ProfileParams;
+
+/**
+ * The form field a server issue belongs to: `params.<SI path>` → its UI field ("params.tcpLinearCapMPerS" →
+ * "tcpLinearCapMmPerS"), `note` → the note.
+ */
+const fieldOfServerIssue = (path: string): string | undefined =>
+  path === "note" ? "note" : path.startsWith("params.") ? uiKeyForProfilePath(path.slice("params.".length)) : undefined;
 
 function ceilingViolationsOf(values: ProfileFormValues, ceilings: Ceilings | undefined, arm: Arm): CeilingViolation[] {
   if (!ceilings) return [];
-  return checkCeilings(candidateOf(values, arm), ceilings, ratedSpeedsOf(arm));
+  return checkCeilings(candidateOf(values, jointKindsOf(arm)), ceilings, ratedSpeedsOf(arm));
 }
 
 export interface ProfileParamsFormProps {
@@ -101,28 +56,25 @@ export interface ProfileParamsFormProps {
   initialParams: ProfileParams;
   initialNote?: string;
   isReadOnly?: boolean;
-  /** Issues from the server's 400 answer, placed on the fields they name. */
-  serverIssues?: readonly ApiIssue[];
+  /** The save's error: a 400's issues are placed on the fields they name (applyServerIssues). */
+  serverError?: unknown;
   onSave: (params: ProfileParams, note: string) => void;
   /** Rendered at the end, inside the form (buttons, server messages). */
   footer?: (state: { violations: CeilingViolation[]; isDirty: boolean }) => ReactNode;
 }
 
-export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initialNote = "", isReadOnly, serverIssues, onSave, footer }: ProfileParamsFormProps) {
-  const jointKinds = jointKindsOf(arm);
-  const resolver = useMemo<Resolver<ProfileFormValues>>(
-    () => async (values) => {
-      const { params, errors } = validateProfileForm(values, jointKinds);
-      return params ? { values, errors: {} } : { values: {}, errors: nest(errors) };
-    },
-    // jointKinds is derived from the arm, which does not change while the form is mounted.
-    [arm.id],
-  );
-  const defaultValues = useMemo<ProfileFormValues>(() => ({ ...profileParamsToUi(initialParams, jointKinds), note: initialNote }), [initialParams, initialNote, arm.id]);
-  const { register, handleSubmit, control, setError, formState } = useForm<ProfileFormValues>({ resolver, mode: "onChange", defaultValues });
+export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initialNote = "", isReadOnly, serverError, onSave, footer }: ProfileParamsFormProps) {
+  const jointKinds = useMemo(() => jointKindsOf(arm), [arm]);
+  // Validation as you type: the codec converts the UI values to SI and checks them with the shared
+  // profileParamsSchema (the server's), its issues on the UI fields; handleSubmit receives the SI values.
+  const resolver = useMemo(() => zodResolver(profileFormCodec(jointKinds)), [jointKinds]);
+  // The plain conversion, not the codec's encode: a stored value that rounds past a bound in its UI unit
+  // shows with its error instead of failing the page.
+  const defaultValues = useMemo(() => profileFormValuesOf(initialParams, initialNote, jointKinds), [initialParams, initialNote, jointKinds]);
+  const { register, handleSubmit, control, setError, formState } = useForm<ProfileFormValues, unknown, ProfileFormOutput>({ resolver, mode: "onChange", defaultValues });
   const values = useWatch({ control }) as ProfileFormValues;
   const violations = useMemo(() => ceilingViolationsOf(values, ceilings, arm), [values, ceilings, arm]);
-  const advisories = useMemo<ProfileWarning[]>(() => profileWarnings(candidateOf(values, arm)), [values, arm]);
+  const advisories = useMemo<ProfileWarning[]>(() => profileWarnings(candidateOf(values, jointKinds)), [values, jointKinds]);
   const warnings = useMemo(() => {
     const byKey: Record<string, string> = {};
     // A ceiling breach outranks an advisory on the same field.
@@ -134,12 +86,9 @@ export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initia
   }, [violations, advisories]);
 
   useEffect(() => {
-    for (const issue of serverIssues ?? []) {
-      const path = issue.path.replace(/^params\./, "");
-      const key = uiKeyForProfilePath(path) ?? (path === "note" ? "note" : undefined);
-      if (key) setError(key, { type: "server", message: issue.message });
-    }
-  }, [serverIssues, setError]);
+    const unplaced = applyServerIssues<ProfileFormValues>(serverError, fieldOfServerIssue, setError);
+    if (unplaced.length > 0) setError("root.server", { type: "server", message: unplaced.join(" · ") });
+  }, [serverError, setError]);
 
   const errorOf = (key: string): string | undefined => {
     const parts = key.split(".");
@@ -147,12 +96,9 @@ export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initia
     for (const part of parts) at = at && typeof at === "object" ? (at as Record<string, unknown>)[part] : undefined;
     return at && typeof at === "object" && "message" in at ? String((at as { message?: string }).message) : undefined;
   };
-  const rootError = errorOf("root");
+  const rootError = formState.errors.root?.message ?? formState.errors.root?.server?.message;
 
-  const submit = handleSubmit((v) => {
-    const { params } = validateProfileForm(v, jointKinds);
-    if (params) onSave(params, v.note.trim());
-  });
+  const submit = handleSubmit(({ params, note }) => onSave(params, note));
 
   const field = (f: NumericProfileField, deps?: string[], extraHint?: ReactNode) => (
     <NumberField
@@ -329,7 +275,7 @@ function ceilingHint(uiKey: string, ceilings: Ceilings | undefined): ReactNode |
 
 /** The controlled stop the ramp gives from the top speed (v²/2a, derived), against the site's stop ceilings. */
 function stopHint(values: ProfileFormValues, arm: Arm, ceilings: Ceilings | undefined): ReactNode | undefined {
-  const p = candidateOf(values, arm);
+  const p = candidateOf(values, jointKindsOf(arm));
   const stopM = controlledStopDistanceM(topTcpSpeedMPerS(p), p.shaping?.linearAccelMPerS2 ?? Number.NaN);
   const stop = Number.isFinite(stopM) ? `Also the controlled-stop ramp: from the top speed it stops in ${roundTo(stopM * 1000, 1)} mm (v²/2a).` : "Also the controlled-stop ramp.";
   if (!ceilings) return stop;

@@ -5,13 +5,11 @@ import type { ColumnDef } from "@tanstack/react-table";
 import { Plus } from "lucide-react";
 import type { ProfileSummary, User } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
-import { DataTable, TableFilter, useSortableFilterableTable } from "../../../components/ui/data-table.tsx";
-import { Loading } from "../../../components/ui/loading.tsx";
-import { Message } from "../../../components/ui/message.tsx";
-import { formatDateTime } from "../../../lib/format.ts";
+import { createdAtColumn, DataTable, TableFilter, useSortableFilterableTable } from "../../../components/ui/data-table.tsx";
 import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
-import { useProfiles } from "../hooks/use-profiles.ts";
-import { VersionLabel } from "./version-state-badge.tsx";
+import { useProfiles } from "../../../lib/queries/profiles.ts";
+import { VersionLabel } from "../../../components/profiles/version-state-badge.tsx";
+import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 const isPureOperator = (user: User) => user.roles.includes("operator") && !user.roles.some((r) => r === "engineer" || r === "safety_officer");
 
@@ -40,12 +38,7 @@ export function ProfilesPage({ user }: { user: User }) {
           ) : null
         }
       />
-      {profiles.isPending ? <Loading label="Loading profiles…" /> : null}
-      {profiles.isError ? (
-        <Message tone="stop" title="Could not load the profiles">
-          {profiles.error.message}
-        </Message>
-      ) : null}
+      <QueryStatus query={profiles} loading="Loading profiles…" failed="Could not load the profiles" />
       {profiles.data ? <ProfilesTable profiles={profiles.data} /> : null}
     </>
   );
@@ -90,14 +83,7 @@ function ProfilesTable({ profiles }: { profiles: ProfileSummary[] }) {
         enableGlobalFilter: false,
         cell: (c) => <DriveableCell profile={c.row.original} />,
       },
-      {
-        id: "created",
-        accessorKey: "createdAt",
-        header: "Created",
-        enableGlobalFilter: false,
-        sortingFn: "alphanumeric",
-        cell: (c) => <span className="num whitespace-nowrap text-ink-300">{formatDateTime(c.row.original.createdAt)}</span>,
-      },
+      createdAtColumn(),
     ],
     [],
   );

@@ -4,7 +4,7 @@ import type { ProfileVersion } from "@jogwright/shared";
 import { Button } from "../../../components/ui/button.tsx";
 import { TableFrame, TableHead } from "../../../components/ui/table-frame.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
-import { FlaggedBadge, shortHash, VersionStateBadge } from "./version-state-badge.tsx";
+import { FlaggedBadge, shortHash, VersionStateBadge } from "../../../components/profiles/version-state-badge.tsx";
 
 interface VersionHistoryTableProps {
   versions: ProfileVersion[];

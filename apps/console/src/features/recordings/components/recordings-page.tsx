@@ -1,20 +1,21 @@
 import { useEffect, useMemo, useRef, useState } from "react";
 import { useSearchParams } from "react-router";
 import { useQuery } from "@tanstack/react-query";
+import type { ColumnDef } from "@tanstack/react-table";
 import { ArrowLeft, Pause, Play } from "lucide-react";
 import { DEG_PER_RAD, type Arm, type ProfileParams, type RecordedFrame, type Recording, type RecordingSummary } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
-import { Loading } from "../../../components/ui/loading.tsx";
+import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
 import { Message } from "../../../components/ui/message.tsx";
-import { describeError } from "../../../lib/api-client.ts";
 import { formatDateTime, formatFixed } from "../../../lib/format.ts";
-import { useArms } from "../../arms/hooks/use-arms.ts";
-import { DriveWorkspace } from "../../drive/index.ts";
+import { useArms } from "../../../lib/queries/arms.ts";
+import { DriveWorkspace } from "../../../components/jog/drive-workspace.tsx";
 import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
 import { recordingDetailQueryOptions, recordingListQueryOptions } from "../api/recordings-api.ts";
 import { ReplaySource } from "../replay-source.ts";
+import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 // The recordings list and the replay of one (?recording=<id>): a timeline to scrub and play/pause at
 // real time, driving the same 3D view, panels and charts as the drive page.
@@ -73,53 +74,53 @@ export function RecordingsPage() {
   return (
     <>
       <PageHeader title="Recordings" description="Every driven session is recorded. Open one to replay it: scrub the timeline or play it at real time." />
-      {recordings.isPending ? <Loading label="Loading recordings…" /> : null}
-      {recordings.isError ? (
-        <Message tone="stop" title="Could not load the recordings">
-          {describeError(recordings.error)}
-        </Message>
-      ) : null}
+      <QueryStatus query={recordings} loading="Loading recordings…" failed="Could not load the recordings" />
       {recordings.data?.length === 0 ? <Message>No session has been recorded yet.</Message> : null}
       {recordings.data && recordings.data.length > 0 ? (
-        <div className="overflow-x-auto rounded-lg border border-ink-700">
-          <table className="w-full text-sm" data-testid="recordings-table">
-            <thead className="bg-ink-800 text-left text-ink-300">
-              <tr>
-                <th className="px-3 py-2 font-semibold">Driver</th>
-                <th className="px-3 py-2 font-semibold">Arm</th>
-                <th className="px-3 py-2 font-semibold">Profile version</th>
-                <th className="px-3 py-2 font-semibold">Started</th>
-                <th className="px-3 py-2 font-semibold">Duration</th>
-                <th className="px-3 py-2 font-semibold">Ended by</th>
-                <th className="px-3 py-2 font-semibold">Summary</th>
-                <th />
-              </tr>
-            </thead>
-            <tbody>
-              {recordings.data.map((r) => (
-                <tr key={r.id} className="border-t border-ink-700 hover:bg-ink-850">
-                  <td className="px-3 py-2 font-mono">{r.driverName}</td>
-                  <td className="px-3 py-2">{r.armName}</td>
-                  <td className="px-3 py-2">
-                    {r.profileName} <span className="num text-ink-400">v{r.versionNumber}</span>
-                  </td>
-                  <td className="px-3 py-2 whitespace-nowrap text-ink-300">{formatDateTime(r.startedAt)}</td>
-                  <td className="num px-3 py-2 text-right whitespace-nowrap">{durationText(r)}</td>
-                  <td className="px-3 py-2">{r.endReason ?? <Badge tone="accent">live</Badge>}</td>
-                  <td className="px-3 py-2 text-xs text-ink-300">{summaryText(r, arms.data?.find((a) => a.id === r.armId))}</td>
-                  <td className="px-3 py-2 text-right">
-                    <Button size="sm" onClick={() => setSearch({ recording: String(r.id) })} aria-label={`Replay recording ${r.id}`}>
-                      <Play aria-hidden className="size-3.5" /> Replay
-                    </Button>
-                  </td>
-                </tr>
-              ))}
-            </tbody>
-          </table>
-        </div>
+        <RecordingsTable recordings={recordings.data} arms={arms.data} onReplay={(id) => setSearch({ recording: String(id) })} />
       ) : null}
     </>
   );
+}
+
+function RecordingsTable({ recordings, arms, onReplay }: { recordings: Recording[]; arms: Arm[] | undefined; onReplay: (recordingId: number) => void }) {
+  const columns = useMemo<ColumnDef<Recording>[]>(
+    () => [
+      { id: "driver", header: "Driver", cell: ({ row }) => row.original.driverName, meta: { className: "font-mono" } },
+      { id: "arm", header: "Arm", cell: ({ row }) => row.original.armName },
+      {
+        id: "version",
+        header: "Profile version",
+        cell: ({ row: { original: r } }) => (
+          <>
+            {r.profileName} <span className="num text-ink-400">v{r.versionNumber}</span>
+          </>
+        ),
+      },
+      { id: "started", header: "Started", cell: ({ row }) => formatDateTime(row.original.startedAt), meta: { className: "whitespace-nowrap text-ink-300" } },
+      { id: "duration", header: "Duration", cell: ({ row }) => durationText(row.original), meta: { className: "num text-right whitespace-nowrap" } },
+      { id: "ended", header: "Ended by", cell: ({ row }) => row.original.endReason ?? <Badge tone="accent">live</Badge> },
+      {
+        id: "summary",
+        header: "Summary",
+        cell: ({ row: { original: r } }) => summaryText(r, arms?.find((a) => a.id === r.armId)),
+        meta: { className: "text-xs text-ink-300" },
+      },
+      {
+        id: "actions",
+        header: () => <span className="sr-only">Actions</span>,
+        cell: ({ row: { original: r } }) => (
+          <Button size="sm" onClick={() => onReplay(r.id)} aria-label={`Replay recording ${r.id}`}>
+            <Play aria-hidden className="size-3.5" /> Replay
+          </Button>
+        ),
+        meta: { className: "text-right" },
+      },
+    ],
+    [arms, onReplay],
+  );
+  const table = useDataTable({ data: recordings, columns, getRowId: (r) => String(r.id) });
+  return <DataTable table={table} caption="Recorded sessions" emptyMessage="No session has been recorded yet." testId="recordings-table" verticalAlign="top" />;
 }
 
 function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () => void }) {
@@ -148,12 +149,7 @@ function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () =
           </Button>
         }
       />
-      {detail.isPending || arms.isPending ? <Loading label="Loading the recording…" /> : null}
-      {detail.isError ? (
-        <Message tone="stop" title="Could not load the recording">
-          {describeError(detail.error)}
-        </Message>
-      ) : null}
+      <QueryStatus query={detail} isPending={detail.isPending || arms.isPending} loading="Loading the recording…" failed="Could not load the recording" />
       {detail.data && detail.data.frames.length === 0 ? <Message>This recording has no frames.</Message> : null}
       {detail.data && arm && detail.data.frames.length > 0 ? <ReplayPlayer arm={arm} frames={detail.data.frames} params={params} /> : null}
     </>

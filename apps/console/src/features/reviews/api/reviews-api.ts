@@ -2,16 +2,12 @@ import { queryOptions } from "@tanstack/react-query";
 import { z } from "zod";
 import { profileVersionSchema, type ProfileVersion } from "@jogwright/shared";
 import { apiRequest } from "../../../lib/api-client.ts";
+import { reviewKeys } from "../../../lib/queries/reviews.ts";
 
 const reviewItemSchema = profileVersionSchema.extend({ profileName: z.string(), operatorName: z.string(), armName: z.string() });
 export type ReviewItem = z.infer<typeof reviewItemSchema>;
 const reviewListSchema = z.object({ versions: z.array(reviewItemSchema) });
 const oneVersionSchema = z.object({ version: profileVersionSchema });
-
-export const reviewKeys = {
-  all: ["reviews"] as const,
-  queue: () => [...reviewKeys.all, "queue"] as const,
-};
 
 export const reviewQueueQueryOptions = () =>
   queryOptions({

@@ -1,9 +1,13 @@
 import { useState } from "react";
+import { useForm } from "react-hook-form";
+import { zodResolver } from "@hookform/resolvers/zod";
+import { z } from "zod";
 import { approveVersionSchema, rejectVersionSchema, retireVersionSchema, type ProfileVersion } from "@jogwright/shared";
 import { CAUTION_TEXT } from "../../../components/layout/cautions-banner.tsx";
 import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
+import { applyServerIssues } from "../../../lib/server-issues.ts";
 import type { Decision } from "../api/reviews-api.ts";
 import { useDecideVersion } from "../hooks/use-reviews.ts";
 
@@ -12,6 +16,16 @@ const TEXT: Record<Decision, { title: string; field: string; button: string; bus
   reject: { title: "Reject", field: "Reason for rejecting", button: "Reject", busy: "Rejecting…" },
   retire: { title: "Retire", field: "Reason for retiring", button: "Retire", busy: "Retiring…" },
 };
+
+/** The one field: the approval's comment or the reason, checked with the shared schema's rule for it. */
+const TEXT_SCHEMAS: Record<Decision, z.ZodObject<{ text: z.ZodType<string, string> }>> = {
+  approve: z.object({ text: approveVersionSchema.shape.comment }),
+  reject: z.object({ text: rejectVersionSchema.shape.reason }),
+  retire: z.object({ text: retireVersionSchema.shape.reason }),
+};
+
+/** The server names the field `comment` (approve) or `reason` (reject, retire). */
+const fieldOfServerIssue = (path: string) => (path === "comment" || path === "reason" ? ("text" as const) : undefined);
 
 /** Approve, reject or retire one version; every decision needs a written comment or reason. */
 export function DecisionDialog({ decision, version, label, onClose, onDone }: {
@@ -35,25 +49,23 @@ function DecisionForm({ decision, version, onCancel, onDone }: {
   onDone: (decision: Decision, version: ProfileVersion) => void;
 }) {
   const decide = useDecideVersion(version.id);
-  const [text, setText] = useState("");
-  const [isTouched, setTouched] = useState(false);
-  const parsed =
-    decision === "approve"
-      ? approveVersionSchema.safeParse({ comment: text, paramsSha256: version.paramsSha256 })
-      : (decision === "reject" ? rejectVersionSchema : retireVersionSchema).safeParse({ reason: text });
-  const error = !parsed.success && isTouched ? parsed.error.issues[0]?.message : undefined;
+  const [unplacedIssues, setUnplacedIssues] = useState<string[]>([]);
+  const { register, handleSubmit, setError, formState } = useForm({
+    resolver: zodResolver(TEXT_SCHEMAS[decision]),
+    mode: "onTouched",
+    defaultValues: { text: "" },
+  });
   const t = TEXT[decision];
 
-  const onSubmit = (event: React.FormEvent) => {
-    event.preventDefault();
-    setTouched(true);
-    if (!parsed.success) return;
-    const input =
-      decision === "approve"
-        ? { decision, comment: text.trim(), paramsSha256: version.paramsSha256 }
-        : { decision, reason: text.trim() };
-    decide.mutate(input, { onSuccess: (v) => onDone(decision, v) });
-  };
+  // The resolver has trimmed and checked the text.
+  const onSubmit = handleSubmit(({ text }) => {
+    setUnplacedIssues([]);
+    const input = decision === "approve" ? { decision, comment: text, paramsSha256: version.paramsSha256 } : { decision, reason: text };
+    decide.mutate(input, {
+      onSuccess: (v) => onDone(decision, v),
+      onError: (error) => setUnplacedIssues(applyServerIssues(error, fieldOfServerIssue, setError)),
+    });
+  });
 
   return (
     <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4">
@@ -72,14 +84,13 @@ function DecisionForm({ decision, version, onCancel, onDone }: {
       <TextAreaField
         label={t.field}
         hint={decision === "approve" ? "Required. Recorded with your name, the time and the hash." : "Required. The author sees it."}
-        value={text}
-        onChange={(e) => setText(e.target.value)}
-        onBlur={() => setTouched(true)}
-        error={error}
+        error={formState.errors.text?.message}
+        {...register("text")}
       />
       {decide.isError ? (
         <Message tone="stop" title="Not done">
           {decide.error.message}
+          {unplacedIssues.length > 0 ? <p>{unplacedIssues.join(" · ")}</p> : null}
         </Message>
       ) : null}
       <DialogFormActions

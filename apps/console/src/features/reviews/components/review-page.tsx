@@ -8,11 +8,12 @@ import { Card } from "../../../components/ui/card.tsx";
 import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
-import { useArms } from "../../arms/hooks/use-arms.ts";
-import { jointKindsOf } from "../../profiles/components/arm-joints.ts";
-import { ParamsDiffTable, ParamsTable } from "../../profiles/components/params-table.tsx";
-import { VersionLabel } from "../../profiles/components/version-state-badge.tsx";
-import { useVersionDetail } from "../../profiles/hooks/use-profiles.ts";
+import { useArms } from "../../../lib/queries/arms.ts";
+import { jointKindsOf } from "../../../lib/arm-joints.ts";
+import { ParamsDiffTable, ParamsTable } from "../../../components/profiles/params-table.tsx";
+import { Fact, ProfileFacts } from "../../../components/profiles/profile-facts.tsx";
+import { VersionLabel } from "../../../components/profiles/version-state-badge.tsx";
+import { useVersionDetail } from "../../../lib/queries/profiles.ts";
 import type { Decision } from "../api/reviews-api.ts";
 import { DecisionDialog } from "./decision-dialog.tsx";
 
@@ -56,15 +57,8 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
         description={
           <span className="flex flex-wrap items-center gap-x-4 gap-y-1 text-sm">
             <VersionLabel version={version} />
-            <span>
-              Operator <strong className="text-ink-100">{profile.operatorName}</strong>
-            </span>
-            <span>
-              Arm <strong className="text-ink-100">{profile.armName}</strong>
-            </span>
-            <span>
-              Author <strong className="text-ink-100">{version.authorName}</strong>
-            </span>
+            <ProfileFacts profile={profile} />
+            <Fact label="Author">{version.authorName}</Fact>
             {version.submittedAt ? <span className="num">Submitted {formatDateTime(version.submittedAt)}</span> : null}
           </span>
         }

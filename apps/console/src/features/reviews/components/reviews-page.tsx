@@ -1,11 +1,10 @@
 import { Link } from "react-router";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { EmptyTableRow, TableFrame, TableHead } from "../../../components/ui/table-frame.tsx";
-import { Loading } from "../../../components/ui/loading.tsx";
-import { Message } from "../../../components/ui/message.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
-import { shortHash } from "../../profiles/components/version-state-badge.tsx";
+import { shortHash } from "../../../components/profiles/version-state-badge.tsx";
 import { useReviewQueue } from "../hooks/use-reviews.ts";
+import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 export function ReviewsPage() {
   const queue = useReviewQueue();
@@ -15,12 +14,7 @@ export function ReviewsPage() {
         title="Reviews"
         description="Versions submitted for review, oldest first. Open one to see its parameters, what changed since the approved version, the ceiling check and its evidence."
       />
-      {queue.isPending ? <Loading label="Loading the review queue…" /> : null}
-      {queue.isError ? (
-        <Message tone="stop" title="Could not load the review queue">
-          {queue.error.message}
-        </Message>
-      ) : null}
+      <QueryStatus query={queue} loading="Loading the review queue…" failed="Could not load the review queue" />
       {queue.data ? (
         <TableFrame testId="review-queue" caption="Submitted versions waiting for a decision">
           <TableHead headings={["Profile", "Version", "Operator", "Arm", "Author", "Submitted", "Hash"]} hasActions />

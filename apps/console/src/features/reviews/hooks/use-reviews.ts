@@ -1,6 +1,6 @@
 import { useMutation, useQuery } from "@tanstack/react-query";
 import { decideVersion, reviewQueueQueryOptions, type DecisionInput } from "../api/reviews-api.ts";
-import { useInvalidateProfiles } from "../../profiles/hooks/use-profiles.ts";
+import { useInvalidateProfiles } from "../../../lib/queries/profiles.ts";
 
 export const useReviewQueue = () => useQuery(reviewQueueQueryOptions());
 

@@ -24,12 +24,7 @@ export function CreateUserDialog({ open, onClose, onCreated }: { open: boolean; 
 function CreateUserForm({ onCancel, onCreated }: { onCancel: () => void; onCreated: (user: User) => void }) {
   const createUser = useCreateUser();
   const [formMessages, setFormMessages] = useState<string[]>([]);
-  const {
-    register,
-    handleSubmit,
-    setError,
-    formState: { errors },
-  } = useForm({
+  const { register, handleSubmit, setError, formState: { errors } } = useForm({
     resolver: zodResolver(createUserSchema),
     mode: "onTouched",
     defaultValues: { username: "", displayName: "", email: "", password: "", roles: [] },

@@ -49,12 +49,7 @@ function changedFields(user: User, values: EditUserFormValues): UpdateUserInput 
 function EditUserForm({ user, onCancel, onSaved }: { user: User; onCancel: () => void; onSaved: (user: User) => void }) {
   const updateUser = useUpdateUser();
   const [formMessages, setFormMessages] = useState<string[]>([]);
-  const {
-    register,
-    handleSubmit,
-    setError,
-    formState: { errors },
-  } = useForm({
+  const { register, handleSubmit, setError, formState: { errors } } = useForm({
     resolver: zodResolver(editUserFormSchema),
     mode: "onTouched",
     defaultValues: { displayName: user.displayName, email: user.email, roles: [...user.roles], password: "" },

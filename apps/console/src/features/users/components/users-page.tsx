@@ -3,13 +3,13 @@ import { UserPlus } from "lucide-react";
 import type { User } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
-import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { useUsers } from "../hooks/use-users.ts";
 import { ConfirmActiveDialog } from "./confirm-active-dialog.tsx";
 import { CreateUserDialog } from "./create-user-dialog.tsx";
 import { EditUserDialog } from "./edit-user-dialog.tsx";
 import { UsersTable } from "./users-table.tsx";
+import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 export function UsersPage({ currentUserId }: { currentUserId: string }) {
   const users = useUsers();
@@ -37,12 +37,7 @@ export function UsersPage({ currentUserId }: { currentUserId: string }) {
           {notice}
         </Message>
       ) : null}
-      {users.isPending ? <Loading label="Loading users…" /> : null}
-      {users.isError ? (
-        <Message tone="stop" title="Could not load the users">
-          {users.error.message}
-        </Message>
-      ) : null}
+      <QueryStatus query={users} loading="Loading users…" failed="Could not load the users" />
       {users.data ? (
         <UsersTable users={users.data} currentUserId={currentUserId} onEdit={onEdit} onToggleActive={onToggleActive} />
       ) : null}

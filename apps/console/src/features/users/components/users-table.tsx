@@ -4,8 +4,7 @@ import { Pencil, UserCheck, UserX } from "lucide-react";
 import { ROLES, ROLE_LABELS, type User } from "@jogwright/shared";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
-import { DataTable, TableFilter, useSortableFilterableTable } from "../../../components/ui/data-table.tsx";
-import { formatDateTime } from "../../../lib/format.ts";
+import { createdAtColumn, DataTable, TableFilter, useSortableFilterableTable } from "../../../components/ui/data-table.tsx";
 
 interface UsersTableProps {
   users: User[];
@@ -50,15 +49,7 @@ export function UsersTable({ users, currentUserId, onEdit, onToggleActive }: Use
         header: "Status",
         cell: (c) => <Badge tone={c.row.original.isActive ? "ok" : "stop"}>{c.getValue<string>()}</Badge>,
       },
-      {
-        id: "created",
-        accessorKey: "createdAt",
-        header: "Created",
-        enableGlobalFilter: false,
-        // ISO 8601 strings sort in time order.
-        sortingFn: "alphanumeric",
-        cell: (c) => <span className="num whitespace-nowrap text-ink-300">{formatDateTime(c.row.original.createdAt)}</span>,
-      },
+      createdAtColumn(),
       {
         id: "actions",
         header: () => <span className="sr-only">Actions</span>,

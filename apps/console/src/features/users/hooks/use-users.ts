@@ -1,6 +1,7 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { CreateUserInput, UpdateUserInput, User } from "@jogwright/shared";
-import { createUser, updateUser, userKeys, userListQueryOptions } from "../api/users-api.ts";
+import { userKeys, userListQueryOptions } from "../../../lib/queries/users.ts";
+import { createUser, updateUser } from "../api/users-api.ts";
 
 export function useUsers() {
   return useQuery(userListQueryOptions());

@@ -1,7 +1,9 @@
-import { queryOptions } from "@tanstack/react-query";
+import { queryOptions, useQuery } from "@tanstack/react-query";
 import { z } from "zod";
 import { armSchema } from "@jogwright/shared";
-import { apiRequest } from "../../../lib/api-client.ts";
+import { apiRequest } from "../api-client.ts";
+
+/** The arms (read by the arms page, profiles, reviews, drive, live and recordings): one key factory, one query. */
 
 const armListSchema = z.object({ arms: z.array(armSchema) });
 
@@ -16,3 +18,5 @@ export const armListQueryOptions = () =>
     queryFn: async ({ signal }) => (await apiRequest("/api/arms", { schema: armListSchema, signal })).arms,
     staleTime: 5 * 60_000,
   });
+
+export const useArms = () => useQuery(armListQueryOptions());

@@ -1,21 +1,7 @@
-import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { SignInInput, User } from "@jogwright/shared";
-import { isSessionKey, sessionQueryOptions, signIn, signOut, storeSession } from "../api/auth-api.ts";
-
-/** The current session: GET /api/auth/me, where 401 means signed out (data.user === null). */
-export function useSession() {
-  return useQuery(sessionQueryOptions());
-}
-
-/**
- * The signed-in user, for components inside the signed-in area (the shell's guard renders them only
- * when there is one).
- */
-export function useCurrentUser(): User {
-  const { data } = useSession();
-  if (!data?.user) throw new Error("useCurrentUser was called outside the signed-in area.");
-  return data.user;
-}
+import { useMutation, useQueryClient } from "@tanstack/react-query";
+import type { SignInInput } from "@jogwright/shared";
+import { isSessionKey, storeSession } from "../../../lib/session.ts";
+import { signIn, signOut } from "../api/auth-api.ts";
 
 export function useSignIn() {
   const queryClient = useQueryClient();

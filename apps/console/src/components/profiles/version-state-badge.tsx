@@ -1,5 +1,5 @@
 import type { ProfileVersion, VersionState } from "@jogwright/shared";
-import { Badge } from "../../../components/ui/badge.tsx";
+import { Badge } from "../ui/badge.tsx";
 
 const STATE_LABELS: Record<VersionState, string> = {
   draft: "Draft",

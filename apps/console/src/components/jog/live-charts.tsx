@@ -1,7 +1,7 @@
 import { memo, useEffect, useRef } from "react";
 import uPlot from "uplot";
 import "uplot/dist/uPlot.min.css";
-import type { ChartColumns, ChartData, FrameSource } from "../../../lib/frame-trace.ts";
+import type { ChartColumns, ChartData, FrameSource } from "../../lib/frame-trace.ts";
 
 /**
  * Three uPlot charts over a rolling window of the FrameSource's trace: joint rates (deg/s), σ_min and λ

@@ -9,7 +9,7 @@ import {
   type ArmModel,
   type VelocityEllipsoid,
 } from "@jogwright/kinematics";
-import type { FrameSource } from "../../../lib/frame-trace.ts";
+import type { FrameSource } from "../../lib/frame-trace.ts";
 
 /**
  * The 3D arm, built from its DH model in the browser: every link frame from q (kinematics package,
@@ -70,20 +70,33 @@ interface ArmRigProps {
   statusRef: React.RefObject<HTMLDivElement | null>;
 }
 
+interface RigScratch {
+  n: number;
+  restPose: readonly number[];
+  J: Float64Array;
+  pose: Float64Array;
+  ellipsoid: VelocityEllipsoid;
+  rest: Float64Array;
+  lastSerial: number;
+  drawn: number;
+}
+
+const createRigScratch = (n: number, restPose: readonly number[]): RigScratch => ({
+  n,
+  restPose,
+  J: new Float64Array(6 * n),
+  pose: new Float64Array(16),
+  ellipsoid: { axes: new Float64Array(9), lengths: new Float64Array(3), manipulability: 0 },
+  rest: Float64Array.from({ length: n }, (_, i) => restPose[i] ?? 0),
+  lastSerial: -1,
+  drawn: 0,
+});
+
 function ArmRig({ arm, restPose, source, statusRef }: ArmRigProps) {
   const kernel = useMemo(() => compileArm(arm), [arm]);
   const n = kernel.n;
-  const scratch = useMemo(
-    () => ({
-      J: new Float64Array(6 * n),
-      pose: new Float64Array(16),
-      ellipsoid: { axes: new Float64Array(9), lengths: new Float64Array(3), manipulability: 0 } as VelocityEllipsoid,
-      rest: Float64Array.from({ length: n }, (_, i) => restPose[i] ?? 0),
-      lastSerial: -1,
-      drawn: 0,
-    }),
-    [n, restPose],
-  );
+  // Buffers the frame loop writes into (no allocation per frame); made again only when the arm or rest pose changes.
+  const scratchRef = useRef<RigScratch | null>(null);
   const links = useRef<(THREE.Mesh | null)[]>([]);
   const joints = useRef<(THREE.Mesh | null)[]>([]);
   const tool = useRef<THREE.Mesh>(null);
@@ -123,6 +136,8 @@ function ArmRig({ arm, restPose, source, statusRef }: ArmRigProps) {
   const sphere = useMemo(() => new THREE.SphereGeometry(1, 24, 16), []);
 
   useFrame(() => {
+    let scratch = scratchRef.current;
+    if (!scratch || scratch.n !== n || scratch.restPose !== restPose) scratch = scratchRef.current = createRigScratch(n, restPose);
     const serial = source.frameSerial();
     if (serial === scratch.lastSerial) return;
     scratch.lastSerial = serial;

@@ -1,5 +1,5 @@
 import type { ProfileParams, RecordedFrame, StopReason } from "@jogwright/shared";
-import { formatFixed } from "../../../lib/format.ts";
+import { formatFixed } from "../../lib/format.ts";
 
 // The operator-facing words for the controller's binding limit, stop reason and guard state.
 

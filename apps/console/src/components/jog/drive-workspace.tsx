@@ -1,9 +1,9 @@
 import type { ReactNode } from "react";
 import type { Arm, ProfileParams, RecordedFrame } from "@jogwright/shared";
-import { cn } from "../../../lib/cn.ts";
-import type { FrameSource } from "../../../lib/frame-trace.ts";
-import type { JogSnapshot } from "../../../lib/jog-socket.ts";
-import { formatFixed } from "../../../lib/format.ts";
+import { cn } from "../../lib/cn.ts";
+import type { FrameSource } from "../../lib/frame-trace.ts";
+import type { JogSnapshot } from "../../lib/jog-socket.ts";
+import { formatFixed } from "../../lib/format.ts";
 import { ArmView } from "./arm-view.tsx";
 import { LiveCharts } from "./live-charts.tsx";
 import {

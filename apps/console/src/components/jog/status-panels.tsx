@@ -2,8 +2,8 @@ import { ratedJointAccel } from "@jogwright/kinematics";
 import { DEG_PER_RAD, STOP_KINDS } from "@jogwright/shared";
 import type { ReactNode } from "react";
 import type { Arm, ProfileParams, RecordedFrame, StopKind } from "@jogwright/shared";
-import { cn } from "../../../lib/cn.ts";
-import { formatFixed } from "../../../lib/format.ts";
+import { cn } from "../../lib/cn.ts";
+import { formatFixed } from "../../lib/format.ts";
 import { GUARD_WORDS, bindingInWords, motionInWords, type MotionTone } from "./limit-words.ts";
 
 // The panels beside the 3D view. They take a frame (live or replayed) and the profile version's
