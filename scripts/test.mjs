@@ -33,10 +33,43 @@ function vitestSuite(name, dir, env = {}) {
   if (run.status !== 0 && json.numFailedTests + failedSuites === 0) record(`${name} (runner)`, 0, 1, `exit ${run.status}`);
 }
 
+/**
+ * The browser tests: `playwright test` in tests/ (tests/playwright.config.ts), read from its JSON report;
+ * a crash without a report, or an error outside any test (a config or file that does not load), counts
+ * as one failure. Traces and screenshots of failed tests stay in .data/test-reports/browser/.
+ */
+function playwrightSuite(name, env = {}) {
+  const report = path.join(REPORTS, "browser.json");
+  rmSync(report, { force: true });
+  log(`suite: ${name}`);
+  const dir = path.join(ROOT, "tests");
+  const run = spawnSync(path.join(dir, "node_modules/.bin/playwright"), ["test"], {
+    cwd: dir,
+    stdio: "inherit",
+    env: { ...process.env, ...env, BROWSER_TEST_REPORT: report },
+  });
+  if (!existsSync(report)) {
+    record(name, 0, 1, `playwright ended (exit ${run.status}) without a report`);
+    return;
+  }
+  const { stats = {}, errors = [] } = JSON.parse(readFileSync(report, "utf8"));
+  const passed = (stats.expected ?? 0) + (stats.flaky ?? 0);
+  const failed = (stats.unexpected ?? 0) + errors.length;
+  record(name, passed, failed, errors.length ? `${errors.length} error(s) outside the tests` : "");
+  if (run.status !== 0 && failed === 0) record(`${name} (runner)`, 0, 1, `exit ${run.status}`);
+}
+
 function typecheckSuite() {
   log("suite: typecheck (tsc --noEmit in every package)");
   const run = spawnSync("pnpm", ["-r", "--no-bail", "typecheck"], { cwd: ROOT, stdio: "inherit" });
   record("typecheck", run.status === 0 ? 1 : 0, run.status === 0 ? 0 : 1);
+}
+
+/** ESLint over the workspace (eslint.config.js: boundaries, cycles, hooks): one pass, or one failure on any problem. */
+function lintSuite() {
+  log("suite: lint (eslint .)");
+  const run = spawnSync("pnpm", ["lint", "--max-warnings", "0"], { cwd: ROOT, stdio: "inherit" });
+  record("lint", run.status === 0 ? 1 : 0, run.status === 0 ? 0 : 1);
 }
 
 async function waitForHealth(url, server, timeoutMs = 60_000) {
@@ -63,6 +96,7 @@ async function main() {
   let server = null;
   try {
     typecheckSuite();
+    lintSuite();
     vitestSuite("kinematics", "packages/kinematics");
     vitestSuite("shared", "packages/shared");
     vitestSuite("console", "apps/console");
@@ -79,7 +113,7 @@ async function main() {
     });
     const url = `http://127.0.0.1:${port}`;
     await waitForHealth(url, server);
-    vitestSuite("browser and whole-system", "tests", { ...dbEnv, JOGWRIGHT_URL: url, CHROMIUM_PATH: "/usr/bin/chromium" });
+    playwrightSuite("browser and whole-system", { ...dbEnv, JOGWRIGHT_URL: url, CHROMIUM_PATH: "/usr/bin/chromium" });
   } finally {
     if (server && server.exitCode === null) {
       server.kill("SIGTERM");

@@ -147,6 +147,8 @@ function processAlive(pid) {
  */
 export const MIGRATION_ACCOUNT = { user: "jogwright", password: "jogwright" };
 export const RUNTIME_ACCOUNT = { user: "jogwright_app", password: "jogwright_app" };
+/** How many API test files may run at once, each on its own database `<database>_<n>` (see below). */
+export const TEST_DATABASE_SLOTS = 4;
 
 /**
  * A private MariaDB server: data under `.data/<name>` (git-ignored), TCP on 127.0.0.1:`port` only.
@@ -224,8 +226,13 @@ export async function startPrivateMariadb({ name, port, database }) {
 
   // The project's two users, reachable over TCP on loopback only; root stays socket-only. Earlier
   // versions gave the migration user ALL PRIVILEGES ON *.*: that is revoked (its grants on each database
-  // stay). Grants survive DROP DATABASE, so recreating the database keeps them.
+  // stay). Grants survive DROP DATABASE, so recreating the database keeps them. The migration user also
+  // owns `<database>_1` … `<database>_<TEST_DATABASE_SLOTS>`: the API tests give each test file a fresh
+  // database of its own there (apps/server/src/test/fresh-database.ts), which it creates, migrates, grants
+  // the runtime user and drops. Named one by one: a wildcard grant (`<database>\_%`) would let it create
+  // them but not GRANT the runtime user its database privileges on one (MariaDB refuses, error 1044).
   const owner = `'${MIGRATION_ACCOUNT.user}'@'127.0.0.1'`;
+  const testDatabases = Array.from({ length: TEST_DATABASE_SLOTS }, (_, i) => `${database}_${i + 1}`);
   const runtime = `'${RUNTIME_ACCOUNT.user}'@'127.0.0.1'`;
   const sql = [
     `CREATE USER IF NOT EXISTS ${owner} IDENTIFIED BY '${MIGRATION_ACCOUNT.password}'`,
@@ -233,6 +240,7 @@ export async function startPrivateMariadb({ name, port, database }) {
     `CREATE USER IF NOT EXISTS ${runtime} IDENTIFIED BY '${RUNTIME_ACCOUNT.password}'`,
     `CREATE DATABASE IF NOT EXISTS \`${database}\` CHARACTER SET utf8mb4 COLLATE utf8mb4_unicode_ci`,
     `GRANT ALL PRIVILEGES ON \`${database}\`.* TO ${owner} WITH GRANT OPTION`,
+    ...testDatabases.map((name) => `GRANT ALL PRIVILEGES ON \`${name}\`.* TO ${owner} WITH GRANT OPTION`),
     `GRANT SELECT, INSERT, UPDATE ON \`${database}\`.* TO ${runtime}`,
   ].join(";");
   run("mariadb", ["--no-defaults", `--socket=${socket}`, "-uroot", "-e", sql], { what: "creating the database and its accounts", quiet: true });

@@ -2,39 +2,16 @@ import { mkdirSync } from "node:fs";
 import { dirname, join } from "node:path";
 import { fileURLToPath } from "node:url";
 import { chromium, type Browser, type Page } from "playwright-core";
+import { CHROMIUM_LAUNCH } from "./chromium.ts";
 
-/**
- * Real Chromium for the browser tests (playwright-core downloads no browser of its own). CHROMIUM_PATH
- * overrides the system binary.
- */
+export { baseUrl } from "./chromium.ts";
+
+/** The system Chromium for scripts outside `playwright test` (the drive-page benchmark). */
 export function launchBrowser(): Promise<Browser> {
-  return chromium.launch({
-    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
-    args: [
-      "--headless",
-      "--no-sandbox",
-      "--disable-gpu",
-      "--disable-quic",
-      "--no-first-run",
-      "--disable-background-networking",
-      "--disable-component-update",
-      "--disable-sync",
-    ],
-  });
+  return chromium.launch(CHROMIUM_LAUNCH);
 }
 
-/** The running Jogwright server the browser tests talk to, e.g. http://127.0.0.1:3000 (no trailing slash). */
-export function baseUrl(): string {
-  const url = process.env.JOGWRIGHT_URL;
-  if (!url) {
-    throw new Error(
-      "JOGWRIGHT_URL is not set. Start the server (it serves the built console) and run the browser tests with JOGWRIGHT_URL=http://127.0.0.1:3000.",
-    );
-  }
-  return url.replace(/\/+$/, "");
-}
-
-/** tests/artifacts/ (git-ignored): screenshots taken by the browser tests. */
+/** tests/artifacts/ (git-ignored): named screenshots of the states the browser tests walk through. */
 export const ARTIFACTS_DIR = join(dirname(fileURLToPath(import.meta.url)), "..", "artifacts");
 
 export async function saveScreenshot(page: Page, name: string): Promise<string> {
@@ -54,10 +31,13 @@ export async function fillSignInForm(page: Page, username: string, password: str
   await page.getByRole("button", { name: "Sign in" }).click();
 }
 
-/** Opens `next` signed out, signs in as a demo account on the sign-in page it leads to, and waits to be let in. */
-export async function signIn(page: Page, url: string, username: string, next = "/"): Promise<void> {
+/**
+ * Opens `next` signed out, signs in on the sign-in page it leads to (a demo account unless `password` is
+ * given), and waits to be let in. `url` is the server's address ("" for the test's baseURL).
+ */
+export async function signIn(page: Page, url: string, username: string, next = "/", password = DEMO_PASSWORD): Promise<void> {
   await page.goto(`${url}${next}`);
   await page.waitForURL(/\/sign-in/);
-  await fillSignInForm(page, username, DEMO_PASSWORD);
+  await fillSignInForm(page, username, password);
   await page.waitForURL((u) => !u.pathname.startsWith("/sign-in"));
 }

@@ -2,9 +2,8 @@ import type { Page } from "playwright-core";
 
 /**
  * Helpers for the drive-page browser tests: a simulated gamepad (navigator.getGamepads stubbed before
- * any page script runs) and an in-page frame-rate measurement.
+ * any page script runs), the state frames the page receives, and an in-page frame-rate measurement.
  */
-
 
 /** Standard-mapping button count (W3C Gamepad "standard" layout: 17 buttons, 4 axes). */
 const STANDARD_BUTTONS = 17;
@@ -42,6 +41,33 @@ export async function setGamepad(page: Page, update: { axes?: number[]; pressed?
   }, update);
 }
 
+/** One state frame as the server sent it (the fields the tests read; jogStateSchema in packages/shared). */
+export interface StateFrame {
+  /** Simulation time since the session started, s. */
+  t: number;
+  /** TCP pose, 4×4 row-major. */
+  pose: number[];
+}
+
+/**
+ * Records the state frames the page receives on its jog sockets, from now on (call it before the page
+ * opens its socket). The tests wait on simulation time with it instead of sleeping.
+ */
+export function recordStateFrames(page: Page): { frames: StateFrame[]; latest(): StateFrame | undefined; since(t: number): StateFrame[] } {
+  const frames: StateFrame[] = [];
+  page.on("websocket", (socket) => {
+    socket.on("framereceived", ({ payload }) => {
+      if (typeof payload !== "string") return;
+      const message = JSON.parse(payload) as Partial<StateFrame> & { type?: string };
+      if (message.type === "state") frames.push({ t: message.t!, pose: message.pose! });
+    });
+  });
+  return {
+    frames,
+    latest: () => frames.at(-1),
+    since: (t) => frames.filter((f) => f.t >= t),
+  };
+}
 
 /** Counts requestAnimationFrame callbacks in the page over `durationMs`: frames per second. */
 export async function measureFps(page: Page, durationMs: number): Promise<number> {
