@@ -16,6 +16,7 @@ async function main() {
   let server = null;
   try {
     run("kinematics control step", "pnpm", ["bench"], "packages/kinematics");
+    run("tuning bench: a 10-s trial at 1 kHz, a 100-point sweep over 6 trials, 200 × 200 singularity maps", path.join(ROOT, "apps/server/node_modules/.bin/tsx"), ["bench/tuning-bench.ts"], "apps/server");
     run("live jogging load (50 sessions at 1 kHz)", path.join(ROOT, "apps/server/node_modules/.bin/tsx"), ["bench/jog-load.ts"], "apps/server", databaseEnv(db));
 
     buildConsole();

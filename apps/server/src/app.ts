@@ -24,6 +24,8 @@ import { drivingRouter } from "./modules/driving/routes.ts";
 import { Mailer } from "./mail/mailer.ts";
 import { jogRouter } from "./modules/jog/routes.ts";
 import { recordingsRouter } from "./modules/recordings/routes.ts";
+import { benchRouter } from "./modules/trials/routes.ts";
+import { configureTrialPool } from "./modules/trials/trial-pool.ts";
 import { gamepadRouter } from "./modules/gamepad/routes.ts";
 
 export interface BuiltApp {
@@ -38,6 +40,7 @@ export interface BuiltApp {
 export function createApp(config: Config, db: Sequelize): BuiltApp {
   const mailer = new Mailer(db, { host: config.mail.smtpHost, port: config.mail.smtpPort, from: config.mail.from });
   const ctx: AppContext = { db, config, lucia: createLucia(db), signInLimiter: new SignInLimiter(config.signIn), mailer };
+  configureTrialPool(config.trialPoolThreads);
   const app = express();
   app.disable("x-powered-by");
   app.set("trust proxy", config.trustProxy ? 1 : false);
@@ -71,6 +74,7 @@ export function createApp(config: Config, db: Sequelize): BuiltApp {
     jogRouter(ctx),
     recordingsRouter(ctx),
     gamepadRouter(ctx),
+    benchRouter(ctx),
   ];
   for (const r of routers) api.use(r.mountPath, r.router);
   api.use(notFoundHandler);

@@ -25,6 +25,8 @@ describe("loadConfig", () => {
     [{ ...good, JOG_MAX_SESSIONS: "lots" }, /^JOG_MAX_SESSIONS must be a whole number$/],
     [{ ...good, JOG_STARTS_PER_WINDOW: "2.5" }, /^JOG_STARTS_PER_WINDOW must be a whole number$/],
     [{ ...good, JOG_START_WINDOW_S: "7200" }, /^JOG_START_WINDOW_S must be 1-3600$/],
+    [{ ...good, TRIAL_POOL_THREADS: "0" }, /^TRIAL_POOL_THREADS must be 1-64$/],
+    [{ ...good, TRIAL_POOL_THREADS: "two" }, /^TRIAL_POOL_THREADS must be a whole number$/],
   ])("refuses %j with one clear sentence", (env, message) => {
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(ConfigError);
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(message);

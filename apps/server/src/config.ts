@@ -106,6 +106,8 @@ const envSchema = z.object({
   /** `start` messages one account may send within JOG_START_WINDOW_S (refused ones beyond create nothing). */
   JOG_STARTS_PER_WINDOW: count(1, 10_000).default(5),
   JOG_START_WINDOW_S: count(1, 3600).default(10),
+  /** Worker threads for the tuning bench's offline runs and maps (default: one per core). */
+  TRIAL_POOL_THREADS: count(1, 64).optional(),
 }).refine((v) => v.SMTP_PORT !== 0 || v.FAKE_SMTP === "1", { message: "may be 0 only with FAKE_SMTP=1", path: ["SMTP_PORT"] });
 
 export type Config = {
@@ -123,6 +125,8 @@ export type Config = {
   trustProxy: boolean;
   signIn: { maxFailures: number; windowS: number; maxFailuresPerAddress: number };
   consoleDist: string | undefined;
+  /** Worker threads of the tuning bench's pool; null: one per core. */
+  trialPoolThreads: number | null;
   seedDemo: boolean;
   mail: { smtpHost: string; smtpPort: number; fakeSmtp: boolean; dir: string; from: string };
   /** Live jogging: state frames per second to each client. */
@@ -176,6 +180,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
       from: v.MAIL_FROM,
     },
     jogFrameRateHz: v.JOG_FRAME_RATE_HZ,
+    trialPoolThreads: v.TRIAL_POOL_THREADS ?? null,
     jogLimits: {
       maxSessionsPerAccount: v.JOG_MAX_SESSIONS_PER_ACCOUNT,
       maxSessions: v.JOG_MAX_SESSIONS,

@@ -7,6 +7,7 @@ import { prepareDatabase } from "./db/prepare.ts";
 import { PrivilegeError } from "./db/privileges.ts";
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from "./db/seed.ts";
 import { SmtpPortInUseError, startFakeSmtp, type FakeSmtp } from "./mail/fake-smtp.ts";
+import { closeTrialPool } from "./modules/trials/trial-pool.ts";
 
 /** Start-up ends with one clear sentence on a bad environment, an unreachable database or a busy port. */
 class StartupError extends Error {}
@@ -92,6 +93,7 @@ async function main(): Promise<void> {
     server.closeAllConnections();
     await new Promise((r) => server.close(r));
     await ctx.mailer.stop();
+    await closeTrialPool(); // offline runs under way are dropped (their requests are gone)
     await fakeSmtp?.close();
     await db.close();
     process.exit(0);

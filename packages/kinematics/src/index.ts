@@ -38,7 +38,7 @@ export {
   controlStep, createControlReport, createControlState, createControlWorkspace, defaultControlParams,
   jointJogStep, resetReferencePose, setJointPositions, validateControlParams,
 } from "./control-step.ts";
-export { applyDeadband, applyExpo, shapeAxis, slewUniform, slewVector3 } from "./shaping.ts";
+export { applyDeadband, applyExpo, shapeAxis, slewUniform, slewVector3, unshapeAxis } from "./shaping.ts";
 export type {
   CompletedStop, GateAction, GateCommand, GateMotion, GateStopReason, MotionGateConfig, StopEstimate, StopKind,
   StoppingReport,

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { applyDeadband, applyExpo, shapeAxis, slewUniform, slewVector3 } from "./shaping.ts";
+import { applyDeadband, applyExpo, shapeAxis, slewUniform, slewVector3, unshapeAxis } from "./shaping.ts";
 
 describe("input shaping", () => {
   it("the deadband with rescaling gives the METHODS.md §8 check values (d = 0.1)", () => {
@@ -20,6 +20,23 @@ describe("input shaping", () => {
     // Deadband then expo: x = 0.5, e = 0.3, no deadband → 0.35 + 0.0375 = 0.3875 (derived; the console's
     // device calibration check value, now the same function).
     expect(shapeAxis(0.5, 0, 0.3)).toBeCloseTo(0.3875, 12);
+  });
+
+  it("unshapeAxis inverts deadband and expo: shapeAxis(unshapeAxis(y)) = y, and the check values", () => {
+    // Check values, derived by hand: e = 0.5, no deadband: applyExpo(0.5) = 0.3125, so 0.3125 → 0.5; with
+    // d = 0.1 the deflection is 0.1 + 0.5·0.9 = 0.55 (the METHODS.md §8 deadband check value read backwards).
+    expect(unshapeAxis(0.3125, 0, 0.5)).toBeCloseTo(0.5, 14);
+    expect(unshapeAxis(0.3125, 0.1, 0.5)).toBeCloseTo(0.55, 14);
+    expect(unshapeAxis(-0.3125, 0.1, 0.5)).toBeCloseTo(-0.55, 14);
+    expect(unshapeAxis(0, 0.1, 0.3)).toBe(0);
+    expect(unshapeAxis(Number.NaN, 0.1, 0.3)).toBe(0);
+    expect(unshapeAxis(2, 0.1, 0.3)).toBeCloseTo(1, 14);
+    for (const [d, e] of [[0, 0], [0.1, 0.3], [0.25, 1], [0.05, 0.9]] as const) {
+      for (let k = -100; k <= 100; k++) {
+        const y = k / 100;
+        expect(Math.abs(shapeAxis(unshapeAxis(y, d, e), d, e) - y)).toBeLessThan(1e-14);
+      }
+    }
   });
 
   it("a value outside −1 … 1 or NaN never widens the command", () => {

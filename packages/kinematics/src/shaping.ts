@@ -28,6 +28,46 @@ export function shapeAxis(x: number, deadband: number, expo: number): number {
   return y > 1 ? 1 : y < -1 ? -1 : y === y ? y : 0;
 }
 
+/**
+ * The inverse of shapeAxis: the stick deflection that shapeAxis maps onto y (−1 … 1, clamped). Scripted
+ * trials command a twist through the same motion gate as a live operator, so they turn each wanted
+ * fraction of the cap into the deflection a stick would need (derived). The expo cubic
+ * f(u) = (1 − e)·u + e·u³ is increasing on 0 … 1: Newton's method from u = |y| (exact for e = 0), with a
+ * bisection of [0, 1] when Newton does not settle (e near 1 and y near 0, where f′ → 0); then the deadband
+ * is undone: x = d + u·(1 − d). y = 0 → 0. shapeAxis(unshapeAxis(y)) = y to ~1e-15 (shaping.test.ts).
+ */
+export function unshapeAxis(y: number, deadband: number, expo: number): number {
+  if (!(y === y) || y === 0) return 0;
+  const target = y < 0 ? (y < -1 ? 1 : -y) : y > 1 ? 1 : y;
+  let u = target;
+  let settled = false;
+  for (let i = 0; i < 40; i++) {
+    const f = applyExpo(u, expo) - target;
+    const slope = 1 - expo + 3 * expo * u * u;
+    if (!(slope > 1e-12)) break;
+    let next = u - f / slope;
+    next = next < 0 ? 0 : next > 1 ? 1 : next;
+    if (Math.abs(next - u) <= 1e-16) {
+      u = next;
+      settled = true;
+      break;
+    }
+    u = next;
+  }
+  if (!settled || Math.abs(applyExpo(u, expo) - target) > 1e-15) {
+    let lo = 0, hi = 1;
+    for (let i = 0; i < 64; i++) {
+      const mid = 0.5 * (lo + hi);
+      if (mid === lo || mid === hi) break;
+      if (applyExpo(mid, expo) < target) lo = mid;
+      else hi = mid;
+    }
+    u = Math.abs(applyExpo(lo, expo) - target) <= Math.abs(applyExpo(hi, expo) - target) ? lo : hi;
+  }
+  const x = deadband + u * (1 - deadband);
+  return y < 0 ? -x : x;
+}
+
 const stepBox = new Float64Array(1);
 
 /**

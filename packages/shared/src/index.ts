@@ -11,3 +11,5 @@ export * from "./canonical-json.ts";
 export * from "./jog-protocol.ts";
 export * from "./profile-fields.ts";
 export * from "./driving.ts";
+export * from "./trials.ts";
+export * from "./bench-api.ts";

@@ -31,6 +31,9 @@ export const approveVersionSchema = z.object({
 export const rejectVersionSchema = z.object({ reason: z.string().trim().min(3, "say why it is rejected").max(2000) });
 export const retireVersionSchema = z.object({ reason: z.string().trim().min(3, "say why it is retired").max(2000) });
 
+/** What the audit trail records changes of. */
+export const AUDIT_ENTITIES = ["user", "arm", "profile", "version", "ceilings", "approval", "session", "trial"] as const;
+
 export const profileVersionSchema = z.object({
   id: z.number().int(),
   profileId: z.number().int(),
@@ -89,7 +92,7 @@ export const auditEntrySchema = z.object({
   at: z.string(),
   actorId: z.string().nullable(),
   actorName: z.string().nullable(),
-  entity: z.enum(["user", "arm", "profile", "version", "ceilings", "approval", "session"]),
+  entity: z.enum(AUDIT_ENTITIES),
   entityId: z.string(),
   action: z.string(),
   summary: z.string(),

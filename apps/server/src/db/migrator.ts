@@ -14,6 +14,7 @@ import * as m0011 from "./migrations/0011-gamepad-mappings.ts";
 import * as m0012 from "./migrations/0012-station-estop-latches.ts";
 import * as m0013 from "./migrations/0013-flag-long-stops.ts";
 import * as m0014 from "./migrations/0014-approval-guard.ts";
+import * as m0015 from "./migrations/0015-tuning-bench.ts";
 
 /** Versioned migrations, applied in order and recorded in `schema_migrations`. Never sync(). */
 const MIGRATIONS = [
@@ -30,6 +31,7 @@ const MIGRATIONS = [
   { name: "0012-station-estop-latches", ...m0012 },
   { name: "0013-flag-long-stops", ...m0013 },
   { name: "0014-approval-guard", ...m0014 },
+  { name: "0015-tuning-bench", ...m0015 },
 ];
 
 /** One applied migration, as `schema_migrations` records it. */

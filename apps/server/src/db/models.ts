@@ -40,6 +40,7 @@ import { defineProfileModels } from "../modules/profiles/model.ts";
 import { defineReviewModels } from "../modules/reviews/model.ts";
 import { associateUserModels, defineUserModels } from "../modules/users/model.ts";
 import { associateVersionModels, defineVersionModels } from "../modules/versions/model.ts";
+import { associateTrialModels, defineTrialModels } from "../modules/trials/model.ts";
 
 function defineAll(sequelize: Sequelize) {
   return {
@@ -55,6 +56,7 @@ function defineAll(sequelize: Sequelize) {
     ...defineGamepadModels(sequelize), // GamepadMapping
     ...defineRecordingModels(sequelize), // Recording, RecordingChunk
     ...defineStationLatchModels(sequelize), // StationLatch
+    ...defineTrialModels(sequelize), // Trial, TrialRun, VersionEvidence
   };
 }
 
@@ -68,6 +70,7 @@ function associateAll(models: Models): void {
   associateUserModels(models);
   associateVersionModels(models);
   associateRecordingModels(models);
+  associateTrialModels(models);
 
   SiteCeilings.belongsTo(User, { as: "updatedByUser", foreignKey: "updatedBy" });
 
@@ -92,6 +95,14 @@ function associateAll(models: Models): void {
   models.Recording.belongsTo(models.Arm, { as: "arm", foreignKey: "armId" });
   models.Recording.belongsTo(Profile, { as: "profile", foreignKey: "profileId" });
   models.Recording.belongsTo(Version, { as: "version", foreignKey: "versionId" });
+
+  // The tuning bench: who made a trial or run, the profile and version a run ran with.
+  models.Trial.belongsTo(User, { as: "creator", foreignKey: "createdBy" });
+  models.Trial.addScope("withCreator", { include: [{ model: User, as: "creator", attributes: NAME }] });
+  models.TrialRun.belongsTo(User, { as: "creator", foreignKey: "createdBy" });
+  models.TrialRun.belongsTo(Profile, { as: "profile", foreignKey: "profileId" });
+  models.TrialRun.belongsTo(Version, { as: "version", foreignKey: "versionId" });
+  models.VersionEvidence.belongsTo(Version, { as: "version", foreignKey: "versionId" });
 
   // Scopes that include another module's model (the names a response shows).
   Profile.addScope("withNames", {

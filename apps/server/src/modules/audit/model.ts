@@ -1,5 +1,5 @@
 import { DataTypes, Model, Op, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize, type WhereOptions } from "sequelize";
-import type { AuditEntry } from "@jogwright/shared";
+import { AUDIT_ENTITIES, type AuditEntry } from "@jogwright/shared";
 
 /**
  * The append-only audit trail (`audit_log`, migration 0006; its triggers refuse UPDATE and DELETE). The
@@ -60,7 +60,7 @@ export function defineAuditModels(sequelize: Sequelize) {
       // NOT NULL with the database's default: left unset here, so Sequelize leaves it to the database.
       at: { type: DataTypes.DATE(3) },
       actorId: { type: DataTypes.STRING(40), allowNull: true },
-      entity: { type: DataTypes.ENUM("user", "arm", "profile", "version", "ceilings", "approval", "session"), allowNull: false },
+      entity: { type: DataTypes.ENUM(...AUDIT_ENTITIES), allowNull: false },
       entityId: { type: DataTypes.STRING(64), allowNull: false },
       action: { type: DataTypes.STRING(60), allowNull: false },
       summary: { type: DataTypes.TEXT, allowNull: false },

@@ -1,0 +1,285 @@
+import { UniqueConstraintError, type Sequelize } from "sequelize";
+import type { ArmModel } from "@jogwright/kinematics";
+import type {
+  Arm, ArmTrials, CustomTrial, MapRequest, MapResponse, ProfileParams, RunDetail, RunRequest, SaveTrialRequest, SweepRequest, SweepResult, TrialDefinition, TrialRef, TrialRun, User,
+} from "@jogwright/shared";
+import { mapRequestSchema } from "@jogwright/shared";
+import { modelsOf } from "../../db/models.ts";
+import { AppError } from "../../errors.ts";
+import { recordAudit } from "../audit/service.ts";
+import { findArm } from "../arms/service.ts";
+import { visibleProfile } from "../profiles/service.ts";
+import { findVersion } from "../versions/service.ts";
+import { builtinTrials } from "./builtin.ts";
+import { checkTrial } from "./compile.ts";
+import { decodeSeries, encodeSeries, seriesForDisplay, seriesHash } from "./series-codec.ts";
+import { runSweep } from "./sweep.ts";
+import { mapInPool, runInPool } from "./trial-pool.ts";
+
+/**
+ * The tuning bench's service (issue 10): an arm's trials (built-in ones generated from its geometry, and
+ * engineers' saved ones), offline runs of them in the worker pool (stored with their series and metrics),
+ * and singularity maps. Other modules import this file, never model.ts. Plain objects out.
+ */
+
+async function armOrNotFound(db: Sequelize, armId: number): Promise<Arm> {
+  const arm = await findArm(db, armId);
+  if (!arm) throw new AppError(404, "not_found", "No such arm.");
+  return arm;
+}
+
+// ---------------------------------------------------------------------------------------------------
+// Trials
+// ---------------------------------------------------------------------------------------------------
+
+export async function armTrials(db: Sequelize, armId: number): Promise<ArmTrials> {
+  const arm = await armOrNotFound(db, armId);
+  const generated = builtinTrials({ model: arm.model, readyPose: arm.readyPose });
+  const custom = await modelsOf(db).Trial.scope("withCreator").findAll({ where: { armId }, order: [["name", "ASC"]] });
+  return {
+    armId,
+    builtin: generated.trials.map((t) => ({ kind: t.kind, definition: t.definition })),
+    notApplicable: generated.notApplicable,
+    custom: custom.map((t) => t.toApi()),
+  };
+}
+
+/** The trial's problems for the arm as a 400 whose issues name the field ("definition.segments.2.linear.0"). */
+function checkOrRefuse(definition: TrialDefinition, arm: ArmModel): void {
+  const issues = checkTrial(definition, arm);
+  if (issues.length > 0) {
+    throw new AppError(400, "validation_failed", `The trial cannot run: ${issues[0]!.message}.`, issues.map((i) => ({ path: `definition.${i.path}`, message: i.message })));
+  }
+}
+
+const duplicateName = (name: string) =>
+  new AppError(409, "conflict", `This arm already has a trial named "${name}".`, [{ path: "definition.name", message: "pick a name no other trial of this arm has" }]);
+
+/** Validated in full (shape, the arm's joints and limits, every expression) before it is saved. */
+export async function createCustomTrial(db: Sequelize, actor: User, input: SaveTrialRequest): Promise<CustomTrial> {
+  const arm = await armOrNotFound(db, input.armId);
+  checkOrRefuse(input.definition, arm.model);
+  const { Trial } = modelsOf(db);
+  try {
+    const id = await db.transaction(async (transaction) => {
+      const trial = await Trial.create({ armId: arm.id, name: input.definition.name, definition: input.definition, createdBy: actor.id }, { transaction });
+      await recordAudit(db, transaction, {
+        actorId: actor.id, entity: "trial", entityId: trial.id, action: "create",
+        summary: `created the trial "${trial.name}" on ${arm.name}`, after: input.definition,
+      });
+      return trial.id;
+    });
+    return (await findCustomTrial(db, id))!;
+  } catch (error) {
+    if (error instanceof UniqueConstraintError) throw duplicateName(input.definition.name);
+    throw error;
+  }
+}
+
+export async function updateCustomTrial(db: Sequelize, actor: User, id: number, definition: TrialDefinition): Promise<CustomTrial> {
+  const { Trial } = modelsOf(db);
+  try {
+    await db.transaction(async (transaction) => {
+      const trial = await Trial.findByPk(id, { transaction, lock: transaction.LOCK.UPDATE });
+      if (!trial) throw new AppError(404, "not_found", "No such trial.");
+      const arm = await armOrNotFound(db, trial.armId);
+      checkOrRefuse(definition, arm.model);
+      const before = trial.definition;
+      await trial.update({ name: definition.name, definition }, { transaction });
+      await recordAudit(db, transaction, {
+        actorId: actor.id, entity: "trial", entityId: id, action: "update", summary: `changed the trial "${definition.name}" on ${arm.name}`, before, after: definition,
+      });
+    });
+  } catch (error) {
+    if (error instanceof UniqueConstraintError) throw duplicateName(definition.name);
+    throw error;
+  }
+  return (await findCustomTrial(db, id))!;
+}
+
+export async function findCustomTrial(db: Sequelize, id: number): Promise<CustomTrial | null> {
+  const trial = await modelsOf(db).Trial.scope("withCreator").findByPk(id);
+  return trial?.toApi() ?? null;
+}
+
+// ---------------------------------------------------------------------------------------------------
+// Runs
+// ---------------------------------------------------------------------------------------------------
+
+interface ResolvedSource {
+  arm: Arm;
+  profileId: number;
+  versionId: number | null;
+  params: ProfileParams;
+}
+
+/** What a run request runs with: the version's parameters, or a visible profile's unsaved edits. */
+async function resolveSource(db: Sequelize, actor: User, source: RunRequest["source"]): Promise<ResolvedSource> {
+  if (source.kind === "version") {
+    const version = await findVersion(db, source.versionId);
+    if (!version) throw new AppError(404, "not_found", "No such version.");
+    const profile = await visibleProfile(db, actor, version.profileId);
+    return { arm: await armOrNotFound(db, profile.armId), profileId: profile.id, versionId: version.id, params: version.params };
+  }
+  const profile = await visibleProfile(db, actor, source.profileId);
+  const arm = await armOrNotFound(db, profile.armId);
+  const joints = arm.model.joints.length;
+  if (source.params.jointRateCapsRadPerS.length !== joints) {
+    throw new AppError(400, "validation_failed", `The arm "${arm.name}" has ${joints} joints, so the edits need ${joints} joint rate caps.`, [
+      { path: "source.params.jointRateCapsRadPerS", message: `one cap per joint: ${joints} values` },
+    ]);
+  }
+  return { arm, profileId: profile.id, versionId: null, params: source.params };
+}
+
+interface ResolvedTrial {
+  kind: TrialRun["trialKind"];
+  trialId: number | null;
+  definition: TrialDefinition;
+}
+
+async function resolveTrial(db: Sequelize, arm: Arm, ref: TrialRef, index: number): Promise<ResolvedTrial> {
+  if (ref.kind === "builtin") {
+    const generated = builtinTrials({ model: arm.model, readyPose: arm.readyPose });
+    const trial = generated.trials.find((t) => t.kind === ref.builtin);
+    if (!trial) {
+      const reason = generated.notApplicable.find((t) => t.kind === ref.builtin)?.reason ?? "not generated for this arm";
+      throw new AppError(400, "validation_failed", `The built-in trial "${ref.builtin}" does not apply to ${arm.name}: ${reason}.`, [{ path: `trials.${index}.builtin`, message: reason }]);
+    }
+    return { kind: trial.kind, trialId: null, definition: trial.definition };
+  }
+  const trial = await findCustomTrial(db, ref.trialId);
+  if (!trial || trial.armId !== arm.id) {
+    throw new AppError(400, "validation_failed", "No such trial for this arm.", [{ path: `trials.${index}.trialId`, message: "pick a saved trial of this profile's arm" }]);
+  }
+  return { kind: "custom", trialId: trial.id, definition: trial.definition };
+}
+
+/**
+ * Runs each trial once with the source's parameters, in the worker pool (in parallel, up to its size), and
+ * stores every run with its series and metrics. All trials are resolved before anything runs; a run that
+ * fails stores nothing of the request (the runs are written in one transaction at the end).
+ */
+export async function runTrials(db: Sequelize, actor: User, request: RunRequest, signal?: AbortSignal): Promise<TrialRun[]> {
+  const source = await resolveSource(db, actor, request.source);
+  const trials = await Promise.all(request.trials.map((ref, i) => resolveTrial(db, source.arm, ref, i)));
+  const results = await Promise.all(trials.map((t) => runInPool({ arm: source.arm.model, params: source.params, trial: t.definition, withSeries: true }, signal)));
+  const { TrialRun } = modelsOf(db);
+  const ids = await db.transaction(async (transaction) => {
+    const out: number[] = [];
+    for (const [i, t] of trials.entries()) {
+      const r = results[i]!;
+      const series = r.series!;
+      const run = await TrialRun.create(
+        {
+          armId: source.arm.id, profileId: source.profileId, versionId: source.versionId, params: source.params,
+          trialKind: t.kind, trialId: t.trialId, recordingId: null, trialName: t.definition.name, trialDefinition: t.definition,
+          metrics: r.metrics, series: encodeSeries(series), seriesHash: seriesHash(series), durationMs: Math.round(r.elapsedMs), createdBy: actor.id,
+        },
+        { transaction },
+      );
+      out.push(run.id);
+    }
+    return out;
+  });
+  return listRunsById(db, ids);
+}
+
+async function listRunsById(db: Sequelize, ids: number[]): Promise<TrialRun[]> {
+  const runs = await modelsOf(db).TrialRun.scope(["defaultScope", "withNames"]).findAll({ where: { id: ids }, order: [["id", "ASC"]] });
+  return runs.map((r) => r.toApi());
+}
+
+/** Runs of a version (or of a profile, edits included), newest first. */
+export async function listRuns(db: Sequelize, actor: User, filter: { versionId?: number | undefined; profileId?: number | undefined }, limit = 200): Promise<TrialRun[]> {
+  let profileId = filter.profileId;
+  if (filter.versionId !== undefined) {
+    const version = await findVersion(db, filter.versionId);
+    if (!version) throw new AppError(404, "not_found", "No such version.");
+    profileId = version.profileId;
+  }
+  if (profileId === undefined) throw new AppError(400, "validation_failed", "Name a version or a profile.", [{ path: "versionId", message: "give versionId or profileId" }]);
+  await visibleProfile(db, actor, profileId);
+  const where = filter.versionId !== undefined ? { versionId: filter.versionId } : { profileId };
+  const runs = await modelsOf(db).TrialRun.scope(["defaultScope", "withNames"]).findAll({ where, order: [["id", "DESC"]], limit });
+  return runs.map((r) => r.toApi());
+}
+
+/** One run with its series for display (downsampled to a few thousand samples). */
+export async function getRun(db: Sequelize, actor: User, id: number): Promise<RunDetail> {
+  const run = await modelsOf(db).TrialRun.scope("withNames").findByPk(id);
+  if (!run) throw new AppError(404, "not_found", "No such run.");
+  await visibleProfile(db, actor, run.profileId);
+  return { run: run.toApi(), series: seriesForDisplay(decodeSeries(run.series)) };
+}
+
+// ---------------------------------------------------------------------------------------------------
+// Sweeps
+// ---------------------------------------------------------------------------------------------------
+
+/**
+ * A sweep of one or two parameters around a version, over chosen trials, in the worker pool. Progress
+ * through `onProgress`; `signal` cancels it (queued runs are dropped, running ones end with their worker).
+ * Nothing is stored: a picked point becomes a draft through the ordinary save (the console sets the
+ * values with `withSweepParameter`).
+ */
+export async function sweepVersion(
+  db: Sequelize, actor: User, request: SweepRequest, onProgress: (done: number, total: number) => void, signal?: AbortSignal,
+): Promise<SweepResult> {
+  const source = await resolveSource(db, actor, { kind: "version", versionId: request.versionId });
+  const refs: TrialRef[] = [...request.builtins.map((builtin) => ({ kind: "builtin" as const, builtin })), ...request.trialIds.map((trialId) => ({ kind: "custom" as const, trialId }))];
+  const trials = await Promise.all(refs.map((ref, i) => resolveTrial(db, source.arm, ref, i)));
+  const started = performance.now();
+  const result = await runSweep(
+    { arm: source.arm.model, base: source.params, axes: request.axes, trials: trials.map((t) => t.definition), x: request.x, y: request.y },
+    runInPool, onProgress, signal,
+  );
+  return { ...result, versionId: source.versionId!, trialNames: trials.map((t) => t.definition.name), elapsedMs: performance.now() - started };
+}
+
+// ---------------------------------------------------------------------------------------------------
+// Singularity maps
+// ---------------------------------------------------------------------------------------------------
+
+/** The arm with a tool of `lengthM` along the flange's z axis instead of its own (null keeps its own). */
+export function withToolLength(model: ArmModel, lengthM: number | null): ArmModel {
+  if (lengthM === null) return model;
+  return { ...model, tool: [1, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1, lengthM, 0, 0, 0, 1] };
+}
+
+export async function singularityMap(db: Sequelize, input: MapRequest): Promise<MapResponse> {
+  const req = mapRequestSchema.parse(input);
+  const arm = await armOrNotFound(db, req.armId);
+  const n = arm.model.joints.length;
+  const pose = req.pose ?? arm.readyPose;
+  if (pose.length !== n) throw new AppError(400, "validation_failed", `The pose needs ${n} joint positions.`, [{ path: "pose", message: `${n} values` }]);
+  const model = withToolLength(arm.model, req.toolLengthM);
+  const started = performance.now();
+  if (req.kind === "joints") {
+    if (n < 6 && (req.xJoint === null || req.yJoint === null)) {
+      throw new AppError(400, "validation_failed", "Choose the two joints to map.", [{ path: "xJoint", message: "this arm has no wrist q4/q5 to default to" }]);
+    }
+    const xJoint = req.xJoint ?? n - 3;
+    const yJoint = req.yJoint ?? n - 2;
+    for (const [path, j] of [["xJoint", xJoint], ["yJoint", yJoint]] as const) {
+      if (j >= n) throw new AppError(400, "validation_failed", `The arm has ${n} joints.`, [{ path, message: `a joint from 0 to ${n - 1}` }]);
+    }
+    if (xJoint === yJoint) throw new AppError(400, "validation_failed", "Map two different joints.", [{ path: "yJoint", message: "differs from xJoint" }]);
+    const grid = await mapInPool({ kind: "joints", arm: model, request: { measure: req.measure, pose, xJoint, yJoint, resolution: req.resolution } });
+    return toResponse("joints", grid, `q${xJoint + 1}`, `q${yJoint + 1}`, req.toolLengthM, performance.now() - started);
+  }
+  const grid = await mapInPool({ kind: "cartesian", arm: model, request: { measure: req.measure, pose, plane: req.plane, halfWidthM: req.halfWidthM, resolution: req.resolution } });
+  return toResponse("cartesian", grid, req.plane[0]!, req.plane[1]!, req.toolLengthM, performance.now() - started);
+}
+
+function toResponse(
+  kind: MapResponse["kind"], grid: { values: Float64Array; xs: Float64Array; ys: Float64Array; measure: MapResponse["measure"] },
+  xLabel: string, yLabel: string, toolLengthM: number | null, computeMs: number,
+): MapResponse {
+  return {
+    kind, measure: grid.measure, xLabel, yLabel, xs: Array.from(grid.xs), ys: Array.from(grid.ys),
+    // JSON has no NaN or Infinity: an unreachable point (or an exactly singular condition number) is null.
+    values: Array.from(grid.values, (v) => (Number.isFinite(v) ? v : null)),
+    toolLengthM, computeMs,
+  };
+}
