@@ -7,12 +7,12 @@ import { expect, test, uniqueTag } from "../support/fixtures.ts";
 
 // Menu order follows NAV_ITEMS in apps/console/src/app/navigation.ts.
 const OPERATOR_NAV = ["Overview", "Drive", "Recordings", "Arms", "Profiles"];
-const ENGINEER_NAV = ["Overview", "Drive", "Live", "Recordings", "Arms", "Profiles", "Ceilings"];
+const ENGINEER_NAV = ["Overview", "Drive", "Live", "Recordings", "Bench", "Arms", "Profiles", "Ceilings"];
 const DEMO_ACCOUNTS: { username: string; nav: string[] }[] = [
   { username: "olena", nav: OPERATOR_NAV },
   { username: "tomas", nav: OPERATOR_NAV },
   { username: "emeka", nav: ENGINEER_NAV },
-  { username: "sigrid", nav: ["Overview", "Live", "Recordings", "Arms", "Profiles", "Reviews", "Ceilings", "Audit"] },
+  { username: "sigrid", nav: ["Overview", "Live", "Recordings", "Bench", "Arms", "Profiles", "Reviews", "Ceilings", "Audit"] },
   { username: "adele", nav: ["Overview", "Arms", "Audit", "Users", "Outbox"] },
 ];
 

@@ -1,4 +1,4 @@
-import { Boxes, ClipboardCheck, Eye, Film, Gamepad2, Gauge, LayoutDashboard, Mail, ScrollText, SlidersHorizontal, Users, type LucideIcon } from "lucide-react";
+import { Boxes, ClipboardCheck, Eye, Film, FlaskConical, Gamepad2, Gauge, LayoutDashboard, Mail, ScrollText, SlidersHorizontal, Users, type LucideIcon } from "lucide-react";
 import type { ComponentType } from "react";
 import { hasAnyRole, type Role } from "@jogwright/shared";
 
@@ -34,6 +34,7 @@ export const NAV_ITEMS: readonly NavItem[] = [
     roles: ["operator", "engineer", "safety_officer"],
     load: () => import("./routes/recordings-route.tsx"),
   },
+  { label: "Bench", path: "/bench", icon: FlaskConical, roles: ["engineer", "safety_officer"], load: () => import("./routes/bench-route.tsx") },
   { label: "Arms", path: "/arms", icon: Boxes, roles: ALL_ROLES, load: () => import("./routes/arms-route.tsx") },
   {
     label: "Profiles",

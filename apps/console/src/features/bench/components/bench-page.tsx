@@ -1,0 +1,166 @@
+import { useMemo, useState } from "react";
+import { useMutation, useQuery } from "@tanstack/react-query";
+import { FlaskConical } from "lucide-react";
+import { BUILTIN_TRIAL_KINDS, type ProfileVersion, type TrialRef, type TrialRun } from "@jogwright/shared";
+import { PageHeader } from "../../../components/layout/page-header.tsx";
+import { Button } from "../../../components/ui/button.tsx";
+import { Card } from "../../../components/ui/card.tsx";
+import { Checkbox } from "../../../components/ui/checkbox.tsx";
+import { Message } from "../../../components/ui/message.tsx";
+import { QueryStatus } from "../../../components/ui/query-status.tsx";
+import { SelectField } from "../../../components/ui/select-field.tsx";
+import { describeError } from "../../../lib/api-client.ts";
+import { profileDetailQueryOptions, useProfiles } from "../../../lib/queries/profiles.ts";
+import { useCurrentUser } from "../../../lib/session.ts";
+import { armTrialsQueryOptions, runTrials } from "../api/bench-api.ts";
+import { RunComparison } from "./run-comparison.tsx";
+import { SweepPanel } from "./sweep-panel.tsx";
+
+/**
+ * The tuning bench: pick a profile, one version (or two to compare), and trials; run them offline through
+ * the same motion gate and control step as live jogging; read the metrics side by side and the plots; sweep
+ * a parameter and make a draft from a point of the trade-off. Simulation only.
+ */
+export function BenchPage() {
+  const user = useCurrentUser();
+  const isEngineer = user.roles.includes("engineer");
+  const profiles = useProfiles();
+  const [profileId, setProfileId] = useState<number | null>(null);
+  const detail = useQuery(profileDetailQueryOptions(profileId));
+  const armId = detail.data?.profile.armId ?? null;
+  const trials = useQuery(armTrialsQueryOptions(armId));
+  const [versionA, setVersionA] = useState<number | null>(null);
+  const [versionB, setVersionB] = useState<number | null>(null);
+  const [picked, setPicked] = useState<Set<string>>(new Set(["builtin:wrist-line", "builtin:wrist-near-miss-3mm"]));
+
+  const versions = useMemo(() => [...(detail.data?.versions ?? [])].sort((a, b) => b.number - a.number), [detail.data]);
+  const a = versions.find((v) => v.id === versionA) ?? versions[0] ?? null;
+  const b = versions.find((v) => v.id === versionB) ?? null;
+
+  const refs: TrialRef[] = [...picked].map((key) => {
+    const [kind, value] = key.split(":") as ["builtin" | "custom", string];
+    return kind === "builtin" ? { kind, builtin: value as (typeof BUILTIN_TRIAL_KINDS)[number] } : { kind, trialId: Number(value) };
+  });
+  const available = new Set([
+    ...(trials.data?.builtin.map((t) => `builtin:${t.kind}`) ?? []),
+    ...(trials.data?.custom.map((t) => `custom:${t.id}`) ?? []),
+  ]);
+  const chosen = refs.filter((r) => available.has(r.kind === "builtin" ? `builtin:${r.builtin}` : `custom:${r.trialId}`));
+
+  // The results name the versions that ran (the pickers may have moved on since).
+  const run = useMutation({
+    mutationFn: async (input: { a: ProfileVersion; b: ProfileVersion | null; trials: TrialRef[] }): Promise<{ a: RunSet; b: RunSet | null }> => {
+      const ran = (v: ProfileVersion) => runTrials({ source: { kind: "version", versionId: v.id }, trials: input.trials }).then((runs) => ({ version: v, runs }));
+      const [ra, rb] = await Promise.all([ran(input.a), input.b ? ran(input.b) : Promise.resolve(null)]);
+      return { a: ra, b: rb };
+    },
+  });
+
+  const toggle = (key: string) =>
+    setPicked((s) => {
+      const next = new Set(s);
+      if (next.has(key)) next.delete(key);
+      else next.add(key);
+      return next;
+    });
+
+  return (
+    <>
+      <PageHeader
+        title="Tuning bench"
+        description="Scripted trials through the same motion gate and control step as live jogging, run offline on the server. Simulation only: the evidence here is not a safety sign-off."
+      />
+      <div className="flex flex-col gap-6">
+        <Card title="What to run">
+          <QueryStatus query={profiles} loading="Loading profiles…" failed="Could not load the profiles" />
+          <div className="grid gap-4 md:grid-cols-3">
+            <SelectField
+              label="Profile"
+              value={profileId ?? ""}
+              onChange={(e) => {
+                setProfileId(e.target.value ? Number(e.target.value) : null);
+                setVersionA(null);
+                setVersionB(null);
+                run.reset();
+              }}
+            >
+              <option value="">Choose a profile</option>
+              {profiles.data?.map((p) => (
+                <option key={p.id} value={p.id}>
+                  {p.name} — {p.operatorName}, {p.armName}
+                </option>
+              ))}
+            </SelectField>
+            <SelectField label="Version" value={a?.id ?? ""} disabled={!versions.length} onChange={(e) => setVersionA(Number(e.target.value))}>
+              {versions.map((v) => (
+                <option key={v.id} value={v.id}>
+                  v{v.number} ({v.state})
+                </option>
+              ))}
+            </SelectField>
+            <SelectField
+              label="Compare with"
+              value={b?.id ?? ""}
+              disabled={!versions.length}
+              onChange={(e) => setVersionB(e.target.value ? Number(e.target.value) : null)}
+            >
+              <option value="">No comparison</option>
+              {versions
+                .filter((v) => v.id !== a?.id)
+                .map((v) => (
+                  <option key={v.id} value={v.id}>
+                    v{v.number} ({v.state})
+                  </option>
+                ))}
+            </SelectField>
+          </div>
+          {armId !== null ? <QueryStatus query={trials} loading="Generating the arm's trials…" failed="Could not load the trials" /> : null}
+          {trials.data ? (
+            <fieldset className="mt-4 flex flex-col gap-2">
+              <legend className="mb-1 text-sm font-semibold text-ink-100">Trials (generated from the arm's geometry, and saved ones)</legend>
+              <div className="grid gap-2 md:grid-cols-2">
+                {trials.data.builtin.map((t) => (
+                  <Checkbox key={t.kind} label={t.definition.name} checked={picked.has(`builtin:${t.kind}`)} onChange={() => toggle(`builtin:${t.kind}`)} />
+                ))}
+                {trials.data.custom.map((t) => (
+                  <Checkbox key={t.id} label={`${t.name} (saved)`} checked={picked.has(`custom:${t.id}`)} onChange={() => toggle(`custom:${t.id}`)} />
+                ))}
+              </div>
+              {trials.data.notApplicable.map((t) => (
+                <p key={t.kind} className="text-xs text-ink-400">
+                  {t.kind}: {t.reason}
+                </p>
+              ))}
+            </fieldset>
+          ) : null}
+          <div className="mt-4 flex items-center gap-3">
+            {isEngineer ? (
+              <Button variant="primary" disabled={!a || chosen.length === 0 || run.isPending} onClick={() => a && run.mutate({ a, b, trials: chosen })}>
+                <FlaskConical aria-hidden className="size-4" /> {b ? "Run and compare" : "Run trials"}
+              </Button>
+            ) : (
+              <p className="text-sm text-ink-300">Engineers run trials; you see the runs attached to versions in the review.</p>
+            )}
+            {run.isPending ? <span role="status" className="text-sm text-ink-300">Running {chosen.length * (b ? 2 : 1)} trials…</span> : null}
+          </div>
+          {run.isError ? (
+            <Message tone="stop" title="The runs failed">
+              {describeError(run.error)}
+            </Message>
+          ) : null}
+        </Card>
+        {run.data ? <RunComparison a={run.data.a} b={run.data.b} /> : null}
+        {isEngineer && a && detail.data ? (
+          <SweepPanel
+            version={a}
+            latestVersionId={versions[0]!.id}
+            trials={chosen}
+            trialCount={chosen.length}
+          />
+        ) : null}
+      </div>
+    </>
+  );
+}
+
+export type RunSet = { version: ProfileVersion; runs: TrialRun[] };

@@ -1,0 +1,169 @@
+import { useMemo } from "react";
+import { useQueries } from "@tanstack/react-query";
+import type { ColumnDef } from "@tanstack/react-table";
+import type { DisplaySeries, TrialMetrics, TrialRun } from "@jogwright/shared";
+import { Plot } from "../../../components/charts/plot.tsx";
+import { Badge } from "../../../components/ui/badge.tsx";
+import { Card } from "../../../components/ui/card.tsx";
+import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
+import { runDetailQueryOptions } from "../api/bench-api.ts";
+import type { RunSet } from "./bench-page.tsx";
+
+const MM = 1000;
+const DEG = 180 / Math.PI;
+
+/** The wrist joints of an n-joint arm (the last three), 0-based. */
+const wristOf = (n: number) => (n >= 6 ? [n - 3, n - 2, n - 1] : Array.from({ length: n }, (_, i) => i));
+const maxOver = (values: number[], idx: number[]) => Math.max(...idx.map((i) => values[i] ?? 0));
+
+interface MetricRow {
+  id: string;
+  label: string;
+  unit: string;
+  digits: number;
+  /** "lower": smaller is better; "higher": larger is better; null: no direction (shown, not judged). */
+  better: "lower" | "higher" | null;
+  value: (m: TrialMetrics) => number;
+}
+
+/** The metrics a comparison shows, in display units (METHODS.md defines each). */
+export const METRIC_ROWS: MetricRow[] = [
+  { id: "finished", label: "Finished (1) or stalled (0)", unit: "", digits: 0, better: "higher", value: (m) => (m.finished ? 1 : 0) },
+  { id: "maxDev", label: "Max path deviation", unit: "mm", digits: 2, better: "lower", value: (m) => m.path.maxDeviationM * MM },
+  { id: "rmsDev", label: "RMS path deviation", unit: "mm", digits: 2, better: "lower", value: (m) => m.path.rmsDeviationM * MM },
+  { id: "lag", label: "Lag at the release", unit: "mm", digits: 2, better: "lower", value: (m) => m.path.lagM * MM },
+  { id: "orient", label: "Max orientation error", unit: "deg", digits: 2, better: "lower", value: (m) => m.path.maxOrientationErrorRad * DEG },
+  { id: "residual", label: "Max residual ‖v − J q̇‖", unit: "mm/s", digits: 2, better: "lower", value: (m) => m.path.maxResidualLinearMPerS * MM },
+  {
+    id: "wristRate", label: "Peak wrist rate, of cap", unit: "%", digits: 1, better: "lower",
+    value: (m) => maxOver(m.joints.peakRateFraction, wristOf(m.joints.peakRateFraction.length)) * 100,
+  },
+  {
+    id: "wristAccel", label: "Peak wrist acceleration", unit: "deg/s²", digits: 0, better: "lower",
+    value: (m) => maxOver(m.joints.peakAccelRadPerS2, wristOf(m.joints.peakAccelRadPerS2.length)) * DEG,
+  },
+  {
+    id: "wristJerk", label: "Peak wrist jerk", unit: "deg/s³", digits: 0, better: "lower",
+    value: (m) => maxOver(m.joints.peakJerkRadPerS3, wristOf(m.joints.peakJerkRadPerS3.length)) * DEG,
+  },
+  { id: "capBound", label: "Time cap-bound", unit: "s", digits: 3, better: "lower", value: (m) => m.joints.capBoundS },
+  { id: "sigma", label: "Smallest σ_min", unit: "mm", digits: 2, better: "higher", value: (m) => m.singularity.minSigma * MM },
+  { id: "belowEps", label: "Time inside ε", unit: "s", digits: 3, better: null, value: (m) => m.singularity.timeBelowEpsilonS ?? 0 },
+  { id: "lambda", label: "Largest λ", unit: "mm", digits: 2, better: null, value: (m) => m.singularity.maxLambdaM * MM },
+  { id: "guard", label: "Guard stops", unit: "", digits: 0, better: "lower", value: (m) => m.singularity.guardStops },
+  { id: "stopWorst", label: "Worst predicted stop", unit: "mm", digits: 1, better: "lower", value: (m) => m.stopping.worstPredictedDistanceM * MM },
+  { id: "stopFinal", label: "Final stop distance", unit: "mm", digits: 1, better: "lower", value: (m) => m.stopping.finalStopDistanceM * MM },
+];
+
+/** Relative differences below this count as the same (rounding of a deterministic run is far smaller). */
+const SAME_WITHIN = 0.01;
+
+export function verdict(row: MetricRow, a: number, b: number): "better" | "worse" | "same" | null {
+  if (row.better === null) return null;
+  const scale = Math.max(Math.abs(a), Math.abs(b), 1e-12);
+  if (Math.abs(b - a) / scale < SAME_WITHIN) return "same";
+  const bIsLower = b < a;
+  return (row.better === "lower") === bIsLower ? "better" : "worse";
+}
+
+interface Row {
+  metric: MetricRow;
+  a: number;
+  b: number | null;
+}
+
+function ComparisonTable({ trialName, a, b, labelA, labelB }: { trialName: string; a: TrialRun; b: TrialRun | null; labelA: string; labelB: string | null }) {
+  const rows = useMemo<Row[]>(() => METRIC_ROWS.map((metric) => ({ metric, a: metric.value(a.metrics), b: b ? metric.value(b.metrics) : null })), [a, b]);
+  const columns = useMemo<ColumnDef<Row>[]>(() => {
+    const format = (r: Row, v: number) => `${v.toFixed(r.metric.digits)}${r.metric.unit ? ` ${r.metric.unit}` : ""}`;
+    const cols: ColumnDef<Row>[] = [
+      { id: "metric", header: "Metric", meta: { isRowHeader: true }, cell: (c) => c.row.original.metric.label },
+      { id: "a", header: labelA, meta: { className: "num text-right", headClassName: "text-right" }, cell: (c) => format(c.row.original, c.row.original.a) },
+    ];
+    if (labelB) {
+      cols.push(
+        { id: "b", header: labelB, meta: { className: "num text-right", headClassName: "text-right" }, cell: (c) => (c.row.original.b === null ? "—" : format(c.row.original, c.row.original.b)) },
+        {
+          id: "verdict",
+          header: `${labelB} against ${labelA}`,
+          cell: (c) => {
+            const r = c.row.original;
+            const v = r.b === null ? null : verdict(r.metric, r.a, r.b);
+            if (v === null) return <span className="text-xs text-ink-400">not judged</span>;
+            return <Badge tone={v === "better" ? "ok" : v === "worse" ? "stop" : "neutral"}>{v}</Badge>;
+          },
+        },
+      );
+    }
+    return cols;
+  }, [labelA, labelB]);
+  const table = useDataTable({ data: rows, columns, getRowId: (r) => r.metric.id });
+  return <DataTable table={table} caption={`Metrics of “${trialName}”`} emptyMessage="No metrics" testId="bench-metrics" />;
+}
+
+/** Per sample: the TCP's distance from the commanded position at the same tick [mm]. */
+const distanceFromCommanded = (s: DisplaySeries) => s.tcp.map((p, k) => Math.hypot(p[0]! - s.reference[k]![0]!, p[1]! - s.reference[k]![1]!, p[2]! - s.reference[k]![2]!) * MM);
+/** Per sample: the largest |q̇| of the wrist joints [deg/s]. */
+const wristRate = (s: DisplaySeries) => s.qdot.map((q) => Math.max(...wristOf(s.n).map((i) => Math.abs(q[i]!))) * DEG);
+
+/** Two series on one time axis: B's samples are placed at A's times (both runs share the tick rate and trial). */
+function overlay(a: DisplaySeries, b: DisplaySeries | null, f: (s: DisplaySeries) => number[]): (number | null)[][] {
+  if (!b) return [a.t, f(a)];
+  const bt = b.t, bv = f(b);
+  const times = [...new Set([...a.t, ...bt])].sort((x, y) => x - y);
+  const at = new Map(a.t.map((t, i) => [t, f(a)[i]!]));
+  const bm = new Map(bt.map((t, i) => [t, bv[i]!]));
+  return [times, times.map((t) => at.get(t) ?? null), times.map((t) => bm.get(t) ?? null)];
+}
+
+function RunPlots({ trialName, a, b, labelA, labelB }: { trialName: string; a: TrialRun; b: TrialRun | null; labelA: string; labelB: string | null }) {
+  const [da, db] = useQueries({ queries: [runDetailQueryOptions(a.id), ...(b ? [runDetailQueryOptions(b.id)] : [])] });
+  const sa = da?.data?.series;
+  const sb = db?.data?.series ?? null;
+  const series = useMemo(() => [{ label: labelA }, ...(labelB ? [{ label: labelB }] : [])], [labelA, labelB]);
+  const plots = useMemo(() => {
+    if (!sa) return null;
+    return {
+      deviation: overlay(sa, sb, distanceFromCommanded),
+      sigma: overlay(sa, sb, (s) => s.sigmaMin.map((v) => v * MM)),
+      wrist: overlay(sa, sb, wristRate),
+    };
+  }, [sa, sb]);
+  if (!plots) return <p className="text-sm text-ink-300">Loading the series of “{trialName}”…</p>;
+  return (
+    <div className="grid grid-cols-1 gap-4 xl:grid-cols-3">
+      <Plot title="Distance from the commanded position" xLabel="t [s]" yLabel="mm" data={plots.deviation} series={series} testId="plot-deviation" />
+      <Plot title="σ_min" xLabel="t [s]" yLabel="mm" data={plots.sigma} series={series} testId="plot-sigma" />
+      <Plot title="Fastest wrist joint" xLabel="t [s]" yLabel="deg/s" data={plots.wrist} series={series} testId="plot-wrist" />
+    </div>
+  );
+}
+
+/** The runs of one version, or two side by side: per trial, the metrics table and overlaid plots. */
+export function RunComparison({ a, b }: { a: RunSet; b: RunSet | null }) {
+  const labelA = `v${a.version.number}`;
+  const labelB = b ? `v${b.version.number}` : null;
+  return (
+    <Card title={b ? `v${a.version.number} against v${b.version.number}` : `Runs of v${a.version.number}`}>
+      <div className="flex flex-col gap-8" data-testid="bench-results">
+        {a.runs.map((run, i) => {
+          const other = b?.runs[i] ?? null;
+          return (
+            <section key={run.id} className="flex flex-col gap-3" aria-label={run.trialName}>
+              <h3 className="text-base font-semibold text-ink-100">
+                {run.trialName}{" "}
+                {run.metrics.finished ? <Badge tone="ok">finished</Badge> : <Badge tone="warn">stalled: {run.metrics.stalledReason}</Badge>}
+              </h3>
+              <ComparisonTable trialName={run.trialName} a={run} b={other} labelA={labelA} labelB={labelB} />
+              <RunPlots trialName={run.trialName} a={run} b={other} labelA={labelA} labelB={labelB} />
+              <p className="num text-xs text-ink-400">
+                Run #{run.id}
+                {other ? `, #${other.id}` : ""} · series SHA-256 {run.seriesHash.slice(0, 12)}… · {run.durationMs} ms in the worker
+              </p>
+            </section>
+          );
+        })}
+      </div>
+    </Card>
+  );
+}

@@ -1,0 +1,60 @@
+import { saveScreenshot, signIn } from "../support/browser.ts";
+import { expect, test, uniqueTag } from "../support/fixtures.ts";
+
+// Issue 10 in a real browser against the real server: an engineer compares two versions of a profile on
+// two built-in trials (metrics side by side, each difference marked better or worse, overlaid plots), then
+// sweeps λmax, sees the progress and the trade-off plot with its Pareto front, and makes a draft from a
+// point of the front.
+
+test.use({ viewport: { width: 1400, height: 1000 } });
+
+test("an engineer compares two versions on built-in trials, sweeps λmax and makes a draft from the Pareto front", async ({ page, baseURL, setup }) => {
+  const operator = await setup.person(["operator"]);
+  const arm = await setup.arm(6);
+  const defaults = setup.defaults(arm);
+  // v1 damps through the wrist lightly (λmax 10 mm); v2 with the defaults' 40 mm. Damp-through, so the wrist line finishes.
+  const v1Params = { ...defaults, damping: { ...defaults.damping, lambdaMaxM: 0.01 }, guard: { policy: "damp-through" as const, sigmaStopM: 0.02 } };
+  const name = `E2E bench ${uniqueTag()}`;
+  const profile = await setup.profile({ name, operator, arm, params: v1Params, note: "damp through" });
+  const v2Params = { ...v1Params, damping: { ...v1Params.damping, lambdaMaxM: 0.04 } };
+  await setup.saveVersion(profile.id, profile.latestVersion, v2Params, "more damping");
+
+  await signIn(page, baseURL!, "emeka", "/bench");
+  await expect(page.getByRole("heading", { level: 1, name: "Tuning bench" })).toBeVisible();
+  await page.getByLabel("Profile").selectOption({ label: `${name} — ${operator.displayName}, ${arm.name}` });
+  await page.getByLabel("Version").selectOption({ label: "v1 (draft)" });
+  await page.getByLabel("Compare with").selectOption({ label: "v2 (draft)" });
+  await expect(page.getByLabel("Straight line through wrist alignment")).toBeChecked();
+  await page.getByRole("button", { name: "Run and compare" }).click();
+
+  const results = page.getByTestId("bench-results");
+  const nearMiss = results.getByRole("region", { name: "Near miss of wrist alignment, 3 mm" });
+  await expect(nearMiss.getByRole("heading", { name: /Near miss of wrist alignment, 3 mm/ })).toBeVisible({ timeout: 30_000 });
+  // More damping near the wrist: the wrist joints turn slower and accelerate less (the issue's table).
+  const row = (metric: string) => nearMiss.getByTestId("bench-metrics").getByRole("row", { name: new RegExp(`^${metric}`) });
+  await expect(row("Peak wrist rate, of cap")).toContainText("better");
+  await expect(row("Peak wrist acceleration")).toContainText("better");
+  await expect(row("Largest λ")).toContainText("not judged");
+  for (const plot of ["plot-deviation", "plot-sigma", "plot-wrist"]) {
+    await expect(nearMiss.getByTestId(plot).locator("canvas")).toBeVisible();
+    await expect(nearMiss.getByTestId(plot)).not.toHaveAttribute("data-points", "0");
+  }
+  await saveScreenshot(page, "bench-compare");
+
+  // A sweep of λmax around v2 over the chosen trials: progress, then the trade-off with its front.
+  await page.getByLabel("Compare with").selectOption({ label: "No comparison" });
+  await page.getByLabel("Version").selectOption({ label: "v2 (draft)" });
+  await page.getByRole("group", { name: "First parameter" }).getByLabel("Steps").fill("8");
+  await page.getByRole("button", { name: "Run the sweep" }).click();
+  await expect(page.getByRole("progressbar", { name: "Sweep progress" })).toBeVisible();
+  const sweep = page.getByTestId("sweep-result");
+  await expect(sweep.getByTestId("plot-sweep").locator("canvas")).toBeVisible({ timeout: 60_000 });
+  await expect(sweep.getByTestId("plot-sweep")).toHaveAttribute("data-points", "8");
+  const front = sweep.getByTestId("pareto-front").getByRole("listitem");
+  expect(await front.count()).toBeGreaterThan(0);
+  await saveScreenshot(page, "bench-sweep");
+
+  await front.first().getByRole("button", { name: "Make a draft with these values" }).click();
+  await expect(page.getByText("Saved as draft v3")).toBeVisible();
+  await expect(page.getByText(/From a sweep of v2: λmax = /)).toBeVisible();
+});
