@@ -54,10 +54,14 @@ export const runSourceSchema = z.discriminatedUnion("kind", [
 ]);
 export type RunSource = z.infer<typeof runSourceSchema>;
 
-/** Which trial: a built-in kind of the source's arm, or a saved custom trial of that arm. */
+/**
+ * Which trial: a built-in kind of the source's arm, a saved custom trial of that arm, or a recorded live
+ * session on that arm (its operator's input replayed tick by tick).
+ */
 export const trialRefSchema = z.discriminatedUnion("kind", [
   z.object({ kind: z.literal("builtin"), builtin: builtinTrialKindSchema }),
   z.object({ kind: z.literal("custom"), trialId: id }),
+  z.object({ kind: z.literal("replay"), recordingId: id }),
 ]);
 export type TrialRef = z.infer<typeof trialRefSchema>;
 

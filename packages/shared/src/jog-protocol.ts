@@ -178,11 +178,26 @@ export const jogStateSchema = z.object({
    * from successive joint rates; the instant halt (a step by definition) is left out.
    */
   jointAccelPeak: z.array(finite).default(() => []),
+  /**
+   * What acted on the simulation since the previous frame, in order, for the recording's replay (issue 10):
+   * each event is [tick, kind, …values] (INPUT_EVENT), `tick` the ticks simulated before it took effect.
+   */
+  inputEvents: z.array(z.array(finite)).optional(),
   /** The last input seq applied, and its client time, for the client's input-to-state latency. */
   lastInputSeq: z.number().int(),
   lastInputClientTimeMs: finite,
 });
 export type JogState = z.infer<typeof jogStateSchema>;
+
+/**
+ * Kinds of the recorded input events (JogState.inputEvents), with their values after [tick, kind]:
+ * - start: estopLatched (0/1), then the joint positions the session started at;
+ * - input: seq, enabling (0/1), mode (0 Cartesian, 1 joint), frame (0 world, 1 tool), override %, axes…;
+ * - estop, resetEstop, acknowledge, readyPose: nothing; requireRelease: nothing (the reason is not replayed);
+ * - stall: the scheduler's stall total [ms] from this tick on (it excuses input silence, see simulation.ts);
+ * - end: nothing (the session ended).
+ */
+export const INPUT_EVENT = { start: 0, input: 1, estop: 2, resetEstop: 3, requireRelease: 4, acknowledge: 5, readyPose: 6, stall: 7, end: 8 } as const;
 
 export const jogServerMessageSchema = z.discriminatedUnion("type", [
   z.object({ type: z.literal("welcome"), userId: z.string(), roles: z.array(z.string()) }),

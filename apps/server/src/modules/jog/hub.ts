@@ -406,6 +406,8 @@ export class JogHub {
         setup: {
           arm: driven.arm.model, readyPose: driven.arm.readyPose, params: driven.version.params, q0: q0 ? Array.from(q0) : undefined,
           estopLatched,
+          // The recording keeps what the operator did, tick by tick, so the session can be replayed offline.
+          recordInputs: true,
         },
       });
     });

@@ -3,7 +3,7 @@ import {
   forwardPoseInto, jointJogStep, setJointPositions,
   type ArmModel, type ControlParams, type ControlState, type ControlStepReport, type ControlWorkspace,
 } from "@jogwright/kinematics";
-import type { JogInput, ProfileParams, RecordingSummary, StopReason } from "@jogwright/shared";
+import { INPUT_EVENT, type JogInput, type ProfileParams, type RecordingSummary, type StopReason } from "@jogwright/shared";
 import { toControlParams } from "./params.ts";
 
 /**
@@ -29,6 +29,8 @@ export interface SimulationSetup {
   q0?: ArrayLike<number>;
   /** Start with the emergency stop latched (the operator's station is latched; set by the hub). */
   estopLatched?: boolean;
+  /** Log what acts on the simulation (INPUT_EVENT) for the recording; frameBody hands the log out. Live sessions only. */
+  recordInputs?: boolean;
 }
 
 export type InputResult = { ok: true } | { ok: false; code: string; message: string };
@@ -105,6 +107,8 @@ export class JogSimulation {
     STOP_KINDS.map((kind) => [kind, { count: 0, maxTimeS: 0, maxDistanceM: 0, maxExcessDistanceM: 0 }]),
   );
   private stopsSeen = 0;
+  /** Events since the last frame ([tick, kind, …values], INPUT_EVENT), or null when not recorded. */
+  private inputEvents: number[][] | null;
 
   constructor(setup: SimulationSetup) {
     const { arm, params } = setup;
@@ -148,7 +152,12 @@ export class JogSimulation {
     });
     // The starting state is not a stop event: a latched start shows the latch without counting a stop.
     this.stopReason = setup.estopLatched ? "emergency-stop" : "enabling-released";
+    this.inputEvents = setup.recordInputs ? [[0, INPUT_EVENT.start, setup.estopLatched ? 1 : 0, ...this.state.q]] : null;
     this.hold();
+  }
+
+  private logEvent(kind: number, ...values: number[]): void {
+    this.inputEvents?.push([this.ticks, kind, ...values]);
   }
 
   get watchdogMs(): number {
@@ -184,6 +193,11 @@ export class JogSimulation {
     seq: number, clientTimeMs: number, isEnabling: boolean, mode: "cartesian" | "joint", frame: "world" | "tool",
     overridePercent: number, axes: ArrayLike<number>, axesOffset: number,
   ): void {
+    if (this.inputEvents) {
+      const event = [this.ticks, INPUT_EVENT.input, seq, isEnabling ? 1 : 0, mode === "joint" ? 1 : 0, frame === "tool" ? 1 : 0, overridePercent];
+      for (let i = axesOffset; i < axesOffset + (mode === "cartesian" ? 6 : this.n); i++) event.push(axes[i]!);
+      this.inputEvents.push(event);
+    }
     this.overridePercent = Math.min(overridePercent, this.profile.speedOverride.maxPercent);
     this.gate.setInput(isEnabling, mode, frame, this.overridePercent / 100, axes, axesOffset);
     this.lastInputSeq = seq;
@@ -192,6 +206,7 @@ export class JogSimulation {
 
   /** Emergency stop: the instant halt (simulation) — joint rates zero at once — latched until resetEstop. */
   emergencyStop(): void {
+    this.logEvent(INPUT_EVENT.estop);
     this.gate.emergencyStop();
     this.state.qdot.fill(0);
     this.qdotPrev.fill(0); // a step by definition: not counted as an acceleration
@@ -205,15 +220,18 @@ export class JogSimulation {
 
   /** Clears the latch; never moves the arm and never restarts motion (a fresh enabling press is needed). */
   resetEstop(): void {
+    this.logEvent(INPUT_EVENT.resetEstop);
     this.gate.resetEstop();
   }
 
   /** Motion needs the enabling control seen released again (e.g. the input device reconnected). */
   requireRelease(reason: string): void {
+    this.logEvent(INPUT_EVENT.requireRelease);
     this.gate.requireRelease(reason);
   }
 
   acknowledge(): void {
+    this.logEvent(INPUT_EVENT.acknowledge);
     this.gate.acknowledge();
   }
 
@@ -234,6 +252,7 @@ export class JogSimulation {
 
   /** Puts the simulated arm back at the ready pose. Caller checks isStopped and the e-stop latch. */
   moveToReadyPose(): void {
+    this.logEvent(INPUT_EVENT.readyPose);
     setJointPositions(this.ws, this.state, this.readyPose);
     this.state.singularityAcknowledged = false;
     this.isMeasuredAtRest = false;
@@ -271,7 +290,10 @@ export class JogSimulation {
    */
   tick(stalledMs = 0): void {
     const dt = this.dt;
-    if (stalledMs > this.stalledMs) this.gate.excuseInputSilence((stalledMs - this.stalledMs) / this.tickPeriodMs);
+    if (stalledMs > this.stalledMs) {
+      this.logEvent(INPUT_EVENT.stall, stalledMs);
+      this.gate.excuseInputSilence((stalledMs - this.stalledMs) / this.tickPeriodMs);
+    }
     this.stalledMs = stalledMs;
 
     const c = this.gate.tick(this.report, this.state.qdot);
@@ -420,13 +442,16 @@ export class JogSimulation {
       stopping: { kind: stopping.kind, isActive: stopping.isActive, timeS: fin(stopping.time), distanceM: fin(stopping.distance) },
       stopPredictions,
       jointAccelPeak,
+      ...(this.inputEvents ? { inputEvents: this.inputEvents } : {}),
     };
+    if (this.inputEvents) this.inputEvents = [];
     const json = JSON.stringify(body);
     return json.slice(1, -1);
   }
 
   /** Marks the end (stop reason "session-ended") for the last frame. */
   end(): void {
+    this.logEvent(INPUT_EVENT.end);
     this.gate.requireRelease("the session ended");
     this.state.qdot.fill(0);
     this.setStopReason("session-ended");

@@ -4,19 +4,22 @@ import { compileTrial } from "./compile.ts";
 import { computeTrialMetrics, type TrialMetrics } from "./metrics.ts";
 import { runTrial, type CompiledTrial, type TrialSeries } from "./runner.ts";
 import { wristJointIndex } from "./builtin.ts";
+import { replayInputs, type ReplayInput } from "./replay.ts";
 
 /**
  * One offline run, as the worker pool executes it (trial-pool.ts): compile the trial (mathjs sampling,
  * cached per worker: a sweep runs the same trials many times), run it through the live jog path, compute
  * its metrics. Pure and deterministic; also called directly by tests and benchmarks.
  */
-export interface RunJob {
+interface RunJobCommon {
   arm: ArmModel;
   params: ProfileParams;
-  trial: TrialDefinition;
   /** false: return the metrics only (a sweep keeps no series; saves copying them between threads). */
   withSeries?: boolean;
 }
+
+/** A scripted trial, or a recorded session's input replayed (replay.ts). */
+export type RunJob = RunJobCommon & ({ trial: TrialDefinition; replay?: undefined } | { replay: { input: ReplayInput; readyPose: readonly number[] }; trial?: undefined });
 
 export interface RunJobResult {
   metrics: TrialMetrics;
@@ -28,7 +31,7 @@ export interface RunJobResult {
 const cache = new Map<string, CompiledTrial>();
 const CACHE_SIZE = 32;
 
-function compiled(job: RunJob): CompiledTrial {
+function compiled(job: RunJobCommon & { trial: TrialDefinition }): CompiledTrial {
   const key = `${job.params.tickRateHz}|${JSON.stringify(job.arm)}|${JSON.stringify(job.trial)}`;
   let c = cache.get(key);
   if (!c) {
@@ -46,7 +49,7 @@ export function effectiveJointCaps(arm: ArmModel, params: ProfileParams): number
 
 export function runJob(job: RunJob): RunJobResult {
   const started = performance.now();
-  const series = runTrial(job.arm, job.params, compiled(job));
+  const series = job.replay ? replayInputs(job.arm, job.replay.readyPose, job.params, job.replay.input) : runTrial(job.arm, job.params, compiled(job));
   const d = job.params.damping;
   const metrics = computeTrialMetrics(series, {
     jointCaps: effectiveJointCaps(job.arm, job.params),

@@ -78,19 +78,14 @@ const ARRIVED_M = 1e-9;
 /** Runs a compiled trial on the arm with a profile version's parameters. */
 export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTrial, options: TrialRunOptions = {}): TrialSeries {
   const sim = new JogSimulation({ arm, readyPose: Array.from(trial.startPose), params });
-  const n = sim.n;
   const dt = sim.dt;
   const maxDuration = options.maxDurationS ?? 600;
   let plannedTicks = 0;
   for (const s of trial.segments) plannedTicks += s.kind === "waypoint" ? s.maxTicks : s.ticks;
   const capacity = Math.min(plannedTicks + Math.ceil(MAX_STOP_S / dt) + 2, Math.ceil(maxDuration / dt) + 2);
-  const out = allocate(sim.tickRateHz, n, capacity);
 
-  const kernel = compileArm(arm);
-  const pose = new Float64Array(16);
-  const reference = new Float64Array(16); // the commanded pose, integrated from the wanted twist
-  forwardPoseInto(kernel, sim.state.q, pose);
-  reference.set(pose);
+  const rec = new SeriesRecorder(sim, arm, capacity);
+  const { pose, reference, wantedWorld } = rec;
   const override = params.speedOverride.maxPercent;
   const scale = override / 100;
   const linCap = params.tcpLinearCapMPerS * scale;
@@ -98,37 +93,8 @@ export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTr
   const { deadband, expo } = params.shaping;
   const axes = new Float64Array(6);
   const wanted = new Float64Array(6);
-  const wantedWorld = new Float64Array(6);
   let seq = 0;
-  let k = 0;
-
-  const record = (): void => {
-    forwardPoseInto(kernel, sim.state.q, pose);
-    const r = sim.report;
-    out.t[k] = sim.time;
-    for (let i = 0; i < n; i++) {
-      out.q[k * n + i] = sim.state.q[i]!;
-      out.qdot[k * n + i] = sim.state.qdot[i]!;
-    }
-    for (let i = 0; i < 3; i++) {
-      out.tcp[k * 3 + i] = pose[i * 4 + 3]!;
-      out.reference[k * 3 + i] = reference[i * 4 + 3]!;
-    }
-    out.orientationError[k] = rotationAngleBetween(pose, reference);
-    for (let i = 0; i < 6; i++) {
-      out.wanted[k * 6 + i] = wantedWorld[i]!;
-      out.commanded[k * 6 + i] = r.commandedTwist[i]!;
-      out.achieved[k * 6 + i] = r.achievedTwist[i]!;
-    }
-    out.sigmaMin[k] = r.sigmaMin;
-    out.lambda[k] = r.lambda;
-    sim.gate.updatePredictions(r, sim.state.qdot);
-    out.stopDistance[k] = sim.gate.predictions["enabling-released"].distance;
-    out.capBound[k] = r.binding === "joint-rate" ? 1 : 0;
-    out.guardHeld[k] = r.guardState === "stopped" ? 1 : 0;
-    out.fault[k] = r.fault !== "none" ? 1 : 0;
-    k++;
-  };
+  const record = () => rec.record();
 
   /**
    * One tick: wanted (in its frame) → the stick deflections a live operator would need → the same input
@@ -146,7 +112,7 @@ export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTr
     toWorld(wanted, frame, pose, wantedWorld);
     sim.applyInputValues(seq++, 0, true, "cartesian", frame, override, axes, 0);
     sim.tick();
-    if (sim.gate.command.action === "cartesian") advance(reference, sim.report.commandedTwist, dt);
+    rec.advanceReference();
     record();
   };
 
@@ -182,18 +148,97 @@ export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTr
   }
 
   // Release: the controlled stop, until the arm rests.
-  out.releaseIndex = k;
+  rec.markRelease();
   wanted.fill(0);
   wantedWorld.fill(0);
   axes.fill(0);
   sim.applyInputValues(seq++, 0, false, "cartesian", "world", override, axes, 0);
   const stopTicks = Math.ceil(MAX_STOP_S / dt);
-  for (let j = 0; j < stopTicks && k < capacity; j++) {
+  for (let j = 0; j < stopTicks && !rec.isFull; j++) {
     sim.tick();
     record();
     if (sim.isAtRest) break;
   }
-  return trim(out, k);
+  return rec.series();
+}
+
+/**
+ * Records a JogSimulation tick by tick into a TrialSeries (the trial runner's and the replay's): joint
+ * state, TCP and commanded (reference) position, twists, σ_min, λ, the predicted stop, cap and guard
+ * flags. The reference starts at the TCP and advances by what the gate handed to the control step
+ * (Cartesian commands; a joint jog leaves it where it is). Allocates the series once.
+ */
+export class SeriesRecorder {
+  readonly pose = new Float64Array(16);
+  /** The commanded pose, integrated from the gate's commanded twist. */
+  readonly reference = new Float64Array(16);
+  /** The twist asked for this tick, world frame (the trial's; zero for a replay). */
+  readonly wantedWorld = new Float64Array(6);
+  private readonly kernel: ReturnType<typeof compileArm>;
+  private readonly out: TrialSeries;
+  private k = 0;
+
+  constructor(private readonly sim: JogSimulation, arm: ArmModel, private readonly capacity: number) {
+    this.kernel = compileArm(arm);
+    this.out = allocate(sim.tickRateHz, sim.n, capacity);
+    forwardPoseInto(this.kernel, sim.state.q, this.pose);
+    this.reference.set(this.pose);
+  }
+
+  get isFull(): boolean {
+    return this.k >= this.capacity;
+  }
+
+  /** After a tick: the reference follows the commanded twist of a Cartesian command. */
+  advanceReference(): void {
+    if (this.sim.gate.command.action === "cartesian") advance(this.reference, this.sim.report.commandedTwist, this.sim.dt);
+  }
+
+  /** The commanded path starts again at the TCP (a replay's ready-pose move, a joint jog's end). */
+  resetReference(): void {
+    forwardPoseInto(this.kernel, this.sim.state.q, this.reference);
+  }
+
+  /** The next samples belong to the final stop. */
+  markRelease(): void {
+    this.out.releaseIndex = this.k;
+  }
+
+  record(): void {
+    if (this.k >= this.capacity) return;
+    const { sim, out, pose, reference, wantedWorld } = this;
+    const k = this.k;
+    const n = sim.n;
+    forwardPoseInto(this.kernel, sim.state.q, pose);
+    const r = sim.report;
+    out.t[k] = sim.time;
+    for (let i = 0; i < n; i++) {
+      out.q[k * n + i] = sim.state.q[i]!;
+      out.qdot[k * n + i] = sim.state.qdot[i]!;
+    }
+    for (let i = 0; i < 3; i++) {
+      out.tcp[k * 3 + i] = pose[i * 4 + 3]!;
+      out.reference[k * 3 + i] = reference[i * 4 + 3]!;
+    }
+    out.orientationError[k] = rotationAngleBetween(pose, reference);
+    for (let i = 0; i < 6; i++) {
+      out.wanted[k * 6 + i] = wantedWorld[i]!;
+      out.commanded[k * 6 + i] = r.commandedTwist[i]!;
+      out.achieved[k * 6 + i] = r.achievedTwist[i]!;
+    }
+    out.sigmaMin[k] = r.sigmaMin;
+    out.lambda[k] = r.lambda;
+    sim.gate.updatePredictions(r, sim.state.qdot);
+    out.stopDistance[k] = sim.gate.predictions["enabling-released"].distance;
+    out.capBound[k] = r.binding === "joint-rate" ? 1 : 0;
+    out.guardHeld[k] = r.guardState === "stopped" ? 1 : 0;
+    out.fault[k] = r.fault !== "none" ? 1 : 0;
+    this.k++;
+  }
+
+  series(): TrialSeries {
+    return trim(this.out, this.k);
+  }
 }
 
 function allocate(tickRateHz: number, n: number, count: number): TrialSeries {

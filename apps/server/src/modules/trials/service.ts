@@ -8,10 +8,12 @@ import { modelsOf } from "../../db/models.ts";
 import { AppError } from "../../errors.ts";
 import { recordAudit } from "../audit/service.ts";
 import { findArm } from "../arms/service.ts";
+import { findRecording, readFrames } from "../recordings/service.ts";
 import { visibleProfile } from "../profiles/service.ts";
 import { findVersion } from "../versions/service.ts";
 import { builtinTrials } from "./builtin.ts";
 import { checkTrial } from "./compile.ts";
+import { replayInputOf, ReplayFormatError, type ReplayInput } from "./replay.ts";
 import { decodeSeries, encodeSeries, seriesForDisplay, seriesHash } from "./series-codec.ts";
 import { runSweep } from "./sweep.ts";
 import { mapInPool, runInPool } from "./trial-pool.ts";
@@ -134,11 +136,37 @@ async function resolveSource(db: Sequelize, actor: User, source: RunRequest["sou
 
 interface ResolvedTrial {
   kind: TrialRun["trialKind"];
+  name: string;
   trialId: number | null;
-  definition: TrialDefinition;
+  recordingId: number | null;
+  /** A scripted trial's definition; null for a replay. */
+  definition: TrialDefinition | null;
+  replay: { input: ReplayInput; readyPose: readonly number[] } | null;
+}
+
+/** A recorded live session on the arm, its operator input ready to replay; 400 on the field when it cannot be. */
+async function resolveReplay(db: Sequelize, arm: Arm, recordingId: number, index: number): Promise<ResolvedTrial> {
+  const refuse = (message: string) => new AppError(400, "validation_failed", `Recording ${recordingId} cannot be replayed: ${message}.`, [{ path: `trials.${index}.recordingId`, message }]);
+  const recording = await findRecording(db, recordingId);
+  if (!recording) throw refuse("there is no such recording");
+  if (recording.armId !== arm.id) throw refuse(`it was driven on another arm (${recording.armName})`);
+  if (recording.summary?.droppedFrames) throw refuse(`${recording.summary.droppedFrames} of its frames were dropped while the database was behind, so its input is incomplete`);
+  const version = await findVersion(db, recording.versionId);
+  try {
+    const input = replayInputOf(await readFrames(db, recordingId), version!.params.tickRateHz);
+    const day = recording.startedAt.slice(0, 16).replace("T", " ");
+    return {
+      kind: "replay", name: `Replay of ${recording.driverName}'s session of ${day} UTC (v${recording.versionNumber})`, trialId: null, recordingId,
+      definition: null, replay: { input, readyPose: arm.readyPose },
+    };
+  } catch (error) {
+    if (error instanceof ReplayFormatError) throw refuse(error.message);
+    throw error;
+  }
 }
 
 async function resolveTrial(db: Sequelize, arm: Arm, ref: TrialRef, index: number): Promise<ResolvedTrial> {
+  if (ref.kind === "replay") return resolveReplay(db, arm, ref.recordingId, index);
   if (ref.kind === "builtin") {
     const generated = builtinTrials({ model: arm.model, readyPose: arm.readyPose });
     const trial = generated.trials.find((t) => t.kind === ref.builtin);
@@ -146,13 +174,13 @@ async function resolveTrial(db: Sequelize, arm: Arm, ref: TrialRef, index: numbe
       const reason = generated.notApplicable.find((t) => t.kind === ref.builtin)?.reason ?? "not generated for this arm";
       throw new AppError(400, "validation_failed", `The built-in trial "${ref.builtin}" does not apply to ${arm.name}: ${reason}.`, [{ path: `trials.${index}.builtin`, message: reason }]);
     }
-    return { kind: trial.kind, trialId: null, definition: trial.definition };
+    return { kind: trial.kind, name: trial.definition.name, trialId: null, recordingId: null, definition: trial.definition, replay: null };
   }
   const trial = await findCustomTrial(db, ref.trialId);
   if (!trial || trial.armId !== arm.id) {
     throw new AppError(400, "validation_failed", "No such trial for this arm.", [{ path: `trials.${index}.trialId`, message: "pick a saved trial of this profile's arm" }]);
   }
-  return { kind: "custom", trialId: trial.id, definition: trial.definition };
+  return { kind: "custom", name: trial.name, trialId: trial.id, recordingId: null, definition: trial.definition, replay: null };
 }
 
 /**
@@ -163,7 +191,12 @@ async function resolveTrial(db: Sequelize, arm: Arm, ref: TrialRef, index: numbe
 export async function runTrials(db: Sequelize, actor: User, request: RunRequest, signal?: AbortSignal): Promise<TrialRun[]> {
   const source = await resolveSource(db, actor, request.source);
   const trials = await Promise.all(request.trials.map((ref, i) => resolveTrial(db, source.arm, ref, i)));
-  const results = await Promise.all(trials.map((t) => runInPool({ arm: source.arm.model, params: source.params, trial: t.definition, withSeries: true }, signal)));
+  const results = await Promise.all(
+    trials.map((t) => {
+      const common = { arm: source.arm.model, params: source.params, withSeries: true };
+      return runInPool(t.replay ? { ...common, replay: t.replay } : { ...common, trial: t.definition! }, signal);
+    }),
+  );
   const { TrialRun } = modelsOf(db);
   const ids = await db.transaction(async (transaction) => {
     const out: number[] = [];
@@ -173,7 +206,7 @@ export async function runTrials(db: Sequelize, actor: User, request: RunRequest,
       const run = await TrialRun.create(
         {
           armId: source.arm.id, profileId: source.profileId, versionId: source.versionId, params: source.params,
-          trialKind: t.kind, trialId: t.trialId, recordingId: null, trialName: t.definition.name, trialDefinition: t.definition,
+          trialKind: t.kind, trialId: t.trialId, recordingId: t.recordingId, trialName: t.name, trialDefinition: t.definition,
           metrics: r.metrics, series: encodeSeries(series), seriesHash: seriesHash(series), durationMs: Math.round(r.elapsedMs), createdBy: actor.id,
         },
         { transaction },
@@ -231,10 +264,10 @@ export async function sweepVersion(
   const trials = await Promise.all(refs.map((ref, i) => resolveTrial(db, source.arm, ref, i)));
   const started = performance.now();
   const result = await runSweep(
-    { arm: source.arm.model, base: source.params, axes: request.axes, trials: trials.map((t) => t.definition), x: request.x, y: request.y },
+    { arm: source.arm.model, base: source.params, axes: request.axes, trials: trials.map((t) => t.definition!), x: request.x, y: request.y },
     runInPool, onProgress, signal,
   );
-  return { ...result, versionId: source.versionId!, trialNames: trials.map((t) => t.definition.name), elapsedMs: performance.now() - started };
+  return { ...result, versionId: source.versionId!, trialNames: trials.map((t) => t.name), elapsedMs: performance.now() - started };
 }
 
 // ---------------------------------------------------------------------------------------------------

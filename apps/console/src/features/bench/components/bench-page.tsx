@@ -10,7 +10,9 @@ import { Message } from "../../../components/ui/message.tsx";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { describeError } from "../../../lib/api-client.ts";
+import { formatDateTime } from "../../../lib/format.ts";
 import { profileDetailQueryOptions, useProfiles } from "../../../lib/queries/profiles.ts";
+import { recordingListQueryOptions } from "../../../lib/queries/recordings.ts";
 import { useCurrentUser } from "../../../lib/session.ts";
 import { armTrialsQueryOptions, runTrials } from "../api/bench-api.ts";
 import { RunComparison } from "./run-comparison.tsx";
@@ -37,6 +39,12 @@ export function BenchPage() {
   const a = versions.find((v) => v.id === versionA) ?? versions[0] ?? null;
   const b = versions.find((v) => v.id === versionB) ?? null;
 
+  // Recorded live sessions on this profile's arm: their operator's input replayed with the version(s).
+  const recordings = useQuery({ ...recordingListQueryOptions(), enabled: armId !== null });
+  const armRecordings = (recordings.data ?? []).filter((r) => r.armId === armId && r.endedAt !== null).slice(0, 50);
+  const [replayId, setReplayId] = useState<number | null>(null);
+
+  const keyOf = (r: TrialRef) => (r.kind === "builtin" ? `builtin:${r.builtin}` : r.kind === "custom" ? `custom:${r.trialId}` : `replay:${r.recordingId}`);
   const refs: TrialRef[] = [...picked].map((key) => {
     const [kind, value] = key.split(":") as ["builtin" | "custom", string];
     return kind === "builtin" ? { kind, builtin: value as (typeof BUILTIN_TRIAL_KINDS)[number] } : { kind, trialId: Number(value) };
@@ -45,7 +53,8 @@ export function BenchPage() {
     ...(trials.data?.builtin.map((t) => `builtin:${t.kind}`) ?? []),
     ...(trials.data?.custom.map((t) => `custom:${t.id}`) ?? []),
   ]);
-  const chosen = refs.filter((r) => available.has(r.kind === "builtin" ? `builtin:${r.builtin}` : `custom:${r.trialId}`));
+  const chosenTrials = refs.filter((r) => available.has(keyOf(r)));
+  const chosen: TrialRef[] = [...chosenTrials, ...(replayId !== null && armRecordings.some((r) => r.id === replayId) ? [{ kind: "replay" as const, recordingId: replayId }] : [])];
 
   // The results name the versions that ran (the pickers may have moved on since).
   const run = useMutation({
@@ -126,6 +135,19 @@ export function BenchPage() {
                   <Checkbox key={t.id} label={`${t.name} (saved)`} checked={picked.has(`custom:${t.id}`)} onChange={() => toggle(`custom:${t.id}`)} />
                 ))}
               </div>
+              <SelectField
+                label="Replay a recorded session (the operator's own input, tick by tick)"
+                className="mt-2 max-w-xl"
+                value={replayId ?? ""}
+                onChange={(e) => setReplayId(e.target.value ? Number(e.target.value) : null)}
+              >
+                <option value="">No replay</option>
+                {armRecordings.map((r) => (
+                  <option key={r.id} value={r.id}>
+                    {r.driverName}, {formatDateTime(r.startedAt)} — {r.profileName} v{r.versionNumber}
+                  </option>
+                ))}
+              </SelectField>
               {trials.data.notApplicable.map((t) => (
                 <p key={t.kind} className="text-xs text-ink-400">
                   {t.kind}: {t.reason}
@@ -154,8 +176,8 @@ export function BenchPage() {
           <SweepPanel
             version={a}
             latestVersionId={versions[0]!.id}
-            trials={chosen}
-            trialCount={chosen.length}
+            trials={chosenTrials}
+            trialCount={chosenTrials.length}
           />
         ) : null}
       </div>

@@ -13,7 +13,7 @@ import { formatDateTime, formatFixed } from "../../../lib/format.ts";
 import { useArms } from "../../../lib/queries/arms.ts";
 import { DriveWorkspace } from "../../../components/jog/drive-workspace.tsx";
 import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
-import { recordingDetailQueryOptions, recordingListQueryOptions } from "../api/recordings-api.ts";
+import { recordingDetailQueryOptions, recordingListQueryOptions } from "../../../lib/queries/recordings.ts";
 import { ReplaySource } from "../replay-source.ts";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
 

@@ -1,7 +1,8 @@
+// The one query-key factory for recordings (read by the recordings page and the tuning bench).
 import { queryOptions } from "@tanstack/react-query";
 import { z } from "zod";
 import { recordedFrameSchema, recordingSchema } from "@jogwright/shared";
-import { apiRequest } from "../../../lib/api-client.ts";
+import { apiRequest } from "../api-client.ts";
 
 const recordingListSchema = z.object({ recordings: z.array(recordingSchema) });
 const recordingDetailSchema = z.object({ recording: recordingSchema, frames: z.array(recordedFrameSchema) });
