@@ -58,3 +58,29 @@ test("an engineer compares two versions on built-in trials, sweeps λmax and mak
   await expect(page.getByText("Saved as draft v3")).toBeVisible();
   await expect(page.getByText(/From a sweep of v2: λmax = /)).toBeVisible();
 });
+
+test("a safety officer reads the evidence a version was submitted with, and its report prints without the console's frame", async ({ page, baseURL, setup }) => {
+  const operator = await setup.person(["operator"]);
+  const arm = await setup.arm(6);
+  const profile = await setup.profile({ name: `E2E report ${uniqueTag()}`, operator, arm, note: "defaults" });
+  await setup.submit(profile.latestVersion); // the site's default rule: the seven built-in trials are run and attached
+
+  await signIn(page, baseURL!, "sigrid", `/reviews/${profile.latestVersion.id}`);
+  await expect(page.getByTestId("evidence-table").getByRole("row")).toHaveCount(8);
+  await page.getByRole("link", { name: "Printable report" }).click();
+  const report = page.getByTestId("review-report");
+  await expect(report.getByRole("heading", { level: 1, name: `Review report: ${profile.name} v1` })).toBeVisible();
+  await expect(report.getByRole("note")).toContainText("not a safety sign-off");
+  await expect(report.getByText(profile.latestVersion.paramsSha256)).toBeVisible();
+  await expect(report.getByTestId("evidence-table").getByRole("row")).toHaveCount(8);
+  // The default profile's stop-before guard holds before the singular region: shown as such, not as a failure.
+  await expect(report.getByTestId("evidence-table").getByText("held by the guard").first()).toBeVisible();
+
+  await page.emulateMedia({ media: "print" });
+  await expect(page.getByRole("navigation", { name: "Main" })).toBeHidden();
+  await expect(page.getByRole("region", { name: "Cautions" })).toBeHidden();
+  await expect(page.getByRole("button", { name: "Print or save as PDF" })).toBeHidden();
+  await saveScreenshot(page, "review-report-print");
+  const pdf = await page.pdf({ format: "A4" });
+  expect(pdf.subarray(0, 4).toString()).toBe("%PDF");
+});

@@ -6,7 +6,7 @@ import { expect, test, uniqueTag, type Person, type ProfileRef, type Setup } fro
 
 // Issue 5 in a real browser against the real server: an engineer writes a profile for an operator in UI
 // units (a ceiling warning above 250 mm/s, ISO 10218-1:2011 reduced speed), saves and submits; a safety
-// officer reviews (difference, ceiling check, no evidence yet) and approves with a comment; a second
+// officer reviews (difference, ceiling check, the built-in trials' evidence) and approves with a comment; a second
 // version goes the same way while a stale page's save is refused (409 stale_parent) without overwriting
 // anything; finally the operator sees the approved version as driveable and drives the arm with it.
 // Each step is its own test: it makes the profile it starts from through the API (the steps before it,
@@ -51,7 +51,10 @@ async function approveFromQueue(page: Page, profileName: string, versionNumber: 
   await page.getByRole("link", { name: `Review ${profileName} v${versionNumber}` }).click();
   await expect(page.getByRole("heading", { level: 1, name: `Review: ${profileName}` })).toBeVisible();
   await expect(page.getByText("Within every site ceiling")).toBeVisible();
-  await expect(page.getByTestId("evidence").getByText("No trial evidence attached — scripted trials arrive with the tuning bench")).toBeVisible();
+  // Submitted with the site's default evidence: a run of each of the arm's seven built-in trials.
+  const evidence = page.getByTestId("evidence").getByTestId("evidence-table");
+  await expect(evidence.getByRole("row")).toHaveCount(8); // the heading row and seven runs
+  await expect(evidence.getByRole("rowheader", { name: "Straight line through wrist alignment" })).toBeVisible();
   await page.getByRole("button", { name: "Approve…" }).click();
   const dialog = page.getByRole("dialog", { name: /^Approve / });
   await expect(dialog).toBeVisible();

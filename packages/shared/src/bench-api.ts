@@ -82,6 +82,8 @@ export const trialMetricsSchema = z.object({
   durationS: num,
   finished: z.boolean(),
   stalledReason: z.string().nullable(),
+  /** Why it stalled: a numerical fault, the stop-before guard's hold (the profile's own answer), or lag. */
+  stallKind: z.enum(["fault", "guard", "lag"]).nullable(),
   path: z.object({
     maxDeviationM: num,
     rmsDeviationM: num,
@@ -215,3 +217,11 @@ export const mapResponseSchema = z.object({
   computeMs: num,
 });
 export type MapResponse = z.infer<typeof mapResponseSchema>;
+
+// ---------------------------------------------------------------------------------------------------
+// Evidence
+// ---------------------------------------------------------------------------------------------------
+
+/** POST /api/versions/:id/submit: runs of this version to attach (the site's evidence rule may add more). */
+export const submitVersionSchema = z.object({ evidenceRunIds: z.array(id).max(50, "at most 50 runs").default([]) });
+export type SubmitVersionInput = z.infer<typeof submitVersionSchema>;

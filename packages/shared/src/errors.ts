@@ -27,6 +27,8 @@ export const ERROR_CODES = [
   "ceiling_exceeded",
   "locked",
   "invalid_transition",
+  /** A version is submitted without the evidence the site requires, or its evidence breaks the rule (issue 10). */
+  "evidence_insufficient",
   "internal",
   "unavailable",
   /** MariaDB is stopped, paused or unreachable: 503; live jogging continues, saving waits (issue 11, item 5). */

@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { trialRunSchema } from "./bench-api.ts";
 import { ceilingsSchema, profileParamsSchema, versionStateSchema } from "./profile.ts";
 import { singleLineName } from "./text.ts";
 
@@ -151,5 +152,7 @@ export const versionDetailResponseSchema = z.object({
   approval: z
     .object({ approverName: z.string(), approvedAt: z.string(), comment: z.string(), paramsSha256: z.string() })
     .nullable(),
+  /** The runs the version was submitted with (empty for a draft, or where the site requires none). */
+  evidence: z.array(trialRunSchema).default(() => []),
 });
 export type VersionDetail = z.infer<typeof versionDetailResponseSchema>;

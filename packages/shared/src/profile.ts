@@ -177,6 +177,9 @@ export function topTcpSpeedMPerS(params: Pick<ProfileParams, "tcpLinearCapMPerS"
   return (params.tcpLinearCapMPerS * params.speedOverride.maxPercent) / 100;
 }
 
+export const EVIDENCE_RULES = ["builtin-trials", "none"] as const;
+export type EvidenceRule = (typeof EVIDENCE_RULES)[number];
+
 export const ceilingsSchema = z.object({
   tcpLinearMaxMPerS: positive("the TCP linear ceiling").refine((v) => v <= 2, "at most 2000 mm/s"),
   tcpAngularMaxRadPerS: positive("the TCP angular ceiling").refine((v) => v <= 2 * Math.PI, "at most 360 deg/s"),
@@ -197,6 +200,14 @@ export const ceilingsSchema = z.object({
    * 0.5 m/s² default: our choice, common practice, no source. At most 20 m/s² (the profile's own bound).
    */
   decelerationMinMPerS2: positive("the smallest deceleration").refine((v) => v <= 20, "at most 20 m/s²").default(0.5),
+  /**
+   * The evidence a version must be submitted with (issue 10). "builtin-trials" (the default): a run of every
+   * built-in trial of its arm with the version's parameters (the server runs any not attached), none
+   * stalled by a numerical fault or by falling behind — a hold of the stop-before guard is the profile's
+   * own answer and counts as finished — and none stopping farther than stoppingDistanceMaxM, predicted or
+   * measured. "none": no evidence required.
+   */
+  evidenceRequired: z.enum(EVIDENCE_RULES).default("builtin-trials"),
 });
 export type Ceilings = z.infer<typeof ceilingsSchema>;
 
@@ -209,6 +220,7 @@ export const DEFAULT_CEILINGS: Ceilings = {
   lambdaMaxMinM: 0.01,
   stoppingDistanceMaxM: 0.05,
   decelerationMinMPerS2: 0.5,
+  evidenceRequired: "builtin-trials",
 };
 
 export interface CeilingViolation {

@@ -53,7 +53,10 @@ export const NAV_ITEMS: readonly NavItem[] = [
     icon: ClipboardCheck,
     roles: ["safety_officer"],
     load: () => import("./routes/reviews-route.tsx"),
-    children: [{ path: ":versionId", load: () => import("./routes/review-route.tsx") }],
+    children: [
+      { path: ":versionId", load: () => import("./routes/review-route.tsx") },
+      { path: ":versionId/report", load: () => import("./routes/review-report-route.tsx") },
+    ],
   },
   { label: "Ceilings", path: "/ceilings", icon: Gauge, roles: ["engineer", "safety_officer"], load: () => import("./routes/ceilings-route.tsx") },
   { label: "Audit", path: "/audit", icon: ScrollText, roles: ["safety_officer", "admin"], load: () => import("./routes/audit-route.tsx") },

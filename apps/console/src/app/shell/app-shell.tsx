@@ -27,7 +27,7 @@ export function AppShell() {
       </a>
       <CautionsBanner />
       <DatabaseBanner />
-      <header className="flex h-14 items-center justify-between gap-4 border-b border-ink-700 bg-ink-900 px-4">
+      <header data-print="hide" className="flex h-14 items-center justify-between gap-4 border-b border-ink-700 bg-ink-900 px-4">
         <Brand className="text-lg" />
         <div className="flex items-center gap-4">
           <div className="flex flex-col items-end leading-tight">
@@ -57,7 +57,7 @@ export function AppShell() {
         className={cn("h-0.5 bg-iris-400 transition-opacity", navigation.state === "loading" ? "animate-pulse opacity-100" : "opacity-0")}
       />
       <div className="flex flex-1">
-        <nav aria-label="Main" className="w-52 shrink-0 border-r border-ink-700 bg-ink-900 p-3">
+        <nav aria-label="Main" data-print="hide" className="w-52 shrink-0 border-r border-ink-700 bg-ink-900 p-3">
           <ul className="flex flex-col gap-1">
             {items.map(({ path, label, icon: Icon }) => (
               <li key={path}>

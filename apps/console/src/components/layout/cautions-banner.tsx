@@ -36,6 +36,7 @@ export function CautionsBanner() {
   return (
     <section
       aria-label="Cautions"
+      data-print="hide"
       className="flex items-start gap-3 border-b border-warn-400/40 bg-warn-950 px-4 py-2 text-sm text-ink-100"
     >
       <TriangleExclamationPoint aria-hidden className="mt-0.5 size-4 shrink-0 text-warn-400" />

@@ -44,8 +44,9 @@ export const ratedJointSpeeds = (arm: Arm) => arm.model.joints.map((j) => j.maxS
  * How `params` on `arm` exceed the ceilings in force, read under a shared lock in `t`: a ceiling change
  * waits for the step that asked (a submit or an approval), and vice versa.
  */
-export async function violationsNow(db: Sequelize, t: Transaction, params: ProfileParams, arm: Arm): Promise<CeilingViolation[]> {
-  const ceilings = await findCeilingsInForce(db, t, "share");
+/** The params' violations of the ceilings in force; in a transaction, read under a shared lock (a ceiling change waits). */
+export async function violationsNow(db: Sequelize, t: Transaction | undefined, params: ProfileParams, arm: Arm): Promise<CeilingViolation[]> {
+  const ceilings = t ? await findCeilingsInForce(db, t, "share") : await findCeilingsInForce(db);
   return checkCeilings(params, ceilings.ceilings, ratedJointSpeeds(arm));
 }
 

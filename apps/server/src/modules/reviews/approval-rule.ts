@@ -47,7 +47,7 @@ export function refuseOwnDecision(actor: User, version: ProfileVersion, label: s
 /** Rule 4: within the ceilings in force (422 ceiling_exceeded naming the field and the ceiling). */
 export async function checkWithinCeilings(
   db: Sequelize,
-  t: Transaction,
+  t: Transaction | undefined,
   version: ProfileVersion,
   profile: ProfileSummary,
   action: "submitted" | "approved",

@@ -1,4 +1,4 @@
-import { approveVersionSchema, numericIdParamSchema, rejectVersionSchema } from "@jogwright/shared";
+import { approveVersionSchema, numericIdParamSchema, rejectVersionSchema, submitVersionSchema } from "@jogwright/shared";
 import { ApiRouter, requireAccount } from "../../http/api-router.ts";
 import { parseBody, parseParams } from "../../http/validate.ts";
 import type { AppContext } from "../../context.ts";
@@ -13,7 +13,9 @@ export function reviewsRouters(ctx: AppContext): ApiRouter[] {
     })
     .add("post", "/:id/submit", ["engineer"], async (req, res) => {
       const { id } = parseParams(req, numericIdParamSchema);
-      res.json({ version: await service.submitVersion(ctx, requireAccount(res), id) });
+      // The body is optional: no body submits with the evidence the site's rule asks for.
+      const input = req.body === undefined ? submitVersionSchema.parse({}) : parseBody(req, submitVersionSchema);
+      res.json({ version: await service.submitVersion(ctx, requireAccount(res), id, input) });
     })
     .add("post", "/:id/approve", ["safety_officer"], async (req, res) => {
       const { id } = parseParams(req, numericIdParamSchema);

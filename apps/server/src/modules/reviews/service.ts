@@ -1,5 +1,5 @@
 import type { Sequelize, Transaction } from "sequelize";
-import { checkCeilings, type CeilingViolation, type ProfileSummary, type ProfileVersion, type User } from "@jogwright/shared";
+import { checkCeilings, type CeilingViolation, type ProfileSummary, type ProfileVersion, type SubmitVersionInput, type TrialRun, type User } from "@jogwright/shared";
 import type { z } from "zod";
 import type { approveVersionSchema, rejectVersionSchema } from "@jogwright/shared";
 import { AppError } from "../../errors.ts";
@@ -7,6 +7,7 @@ import { modelsOf } from "../../db/models.ts";
 import { recordAudit } from "../audit/service.ts";
 import { findCeilingsInForce, ratedJointSpeeds } from "../ceilings/service.ts";
 import { findProfile, versionLabel, visibleProfile } from "../profiles/service.ts";
+import { attachEvidence, evidenceOf, prepareEvidence } from "../trials/service.ts";
 import { findActivePeople, listActiveWithRole } from "../users/service.ts";
 import {
   armFor,
@@ -77,15 +78,19 @@ export async function getVersionDetail(
   db: Sequelize,
   user: User,
   id: number,
-): Promise<{ version: ProfileVersion; profile: ProfileSummary; violations: CeilingViolation[]; approvedVersion: ProfileVersion | null; approval: Omit<ApprovalRecord, "id" | "versionId" | "approverId"> | null }> {
+): Promise<{
+  version: ProfileVersion; profile: ProfileSummary; violations: CeilingViolation[]; approvedVersion: ProfileVersion | null;
+  approval: Omit<ApprovalRecord, "id" | "versionId" | "approverId"> | null; evidence: TrialRun[];
+}> {
   const version = await findVersion(db, id);
   if (!version) throw new AppError(404, "not_found", "No such version.");
   const profile = await visibleProfile(db, user, version.profileId);
-  const [arm, ceilings, approvedVersion, approval] = await Promise.all([
+  const [arm, ceilings, approvedVersion, approval, evidence] = await Promise.all([
     armFor(db, profile.armId),
     findCeilingsInForce(db),
     findApprovedVersion(db, profile.id),
     findApproval(db, id),
+    evidenceOf(db, id),
   ]);
   return {
     version,
@@ -93,6 +98,7 @@ export async function getVersionDetail(
     violations: checkCeilings(version.params, ceilings.ceilings, ratedJointSpeeds(arm)),
     approvedVersion,
     approval: approval ? { approverName: approval.approverName, approvedAt: approval.approvedAt, comment: approval.comment, paramsSha256: approval.paramsSha256 } : null,
+    evidence,
   };
 }
 
@@ -113,11 +119,26 @@ export async function listReviewQueue(db: Sequelize) {
 // Submitting and deciding
 // ---------------------------------------------------------------------------------------------------
 
-/** A draft goes to review if it is within the ceilings in force; every active safety officer is mailed. */
-export async function submitVersion(ctx: WorkflowContext, actor: User, versionId: number): Promise<ProfileVersion> {
+/**
+ * A draft goes to review if it is within the ceilings in force, with its evidence (the runs the engineer
+ * attached, and the built-in trials the site's rule asks for: trials/service.ts prepareEvidence); every
+ * active safety officer is mailed.
+ */
+export async function submitVersion(ctx: WorkflowContext, actor: User, versionId: number, input: SubmitVersionInput = { evidenceRunIds: [] }): Promise<ProfileVersion> {
+  // The evidence runs first, outside the transaction (offline runs take a moment); only for a draft, so a
+  // version in another state gets the transition's own refusal without running anything.
+  // The ceilings first (cheap, and the refusal that matters most); the transaction checks them again.
+  const draft = await findVersion(ctx.db, versionId);
+  let runIds: number[] = [];
+  if (draft?.state === "draft") {
+    const profile = await visibleProfile(ctx.db, actor, draft.profileId);
+    await checkWithinCeilings(ctx.db, undefined, draft, profile, "submitted");
+    runIds = await prepareEvidence(ctx.db, actor, draft, input.evidenceRunIds, (await findCeilingsInForce(ctx.db)).ceilings);
+  }
   return transition(ctx, actor, versionId, ["draft"], "submitted", async ({ t, version, profile }) => {
     const label = versionLabel(profile, version);
     await checkWithinCeilings(ctx.db, t, version, profile, "submitted");
+    await attachEvidence(ctx.db, t, version.id, runIds, actor.id);
     await setStatus(ctx.db, t, version.id, { state: "submitted", submittedAt: new Date() });
     const officers = await listActiveWithRole(ctx.db, "safety_officer", t);
     await ctx.mailer.enqueue(t, {
@@ -128,6 +149,7 @@ export async function submitVersion(ctx: WorkflowContext, actor: User, versionId
         `${actor.displayName} submitted ${label} for review.`,
         `Operator: ${profile.operatorName}. Arm: ${profile.armName}.`,
         `Parameters SHA-256: ${version.paramsSha256}`,
+        runIds.length ? `Evidence: ${runIds.length} trial runs attached.` : "",
         version.note ? `Note: ${version.note}` : "",
         `Open the review queue in Jogwright to approve or reject it (version id ${version.id}).`,
       ]

@@ -114,14 +114,16 @@ export function computeTrialMetrics(s: TrialSeries, ctx: MetricsContext): TrialM
   // --- finished or stalled --------------------------------------------------------------------------
   const pathLength = arc[end - 1] ?? 0;
   let stalledReason: string | null = null;
-  if (faults > 0) stalledReason = "a numerical fault zeroed the joint rates";
-  else if (s.guardHeld[end - 1] === 1) stalledReason = "held before the singular region by the stop-before guard";
-  else if (pathLength > 0 && lag > STALL_LAG_SHARE * pathLength) stalledReason = `the arm fell more than ${STALL_LAG_SHARE * 100} % of the path behind`;
+  let stallKind: TrialMetrics["stallKind"] = null;
+  if (faults > 0) [stallKind, stalledReason] = ["fault", "a numerical fault zeroed the joint rates"];
+  else if (s.guardHeld[end - 1] === 1) [stallKind, stalledReason] = ["guard", "held before the singular region by the stop-before guard"];
+  else if (pathLength > 0 && lag > STALL_LAG_SHARE * pathLength) [stallKind, stalledReason] = ["lag", `the arm fell more than ${STALL_LAG_SHARE * 100} % of the path behind`];
 
   return {
     durationS: s.count > 0 ? s.t[s.count - 1]! : 0,
     finished: stalledReason === null,
     stalledReason,
+    stallKind,
     path: {
       maxDeviationM: maxDev,
       rmsDeviationM: Math.sqrt(sumSq / end),

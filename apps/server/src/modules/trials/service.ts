@@ -1,7 +1,7 @@
-import { UniqueConstraintError, type Sequelize } from "sequelize";
+import { UniqueConstraintError, type Sequelize, type Transaction } from "sequelize";
 import type { ArmModel } from "@jogwright/kinematics";
 import type {
-  Arm, ArmTrials, CustomTrial, MapRequest, MapResponse, ProfileParams, RunDetail, RunRequest, SaveTrialRequest, SweepRequest, SweepResult, TrialDefinition, TrialRef, TrialRun, User,
+  Arm, ArmTrials, Ceilings, CustomTrial, ProfileVersion, MapRequest, MapResponse, ProfileParams, RunDetail, RunRequest, SaveTrialRequest, SweepRequest, SweepResult, TrialDefinition, TrialRef, TrialRun, User,
 } from "@jogwright/shared";
 import { mapRequestSchema } from "@jogwright/shared";
 import { modelsOf } from "../../db/models.ts";
@@ -9,7 +9,7 @@ import { AppError } from "../../errors.ts";
 import { recordAudit } from "../audit/service.ts";
 import { findArm } from "../arms/service.ts";
 import { findRecording, readFrames } from "../recordings/service.ts";
-import { visibleProfile } from "../profiles/service.ts";
+import { findProfile, visibleProfile } from "../profiles/service.ts";
 import { findVersion } from "../versions/service.ts";
 import { builtinTrials } from "./builtin.ts";
 import { checkTrial } from "./compile.ts";
@@ -315,4 +315,68 @@ function toResponse(
     values: Array.from(grid.values, (v) => (Number.isFinite(v) ? v : null)),
     toolLengthM, computeMs,
   };
+}
+
+// ---------------------------------------------------------------------------------------------------
+// Evidence (a version is submitted with its runs; the site's rule: ceilings.evidenceRequired)
+// ---------------------------------------------------------------------------------------------------
+
+/** Why a run breaks the site's evidence rule, or null. A stop-before hold is the profile's own answer. */
+export function evidenceProblem(run: TrialRun, ceilings: Ceilings): string | null {
+  const m = run.metrics;
+  if (m.stallKind === "fault" || m.stallKind === "lag") return `“${run.trialName}” stalled: ${m.stalledReason}`;
+  const limit = ceilings.stoppingDistanceMaxM;
+  const worst = Math.max(m.stopping.worstPredictedDistanceM, m.stopping.finalStopDistanceM);
+  if (worst > limit + 1e-9) {
+    return `“${run.trialName}” stops up to ${(worst * 1000).toFixed(1)} mm, above the site's ${(limit * 1000).toFixed(1)} mm stopping-distance ceiling`;
+  }
+  return null;
+}
+
+/**
+ * The runs a draft is submitted with: the engineer's chosen runs of this very version, plus — when the
+ * site requires the built-in trials — a fresh run of each built-in trial of its arm that is not among
+ * them. Refused (409 evidence_insufficient, one issue per run) when a required run breaks the rule. Runs
+ * outside a transaction (offline runs take a moment); attachEvidence stores the list with the submission.
+ */
+export async function prepareEvidence(db: Sequelize, actor: User, version: ProfileVersion, chosenRunIds: number[], ceilings: Ceilings): Promise<number[]> {
+  const chosen = chosenRunIds.length ? await listRunsById(db, [...new Set(chosenRunIds)]) : [];
+  chosenRunIds.forEach((runId, i) => {
+    const run = chosen.find((r) => r.id === runId);
+    if (!run || run.versionId !== version.id) {
+      throw new AppError(400, "validation_failed", `Run ${runId} is not a run of this version; attach runs of v${version.number} only.`, [
+        { path: `evidenceRunIds.${i}`, message: "a run of this version" },
+      ]);
+    }
+  });
+  if (ceilings.evidenceRequired === "none") return chosen.map((r) => r.id);
+
+  const profile = await findProfile(db, version.profileId);
+  const arm = await armOrNotFound(db, profile!.armId);
+  const kinds = builtinTrials({ model: arm.model, readyPose: arm.readyPose }).trials.map((t) => t.kind);
+  const missing = kinds.filter((kind) => !chosen.some((r) => r.trialKind === kind));
+  const fresh = missing.length ? await runTrials(db, actor, { source: { kind: "version", versionId: version.id }, trials: missing.map((builtin) => ({ kind: "builtin", builtin })) }) : [];
+  const required = [...chosen.filter((r) => (kinds as string[]).includes(r.trialKind)), ...fresh];
+  const problems = required.map((r) => ({ run: r, problem: evidenceProblem(r, ceilings) })).filter((p) => p.problem !== null);
+  if (problems.length > 0) {
+    throw new AppError(
+      409,
+      "evidence_insufficient",
+      `v${version.number} does not meet the site's evidence rule (the built-in trials, all finished, none above a ceiling): ${problems[0]!.problem}. Nothing was submitted; the runs are kept on the bench.`,
+      problems.map((p) => ({ path: `runs.${p.run.id}`, message: p.problem! })),
+    );
+  }
+  return [...chosen.map((r) => r.id), ...fresh.map((r) => r.id)];
+}
+
+/** Attach runs to a draft in the submission's transaction (the database refuses it once it left draft). */
+export async function attachEvidence(db: Sequelize, transaction: Transaction, versionId: number, runIds: number[], actorId: string): Promise<void> {
+  if (runIds.length === 0) return;
+  await modelsOf(db).VersionEvidence.bulkCreate(runIds.map((runId) => ({ versionId, runId, attachedBy: actorId })), { transaction });
+}
+
+/** The runs a version was submitted with, in the order they ran. */
+export async function evidenceOf(db: Sequelize, versionId: number): Promise<TrialRun[]> {
+  const rows = await modelsOf(db).VersionEvidence.findAll({ where: { versionId }, attributes: ["runId"], raw: true });
+  return rows.length ? listRunsById(db, rows.map((r) => r.runId)) : [];
 }

@@ -9,6 +9,7 @@ import { Button } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { Checkbox } from "../../../components/ui/checkbox.tsx";
 import { Message } from "../../../components/ui/message.tsx";
+import { SelectField } from "../../../components/ui/select-field.tsx";
 import { NumberField } from "../../../components/ui/number-field.tsx";
 import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
@@ -189,6 +190,16 @@ function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: 
               error={errors.lambdaMaxMinM?.message}
               {...register("lambdaMaxMinM", { valueAsNumber: true })}
             />
+            <SelectField
+              label="Evidence before submission"
+              hint="The built-in trials of the arm, run with the version (the server runs any the engineer did not attach): none stalled (a stop-before hold counts as finished), none stopping farther than the stopping-distance ceiling."
+              disabled={!canEdit}
+              error={errors.evidenceRequired?.message}
+              {...register("evidenceRequired")}
+            >
+              <option value="builtin-trials">Built-in trials, all finished, none above a ceiling</option>
+              <option value="none">None required</option>
+            </SelectField>
             <fieldset className="flex flex-col gap-2" aria-describedby={errors.allowedGuardPolicies ? "guard-policies-error" : undefined}>
               <legend className="mb-1 text-sm font-semibold">Allowed guard policies</legend>
               {GUARD_POLICIES.map((p) => (

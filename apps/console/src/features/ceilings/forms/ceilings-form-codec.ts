@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { ceilingsSchema, guardPolicySchema, roundTo, UNITS, type Ceilings } from "@jogwright/shared";
+import { ceilingsSchema, EVIDENCE_RULES, guardPolicySchema, roundTo, UNITS, type Ceilings } from "@jogwright/shared";
 import { addSchemaIssuesAtUiPaths, uiNumber } from "../../../lib/form-codec.ts";
 
 // The ceilings form: UI units (mm/s, deg/s, %, ms, mm, m/s², m) ⇄ the SI `ceilings` of PUT /api/ceilings.
@@ -16,6 +16,7 @@ const UI_KEY_OF: Record<keyof Ceilings, keyof CeilingsFormValues> = {
   lambdaMaxMinM: "lambdaMaxMinM",
   stoppingDistanceMaxM: "stoppingDistanceMaxMm",
   decelerationMinMPerS2: "decelerationMinMPerS2",
+  evidenceRequired: "evidenceRequired",
 };
 
 /** The UI field of a ceilings path ("tcpLinearMaxMPerS" → "tcpLinearMaxMmPerS"), or undefined. */
@@ -32,6 +33,7 @@ const ceilingsUiSchema = z
     lambdaMaxMinM: uiNumber("m"),
     stoppingDistanceMaxMm: uiNumber("mm"),
     decelerationMinMPerS2: uiNumber("m/s²"),
+    evidenceRequired: z.enum(EVIDENCE_RULES),
     note: z.string().max(NOTE_MAX, `At most ${NOTE_MAX} characters`),
   })
   .superRefine((values, ctx) => {
@@ -55,6 +57,7 @@ function ceilingsFromUi(v: CeilingsFormValues): z.input<typeof ceilingsSchema> {
     lambdaMaxMinM: v.lambdaMaxMinM,
     stoppingDistanceMaxM: UNITS.metresToMm.toSi(v.stoppingDistanceMaxMm),
     decelerationMinMPerS2: v.decelerationMinMPerS2,
+    evidenceRequired: v.evidenceRequired,
   };
 }
 
@@ -70,6 +73,7 @@ export function ceilingsFormValuesOf(ceilings: z.input<typeof ceilingsSchema>, n
     lambdaMaxMinM: c.lambdaMaxMinM,
     stoppingDistanceMaxMm: roundTo(UNITS.metresToMm.toUi(c.stoppingDistanceMaxM), 1),
     decelerationMinMPerS2: roundTo(c.decelerationMinMPerS2, 3),
+    evidenceRequired: c.evidenceRequired,
     note,
   };
 }

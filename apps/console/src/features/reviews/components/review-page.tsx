@@ -13,6 +13,7 @@ import { jointKindsOf } from "../../../lib/arm-joints.ts";
 import { ParamsDiffTable, ParamsTable } from "../../../components/profiles/params-table.tsx";
 import { Fact, ProfileFacts } from "../../../components/profiles/profile-facts.tsx";
 import { VersionLabel } from "../../../components/profiles/version-state-badge.tsx";
+import { EvidenceTable } from "../../../components/bench/evidence-table.tsx";
 import { useVersionDetail } from "../../../lib/queries/profiles.ts";
 import type { Decision } from "../api/reviews-api.ts";
 import { DecisionDialog } from "./decision-dialog.tsx";
@@ -33,7 +34,7 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
       </Message>
     );
   }
-  const { version, profile, violations, approvedVersion, approval } = detail.data;
+  const { version, profile, violations, approvedVersion, approval, evidence } = detail.data;
   const arm = arms.data?.find((a) => a.id === profile.armId);
   const jointKinds = jointKindsOf(arm);
   const label = `${profile.name} v${version.number}`;
@@ -92,13 +93,27 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
               </Message>
             )}
           </Card>
-          <Card title="Trial evidence">
-            <div className="flex items-start gap-3 text-sm text-ink-300" data-testid="evidence">
-              <FlaskConical aria-hidden className="mt-0.5 size-4 shrink-0 text-ink-400" />
-              <p>No trial evidence attached — scripted trials arrive with the tuning bench.</p>
-            </div>
-          </Card>
         </div>
+        <Card
+          title="Trial evidence"
+          description="The runs this version was submitted with: the same motion gate and control step as live jogging, offline on the server. Simulation only."
+          actions={
+            <Link to={`/reviews/${version.id}/report`} className="text-sm font-semibold text-iris-300 hover:underline">
+              Printable report
+            </Link>
+          }
+        >
+          <div data-testid="evidence">
+            {evidence.length === 0 ? (
+              <div className="flex items-start gap-3 text-sm text-ink-300">
+                <FlaskConical aria-hidden className="mt-0.5 size-4 shrink-0 text-ink-400" />
+                <p>{version.state === "draft" ? "Runs are attached when the version is submitted." : "No trial evidence attached: the site required none when it was submitted."}</p>
+              </div>
+            ) : (
+              <EvidenceTable runs={evidence} caption={`The ${evidence.length} runs ${label} was submitted with`} />
+            )}
+          </div>
+        </Card>
 
         <Card title="Identity" description="The SHA-256 of the parameters' canonical JSON. An approval records it and is refused if it no longer matches.">
           <p className="num text-sm break-all text-ink-100" data-testid="params-hash">
