@@ -5,6 +5,7 @@ import { recordAudit } from "../modules/audit/service.ts";
 import { findCeilingsInForce, ratedJointSpeeds } from "../modules/ceilings/service.ts";
 import { findProfileByName, insertProfile } from "../modules/profiles/service.ts";
 import { insertApproval } from "../modules/reviews/service.ts";
+import { attachBuiltinEvidence } from "../modules/trials/service.ts";
 import { findUserIdByUsername } from "../modules/users/service.ts";
 import { insertVersion, paramsSha256, setStatus } from "../modules/versions/service.ts";
 
@@ -16,7 +17,8 @@ import { insertVersion, paramsSha256, setStatus } from "../modules/versions/serv
  * stop-before singularity guard (defaultProfileParams); the site's default ceilings still allow both
  * policies, and the safety officer decides. The approved version goes draft → submitted → locked →
  * approved, the order the workflow and the lifecycle triggers (0003, 0008) expect, with its ceiling flag
- * set from the ceilings in force.
+ * set from the ceilings in force. Both submitted versions carry the built-in trials of the arm as evidence,
+ * run while seeding (about a second), as a real submission would.
  */
 const userId = findUserIdByUsername;
 
@@ -77,6 +79,8 @@ export async function seedDemoProfiles(db: Sequelize, cast: DemoProfileCast = DE
         after: { id: profileId, name: olenaName, operatorId: olena, armId: arm6Id, createdBy: emeka },
       });
       const v1Id = await insertVersion(db, t, { profileId, number: 1, parentVersionId: null, params: v1, note: "Starting point: defaults for the six-axis arm.", authorId: emeka });
+      // Submitted as the workflow submits: with the built-in trials of the arm as evidence (run now).
+      await attachBuiltinEvidence(db, t, { id: v1Id, profileId, params: v1 }, arm6, emeka);
       await setStatus(db, t, v1Id, { state: "submitted", submittedAt: new Date() });
       const comment = "Test-driven live through the wrist region; damping and caps are within the site ceilings.";
       // The approvals row approves and locks v1 (its triggers, migration 0014).
@@ -85,6 +89,7 @@ export async function seedDemoProfiles(db: Sequelize, cast: DemoProfileCast = DE
       await recordAudit(db, t, { actorId: emeka, entity: "version", entityId: v1Id, action: "save", summary: `saved "${olenaName}" v1 (demo seed)`, after: { id: v1Id, paramsSha256: paramsSha256(v1) } });
       await recordAudit(db, t, { actorId: sigrid, entity: "approval", entityId: approvalId, action: "create", summary: `approved "${olenaName}" v1 (demo seed): ${comment}`, after: { versionId: v1Id, paramsSha256: paramsSha256(v1) } });
       const v2Id = await insertVersion(db, t, { profileId, number: 2, parentVersionId: v1Id, params: v2, note: "More damping near the wrist singularity; slower tool for cover bolts.", authorId: emeka });
+      await attachBuiltinEvidence(db, t, { id: v2Id, profileId, params: v2 }, arm6, emeka);
       await setStatus(db, t, v2Id, { state: "submitted", submittedAt: new Date() });
       await recordAudit(db, t, { actorId: emeka, entity: "version", entityId: v2Id, action: "submit", summary: `saved and submitted "${olenaName}" v2 (demo seed)`, after: { id: v2Id, paramsSha256: paramsSha256(v2) } });
     });

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
-import { checkCeilings, type ProfileParams } from "@jogwright/shared";
+import { BUILTIN_TRIAL_KINDS, checkCeilings, type ProfileParams } from "@jogwright/shared";
 import { call, createHarness, freshUser, signIn, type Harness } from "../test/harness.ts";
 import { findArm } from "../modules/arms/service.ts";
 import { findCeilingsInForce, ratedJointSpeeds } from "../modules/ceilings/service.ts";
@@ -125,6 +125,18 @@ describe("the demo seed", () => {
       const review = await call(h, "get", `/api/versions/${v1.id}`, cookie);
       expect(review.body.approval).toMatchObject({ approverName: people.safetyOfficer.user.displayName, paramsSha256: v1.paramsSha256 });
       expect(review.body.violations.length > 0).toBe(flagged);
+    });
+
+    it("both submitted versions carry the arm's seven built-in trials as evidence, run with their own parameters", async () => {
+      const [v1, v2] = await versionRows(cast.packProfileName, cast.packOperator);
+      for (const v of [v1!, v2!]) {
+        const runs = await h.db.query<{ trial_kind: string; params: unknown; version_id: number }>(
+          "SELECT r.trial_kind, r.params, r.version_id FROM version_evidence e JOIN trial_runs r ON r.id = e.run_id WHERE e.version_id = ?",
+          { replacements: [v.id], type: QueryTypes.SELECT },
+        );
+        expect(runs.map((r) => r.trial_kind).sort(), `v${v.number}`).toEqual([...BUILTIN_TRIAL_KINDS].sort());
+        for (const r of runs) expect(typeof r.params === "string" ? JSON.parse(r.params) : r.params).toEqual(paramsOf(v));
+      }
     });
 
     it("every profile uses the stop-before guard, and the seven-axis one is a draft with the null-space term on", async () => {
