@@ -41,6 +41,21 @@ test("an engineer compares two versions on built-in trials, sweeps λmax and mak
   }
   await saveScreenshot(page, "bench-compare");
 
+  // The run replayed in the drive page's 3D view, with its timeline.
+  await nearMiss.getByRole("button", { name: "Replay v2 in 3D" }).click();
+  await expect(nearMiss.getByTestId("arm-view").locator("canvas")).toBeVisible();
+  await expect(nearMiss.getByRole("slider", { name: "Timeline" })).toBeVisible();
+  await nearMiss.getByRole("button", { name: "Close the 3D replay" }).click();
+
+  // The singularity map of the arm over (q4, q5), then with a 300 mm tool: it is recomputed and redrawn.
+  const map = page.getByTestId("singularity-map");
+  await expect(map).toHaveAttribute("data-cells", String(120 * 120));
+  await expect(page.getByTestId("map-axes")).toContainText("q4");
+  const before = await map.evaluate((c: HTMLCanvasElement) => c.toDataURL());
+  await page.getByLabel("Tool length").fill("300");
+  await expect.poll(() => map.evaluate((c: HTMLCanvasElement) => c.toDataURL())).not.toBe(before);
+  await saveScreenshot(page, "bench-map");
+
   // A sweep of λmax around v2 over the chosen trials: progress, then the trade-off with its front.
   await page.getByLabel("Compare with").selectOption({ label: "No comparison" });
   await page.getByLabel("Version").selectOption({ label: "v2 (draft)" });

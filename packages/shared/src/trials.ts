@@ -164,7 +164,7 @@ export type SweepRequest = z.infer<typeof sweepRequestSchema>;
  * no such field (e.g. ε under the manipulability damping scheme).
  */
 export function withSweepParameter<P extends object>(params: P, parameter: SweepParameter, value: number): P {
-  const copy = structuredClone(params) as unknown as Record<string, unknown>;
+  const copy = JSON.parse(JSON.stringify(params)) as Record<string, unknown>; // params are plain JSON
   const path = parameter.split(".");
   let node = copy;
   for (const key of path.slice(0, -1)) {

@@ -13,9 +13,11 @@ import { describeError } from "../../../lib/api-client.ts";
 import { formatDateTime } from "../../../lib/format.ts";
 import { profileDetailQueryOptions, useProfiles } from "../../../lib/queries/profiles.ts";
 import { recordingListQueryOptions } from "../../../lib/queries/recordings.ts";
+import { useArms } from "../../../lib/queries/arms.ts";
 import { useCurrentUser } from "../../../lib/session.ts";
 import { armTrialsQueryOptions, runTrials } from "../api/bench-api.ts";
 import { RunComparison } from "./run-comparison.tsx";
+import { SingularityMapPanel } from "./singularity-map.tsx";
 import { SweepPanel } from "./sweep-panel.tsx";
 
 /**
@@ -27,6 +29,7 @@ export function BenchPage() {
   const user = useCurrentUser();
   const isEngineer = user.roles.includes("engineer");
   const profiles = useProfiles();
+  const arms = useArms();
   const [profileId, setProfileId] = useState<number | null>(null);
   const detail = useQuery(profileDetailQueryOptions(profileId));
   const armId = detail.data?.profile.armId ?? null;
@@ -171,7 +174,8 @@ export function BenchPage() {
             </Message>
           ) : null}
         </Card>
-        {run.data ? <RunComparison a={run.data.a} b={run.data.b} /> : null}
+        {run.data ? <RunComparison a={run.data.a} b={run.data.b} arm={arms.data?.find((x) => x.id === run.data.a.runs[0]?.armId)} /> : null}
+        {a && armId !== null ? <SingularityMapPanel armId={armId} version={a} /> : null}
         {isEngineer && a && detail.data ? (
           <SweepPanel
             version={a}

@@ -1,7 +1,11 @@
-import { useMemo } from "react";
+import { useMemo, useState } from "react";
+import { Box } from "lucide-react";
 import { useQueries } from "@tanstack/react-query";
 import type { ColumnDef } from "@tanstack/react-table";
-import type { DisplaySeries, TrialRun } from "@jogwright/shared";
+import type { Arm, DisplaySeries, TrialRun } from "@jogwright/shared";
+import { ReplayPlayer } from "../../../components/jog/replay-player.tsx";
+import { Button } from "../../../components/ui/button.tsx";
+import { framesOfRun } from "../run-frames.ts";
 import { Plot } from "../../../components/charts/plot.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Card } from "../../../components/ui/card.tsx";
@@ -60,10 +64,17 @@ function overlay(a: DisplaySeries, b: DisplaySeries | null, f: (s: DisplaySeries
   return [times, times.map((t) => at.get(t) ?? null), times.map((t) => bm.get(t) ?? null)];
 }
 
-function RunPlots({ trialName, a, b, labelA, labelB }: { trialName: string; a: TrialRun; b: TrialRun | null; labelA: string; labelB: string | null }) {
+function RunPlots({ arm, trialName, a, b, labelA, labelB }: { arm: Arm | undefined; trialName: string; a: TrialRun; b: TrialRun | null; labelA: string; labelB: string | null }) {
   const [da, db] = useQueries({ queries: [runDetailQueryOptions(a.id), ...(b ? [runDetailQueryOptions(b.id)] : [])] });
   const sa = da?.data?.series;
   const sb = db?.data?.series ?? null;
+  const [replaying, setReplaying] = useState<"a" | "b" | null>(null);
+  const replay = useMemo(() => {
+    if (!arm || !replaying) return null;
+    const run = replaying === "a" ? a : b;
+    const series = replaying === "a" ? sa : sb;
+    return run && series ? { run, frames: framesOfRun(arm, run, series) } : null;
+  }, [arm, replaying, a, b, sa, sb]);
   const series = useMemo(() => [{ label: labelA }, ...(labelB ? [{ label: labelB }] : [])], [labelA, labelB]);
   const plots = useMemo(() => {
     if (!sa) return null;
@@ -75,16 +86,29 @@ function RunPlots({ trialName, a, b, labelA, labelB }: { trialName: string; a: T
   }, [sa, sb]);
   if (!plots) return <p className="text-sm text-ink-300">Loading the series of “{trialName}”…</p>;
   return (
-    <div className="grid grid-cols-1 gap-4 xl:grid-cols-3">
-      <Plot title="Distance from the commanded position" xLabel="t [s]" yLabel="mm" data={plots.deviation} series={series} testId="plot-deviation" />
-      <Plot title="σ_min" xLabel="t [s]" yLabel="mm" data={plots.sigma} series={series} testId="plot-sigma" />
-      <Plot title="Fastest wrist joint" xLabel="t [s]" yLabel="deg/s" data={plots.wrist} series={series} testId="plot-wrist" />
+    <div className="flex flex-col gap-3">
+      <div className="grid grid-cols-1 gap-4 xl:grid-cols-3">
+        <Plot title="Distance from the commanded position" xLabel="t [s]" yLabel="mm" data={plots.deviation} series={series} testId="plot-deviation" />
+        <Plot title="σ_min" xLabel="t [s]" yLabel="mm" data={plots.sigma} series={series} testId="plot-sigma" />
+        <Plot title="Fastest wrist joint" xLabel="t [s]" yLabel="deg/s" data={plots.wrist} series={series} testId="plot-wrist" />
+      </div>
+      <div className="flex flex-wrap gap-2">
+        <Button size="sm" variant={replaying === "a" ? "primary" : "secondary"} disabled={!arm} onClick={() => setReplaying(replaying === "a" ? null : "a")}>
+          <Box aria-hidden className="size-4" /> {replaying === "a" ? `Close the 3D replay` : `Replay ${labelA} in 3D`}
+        </Button>
+        {b && labelB ? (
+          <Button size="sm" variant={replaying === "b" ? "primary" : "secondary"} disabled={!arm || !sb} onClick={() => setReplaying(replaying === "b" ? null : "b")}>
+            <Box aria-hidden className="size-4" /> {replaying === "b" ? `Close the 3D replay` : `Replay ${labelB} in 3D`}
+          </Button>
+        ) : null}
+      </div>
+      {replay && arm ? <ReplayPlayer key={replay.run.id} arm={arm} frames={replay.frames} params={replay.run.params} /> : null}
     </div>
   );
 }
 
 /** The runs of one version, or two side by side: per trial, the metrics table and overlaid plots. */
-export function RunComparison({ a, b }: { a: RunSet; b: RunSet | null }) {
+export function RunComparison({ a, b, arm }: { a: RunSet; b: RunSet | null; arm: Arm | undefined }) {
   const labelA = `v${a.version.number}`;
   const labelB = b ? `v${b.version.number}` : null;
   return (
@@ -99,7 +123,7 @@ export function RunComparison({ a, b }: { a: RunSet; b: RunSet | null }) {
                 {run.metrics.finished ? <Badge tone="ok">finished</Badge> : <Badge tone="warn">stalled: {run.metrics.stalledReason}</Badge>}
               </h3>
               <ComparisonTable trialName={run.trialName} a={run} b={other} labelA={labelA} labelB={labelB} />
-              <RunPlots trialName={run.trialName} a={run} b={other} labelA={labelA} labelB={labelB} />
+              <RunPlots arm={arm} trialName={run.trialName} a={run} b={other} labelA={labelA} labelB={labelB} />
               <p className="num text-xs text-ink-400">
                 Run #{run.id}
                 {other ? `, #${other.id}` : ""} · series SHA-256 {run.seriesHash.slice(0, 12)}… · {run.durationMs} ms in the worker

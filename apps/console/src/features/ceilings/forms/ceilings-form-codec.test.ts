@@ -26,6 +26,7 @@ describe("the ceilings form codec", () => {
       lambdaMaxMinM: 0.01,
       stoppingDistanceMaxMm: 50, // 0.05 m
       decelerationMinMPerS2: 0.5,
+      evidenceRequired: "builtin-trials", // the default rule of issue 10
       note: "why",
     });
   });

@@ -1,9 +1,9 @@
-import { useEffect, useMemo, useRef, useState } from "react";
+import { useMemo } from "react";
 import { useSearchParams } from "react-router";
 import { useQuery } from "@tanstack/react-query";
 import type { ColumnDef } from "@tanstack/react-table";
-import { ArrowLeft, Pause, Play } from "lucide-react";
-import { DEG_PER_RAD, type Arm, type ProfileParams, type RecordedFrame, type Recording, type RecordingSummary } from "@jogwright/shared";
+import { ArrowLeft, Play } from "lucide-react";
+import { DEG_PER_RAD, type Arm, type Recording, type RecordingSummary } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
@@ -11,10 +11,9 @@ import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { formatDateTime, formatFixed } from "../../../lib/format.ts";
 import { useArms } from "../../../lib/queries/arms.ts";
-import { DriveWorkspace } from "../../../components/jog/drive-workspace.tsx";
 import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
 import { recordingDetailQueryOptions, recordingListQueryOptions } from "../../../lib/queries/recordings.ts";
-import { ReplaySource } from "../replay-source.ts";
+import { ReplayPlayer } from "../../../components/jog/replay-player.tsx";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 // The recordings list and the replay of one (?recording=<id>): a timeline to scrub and play/pause at
@@ -153,80 +152,5 @@ function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () =
       {detail.data && detail.data.frames.length === 0 ? <Message>This recording has no frames.</Message> : null}
       {detail.data && arm && detail.data.frames.length > 0 ? <ReplayPlayer arm={arm} frames={detail.data.frames} params={params} /> : null}
     </>
-  );
-}
-
-function ReplayPlayer({ arm, frames, params }: { arm: Arm; frames: readonly RecordedFrame[]; params: ProfileParams | null }) {
-  const source = useMemo(() => {
-    const s = new ReplaySource(frames, arm.model.joints.map((j) => j.type));
-    s.seek(0);
-    return s;
-  }, [frames, arm]);
-  const [index, setIndex] = useState(0);
-  const [isPlaying, setPlaying] = useState(false);
-  const playRef = useRef<{ startWallMs: number; startT: number } | null>(null);
-  const t0 = frames[0]!.t;
-  const tEnd = frames[frames.length - 1]!.t;
-
-  // Real-time playback: the wall clock picks the frame; React state follows at ~15 Hz for the panels.
-  useEffect(() => {
-    if (!isPlaying) return;
-    let raf = 0;
-    let lastPublish = 0;
-    const startIndex = source.index >= frames.length - 1 ? 0 : source.index;
-    playRef.current = { startWallMs: performance.now(), startT: frames[startIndex]!.t };
-    const step = (now: number) => {
-      const play = playRef.current!;
-      const t = play.startT + (now - play.startWallMs) / 1000;
-      const i = source.indexAtTime(t);
-      source.seek(i);
-      if (now - lastPublish > 66 || i >= frames.length - 1) {
-        lastPublish = now;
-        setIndex(i);
-      }
-      if (i >= frames.length - 1) {
-        setPlaying(false);
-        return;
-      }
-      raf = requestAnimationFrame(step);
-    };
-    raf = requestAnimationFrame(step);
-    return () => cancelAnimationFrame(raf);
-  }, [isPlaying, source, frames]);
-
-  const frame = source.frameAt(index);
-  return (
-    <DriveWorkspace
-      arm={arm}
-      params={params}
-      frame={frame}
-      source={source}
-      controls={
-        <section aria-label="Replay" className="flex items-center gap-3 rounded-lg border border-ink-700 bg-ink-850 p-3">
-          <Button variant="primary" onClick={() => setPlaying((p) => !p)} aria-label={isPlaying ? "Pause" : "Play"}>
-            {isPlaying ? <Pause aria-hidden className="size-4" /> : <Play aria-hidden className="size-4" />}
-            {isPlaying ? "Pause" : "Play"}
-          </Button>
-          <input
-            type="range"
-            min={0}
-            max={frames.length - 1}
-            step={1}
-            value={index}
-            aria-label="Timeline"
-            className="flex-1 accent-iris-400"
-            onChange={(event) => {
-              setPlaying(false);
-              const i = Number(event.target.value);
-              source.seek(i);
-              setIndex(i);
-            }}
-          />
-          <span className="num text-sm whitespace-nowrap text-ink-100" data-testid="replay-time">
-            {formatFixed((frame?.t ?? t0) - t0, 2)} / {formatFixed(tEnd - t0, 2)} s
-          </span>
-        </section>
-      }
-    />
   );
 }
