@@ -99,3 +99,31 @@ test("a safety officer reads the evidence a version was submitted with, and its 
   const pdf = await page.pdf({ format: "A4" });
   expect(pdf.subarray(0, 4).toString()).toBe("%PDF");
 });
+
+test("an engineer composes a custom trial: the server's refusal of an expression lands on its field; fixed, it is saved and offered", async ({ page, baseURL, setup }) => {
+  const operator = await setup.person(["operator"]);
+  const arm = await setup.arm(6);
+  const name = `E2E trial ${uniqueTag()}`;
+  await setup.profile({ name, operator, arm, note: "defaults" });
+
+  await signIn(page, baseURL!, "emeka", "/bench");
+  await page.getByLabel("Profile").selectOption({ label: `${name} — ${operator.displayName}, ${arm.name}` });
+  await page.getByRole("button", { name: "New trial…" }).click();
+  const dialog = page.getByRole("dialog", { name: "New trial" });
+  const trialName = `Sway ${uniqueTag()}`;
+  await dialog.getByLabel("Name").fill(trialName);
+  await dialog.getByLabel("Add a segment").selectOption({ label: "Twist as expressions of t" });
+  await dialog.getByRole("button", { name: "Add" }).click();
+  const second = dialog.getByRole("listitem", { name: "Segment 2" });
+  // A length where a speed belongs: mathjs on the server refuses the unit, naming segment 2.
+  await second.getByLabel("Linear y").fill("50 mm * sin(2 pi t / 4 s)");
+  await dialog.getByRole("button", { name: "Save the trial" }).click();
+  await expect(second.getByText(/^segment 2, linear y: .*not a speed/)).toBeVisible();
+  await expect(second.getByLabel("Linear y")).toHaveAttribute("aria-invalid", "true");
+  await saveScreenshot(page, "bench-trial-refused");
+
+  await second.getByLabel("Linear y").fill("50 mm/s * sin(2 pi t / 4 s)");
+  await dialog.getByRole("button", { name: "Save the trial" }).click();
+  await expect(dialog).toBeHidden();
+  await expect(page.getByLabel(`${trialName} (saved)`)).toBeChecked();
+});

@@ -1,6 +1,6 @@
 import { useMemo, useState } from "react";
 import { useMutation, useQuery } from "@tanstack/react-query";
-import { FlaskConical } from "lucide-react";
+import { FlaskConical, Plus } from "lucide-react";
 import { BUILTIN_TRIAL_KINDS, type ProfileVersion, type TrialRef, type TrialRun } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
@@ -19,6 +19,7 @@ import { armTrialsQueryOptions, runTrials } from "../api/bench-api.ts";
 import { RunComparison } from "./run-comparison.tsx";
 import { SingularityMapPanel } from "./singularity-map.tsx";
 import { SweepPanel } from "./sweep-panel.tsx";
+import { TrialEditorDialog } from "./trial-editor.tsx";
 
 /**
  * The tuning bench: pick a profile, one version (or two to compare), and trials; run them offline through
@@ -34,6 +35,8 @@ export function BenchPage() {
   const detail = useQuery(profileDetailQueryOptions(profileId));
   const armId = detail.data?.profile.armId ?? null;
   const trials = useQuery(armTrialsQueryOptions(armId));
+  const arm = arms.data?.find((x) => x.id === armId);
+  const [editorOpen, setEditorOpen] = useState(false);
   const [versionA, setVersionA] = useState<number | null>(null);
   const [versionB, setVersionB] = useState<number | null>(null);
   const [picked, setPicked] = useState<Set<string>>(new Set(["builtin:wrist-line", "builtin:wrist-near-miss-3mm"]));
@@ -159,6 +162,11 @@ export function BenchPage() {
             </fieldset>
           ) : null}
           <div className="mt-4 flex items-center gap-3">
+            {isEngineer && arm ? (
+              <Button onClick={() => setEditorOpen(true)}>
+                <Plus aria-hidden className="size-4" /> New trial…
+              </Button>
+            ) : null}
             {isEngineer ? (
               <Button variant="primary" disabled={!a || chosen.length === 0 || run.isPending} onClick={() => a && run.mutate({ a, b, trials: chosen })}>
                 <FlaskConical aria-hidden className="size-4" /> {b ? "Run and compare" : "Run trials"}
@@ -168,6 +176,18 @@ export function BenchPage() {
             )}
             {run.isPending ? <span role="status" className="text-sm text-ink-300">Running {chosen.length * (b ? 2 : 1)} trials…</span> : null}
           </div>
+          {arm ? (
+            <TrialEditorDialog
+              arm={arm}
+              open={editorOpen}
+              from={null}
+              onClose={() => setEditorOpen(false)}
+              onSaved={(trial) => {
+                setEditorOpen(false);
+                setPicked((s) => new Set([...s, `custom:${trial.id}`]));
+              }}
+            />
+          ) : null}
           {run.isError ? (
             <Message tone="stop" title="The runs failed">
               {describeError(run.error)}
