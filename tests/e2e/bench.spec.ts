@@ -47,6 +47,16 @@ test("an engineer compares two versions on built-in trials, sweeps λmax and mak
   await expect(nearMiss.getByRole("slider", { name: "Timeline" })).toBeVisible();
   await nearMiss.getByRole("button", { name: "Close the 3D replay" }).click();
 
+  // v2 against unsaved edits of it (λmax back to 10 mm): nothing is saved, the runs carry the edits.
+  await page.getByLabel("Version").selectOption({ label: "v2 (draft)" });
+  await page.getByLabel("Compare with").selectOption({ label: "Unsaved edits of this version" });
+  await page.getByLabel("λmax").first().fill("10");
+  await page.getByRole("button", { name: "Run and compare" }).click();
+  await expect(page.getByRole("heading", { name: "v2 against v2 edited" })).toBeVisible({ timeout: 30_000 });
+  const editedNearMiss = results.getByRole("region", { name: "Near miss of wrist alignment, 3 mm" });
+  await expect(editedNearMiss.getByTestId("bench-metrics").getByRole("row", { name: /^Peak wrist rate, of cap/ })).toContainText("worse");
+  await page.getByLabel("Compare with").selectOption({ label: "No comparison" });
+
   // The singularity map of the arm over (q4, q5), then with a 300 mm tool: it is recomputed and redrawn.
   const map = page.getByTestId("singularity-map");
   await expect(map).toHaveAttribute("data-cells", String(120 * 120));

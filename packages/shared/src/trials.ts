@@ -178,6 +178,13 @@ export function withSweepParameter<P extends object>(params: P, parameter: Sweep
   return copy as unknown as P;
 }
 
+/** The value of one sweep parameter in `params`, or null when the profile has no such field. */
+export function sweepParameterOf(params: object, parameter: SweepParameter): number | null {
+  let node: unknown = params;
+  for (const key of parameter.split(".")) node = typeof node === "object" && node !== null ? (node as Record<string, unknown>)[key] : undefined;
+  return typeof node === "number" ? node : null;
+}
+
 export const sweepPointSchema = z.object({
   /** The parameter values, one per axis. */
   values: z.array(z.number()),

@@ -1,7 +1,10 @@
 import { useMemo, useState } from "react";
 import { useMutation, useQuery } from "@tanstack/react-query";
 import { FlaskConical, Plus } from "lucide-react";
-import { BUILTIN_TRIAL_KINDS, type ProfileVersion, type TrialRef, type TrialRun } from "@jogwright/shared";
+import {
+  BUILTIN_TRIAL_KINDS, profileParamsSchema, withSweepParameter,
+  type ProfileParams, type ProfileVersion, type SweepParameter, type TrialRef, type TrialRun,
+} from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
@@ -17,6 +20,7 @@ import { useArms } from "../../../lib/queries/arms.ts";
 import { useCurrentUser } from "../../../lib/session.ts";
 import { armTrialsQueryOptions, runTrials } from "../api/bench-api.ts";
 import { RunComparison } from "./run-comparison.tsx";
+import { EditsFields } from "./edits-fields.tsx";
 import { SingularityMapPanel } from "./singularity-map.tsx";
 import { SweepPanel } from "./sweep-panel.tsx";
 import { TrialEditorDialog } from "./trial-editor.tsx";
@@ -43,7 +47,21 @@ export function BenchPage() {
 
   const versions = useMemo(() => [...(detail.data?.versions ?? [])].sort((a, b) => b.number - a.number), [detail.data]);
   const a = versions.find((v) => v.id === versionA) ?? versions[0] ?? null;
-  const b = versions.find((v) => v.id === versionB) ?? null;
+  const [compareEdits, setCompareEdits] = useState(false);
+  const b = compareEdits ? null : (versions.find((v) => v.id === versionB) ?? null);
+  const [edits, setEdits] = useState<Partial<Record<SweepParameter, number>>>({});
+  // Unsaved edits: version A's parameters with the edited values, checked with the shared schema.
+  const editedParams = useMemo(() => {
+    if (!a) return null;
+    let p: ProfileParams = a.params;
+    try {
+      for (const [k, v] of Object.entries(edits)) p = withSweepParameter(p, k as SweepParameter, v);
+    } catch {
+      return null;
+    }
+    const parsed = profileParamsSchema.safeParse(p);
+    return parsed.success ? parsed.data : null;
+  }, [a, edits]);
 
   // Recorded live sessions on this profile's arm: their operator's input replayed with the version(s).
   const recordings = useQuery({ ...recordingListQueryOptions(), enabled: armId !== null });
@@ -64,9 +82,14 @@ export function BenchPage() {
 
   // The results name the versions that ran (the pickers may have moved on since).
   const run = useMutation({
-    mutationFn: async (input: { a: ProfileVersion; b: ProfileVersion | null; trials: TrialRef[] }): Promise<{ a: RunSet; b: RunSet | null }> => {
-      const ran = (v: ProfileVersion) => runTrials({ source: { kind: "version", versionId: v.id }, trials: input.trials }).then((runs) => ({ version: v, runs }));
-      const [ra, rb] = await Promise.all([ran(input.a), input.b ? ran(input.b) : Promise.resolve(null)]);
+    mutationFn: async (input: { a: ProfileVersion; b: ProfileVersion | "edits" | null; edits: ProfileParams | null; trials: TrialRef[] }): Promise<{ a: RunSet; b: RunSet | null }> => {
+      const ran = (v: ProfileVersion) => runTrials({ source: { kind: "version", versionId: v.id }, trials: input.trials }).then((runs) => ({ label: `v${v.number}`, runs }));
+      const edited = (params: ProfileParams) =>
+        runTrials({ source: { kind: "edits", profileId: input.a.profileId, params }, trials: input.trials }).then((runs) => ({ label: `v${input.a.number} edited`, runs }));
+      const [ra, rb] = await Promise.all([
+        ran(input.a),
+        input.b === "edits" ? edited(input.edits!) : input.b ? ran(input.b) : Promise.resolve(null),
+      ]);
       return { a: ra, b: rb };
     },
   });
@@ -115,11 +138,16 @@ export function BenchPage() {
             </SelectField>
             <SelectField
               label="Compare with"
-              value={b?.id ?? ""}
+              value={compareEdits ? "edits" : (b?.id ?? "")}
               disabled={!versions.length}
-              onChange={(e) => setVersionB(e.target.value ? Number(e.target.value) : null)}
+              onChange={(e) => {
+                setCompareEdits(e.target.value === "edits");
+                setEdits({});
+                setVersionB(e.target.value && e.target.value !== "edits" ? Number(e.target.value) : null);
+              }}
             >
               <option value="">No comparison</option>
+              {isEngineer ? <option value="edits">Unsaved edits of this version</option> : null}
               {versions
                 .filter((v) => v.id !== a?.id)
                 .map((v) => (
@@ -129,6 +157,7 @@ export function BenchPage() {
                 ))}
             </SelectField>
           </div>
+          {compareEdits && a ? <EditsFields params={a.params} edits={edits} onChange={setEdits} isValid={editedParams !== null} /> : null}
           {armId !== null ? <QueryStatus query={trials} loading="Generating the arm's trials…" failed="Could not load the trials" /> : null}
           {trials.data ? (
             <fieldset className="mt-4 flex flex-col gap-2">
@@ -168,8 +197,8 @@ export function BenchPage() {
               </Button>
             ) : null}
             {isEngineer ? (
-              <Button variant="primary" disabled={!a || chosen.length === 0 || run.isPending} onClick={() => a && run.mutate({ a, b, trials: chosen })}>
-                <FlaskConical aria-hidden className="size-4" /> {b ? "Run and compare" : "Run trials"}
+              <Button variant="primary" disabled={!a || chosen.length === 0 || run.isPending || (compareEdits && editedParams === null)} onClick={() => a && run.mutate({ a, b: compareEdits ? "edits" : b, edits: editedParams, trials: chosen })}>
+                <FlaskConical aria-hidden className="size-4" /> {b || compareEdits ? "Run and compare" : "Run trials"}
               </Button>
             ) : (
               <p className="text-sm text-ink-300">Engineers run trials; you see the runs attached to versions in the review.</p>
@@ -209,4 +238,5 @@ export function BenchPage() {
   );
 }
 
-export type RunSet = { version: ProfileVersion; runs: TrialRun[] };
+/** Runs of one source: a saved version ("v3") or unsaved edits of one ("v3 edited"). */
+export type RunSet = { label: string; runs: TrialRun[] };

@@ -109,10 +109,10 @@ function RunPlots({ arm, trialName, a, b, labelA, labelB }: { arm: Arm | undefin
 
 /** The runs of one version, or two side by side: per trial, the metrics table and overlaid plots. */
 export function RunComparison({ a, b, arm }: { a: RunSet; b: RunSet | null; arm: Arm | undefined }) {
-  const labelA = `v${a.version.number}`;
-  const labelB = b ? `v${b.version.number}` : null;
+  const labelA = a.label;
+  const labelB = b ? b.label : null;
   return (
-    <Card title={b ? `v${a.version.number} against v${b.version.number}` : `Runs of v${a.version.number}`}>
+    <Card title={b ? `${a.label} against ${b.label}` : `Runs of ${a.label}`}>
       <div className="flex flex-col gap-8" data-testid="bench-results">
         {a.runs.map((run, i) => {
           const other = b?.runs[i] ?? null;

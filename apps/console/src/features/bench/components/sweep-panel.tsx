@@ -13,6 +13,7 @@ import { SelectField } from "../../../components/ui/select-field.tsx";
 import { describeError } from "../../../lib/api-client.ts";
 import { useInvalidateProfiles } from "../../../lib/queries/profiles.ts";
 import { runSweep, saveDraft } from "../api/bench-api.ts";
+import { display, shown } from "../units.ts";
 
 const PARAMETERS = Object.keys(SWEEP_PARAMETERS) as SweepParameter[];
 const OBJECTIVES = Object.keys(SWEEP_OBJECTIVES) as SweepObjective[];
@@ -23,17 +24,6 @@ interface AxisDraft {
   to: number;
   steps: number;
 }
-
-/** SI → the console's display units (lengths in mm, angles in deg), as the profile form shows them. */
-const DISPLAY: Record<string, { factor: number; unit: string }> = {
-  m: { factor: 1000, unit: "mm" },
-  "m/s": { factor: 1000, unit: "mm/s" },
-  "m/s²": { factor: 1000, unit: "mm/s²" },
-  "rad/s²": { factor: 180 / Math.PI, unit: "deg/s²" },
-};
-const display = (siUnit: string) => DISPLAY[siUnit] ?? { factor: 1, unit: siUnit || "—" };
-/** A value in display units, to 3 significant digits, with its unit. */
-const shown = (value: number, siUnit: string) => `${(value * display(siUnit).factor).toPrecision(3)} ${display(siUnit).unit}`;
 
 function AxisFields({ title, axis, onChange }: { title: string; axis: AxisDraft; onChange: (a: AxisDraft) => void }) {
   const d = display(SWEEP_PARAMETERS[axis.parameter].unit);
