@@ -2,7 +2,7 @@ import http from "node:http";
 import type { AddressInfo } from "node:net";
 import supertest from "supertest";
 import type { Sequelize } from "sequelize";
-import type { Role } from "@jogwright/shared";
+import type { Role, User } from "@jogwright/shared";
 import { createApp, type BuiltApp } from "../app.ts";
 import { loadConfig } from "../config.ts";
 import { createSequelize } from "../db/connection.ts";
@@ -82,6 +82,12 @@ export async function freshUser(h: Harness, roles: Role[], password = "fresh-pas
   const username = `t${Date.now().toString(36)}${counter}`;
   const user = await createUser(h.db, { username, displayName: `Test ${username}`, email: `${username}@test.example`, password, roles });
   return { user, username, password };
+}
+
+/** A fresh account with `roles`, signed in: its user and session cookie. */
+export async function signedInUser(h: Harness, roles: Role[]): Promise<{ user: User; username: string; password: string; cookie: string }> {
+  const u = await freshUser(h, roles);
+  return { ...u, cookie: await signIn(h, u.username, u.password) };
 }
 
 /** A request as our own console sends it: same Host and Origin, optional session cookie. */

@@ -5,7 +5,7 @@ import { findArm } from "../arms/service.ts";
 import { createProfile } from "../versions/service.ts";
 import { driveableVersionsFor } from "../driving/service.ts";
 import { listArms } from "../arms/service.ts";
-import { call, createHarness, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
+import { call, createHarness, freshUser, listenHarness, signedInUser, signIn, type Harness } from "../../test/harness.ts";
 import { JogTestClient, sleep } from "./jog-test-client.ts";
 
 /**
@@ -66,12 +66,9 @@ const isAtRest = (s: JogState) => s.qdot.every((v) => v === 0);
 beforeAll(async () => {
   h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
   net = await listenHarness(h);
-  const e = await freshUser(h, ["engineer"]);
-  engineer = { user: e.user, cookie: await signIn(h, e.username, e.password) };
-  const o = await freshUser(h, ["operator"]);
-  operator = { user: o.user, cookie: await signIn(h, o.username, o.password) };
-  const s = await freshUser(h, ["safety_officer"]);
-  officer = { cookie: await signIn(h, s.username, s.password) };
+  engineer = await signedInUser(h, ["engineer"]);
+  operator = await signedInUser(h, ["operator"]);
+  officer = await signedInUser(h, ["safety_officer"]);
 
   const arm6 = (await listArms(h.db)).find((a) => a.model.joints.length === 6 && a.name.includes("six"))!;
   const arm = (await findArm(h.db, arm6.id))!;

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { defaultProfileParams, type Arm, type ProfileParams, type RecordedFrame, type User } from "@jogwright/shared";
-import { call, createHarness, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
+import { call, createHarness, freshUser, listenHarness, signedInUser, type Harness } from "../../test/harness.ts";
 import { listArms } from "../arms/service.ts";
 import { createProfile } from "../versions/service.ts";
 import { JogTestClient, sleep } from "../jog/jog-test-client.ts";
@@ -28,8 +28,7 @@ const INPUT_PERIOD_MS = 10;
 beforeAll(async () => {
   h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
   net = await listenHarness(h);
-  const e = await freshUser(h, ["engineer"]);
-  engineer = { user: e.user, cookie: await signIn(h, e.username, e.password) };
+  engineer = await signedInUser(h, ["engineer"]);
   const o = await freshUser(h, ["operator"]);
   arm = (await listArms(h.db)).find((a) => a.model.joints.length === 6)!;
   const base = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
