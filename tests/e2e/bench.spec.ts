@@ -75,6 +75,8 @@ test("an engineer compares two versions on built-in trials, sweeps λmax and mak
   const sweep = page.getByTestId("sweep-result");
   await expect(sweep.getByTestId("plot-sweep").locator("canvas")).toBeVisible({ timeout: 60_000 });
   await expect(sweep.getByTestId("plot-sweep")).toHaveAttribute("data-points", "8");
+  await sweep.getByText("Every point, every objective").click();
+  await expect(sweep.getByTestId("sweep-table").getByRole("row")).toHaveCount(9); // the heading and 8 points
   const front = sweep.getByTestId("pareto-front").getByRole("listitem");
   expect(await front.count()).toBeGreaterThan(0);
   await saveScreenshot(page, "bench-sweep");

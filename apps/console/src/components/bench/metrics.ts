@@ -43,6 +43,14 @@ export const METRIC_ROWS: MetricRow[] = [
   { id: "sigma", label: "Smallest σ_min", unit: "mm", digits: 2, better: "higher", value: (m) => m.singularity.minSigma * MM },
   { id: "belowEps", label: "Time inside ε", unit: "s", digits: 3, better: null, value: (m) => m.singularity.timeBelowEpsilonS ?? 0 },
   { id: "lambda", label: "Largest λ", unit: "mm", digits: 2, better: null, value: (m) => m.singularity.maxLambdaM * MM },
+  {
+    id: "branch", label: "Wrist passed through alignment (1) or kept its branch (0)", unit: "", digits: 0, better: null,
+    value: (m) => (m.singularity.wristBranch?.crossedZero ? 1 : 0),
+  },
+  {
+    id: "branchEnd", label: "Wrist's middle joint at the end", unit: "deg", digits: 1, better: null,
+    value: (m) => (m.singularity.wristBranch?.endRad ?? 0) * DEG,
+  },
   { id: "guard", label: "Guard stops", unit: "", digits: 0, better: "lower", value: (m) => m.singularity.guardStops },
   { id: "stopWorst", label: "Worst predicted stop", unit: "mm", digits: 1, better: "lower", value: (m) => m.stopping.worstPredictedDistanceM * MM },
   { id: "stopFinal", label: "Final stop distance", unit: "mm", digits: 1, better: "lower", value: (m) => m.stopping.finalStopDistanceM * MM },

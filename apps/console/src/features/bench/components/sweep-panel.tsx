@@ -1,4 +1,5 @@
 import { useMemo, useRef, useState } from "react";
+import type { ColumnDef } from "@tanstack/react-table";
 import { useMutation } from "@tanstack/react-query";
 import {
   SWEEP_OBJECTIVES, SWEEP_PARAMETERS, withSweepParameter,
@@ -7,6 +8,7 @@ import {
 import { Plot } from "../../../components/charts/plot.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
+import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { NumberField } from "../../../components/ui/number-field.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
@@ -192,6 +194,7 @@ function SweepResultView({ result, onDraft, isSaving }: { result: SweepResult; o
         testId="plot-sweep"
         height={260}
       />
+      <SweepTable result={result} />
       <h4 className="text-sm font-semibold text-ink-100">The Pareto front (no other point is better on both)</h4>
       <ul className="flex flex-col gap-1 text-sm" data-testid="pareto-front">
         {result.front.map((i) => {
@@ -210,5 +213,48 @@ function SweepResultView({ result, onDraft, isSaving }: { result: SweepResult; o
         })}
       </ul>
     </div>
+  );
+}
+
+type PointRow = SweepResult["points"][number] & { index: number; isFront: boolean };
+
+/** Every point of a sweep with every objective (the worst over its trials), in display units: the table behind the plot. */
+function SweepTable({ result }: { result: SweepResult }) {
+  const rows = useMemo<PointRow[]>(() => result.points.map((p, index) => ({ ...p, index, isFront: result.front.includes(index) })), [result]);
+  const columns = useMemo<ColumnDef<PointRow>[]>(
+    () => [
+      ...result.axes.map((a, i): ColumnDef<PointRow> => ({
+        id: `axis-${i}`,
+        header: `${SWEEP_PARAMETERS[a.parameter].label} (${display(SWEEP_PARAMETERS[a.parameter].unit).unit})`,
+        meta: { className: "num text-right", headClassName: "text-right", isRowHeader: i === 0 },
+        cell: (c) => (c.row.original.values[i]! * display(SWEEP_PARAMETERS[a.parameter].unit).factor).toPrecision(3),
+      })),
+      ...OBJECTIVES.map((o): ColumnDef<PointRow> => ({
+        id: o,
+        header: `${SWEEP_OBJECTIVES[o].label} (${display(SWEEP_OBJECTIVES[o].unit).unit})`,
+        meta: { className: "num text-right", headClassName: "text-right" },
+        cell: (c) => {
+          const v = c.row.original.objectives?.[o];
+          return v === undefined ? "—" : (v * display(SWEEP_OBJECTIVES[o].unit).factor).toPrecision(3);
+        },
+      })),
+      {
+        id: "finished",
+        header: "Finished",
+        meta: { className: "num text-right", headClassName: "text-right" },
+        cell: (c) => (c.row.original.invalid ? c.row.original.invalid : `${c.row.original.finishedTrials}/${c.row.original.trials}`),
+      },
+      { id: "front", header: "Front", cell: (c) => (c.row.original.isFront ? "on the front" : "") },
+    ],
+    [result],
+  );
+  const table = useDataTable({ data: rows, columns, getRowId: (r) => String(r.index) });
+  return (
+    <details>
+      <summary className="cursor-pointer text-sm font-semibold text-iris-300">Every point, every objective (the table behind the plot)</summary>
+      <div className="mt-2 overflow-x-auto">
+        <DataTable table={table} caption="Sweep points: the worst over the chosen trials" emptyMessage="No points" testId="sweep-table" />
+      </div>
+    </details>
   );
 }
