@@ -77,23 +77,21 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
           </Message>
         ) : null}
 
-        <div className="grid gap-6 lg:grid-cols-2">
-          <Card title="Ceiling check" description="Against the site ceilings in force now.">
-            {violations.length === 0 ? (
-              <Message tone="ok" title="Within every site ceiling" />
-            ) : (
-              <Message tone="stop" title={`Exceeds ${violations.length === 1 ? "a site ceiling" : `${violations.length} site ceilings`}`}>
-                <ul className="list-disc pl-4" data-testid="review-violations">
-                  {violations.map((v) => (
-                    <li key={v.field}>
-                      <strong>{labelForProfilePath(v.field)}</strong>: {v.message}
-                    </li>
-                  ))}
-                </ul>
-              </Message>
-            )}
-          </Card>
-        </div>
+        <Card title="Ceiling check" description="Against the site ceilings in force now.">
+          {violations.length === 0 ? (
+            <Message tone="ok" title="Within every site ceiling" />
+          ) : (
+            <Message tone="stop" title={`Exceeds ${violations.length === 1 ? "a site ceiling" : `${violations.length} site ceilings`}`}>
+              <ul className="list-disc pl-4" data-testid="review-violations">
+                {violations.map((v) => (
+                  <li key={v.field}>
+                    <strong>{labelForProfilePath(v.field)}</strong>: {v.message}
+                  </li>
+                ))}
+              </ul>
+            </Message>
+          )}
+        </Card>
         <Card
           title="Trial evidence"
           description="The runs this version was submitted with: the same motion gate and control step as live jogging, offline on the server. Simulation only."
