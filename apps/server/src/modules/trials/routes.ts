@@ -78,6 +78,8 @@ export function benchRouter(ctx: AppContext): ApiRouter {
       res.flushHeaders();
       const send = (event: string, data: unknown) => res.write(`event: ${event}\ndata: ${JSON.stringify(data)}\n\n`);
       let lastSent = 0;
+      // The one try/catch among the routes: once the stream's headers are out, the central error handler
+      // can no longer answer with a status, so a failure is sent as the stream's `error` event instead.
       try {
         const result = await sweepVersion(
           ctx.db, actor, request,
