@@ -225,3 +225,29 @@ export type MapResponse = z.infer<typeof mapResponseSchema>;
 /** POST /api/versions/:id/submit: runs of this version to attach (the site's evidence rule may add more). */
 export const submitVersionSchema = z.object({ evidenceRunIds: z.array(id).max(50, "at most 50 runs").default([]) });
 export type SubmitVersionInput = z.infer<typeof submitVersionSchema>;
+
+// ---------------------------------------------------------------------------------------------------
+// The sweep's server-sent events (one format for the server that writes them and every reader)
+// ---------------------------------------------------------------------------------------------------
+
+export interface StreamEvent {
+  event: string;
+  data: unknown;
+}
+
+/** One event as text/event-stream carries it: its name, its data as one line of JSON, a blank line. */
+export const formatStreamEvent = (event: string, data: unknown): string => `event: ${event}\ndata: ${JSON.stringify(data)}\n\n`;
+
+/** The complete events in `buffer` (each ends in a blank line), and what is left for the next chunk. */
+export function takeStreamEvents(buffer: string): { events: StreamEvent[]; rest: string } {
+  const events: StreamEvent[] = [];
+  let rest = buffer;
+  let end: number;
+  while ((end = rest.indexOf("\n\n")) >= 0) {
+    const block = rest.slice(0, end);
+    rest = rest.slice(end + 2);
+    const event = /^event: (.*)$/m.exec(block)?.[1] ?? "message";
+    events.push({ event, data: JSON.parse(/^data: (.*)$/m.exec(block)?.[1] ?? "null") as unknown });
+  }
+  return { events, rest };
+}

@@ -48,24 +48,16 @@ interface RequestOptions<S extends z.ZodType | undefined> {
 type Result<S> = S extends z.ZodType ? z.output<S> : void;
 
 /**
- * Fetch wrapper for the same-origin Jogwright API. Sends and expects JSON, carries the session cookie,
- * validates the answer with the given shared schema and turns every failure into an ApiRequestError.
+ * One request to the same-origin API with the session cookie: a network failure or a refusal becomes an
+ * ApiRequestError, and the database banner follows the answer. State-changing requests always send JSON
+ * (the server refuses other content types there).
  */
-export async function apiRequest<S extends z.ZodType | undefined = undefined>(
-  path: string,
-  options: RequestOptions<S> = {},
-): Promise<Result<S>> {
-  const { method = "GET", body, schema, signal, isBackground = false } = options;
-  const headers: Record<string, string> = { Accept: "application/json" };
-  if (isBackground) headers["X-Jogwright-Background"] = "1";
-  // State-changing requests always send JSON (the server refuses other content types there).
-  if (method !== "GET") headers["Content-Type"] = "application/json";
-
+async function send(path: string, method: Method, body: unknown, signal: AbortSignal | undefined, headers: Record<string, string>): Promise<Response> {
   let response: Response;
   try {
     response = await fetch(path, {
       method,
-      headers,
+      headers: method === "GET" ? headers : { ...headers, "Content-Type": "application/json" },
       credentials: "same-origin",
       body: method === "GET" ? undefined : JSON.stringify(body ?? {}),
       signal,
@@ -74,7 +66,6 @@ export async function apiRequest<S extends z.ZodType | undefined = undefined>(
     if (cause instanceof DOMException && cause.name === "AbortError") throw cause;
     throw new ApiRequestError(0, "unavailable", "Cannot reach the Jogwright server. Check your connection and try again.");
   }
-
   if (!response.ok) {
     const error = await errorFromResponse(response);
     // The one place that learns the database is gone or back; the app shell shows a banner meanwhile.
@@ -82,6 +73,29 @@ export async function apiRequest<S extends z.ZodType | undefined = undefined>(
     throw error;
   }
   reportDatabaseAvailable();
+  return response;
+}
+
+/**
+ * POST `body` to a route that answers with server-sent events (text/event-stream) and return the stream;
+ * a refusal before the stream throws as apiRequest's do. Aborting `signal` closes the request.
+ */
+export async function apiEventStream(path: string, body: unknown, signal?: AbortSignal): Promise<ReadableStream<Uint8Array>> {
+  const response = await send(path, "POST", body, signal, { Accept: "text/event-stream" });
+  if (!response.body) throw new ApiRequestError(response.status, "bad_response", "The server's stream has no body.");
+  return response.body;
+}
+
+/**
+ * Fetch wrapper for the same-origin Jogwright API. Sends and expects JSON, carries the session cookie,
+ * validates the answer with the given shared schema and turns every failure into an ApiRequestError.
+ */
+export async function apiRequest<S extends z.ZodType | undefined = undefined>(
+  path: string,
+  options: RequestOptions<S> = {},
+): Promise<Result<S>> {
+  const { method = "GET", body, schema, signal, isBackground = false } = options;
+  const response = await send(path, method, body, signal, { Accept: "application/json", ...(isBackground ? { "X-Jogwright-Background": "1" } : {}) });
   if (response.status === 204 || schema === undefined) return undefined as Result<S>;
 
   let json: unknown;

@@ -10,6 +10,10 @@ import { QueryTypes, type Sequelize } from "sequelize";
  * Table privileges can be granted only once the tables exist, so they are granted here, after the
  * migrations, by the migration account (which needs GRANT OPTION on the database: `npm start` and
  * `npm test` give it that). A runtime account that already holds them (granted by a DBA) is left alone.
+ *
+ * Raw SQL, on purpose: the three queries here are about the accounts, not the app's data — who this
+ * connection is (CURRENT_USER()), what it holds (information_schema's privilege views) and GRANT — and no
+ * Sequelize model or queryInterface call can say any of them.
  */
 
 /** Where the app deletes rows, and why. Every other table keeps its rows (several also refuse by trigger). */

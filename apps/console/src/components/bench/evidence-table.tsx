@@ -3,7 +3,7 @@ import type { ColumnDef } from "@tanstack/react-table";
 import type { TrialRun } from "@jogwright/shared";
 import { Badge } from "../ui/badge.tsx";
 import { DataTable, useDataTable } from "../ui/data-table.tsx";
-import { METRIC_ROWS } from "./metrics.ts";
+import { METRIC_ROWS } from "./metric-rows.ts";
 
 /** The metrics the evidence table shows of each run (ids of METRIC_ROWS). */
 const SHOWN = ["maxDev", "lag", "wristRate", "wristAccel", "sigma", "stopWorst", "stopFinal"] as const;

@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes, type Sequelize } from "sequelize";
 import {
-  armTrialsSchema, mapResponseSchema, runDetailSchema, sweepResultSchema, trialRunSchema, type Arm, type TrialDefinition,
+  armTrialsSchema, mapResponseSchema, runDetailSchema, sweepResultSchema, takeStreamEvents, trialRunSchema, type Arm, type TrialDefinition,
 } from "@jogwright/shared";
 import { call, createHarness, listenHarness, type Harness } from "../../test/harness.ts";
 import { compliantParams, createProfile, freshTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
@@ -71,6 +71,17 @@ describe("trials", () => {
 
     const again = await call(h, "post", "/api/bench/trials", team.engineer.cookie).send({ armId: arm.id, definition: good }).expect(409);
     expect(again.body.error.issues[0].path).toBe("definition.name");
+    // Changed with PUT: checked in full the same way, audited as an update.
+    const id = saved.body.trial.id as number;
+    const slower = customTrial("Sway in y", ["0", "0.02 m/s * sin(2 pi t / 1 s)", "0"]);
+    const updated = await call(h, "put", `/api/bench/trials/${id}`, team.engineer.cookie).send({ definition: slower }).expect(200);
+    expect(updated.body.trial.definition.segments[0].linear[1]).toBe("0.02 m/s * sin(2 pi t / 1 s)");
+    const wrong = await call(h, "put", `/api/bench/trials/${id}`, team.engineer.cookie).send({ definition: customTrial("Sway in y", ["0", "0", "1 rad"]) }).expect(400);
+    expect(wrong.body.error.issues[0].path).toBe("definition.segments.0.linear.2");
+    const actions = await h.db.query<{ action: string }>("SELECT action FROM audit_log WHERE entity = 'trial' AND entity_id = ? ORDER BY id", {
+      replacements: [String(id)], type: QueryTypes.SELECT,
+    });
+    expect(actions.map((a) => a.action)).toEqual(["create", "update"]);
     // A safety officer reads trials but does not write them.
     await call(h, "post", "/api/bench/trials", team.officer.cookie).send({ armId: arm.id, definition: customTrial("Officer's", ["0", "0", "0"]) }).expect(403);
   });
@@ -151,14 +162,10 @@ async function readEvents(res: Response, stopAfter?: (event: string) => boolean)
   let buffer = "";
   for (;;) {
     const { value, done } = await reader.read();
-    if (done) break;
-    buffer += decoder.decode(value, { stream: true });
-    let end: number;
-    while ((end = buffer.indexOf("\n\n")) >= 0) {
-      const block = buffer.slice(0, end);
-      buffer = buffer.slice(end + 2);
-      const event = /^event: (.*)$/m.exec(block)?.[1] ?? "message";
-      const data = JSON.parse(/^data: (.*)$/m.exec(block)?.[1] ?? "null") as unknown;
+    if (done) return out;
+    const taken = takeStreamEvents(buffer + decoder.decode(value, { stream: true }));
+    buffer = taken.rest;
+    for (const { event, data } of taken.events) {
       out.push([event, data]);
       if (stopAfter?.(event)) {
         await reader.cancel();
@@ -166,7 +173,6 @@ async function readEvents(res: Response, stopAfter?: (event: string) => boolean)
       }
     }
   }
-  return out;
 }
 
 describe("sweeps", () => {

@@ -1,7 +1,7 @@
 import type { Response } from "express";
 import { z } from "zod";
 import {
-  mapRequestSchema, numericIdParamSchema, runRequestSchema, saveTrialRequestSchema, sweepRequestSchema, trialDefinitionSchema,
+  formatStreamEvent, mapRequestSchema, numericIdParamSchema, runRequestSchema, saveTrialRequestSchema, sweepRequestSchema, trialDefinitionSchema,
 } from "@jogwright/shared";
 import type { AppContext } from "../../context.ts";
 import { AppError } from "../../errors.ts";
@@ -76,7 +76,7 @@ export function benchRouter(ctx: AppContext): ApiRouter {
       const signal = abortOnClose(res);
       res.status(200).set({ "Content-Type": "text/event-stream; charset=utf-8", "Cache-Control": "no-store", "X-Accel-Buffering": "no" });
       res.flushHeaders();
-      const send = (event: string, data: unknown) => res.write(`event: ${event}\ndata: ${JSON.stringify(data)}\n\n`);
+      const send = (event: string, data: unknown) => res.write(formatStreamEvent(event, data));
       let lastSent = 0;
       // The one try/catch among the routes: once the stream's headers are out, the central error handler
       // can no longer answer with a status, so a failure is sent as the stream's `error` event instead.

@@ -9,9 +9,9 @@ import { AppError } from "../../errors.ts";
 import { recordAudit } from "../audit/service.ts";
 import { findArm } from "../arms/service.ts";
 import { findRecording, readFrames } from "../recordings/service.ts";
-import { findProfile, visibleProfile } from "../profiles/service.ts";
-import { findVersion } from "../versions/service.ts";
-import { builtinTrials } from "./builtin.ts";
+import { visibleProfile } from "../profiles/service.ts";
+import { checkParamsFitArm, findVersion } from "../versions/service.ts";
+import { builtinTrials, type BuiltinTrial, type BuiltinTrials } from "./builtin.ts";
 import { checkTrial } from "./compile.ts";
 import { runJob, type RunJobResult } from "./run-job.ts";
 import { replayInputOf, ReplayFormatError, type ReplayInput } from "./replay.ts";
@@ -126,12 +126,7 @@ async function resolveSource(db: Sequelize, actor: User, source: RunRequest["sou
   }
   const profile = await visibleProfile(db, actor, source.profileId);
   const arm = await armOrNotFound(db, profile.armId);
-  const joints = arm.model.joints.length;
-  if (source.params.jointRateCapsRadPerS.length !== joints) {
-    throw new AppError(400, "validation_failed", `The arm "${arm.name}" has ${joints} joints, so the edits need ${joints} joint rate caps.`, [
-      { path: "source.params.jointRateCapsRadPerS", message: `one cap per joint: ${joints} values` },
-    ]);
-  }
+  checkParamsFitArm(source.params, arm, "source.params");
   return { arm, profileId: profile.id, versionId: null, params: source.params };
 }
 
@@ -166,22 +161,35 @@ async function resolveReplay(db: Sequelize, arm: Arm, recordingId: number, index
   }
 }
 
-async function resolveTrial(db: Sequelize, arm: Arm, ref: TrialRef, index: number): Promise<ResolvedTrial> {
-  if (ref.kind === "replay") return resolveReplay(db, arm, ref.recordingId, index);
-  if (ref.kind === "builtin") {
-    const generated = builtinTrials({ model: arm.model, readyPose: arm.readyPose });
-    const trial = generated.trials.find((t) => t.kind === ref.builtin);
-    if (!trial) {
-      const reason = generated.notApplicable.find((t) => t.kind === ref.builtin)?.reason ?? "not generated for this arm";
-      throw new AppError(400, "validation_failed", `The built-in trial "${ref.builtin}" does not apply to ${arm.name}: ${reason}.`, [{ path: `trials.${index}.builtin`, message: reason }]);
-    }
-    return { kind: trial.kind, name: trial.definition.name, trialId: null, recordingId: null, definition: trial.definition, replay: null };
-  }
-  const trial = await findCustomTrial(db, ref.trialId);
-  if (!trial || trial.armId !== arm.id) {
-    throw new AppError(400, "validation_failed", "No such trial for this arm.", [{ path: `trials.${index}.trialId`, message: "pick a saved trial of this profile's arm" }]);
-  }
-  return { kind: "custom", name: trial.name, trialId: trial.id, recordingId: null, definition: trial.definition, replay: null };
+const builtinResolved = (t: BuiltinTrial): ResolvedTrial => ({
+  kind: t.kind, name: t.definition.name, trialId: null, recordingId: null, definition: t.definition, replay: null,
+});
+
+/**
+ * The request's trials, in order, each ready to run; 400 on the field of the first that cannot be. The
+ * arm's built-in trials are generated once for the whole list.
+ */
+async function resolveTrials(db: Sequelize, arm: Arm, refs: readonly TrialRef[]): Promise<ResolvedTrial[]> {
+  let generated: BuiltinTrials | null = null;
+  const builtins = () => (generated ??= builtinTrials({ model: arm.model, readyPose: arm.readyPose }));
+  return Promise.all(
+    refs.map(async (ref, index): Promise<ResolvedTrial> => {
+      if (ref.kind === "replay") return resolveReplay(db, arm, ref.recordingId, index);
+      if (ref.kind === "builtin") {
+        const trial = builtins().trials.find((t) => t.kind === ref.builtin);
+        if (!trial) {
+          const reason = builtins().notApplicable.find((t) => t.kind === ref.builtin)?.reason ?? "not generated for this arm";
+          throw new AppError(400, "validation_failed", `The built-in trial "${ref.builtin}" does not apply to ${arm.name}: ${reason}.`, [{ path: `trials.${index}.builtin`, message: reason }]);
+        }
+        return builtinResolved(trial);
+      }
+      const trial = await findCustomTrial(db, ref.trialId);
+      if (!trial || trial.armId !== arm.id) {
+        throw new AppError(400, "validation_failed", "No such trial for this arm.", [{ path: `trials.${index}.trialId`, message: "pick a saved trial of this profile's arm" }]);
+      }
+      return { kind: "custom", name: trial.name, trialId: trial.id, recordingId: null, definition: trial.definition, replay: null };
+    }),
+  );
 }
 
 /**
@@ -191,7 +199,10 @@ async function resolveTrial(db: Sequelize, arm: Arm, ref: TrialRef, index: numbe
  */
 export async function runTrials(db: Sequelize, actor: User, request: RunRequest, signal?: AbortSignal): Promise<TrialRun[]> {
   const source = await resolveSource(db, actor, request.source);
-  const trials = await Promise.all(request.trials.map((ref, i) => resolveTrial(db, source.arm, ref, i)));
+  return runResolved(db, actor, source, await resolveTrials(db, source.arm, request.trials), signal);
+}
+
+async function runResolved(db: Sequelize, actor: User, source: ResolvedSource, trials: ResolvedTrial[], signal?: AbortSignal): Promise<TrialRun[]> {
   const results = await Promise.all(
     trials.map((t) => {
       const common = { arm: source.arm.model, params: source.params, withSeries: true };
@@ -231,9 +242,7 @@ export async function attachBuiltinEvidence(
   db: Sequelize, transaction: Transaction, version: { id: number; profileId: number; params: ProfileParams }, arm: Arm, actorId: string,
 ): Promise<number[]> {
   const source: ResolvedSource = { arm, profileId: version.profileId, versionId: version.id, params: version.params };
-  const trials: ResolvedTrial[] = builtinTrials({ model: arm.model, readyPose: arm.readyPose }).trials.map((t) => ({
-    kind: t.kind, name: t.definition.name, trialId: null, recordingId: null, definition: t.definition, replay: null,
-  }));
+  const trials = builtinTrials({ model: arm.model, readyPose: arm.readyPose }).trials.map(builtinResolved);
   // On this thread, not the pool: the seed runs before the server listens, and a pool's first threads
   // take longer to start (their TypeScript loader) than these runs take (measured: ~0.6 s for 7 trials).
   const results = trials.map((t) => runJob({ arm: arm.model, params: version.params, trial: t.definition!, withSeries: true }));
@@ -285,7 +294,7 @@ export async function sweepVersion(
 ): Promise<SweepResult> {
   const source = await resolveSource(db, actor, { kind: "version", versionId: request.versionId });
   const refs: TrialRef[] = [...request.builtins.map((builtin) => ({ kind: "builtin" as const, builtin })), ...request.trialIds.map((trialId) => ({ kind: "custom" as const, trialId }))];
-  const trials = await Promise.all(refs.map((ref, i) => resolveTrial(db, source.arm, ref, i)));
+  const trials = await resolveTrials(db, source.arm, refs);
   const started = performance.now();
   const result = await runSweep(
     { arm: source.arm.model, base: source.params, axes: request.axes, trials: trials.map((t) => t.definition!), x: request.x, y: request.y },
@@ -375,11 +384,11 @@ export async function prepareEvidence(db: Sequelize, actor: User, version: Profi
   });
   if (ceilings.evidenceRequired === "none") return chosen.map((r) => r.id);
 
-  const profile = await findProfile(db, version.profileId);
-  const arm = await armOrNotFound(db, profile!.armId);
-  const kinds = builtinTrials({ model: arm.model, readyPose: arm.readyPose }).trials.map((t) => t.kind);
-  const missing = kinds.filter((kind) => !chosen.some((r) => r.trialKind === kind));
-  const fresh = missing.length ? await runTrials(db, actor, { source: { kind: "version", versionId: version.id }, trials: missing.map((builtin) => ({ kind: "builtin", builtin })) }) : [];
+  const source = await resolveSource(db, actor, { kind: "version", versionId: version.id });
+  const builtins = builtinTrials({ model: source.arm.model, readyPose: source.arm.readyPose }).trials;
+  const kinds = builtins.map((t) => t.kind);
+  const missing = builtins.filter((t) => !chosen.some((r) => r.trialKind === t.kind)).map(builtinResolved);
+  const fresh = missing.length ? await runResolved(db, actor, source, missing) : [];
   const required = [...chosen.filter((r) => (kinds as string[]).includes(r.trialKind)), ...fresh];
   const problems = required.map((r) => ({ run: r, problem: evidenceProblem(r, ceilings) })).filter((p) => p.problem !== null);
   if (problems.length > 0) {

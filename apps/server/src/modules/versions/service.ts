@@ -31,15 +31,18 @@ export async function armFor(db: Sequelize, armId: number): Promise<Arm> {
   return arm;
 }
 
-/** The parameters must fit the arm: one joint-rate cap per joint. */
-function checkParamsFitArm(params: ProfileParams, arm: Arm): void {
+/**
+ * The parameters must fit the arm: one joint-rate cap per joint. `at` is where the request carries them
+ * ("params" in a save, "source.params" in the bench's unsaved edits), for the issue's path.
+ */
+export function checkParamsFitArm(params: ProfileParams, arm: Arm, at = "params"): void {
   const joints = arm.model.joints.length;
   if (params.jointRateCapsRadPerS.length !== joints) {
     throw new AppError(
       400,
       "validation_failed",
       `The arm "${arm.name}" has ${joints} joints, so the profile needs ${joints} joint rate caps (got ${params.jointRateCapsRadPerS.length}).`,
-      [{ path: "params.jointRateCapsRadPerS", message: `one cap per joint: ${joints} values` }],
+      [{ path: `${at}.jointRateCapsRadPerS`, message: `one cap per joint: ${joints} values` }],
     );
   }
 }

@@ -1,9 +1,10 @@
 import { queryOptions, skipToken } from "@tanstack/react-query";
+import { z } from "zod";
 import {
-  armTrialsSchema, mapResponseSchema, runDetailSchema, runsResponseSchema, sweepProgressSchema, sweepResultSchema, versionResponseSchema,
-  type MapRequest, type ProfileParams, type RunRequest, type SweepRequest, type SweepResult,
+  armTrialsSchema, customTrialSchema, mapResponseSchema, runDetailSchema, runsResponseSchema, sweepProgressSchema, sweepResultSchema, takeStreamEvents, versionResponseSchema,
+  type MapRequest, type ProfileParams, type RunRequest, type SweepRequest, type SweepResult, type TrialDefinition,
 } from "@jogwright/shared";
-import { ApiRequestError, apiRequest } from "../../../lib/api-client.ts";
+import { ApiRequestError, apiEventStream, apiRequest } from "../../../lib/api-client.ts";
 
 /** The tuning bench's requests (GET/POST /api/bench/…): trials of an arm, runs, sweeps, maps. */
 export const benchKeys = {
@@ -35,6 +36,11 @@ export async function fetchMap(request: MapRequest, signal?: AbortSignal) {
   return apiRequest("/api/bench/maps", { method: "POST", body: request, schema: mapResponseSchema, signal });
 }
 
+/** Saves a custom trial of the arm (checked in full by the server first). */
+export async function saveCustomTrial(armId: number, definition: TrialDefinition) {
+  return (await apiRequest("/api/bench/trials", { method: "POST", body: { armId, definition }, schema: z.object({ trial: customTrialSchema }) })).trial;
+}
+
 /** Saves `params` as the profile's next version (a draft) on top of `parentVersionId`. */
 export async function saveDraft(profileId: number, parentVersionId: number, params: ProfileParams, note: string) {
   return (await apiRequest(`/api/profiles/${profileId}/versions`, { method: "POST", body: { parentVersionId, params, note }, schema: versionResponseSchema })).version;
@@ -45,31 +51,15 @@ export async function saveDraft(profileId: number, parentVersionId: number, para
  * Aborting `signal` closes the request, which cancels the sweep on the server.
  */
 export async function runSweep(request: SweepRequest, onProgress: (done: number, total: number) => void, signal: AbortSignal): Promise<SweepResult> {
-  const response = await fetch("/api/bench/sweeps", {
-    method: "POST",
-    headers: { "Content-Type": "application/json", Accept: "text/event-stream" },
-    credentials: "same-origin",
-    body: JSON.stringify(request),
-    signal,
-  });
-  if (!response.ok || !response.body) {
-    // A refusal before the stream (400, 403 …) is an ordinary JSON error.
-    const body = (await response.json().catch(() => null)) as { error?: { code?: string; message?: string; issues?: { path: string; message: string }[] } } | null;
-    throw new ApiRequestError(response.status, (body?.error?.code ?? "internal"), body?.error?.message ?? "The sweep could not start.", body?.error?.issues ?? []);
-  }
-  const reader = response.body.getReader();
+  const reader = (await apiEventStream("/api/bench/sweeps", request, signal)).getReader();
   const decoder = new TextDecoder();
   let buffer = "";
   for (;;) {
     const { value, done } = await reader.read();
     if (done) break;
-    buffer += decoder.decode(value, { stream: true });
-    let end: number;
-    while ((end = buffer.indexOf("\n\n")) >= 0) {
-      const block = buffer.slice(0, end);
-      buffer = buffer.slice(end + 2);
-      const event = /^event: (.*)$/m.exec(block)?.[1];
-      const data = JSON.parse(/^data: (.*)$/m.exec(block)?.[1] ?? "null") as unknown;
+    const taken = takeStreamEvents(buffer + decoder.decode(value, { stream: true }));
+    buffer = taken.rest;
+    for (const { event, data } of taken.events) {
       if (event === "progress") {
         const p = sweepProgressSchema.parse(data);
         onProgress(p.done, p.total);

@@ -2,7 +2,7 @@ import { useMemo, useState } from "react";
 import { useMutation, useQuery } from "@tanstack/react-query";
 import { FlaskConical, Plus } from "lucide-react";
 import {
-  BUILTIN_TRIAL_KINDS, profileParamsSchema, withSweepParameter,
+  profileParamsSchema, withSweepParameter,
   type ProfileParams, type ProfileVersion, type SweepParameter, type TrialRef, type TrialRun,
 } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
@@ -68,16 +68,11 @@ export function BenchPage() {
   const armRecordings = (recordings.data ?? []).filter((r) => r.armId === armId && r.endedAt !== null).slice(0, 50);
   const [replayId, setReplayId] = useState<number | null>(null);
 
-  const keyOf = (r: TrialRef) => (r.kind === "builtin" ? `builtin:${r.builtin}` : r.kind === "custom" ? `custom:${r.trialId}` : `replay:${r.recordingId}`);
-  const refs: TrialRef[] = [...picked].map((key) => {
-    const [kind, value] = key.split(":") as ["builtin" | "custom", string];
-    return kind === "builtin" ? { kind, builtin: value as (typeof BUILTIN_TRIAL_KINDS)[number] } : { kind, trialId: Number(value) };
-  });
-  const available = new Set([
-    ...(trials.data?.builtin.map((t) => `builtin:${t.kind}`) ?? []),
-    ...(trials.data?.custom.map((t) => `custom:${t.id}`) ?? []),
-  ]);
-  const chosenTrials = refs.filter((r) => available.has(keyOf(r)));
+  // The ticked trials of this arm, in the list's order (a key ticked for another profile's arm is ignored).
+  const chosenTrials: TrialRef[] = [
+    ...(trials.data?.builtin ?? []).filter((t) => picked.has(`builtin:${t.kind}`)).map((t) => ({ kind: "builtin" as const, builtin: t.kind })),
+    ...(trials.data?.custom ?? []).filter((t) => picked.has(`custom:${t.id}`)).map((t) => ({ kind: "custom" as const, trialId: t.id })),
+  ];
   const chosen: TrialRef[] = [...chosenTrials, ...(replayId !== null && armRecordings.some((r) => r.id === replayId) ? [{ kind: "replay" as const, recordingId: replayId }] : [])];
 
   // The results name the versions that ran (the pickers may have moved on since).

@@ -10,7 +10,7 @@ import { Plot } from "../../../components/charts/plot.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
-import { DEG, METRIC_ROWS, MM, verdict, wristOf, type MetricRow } from "../../../components/bench/metrics.ts";
+import { DEG, METRIC_ROWS, MM, verdict, wristOf, type MetricRow } from "../../../components/bench/metric-rows.ts";
 import { runDetailQueryOptions } from "../api/bench-api.ts";
 import type { RunSet } from "./bench-page.tsx";
 
@@ -56,12 +56,13 @@ const wristRate = (s: DisplaySeries) => s.qdot.map((q) => Math.max(...wristOf(s.
 
 /** Two series on one time axis: B's samples are placed at A's times (both runs share the tick rate and trial). */
 function overlay(a: DisplaySeries, b: DisplaySeries | null, f: (s: DisplaySeries) => number[]): (number | null)[][] {
-  if (!b) return [a.t, f(a)];
-  const bt = b.t, bv = f(b);
-  const times = [...new Set([...a.t, ...bt])].sort((x, y) => x - y);
-  const at = new Map(a.t.map((t, i) => [t, f(a)[i]!]));
-  const bm = new Map(bt.map((t, i) => [t, bv[i]!]));
-  return [times, times.map((t) => at.get(t) ?? null), times.map((t) => bm.get(t) ?? null)];
+  const av = f(a);
+  if (!b) return [a.t, av];
+  const bv = f(b);
+  const times = [...new Set([...a.t, ...b.t])].sort((x, y) => x - y);
+  const at = new Map(a.t.map((t, i) => [t, av[i]!]));
+  const bt = new Map(b.t.map((t, i) => [t, bv[i]!]));
+  return [times, times.map((t) => at.get(t) ?? null), times.map((t) => bt.get(t) ?? null)];
 }
 
 function RunPlots({ arm, trialName, a, b, labelA, labelB }: { arm: Arm | undefined; trialName: string; a: TrialRun; b: TrialRun | null; labelA: string; labelB: string | null }) {
@@ -93,14 +94,11 @@ function RunPlots({ arm, trialName, a, b, labelA, labelB }: { arm: Arm | undefin
         <Plot title="Fastest wrist joint" xLabel="t [s]" yLabel="deg/s" data={plots.wrist} series={series} testId="plot-wrist" />
       </div>
       <div className="flex flex-wrap gap-2">
-        <Button size="sm" variant={replaying === "a" ? "primary" : "secondary"} disabled={!arm} onClick={() => setReplaying(replaying === "a" ? null : "a")}>
-          <Box aria-hidden className="size-4" /> {replaying === "a" ? `Close the 3D replay` : `Replay ${labelA} in 3D`}
-        </Button>
-        {b && labelB ? (
-          <Button size="sm" variant={replaying === "b" ? "primary" : "secondary"} disabled={!arm || !sb} onClick={() => setReplaying(replaying === "b" ? null : "b")}>
-            <Box aria-hidden className="size-4" /> {replaying === "b" ? `Close the 3D replay` : `Replay ${labelB} in 3D`}
+        {[{ which: "a" as const, label: labelA, loaded: sa !== undefined }, ...(b && labelB ? [{ which: "b" as const, label: labelB, loaded: sb !== null }] : [])].map(({ which, label, loaded }) => (
+          <Button key={which} size="sm" variant={replaying === which ? "primary" : "secondary"} disabled={!arm || !loaded} onClick={() => setReplaying(replaying === which ? null : which)}>
+            <Box aria-hidden className="size-4" /> {replaying === which ? "Close the 3D replay" : `Replay ${label} in 3D`}
           </Button>
-        ) : null}
+        ))}
       </div>
       {replay && arm ? <ReplayPlayer key={replay.run.id} arm={arm} frames={replay.frames} params={replay.run.params} /> : null}
     </div>

@@ -6,9 +6,8 @@ import { NumberField } from "../../../components/ui/number-field.tsx";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { benchKeys, fetchMap } from "../api/bench-api.ts";
+import { DEG, MM } from "../../../components/bench/metric-rows.ts";
 
-const MM = 1000;
-const DEG = 180 / Math.PI;
 const SIZE_PX = 420;
 
 type MapKind = "joints" | "cartesian-xz" | "cartesian-xy" | "cartesian-yz";

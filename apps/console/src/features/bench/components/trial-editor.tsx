@@ -11,11 +11,8 @@ import { NumberField } from "../../../components/ui/number-field.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
-import { apiRequest } from "../../../lib/api-client.ts";
 import { applyServerIssues } from "../../../lib/server-issues.ts";
-import { customTrialSchema } from "@jogwright/shared";
-import { z } from "zod";
-import { benchKeys } from "../api/bench-api.ts";
+import { benchKeys, saveCustomTrial } from "../api/bench-api.ts";
 import { NEW_SEGMENT, trialFormCodec, uiPathOfTrialPath, type TrialFormValues, type UiSegment } from "../forms/trial-form-codec.ts";
 
 const AXES = ["x", "y", "z"] as const;
@@ -79,9 +76,8 @@ function TrialEditorForm({ arm, onCancel, onSaved, from }: { arm: Arm; onCancel:
   const [kindToAdd, setKindToAdd] = useState<UiSegment["kind"]>("twist");
   const queryClient = useQueryClient();
   const save = useMutation({
-    mutationFn: (definition: TrialDefinition) =>
-      apiRequest("/api/bench/trials", { method: "POST", body: { armId: arm.id, definition }, schema: z.object({ trial: customTrialSchema }) }),
-    onSuccess: ({ trial }) => {
+    mutationFn: (definition: TrialDefinition) => saveCustomTrial(arm.id, definition),
+    onSuccess: (trial) => {
       void queryClient.invalidateQueries({ queryKey: benchKeys.trials(arm.id) });
       onSaved(trial);
     },

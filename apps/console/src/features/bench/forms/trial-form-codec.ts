@@ -1,13 +1,15 @@
 import { z } from "zod";
-import { trialDefinitionSchema, type JointKind, type TrialDefinition } from "@jogwright/shared";
+import { trialDefinitionSchema, UNITS, type JointKind, type TrialDefinition } from "@jogwright/shared";
 import { addSchemaIssuesAtUiPaths, uiNumber } from "../../../lib/form-codec.ts";
+
+const { metresToMm: mm, mPerSToMmPerS: mmPerS, radToDeg: deg, radPerSToDegPerS: degPerS } = UNITS;
+type Vec3 = [number, number, number];
+const each = (v: readonly number[], f: (x: number) => number) => v.map(f) as Vec3;
 
 // The custom-trial form: UI units (mm, mm/s, deg, deg/s; a sliding joint's position in mm) ⇄ the SI
 // TrialDefinition of POST /api/bench/trials. Expressions stay text with their own units (mathjs on the
 // server checks them: `100 mm/s * sin(2 pi t / 4 s)`); the server's issues come back on their fields.
 
-const MM = 1000;
-const DEG = 180 / Math.PI;
 
 const vec3 = z.tuple([uiNumber(), uiNumber(), uiNumber()]);
 const text3 = z.tuple([z.string(), z.string(), z.string()]);
@@ -30,7 +32,7 @@ export function uiPathOfTrialPath(path: string): string {
 }
 
 export function trialFormCodec(jointKinds: readonly JointKind[]) {
-  const poseFactor = (i: number) => (jointKinds[i] === "prismatic" ? MM : DEG);
+  const poseUnit = (i: number) => (jointKinds[i] === "prismatic" ? mm : deg);
   const uiSchema = z
     .object({
       name: z.string(),
@@ -46,12 +48,12 @@ export function trialFormCodec(jointKinds: readonly JointKind[]) {
     return {
       name: v.name,
       description: v.description,
-      startPose: v.startPose.map((q, i) => q / poseFactor(i)),
+      startPose: v.startPose.map((q, i) => poseUnit(i).toSi(q)),
       segments: v.segments.map((s) => {
         if (s.kind === "twist") {
-          return { kind: "twist", frame: s.frame, linearMPerS: s.linearMmPerS.map((x) => x / MM) as [number, number, number], angularRadPerS: s.angularDegPerS.map((x) => x / DEG) as [number, number, number], durationS: s.durationS };
+          return { kind: "twist", frame: s.frame, linearMPerS: each(s.linearMmPerS, mmPerS.toSi), angularRadPerS: each(s.angularDegPerS, degPerS.toSi), durationS: s.durationS };
         }
-        if (s.kind === "waypoint") return { kind: "waypoint", positionM: s.positionMm.map((x) => x / MM) as [number, number, number], speedMPerS: s.speedMmPerS / MM, timeoutS: s.timeoutS };
+        if (s.kind === "waypoint") return { kind: "waypoint", positionM: each(s.positionMm, mm.toSi), speedMPerS: mmPerS.toSi(s.speedMmPerS), timeoutS: s.timeoutS };
         return { kind: "expression", frame: s.frame, linear: s.linear, angular: s.angular, durationS: s.durationS };
       }),
     };
@@ -62,10 +64,10 @@ export function trialFormCodec(jointKinds: readonly JointKind[]) {
     return {
       name: d.name,
       description: d.description,
-      startPose: d.startPose.map((q, i) => round(q * poseFactor(i), 4)),
+      startPose: d.startPose.map((q, i) => round(poseUnit(i).toUi(q), 4)),
       segments: d.segments.map((s): UiSegment => {
-        if (s.kind === "twist") return { kind: "twist", frame: s.frame, linearMmPerS: s.linearMPerS.map((x) => round(x * MM)) as [number, number, number], angularDegPerS: s.angularRadPerS.map((x) => round(x * DEG)) as [number, number, number], durationS: s.durationS };
-        if (s.kind === "waypoint") return { kind: "waypoint", positionMm: s.positionM.map((x) => round(x * MM)) as [number, number, number], speedMmPerS: round(s.speedMPerS * MM), timeoutS: s.timeoutS };
+        if (s.kind === "twist") return { kind: "twist", frame: s.frame, linearMmPerS: each(s.linearMPerS, (x) => round(mmPerS.toUi(x))), angularDegPerS: each(s.angularRadPerS, (x) => round(degPerS.toUi(x))), durationS: s.durationS };
+        if (s.kind === "waypoint") return { kind: "waypoint", positionMm: each(s.positionM, (x) => round(mm.toUi(x))), speedMmPerS: round(mmPerS.toUi(s.speedMPerS)), timeoutS: s.timeoutS };
         return { kind: "expression", frame: s.frame, linear: s.linear, angular: s.angular, durationS: s.durationS };
       }),
     };

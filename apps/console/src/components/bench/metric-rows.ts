@@ -1,9 +1,10 @@
-import type { TrialMetrics } from "@jogwright/shared";
+import { DEG_PER_RAD, type TrialMetrics } from "@jogwright/shared";
 
 // The tuning bench's metrics in display units, shared by the bench, the review's evidence and the report.
 
+/** Millimetres per metre, and degrees per radian (shared): the bench shows lengths in mm, angles in deg. */
 export const MM = 1000;
-export const DEG = 180 / Math.PI;
+export const DEG = DEG_PER_RAD;
 
 /** The wrist joints of an n-joint arm (the last three), 0-based. */
 export const wristOf = (n: number) => (n >= 6 ? [n - 3, n - 2, n - 1] : Array.from({ length: n }, (_, i) => i));
