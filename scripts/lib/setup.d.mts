@@ -1,0 +1,12 @@
+// Types for the parts of setup.mjs that TypeScript code uses (the fault tests start a MariaDB of their own).
+export const DATA_DIR: string;
+export interface PrivateMariadb {
+  runtimeUrl: string;
+  migrationUrl: string;
+  url: string;
+  socket: string;
+  owned: boolean;
+  stop(): Promise<void>;
+}
+export function startPrivateMariadb(options: { name: string; port: number; database: string }): Promise<PrivateMariadb>;
+export function recreateDatabase(socket: string, database: string): void;
