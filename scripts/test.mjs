@@ -4,7 +4,7 @@
 import { spawn, spawnSync } from "node:child_process";
 import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import path from "node:path";
-import { buildConsole, DATA_DIR, databaseEnv, isPortFree, log, portFromEnv, prepare, recreateDatabase, ROOT, SetupError } from "./lib/setup.mjs";
+import { buildConsole, DATA_DIR, databaseEnv, isPortFree, log, portFromEnv, prepare, recreateDatabase, ROOT, SetupError, startPrivateRedis } from "./lib/setup.mjs";
 
 const REPORTS = path.join(DATA_DIR, "test-reports");
 const results = [];
@@ -89,18 +89,23 @@ async function waitForHealth(url, server, timeoutMs = 60_000) {
 
 async function main() {
   mkdirSync(REPORTS, { recursive: true });
-  const db = await prepare({ withChromium: true, dbName: "mariadb-test", defaultDbPort: 3408, database: "jogwright_test" });
+  const db = await prepare({ withChromium: true, withRedis: true, dbName: "mariadb-test", defaultDbPort: 3408, database: "jogwright_test" });
   if (db.socket) recreateDatabase(db.socket, "jogwright_test");
   // The API tests and the server run as the runtime account; the migrations run as the migration account.
   const dbEnv = databaseEnv(db);
   let server = null;
+  let redis = null;
   try {
     typecheckSuite();
     lintSuite();
     vitestSuite("kinematics", "packages/kinematics");
     vitestSuite("shared", "packages/shared");
     vitestSuite("console", "apps/console");
-    vitestSuite("server (unit + API on MariaDB)", "apps/server", { ...dbEnv, NODE_ENV: "test" });
+    // The scale-out tests (two instances sharing a Redis) get REDIS_TEST_URL; every other test runs embedded.
+    redis = await startPrivateRedis({ name: "redis-test", port: portFromEnv("REDIS_TEST_PORT", 6408) });
+    vitestSuite("server (unit + API on MariaDB)", "apps/server", { ...dbEnv, NODE_ENV: "test", REDIS_TEST_URL: redis.url });
+    await redis.stop();
+    redis = null;
 
     buildConsole();
     const port = portFromEnv("TEST_PORT", 3100);
@@ -119,6 +124,7 @@ async function main() {
       server.kill("SIGTERM");
       await new Promise((r) => server.once("exit", r));
     }
+    if (redis) await redis.stop();
     if (db.socket) await db.stop();
   }
 }

@@ -7,7 +7,7 @@ import { defineConfig } from "vitest/config";
 //   database outage, the real MariaDB paused and stopped, server start-up), one file at a time so no other file competes for the 2 cores;
 // - "api": everything else, two files at a time (measured on 14 of these files: 53 s one at a time,
 //   35 s two at a time).
-const TIMED = ["src/modules/jog/**/*.test.ts", "src/db/database-outage.test.ts", "src/db/mariadb-fault.test.ts", "src/startup.test.ts"];
+const TIMED = ["src/modules/jog/**/*.test.ts", "src/db/database-outage.test.ts", "src/db/mariadb-fault.test.ts", "src/scale/**/*.test.ts", "src/startup.test.ts"];
 
 export default defineConfig({
   test: {

@@ -10,3 +10,4 @@ export interface PrivateMariadb {
 }
 export function startPrivateMariadb(options: { name: string; port: number; database: string }): Promise<PrivateMariadb>;
 export function recreateDatabase(socket: string, database: string): void;
+export function startPrivateRedis(options: { name: string; port: number }): Promise<{ url: string; stop(): Promise<void> }>;

@@ -258,6 +258,48 @@ export async function startPrivateMariadb({ name, port, database }) {
   return { runtimeUrl: urlOf(RUNTIME_ACCOUNT), migrationUrl, url: migrationUrl, socket, owned, stop };
 }
 
+/**
+ * A private Redis (Debian's redis-server) on 127.0.0.1:`port`, data-less (no snapshots, no append-only
+ * file), for the scale-out tests only: the product never needs Redis unless REDIS_URL is set. Reuses one
+ * this project already started on that folder. Returns { url, stop }.
+ */
+export async function startPrivateRedis({ name, port }) {
+  const dataRoot = path.join(DATA_DIR, name);
+  const pidFile = path.join(dataRoot, "redis.pid");
+  mkdirSync(dataRoot, { recursive: true });
+  const redisServer = findBinary("redis-server");
+  if (!redisServer) throw new SetupError("Redis is not installed (redis-server not found; apt-get install redis-server).");
+  let owned = false;
+  const runningPid = existsSync(pidFile) ? Number(readFileSync(pidFile, "utf8").trim()) : NaN;
+  const alive = Number.isInteger(runningPid) && processAlive(runningPid);
+  if (!(alive && (await canConnect(port)))) {
+    if (alive) throw new SetupError(`a private Redis (pid ${runningPid}) runs on ${dataRoot} but does not answer on port ${port}; stop it (kill ${runningPid}).`);
+    if (!(await isPortFree(port))) throw new SetupError(`port ${port} on 127.0.0.1 is in use, so the private Redis cannot start there; set REDIS_TEST_PORT to a free port.`);
+    log(`starting a private Redis on 127.0.0.1:${port}`);
+    const child = spawn(
+      redisServer,
+      ["--port", String(port), "--bind", "127.0.0.1", "--protected-mode", "yes", "--save", "", "--appendonly", "no", "--dir", dataRoot, "--pidfile", pidFile, "--logfile", path.join(dataRoot, "redis.log")],
+      { detached: true, stdio: "ignore" },
+    );
+    child.unref();
+    owned = true;
+    const deadline = Date.now() + 15_000;
+    while (!(await canConnect(port))) {
+      if (child.exitCode !== null || Date.now() > deadline) throw new SetupError(`the private Redis did not start (see ${path.join(dataRoot, "redis.log")}).`);
+      await sleep(50);
+    }
+  }
+  const stop = async () => {
+    if (!owned) return;
+    const pid = existsSync(pidFile) ? Number(readFileSync(pidFile, "utf8").trim()) : NaN;
+    if (!Number.isInteger(pid) || !processAlive(pid)) return;
+    process.kill(pid, "SIGTERM");
+    const deadline = Date.now() + 10_000;
+    while (processAlive(pid) && Date.now() < deadline) await sleep(50);
+  };
+  return { url: `redis://127.0.0.1:${port}`, stop };
+}
+
 /** The server's database environment for a prepared database: the runtime and the migration account. */
 export function databaseEnv(db) {
   return { DATABASE_URL: db.runtimeUrl, MIGRATION_DATABASE_URL: db.migrationUrl };
@@ -279,9 +321,11 @@ export function recreateDatabase(socket, database) {
 }
 
 /** The shared steps: pnpm, Debian packages, dependencies, database. */
-export async function prepare({ withChromium, dbName, defaultDbPort, database }) {
+export async function prepare({ withChromium, withRedis = false, dbName, defaultDbPort, database }) {
   const packages = { "mariadb-server": "mariadbd" };
   if (withChromium) packages.chromium = "chromium";
+  // Only the tests need Redis (the scale-out tests); `npm start` runs without it.
+  if (withRedis) ensureDebianPackages({ "redis-server": "redis-server" });
   ensurePnpm();
   const external = process.env.DATABASE_URL;
   // An external server: DATABASE_URL is the runtime account, MIGRATION_DATABASE_URL (if set) the one that

@@ -26,6 +26,8 @@ import { jogRouter } from "./modules/jog/routes.ts";
 import { recordingsRouter } from "./modules/recordings/routes.ts";
 import { benchRouter } from "./modules/trials/routes.ts";
 import { configureTrialPool } from "./modules/trials/trial-pool.ts";
+import { useTrialQueue } from "./modules/trials/trial-queue.ts";
+import { createScale } from "./scale/redis.ts";
 import { gamepadRouter } from "./modules/gamepad/routes.ts";
 
 export interface BuiltApp {
@@ -39,8 +41,10 @@ export interface BuiltApp {
 
 export function createApp(config: Config, db: Sequelize): BuiltApp {
   const mailer = new Mailer(db, { host: config.mail.smtpHost, port: config.mail.smtpPort, from: config.mail.from });
-  const ctx: AppContext = { db, config, lucia: createLucia(db), signInLimiter: new SignInLimiter(config.signIn), mailer };
+  const scale = createScale(config.redis);
+  const ctx: AppContext = { db, config, lucia: createLucia(db), signInLimiter: new SignInLimiter(config.signIn, scale), mailer, scale };
   configureTrialPool(config.trialPoolThreads);
+  if (scale) useTrialQueue(scale, config.redis!.trialQueueConcurrency);
   const app = express();
   app.disable("x-powered-by");
   app.set("trust proxy", config.trustProxy ? 1 : false);

@@ -36,6 +36,18 @@ const databaseUrl = z.string().superRefine((raw, ctx) => {
   }
 });
 
+const redisUrl = z.string().superRefine((raw, ctx) => {
+  let url: URL;
+  try {
+    url = new URL(raw);
+  } catch {
+    ctx.addIssue({ code: "custom", message: "is not a valid URL; expected redis://HOST:PORT (optionally redis://:PASSWORD@HOST:PORT/DB)" });
+    return;
+  }
+  if (!["redis:", "rediss:"].includes(url.protocol)) ctx.addIssue({ code: "custom", message: `must start with redis:// or rediss:// (got ${url.protocol}//)` });
+  else if (!url.hostname) ctx.addIssue({ code: "custom", message: "needs a host: redis://HOST:PORT" });
+});
+
 /** An origin as browsers send it in the Origin header: http(s)://host[:port], nothing after. */
 const origin = z.string().transform((raw, ctx) => {
   let url: URL;
@@ -108,6 +120,16 @@ const envSchema = z.object({
   JOG_START_WINDOW_S: count(1, 3600).default(10),
   /** Worker threads for the tuning bench's offline runs and maps (default: one per core). */
   TRIAL_POOL_THREADS: count(1, 64).optional(),
+  /**
+   * Scale-out (docs/scaling.md): a Redis shared by several instances, redis://[:PASSWORD@]HOST:PORT[/DB].
+   * Unset (the default): one instance, nothing of it needs Redis.
+   */
+  REDIS_URL: redisUrl.optional(),
+  /**
+   * With REDIS_URL: bench runs this instance takes from the shared queue at once (default: its pool size);
+   * 0: it takes none and only submits (a web-only instance, with worker instances elsewhere).
+   */
+  TRIAL_QUEUE_CONCURRENCY: count(0, 256).optional(),
 }).refine((v) => v.SMTP_PORT !== 0 || v.FAKE_SMTP === "1", { message: "may be 0 only with FAKE_SMTP=1", path: ["SMTP_PORT"] });
 
 export type Config = {
@@ -127,6 +149,8 @@ export type Config = {
   consoleDist: string | undefined;
   /** Worker threads of the tuning bench's pool; null: one per core. */
   trialPoolThreads: number | null;
+  /** Scale-out through a shared Redis (REDIS_URL); null: a single instance. */
+  redis: { url: string; trialQueueConcurrency: number | null } | null;
   seedDemo: boolean;
   mail: { smtpHost: string; smtpPort: number; fakeSmtp: boolean; dir: string; from: string };
   /** Live jogging: state frames per second to each client. */
@@ -181,6 +205,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     },
     jogFrameRateHz: v.JOG_FRAME_RATE_HZ,
     trialPoolThreads: v.TRIAL_POOL_THREADS ?? null,
+    redis: v.REDIS_URL ? { url: v.REDIS_URL, trialQueueConcurrency: v.TRIAL_QUEUE_CONCURRENCY ?? null } : null,
     jogLimits: {
       maxSessionsPerAccount: v.JOG_MAX_SESSIONS_PER_ACCOUNT,
       maxSessions: v.JOG_MAX_SESSIONS,

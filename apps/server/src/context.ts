@@ -3,6 +3,7 @@ import type { AppLucia } from "./auth/lucia.ts";
 import type { Config } from "./config.ts";
 import type { SignInLimiter } from "./auth/sign-in-limiter.ts";
 import type { Mailer } from "./mail/mailer.ts";
+import type { Scale } from "./scale/redis.ts";
 
 /**
  * What every module gets: the database, the session store, the settings, the outgoing mail. The models
@@ -14,4 +15,6 @@ export interface AppContext {
   config: Config;
   signInLimiter: SignInLimiter;
   mailer: Mailer;
+  /** The shared Redis of a scaled-out site (REDIS_URL); null for a single instance (the default). */
+  scale: Scale | null;
 }

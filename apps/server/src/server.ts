@@ -81,6 +81,10 @@ async function main(): Promise<void> {
     for (const a of DEMO_ACCOUNTS) console.log(`    ${a.username.padEnd(8)} ${a.displayName.padEnd(14)} ${a.roles.join(", ")}`);
     console.log("");
   }
+  if (ctx.scale) {
+    const takes = config.redis!.trialQueueConcurrency;
+    console.log(`  Scaled out through Redis as instance ${ctx.scale.instanceId}; bench runs: ${takes === 0 ? "takes none (submits only)" : `takes up to ${takes ?? "one per pool thread"} at once`}.`);
+  }
   if (fakeSmtp) console.log(`  Mail is caught by the local fake SMTP server on port ${fakeSmtp.port} (files in ${config.mail.dir}).`);
   console.log("  Simulation only: Jogwright never commands real hardware. Press Ctrl-C to stop.\n");
 
@@ -94,6 +98,7 @@ async function main(): Promise<void> {
     await new Promise((r) => server.close(r));
     await ctx.mailer.stop();
     await closeTrialPool(); // offline runs under way are dropped (their requests are gone)
+    await ctx.scale?.close();
     await fakeSmtp?.close();
     await db.close();
     process.exit(0);

@@ -1,18 +1,20 @@
-import { RateLimiterMemory, RateLimiterRes } from "rate-limiter-flexible";
+import { RateLimiterRes, type RateLimiterAbstract } from "rate-limiter-flexible";
+import { rateLimiter, type Scale } from "../scale/redis.ts";
 
 /**
  * Sign-in attempts are counted per account-and-address and per address. Every attempt takes its point
  * *before* the password is checked (`consume` increments and compares in one step, so parallel requests
  * cannot all slip past a check that only reads the count); a good password gives the point back. Past
  * either limit the next attempts get 429 until the window passes, without their password being checked.
+ * Scaled out (REDIS_URL), the counts live in Redis and hold over every instance.
  */
 export class SignInLimiter {
-  private readonly perAccount: RateLimiterMemory;
-  private readonly perAddress: RateLimiterMemory;
+  private readonly perAccount: RateLimiterAbstract;
+  private readonly perAddress: RateLimiterAbstract;
 
-  constructor(opts: { maxFailures: number; windowS: number; maxFailuresPerAddress: number }) {
-    this.perAccount = new RateLimiterMemory({ keyPrefix: "acct", points: opts.maxFailures, duration: opts.windowS });
-    this.perAddress = new RateLimiterMemory({ keyPrefix: "addr", points: opts.maxFailuresPerAddress, duration: opts.windowS });
+  constructor(opts: { maxFailures: number; windowS: number; maxFailuresPerAddress: number }, scale: Scale | null = null) {
+    this.perAccount = rateLimiter(scale, { keyPrefix: "sign-in-acct", points: opts.maxFailures, duration: opts.windowS });
+    this.perAddress = rateLimiter(scale, { keyPrefix: "sign-in-addr", points: opts.maxFailuresPerAddress, duration: opts.windowS });
   }
 
   private static key(username: string, address: string): string {

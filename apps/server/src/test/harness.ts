@@ -39,6 +39,7 @@ export function createHarness(env: Record<string, string> = {}): Harness {
     request: supertest(built.app),
     close: async () => {
       await built.ctx.mailer.stop();
+      await built.ctx.scale?.close();
       await db.close();
     },
   };

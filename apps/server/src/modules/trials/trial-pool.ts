@@ -34,13 +34,37 @@ function getPool(): Piscina {
   return pool;
 }
 
-export function runInPool(job: RunJob, signal?: AbortSignal): Promise<RunJobResult> {
+/** Where runs go instead of this process's pool when the site is scaled out (trial-queue.ts). */
+export interface RemoteTrials {
+  run(job: RunJob, signal?: AbortSignal): Promise<RunJobResult>;
+  map(job: MapJob, signal?: AbortSignal): Promise<MapGrid>;
+  close(): Promise<void>;
+}
+let remote: RemoteTrials | null = null;
+
+/** Scaled out: every run and map goes through `r` (the shared queue); null: this process's pool again. */
+export function setRemoteTrials(r: RemoteTrials | null): void {
+  remote = r;
+}
+
+/** A run in this process's pool (the queue's worker calls this for the jobs it takes). */
+export function runLocally(job: RunJob, signal?: AbortSignal): Promise<RunJobResult> {
   return getPool().run(job, signal ? { signal } : {}) as Promise<RunJobResult>;
 }
 
-/** A singularity map (map-job.ts), in the same pool. */
-export function mapInPool(job: MapJob, signal?: AbortSignal): Promise<MapGrid> {
+/** A singularity map (map-job.ts) in this process's pool. */
+export function mapLocally(job: MapJob, signal?: AbortSignal): Promise<MapGrid> {
   return getPool().run(job, signal ? { name: "map", signal } : { name: "map" }) as Promise<MapGrid>;
+}
+
+/** A run: in the shared queue when scaled out (any instance's workers take it), else in this process's pool. */
+export function runInPool(job: RunJob, signal?: AbortSignal): Promise<RunJobResult> {
+  return remote ? remote.run(job, signal) : runLocally(job, signal);
+}
+
+/** A singularity map, like runInPool. */
+export function mapInPool(job: MapJob, signal?: AbortSignal): Promise<MapGrid> {
+  return remote ? remote.map(job, signal) : mapLocally(job, signal);
 }
 
 /** Runs waiting for a thread (a cancelled sweep drops its queued runs: this falls back to 0). */
@@ -49,6 +73,9 @@ export function trialPoolQueueSize(): number {
 }
 
 export async function closeTrialPool(): Promise<void> {
+  const r = remote;
+  remote = null;
+  await r?.close();
   const p = pool;
   pool = null;
   if (p) await p.destroy();

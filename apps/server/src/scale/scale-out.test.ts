@@ -1,0 +1,164 @@
+import { spawn, type ChildProcess } from "node:child_process";
+import net from "node:net";
+import type { AddressInfo } from "node:net";
+import path from "node:path";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { Redis } from "ioredis";
+import { Queue } from "bullmq";
+import { sweepResultSchema, takeStreamEvents } from "@jogwright/shared";
+import { createHarness, type Harness } from "../test/harness.ts";
+import { createProfile, freshTeam, sixAxisArm } from "../test/profiles-fixture.ts";
+import { TRIAL_QUEUE } from "../modules/trials/trial-queue.ts";
+
+/**
+ * Issue 11, "When one machine is not enough": two real server processes on this file's database and one
+ * Redis (REDIS_TEST_URL, started by `npm test` on loopback), as a scaled-out site runs them behind a load
+ * balancer. Instance A takes no bench jobs (TRIAL_QUEUE_CONCURRENCY=0), so a sweep asked of A can only
+ * finish if B's worker takes its runs from the shared queue.
+ */
+const redisUrl = process.env.REDIS_TEST_URL;
+if (!redisUrl) throw new Error("REDIS_TEST_URL is not set: the scale-out tests need a Redis; `npm test` starts one on loopback.");
+
+interface Instance {
+  name: string;
+  baseUrl: string;
+  child: ChildProcess;
+  log: string[];
+}
+
+async function freePort(): Promise<number> {
+  const server = net.createServer();
+  await new Promise<void>((resolve) => server.listen(0, "127.0.0.1", resolve));
+  const { port } = server.address() as AddressInfo;
+  await new Promise((r) => server.close(r));
+  return port;
+}
+
+async function startInstance(name: string, env: Record<string, string>): Promise<Instance> {
+  const port = await freePort();
+  const serverDir = path.resolve(import.meta.dirname, "../..");
+  const child = spawn(path.join(serverDir, "node_modules/.bin/tsx"), ["src/server.ts"], {
+    cwd: serverDir,
+    env: {
+      ...process.env,
+      NODE_ENV: "test",
+      PORT: String(port),
+      SMTP_PORT: "0",
+      FAKE_SMTP: "1",
+      REDIS_URL: redisUrl!,
+      SIGN_IN_MAX_FAILURES: "4",
+      JOG_STARTS_PER_WINDOW: "1000",
+      ...env,
+    },
+    stdio: ["ignore", "pipe", "pipe"],
+  });
+  const log: string[] = [];
+  child.stdout!.on("data", (d: Buffer) => log.push(d.toString()));
+  child.stderr!.on("data", (d: Buffer) => log.push(d.toString()));
+  const baseUrl = `http://127.0.0.1:${port}`;
+  const deadline = Date.now() + 60_000;
+  for (;;) {
+    if (child.exitCode !== null) throw new Error(`instance ${name} exited: ${log.join("")}`);
+    try {
+      if ((await fetch(`${baseUrl}/api/health`)).ok) break;
+    } catch {
+      // not listening yet
+    }
+    if (Date.now() > deadline) throw new Error(`instance ${name} did not answer within 60 s: ${log.join("")}`);
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  return { name, baseUrl, child, log };
+}
+
+async function stopInstance(i: Instance | undefined): Promise<void> {
+  if (!i || i.child.exitCode !== null) return;
+  const exited = new Promise((r) => i.child.once("exit", r));
+  i.child.kill("SIGTERM");
+  await exited;
+}
+
+async function signInAt(i: Instance, username: string, password: string): Promise<string> {
+  const res = await fetch(`${i.baseUrl}/api/auth/sign-in`, {
+    method: "POST",
+    headers: { "Content-Type": "application/json", Origin: i.baseUrl },
+    body: JSON.stringify({ username, password }),
+  });
+  if (!res.ok) throw new Error(`sign-in at ${i.name}: ${res.status} ${await res.text()}`);
+  return res.headers.getSetCookie().map((c) => c.split(";")[0]).join("; ");
+}
+
+let h: Harness;
+let a: Instance;
+let b: Instance;
+let versionId: number;
+
+beforeAll(async () => {
+  const redis = new Redis(redisUrl);
+  await redis.flushdb();
+  await redis.quit();
+  // The file's database (fresh-database.ts) is migrated and seeded: the instances only open it.
+  h = createHarness();
+  const t = await freshTeam(h);
+  const arm = await sixAxisArm(h);
+  versionId = (await createProfile(h, t, arm)).latestVersion.id;
+  const common = { DATABASE_URL: process.env.DATABASE_URL!, MIGRATION_DATABASE_URL: process.env.MIGRATION_DATABASE_URL ?? process.env.DATABASE_URL!, SEED_DEMO: "0" };
+  // Together: the database is migrated already, so neither has a migration to race the other for.
+  [a, b] = await Promise.all([
+    startInstance("A", { ...common, TRIAL_QUEUE_CONCURRENCY: "0" }),
+    startInstance("B", { ...common, TRIAL_QUEUE_CONCURRENCY: "2", TRIAL_POOL_THREADS: "2" }),
+  ]);
+}, 150_000);
+
+afterAll(async () => {
+  await stopInstance(a);
+  await stopInstance(b);
+  await h?.close();
+});
+
+describe("two instances and one Redis", () => {
+  it("a sweep asked of instance A, which takes no jobs, runs on instance B's worker and streams its result", async () => {
+    const cookie = await signInAt(a, "emeka", "demo-pass-2026");
+    const res = await fetch(`${a.baseUrl}/api/bench/sweeps`, {
+      method: "POST",
+      headers: { "Content-Type": "application/json", Cookie: cookie, Origin: a.baseUrl },
+      body: JSON.stringify({
+        versionId,
+        axes: [{ parameter: "damping.lambdaMaxM", from: 0.005, to: 0.06, steps: 3 }],
+        builtins: ["wrist-line"],
+        x: "peakWristAccelRadPerS2",
+        y: "maxDeviationM",
+      }),
+    });
+    expect(res.status).toBe(200);
+    const text = await res.text();
+    const events = takeStreamEvents(text).events;
+    const last = events[events.length - 1]!;
+    expect(last.event).toBe("result");
+    const result = sweepResultSchema.parse(last.data);
+    expect(result.points).toHaveLength(3);
+    // Every run (3 points × 1 trial) was taken by B's worker: the finished jobs (kept 5 min) name it.
+    const idOf = (i: Instance) => /scaled out through Redis as instance ([\w-]+)/i.exec(i.log.join(""))?.[1];
+    expect(idOf(a)).toBeTruthy();
+    expect(idOf(b)).toBeTruthy();
+    const queue = new Queue(TRIAL_QUEUE, { connection: new Redis(redisUrl!, { maxRetriesPerRequest: null }) });
+    try {
+      const done = await queue.getCompleted();
+      expect(done).toHaveLength(3);
+      expect(new Set(done.map((j) => (j.returnvalue as { by: string }).by))).toEqual(new Set([idOf(b)]));
+    } finally {
+      await queue.close();
+    }
+  }, 120_000);
+
+  it("the sign-in limit holds over both instances: four wrong passwords split between A and B, and the fifth is refused at either", async () => {
+    const attempt = (i: Instance) =>
+      fetch(`${i.baseUrl}/api/auth/sign-in`, {
+        method: "POST",
+        headers: { "Content-Type": "application/json", Origin: i.baseUrl },
+        body: JSON.stringify({ username: "tomas", password: "not-the-password" }),
+      }).then((r) => r.status);
+    expect([await attempt(a), await attempt(b), await attempt(a), await attempt(b)]).toEqual([401, 401, 401, 401]);
+    expect(await attempt(a)).toBe(429);
+    expect(await attempt(b)).toBe(429);
+  });
+});
