@@ -232,7 +232,8 @@ export async function startPrivateMariadb({ name, port, database }) {
   // the runtime user and drops. Named one by one: a wildcard grant (`<database>\_%`) would let it create
   // them but not GRANT the runtime user its database privileges on one (MariaDB refuses, error 1044).
   const owner = `'${MIGRATION_ACCOUNT.user}'@'127.0.0.1'`;
-  const testDatabases = Array.from({ length: TEST_DATABASE_SLOTS }, (_, i) => `${database}_${i + 1}`);
+  // … and `<database>_template`, migrated and seeded once per run, which each file's database copies.
+  const testDatabases = [...Array.from({ length: TEST_DATABASE_SLOTS }, (_, i) => `${database}_${i + 1}`), `${database}_template`];
   const runtime = `'${RUNTIME_ACCOUNT.user}'@'127.0.0.1'`;
   const sql = [
     `CREATE USER IF NOT EXISTS ${owner} IDENTIFIED BY '${MIGRATION_ACCOUNT.password}'`,

@@ -125,7 +125,7 @@ test.describe("profiles: edit in UI units, submit, review and approve", () => {
     await stalePage.goto(path);
     for (const p of [page, stalePage]) {
       await expect(p.getByRole("heading", { level: 1, name: profile.name })).toBeVisible();
-      await expect(p.getByText(/Loaded from v1/)).toBeVisible();
+      await expect(p.getByText(/Starts from v1/)).toBeVisible();
     }
 
     const form = page.getByRole("form", { name: "Profile parameters" });

@@ -15,10 +15,11 @@ import { armsRouter } from "./modules/arms/routes.ts";
 import { healthRouter } from "./modules/health/routes.ts";
 import { operatorsRouter, usersRouter } from "./modules/users/routes.ts";
 import { auditRouter } from "./modules/audit/routes.ts";
-import { ceilingsRouter } from "./modules/ceilings/routes.ts";
+import { ceilingsRouters } from "./modules/ceilings/routes.ts";
 import { mailRouter } from "./modules/mail/routes.ts";
 import { profilesRouter } from "./modules/profiles/routes.ts";
 import { versionsRouters } from "./modules/versions/routes.ts";
+import { versionFilesRouters } from "./modules/version-files/routes.ts";
 import { reviewsRouters } from "./modules/reviews/routes.ts";
 import { drivingRouter } from "./modules/driving/routes.ts";
 import { Mailer } from "./mail/mailer.ts";
@@ -54,7 +55,9 @@ export function createApp(config: Config, db: Sequelize): BuiltApp {
   api.use(express.json({ limit: "256kb", strict: true }));
   api.use((req, _res, next) => {
     // JSON only: a body of another type is refused rather than silently ignored.
-    if (req.headers["content-length"] && req.headers["content-length"] !== "0" && !req.is("application/json")) {
+    // The one exception: an arm file upload (multipart, read by multer in modules/arms/routes.ts).
+    const isArmUpload = req.method === "POST" && req.path === "/api/arms/upload" && req.is("multipart/form-data");
+    if (req.headers["content-length"] && req.headers["content-length"] !== "0" && !req.is("application/json") && !isArmUpload) {
       next(new AppError(415, "bad_request", "Send JSON with Content-Type: application/json."));
       return;
     }
@@ -70,9 +73,10 @@ export function createApp(config: Config, db: Sequelize): BuiltApp {
     operatorsRouter(ctx),
     profilesRouter(ctx),
     ...versionsRouters(ctx),
+    ...versionFilesRouters(ctx),
     ...reviewsRouters(ctx),
     drivingRouter(ctx),
-    ceilingsRouter(ctx),
+    ...ceilingsRouters(ctx),
     auditRouter(ctx),
     mailRouter(ctx),
     jogRouter(ctx),

@@ -27,9 +27,25 @@ describe("loadConfig", () => {
     [{ ...good, JOG_START_WINDOW_S: "7200" }, /^JOG_START_WINDOW_S must be 1-3600$/],
     [{ ...good, TRIAL_POOL_THREADS: "0" }, /^TRIAL_POOL_THREADS must be 1-64$/],
     [{ ...good, TRIAL_POOL_THREADS: "two" }, /^TRIAL_POOL_THREADS must be a whole number$/],
+    [{ ...good, RECORDING_RETENTION_DAYS: "-1" }, /^RECORDING_RETENTION_DAYS must be 0-36500$/],
+    [{ ...good, RECORDING_RETENTION_DAYS: "a year" }, /^RECORDING_RETENTION_DAYS must be a whole number$/],
+    [{ ...good, RECORDING_RETENTION_MAX_MB: "1.5" }, /^RECORDING_RETENTION_MAX_MB must be a whole number$/],
+    [{ ...good, RECORDING_RETENTION_MAX_MB: "20000000" }, /^RECORDING_RETENTION_MAX_MB must be 0-10000000$/],
+    [{ ...good, RECORDING_PRUNE_INTERVAL_MIN: "0" }, /^RECORDING_PRUNE_INTERVAL_MIN must be 1-1440$/],
   ])("refuses %j with one clear sentence", (env, message) => {
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(ConfigError);
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(message);
+  });
+});
+
+describe("recording retention", () => {
+  it("defaults to 180 days and 10 240 MB, a pass every hour; 0 switches a limit off", () => {
+    expect(loadConfig(good).recordingRetention).toEqual({ maxAgeDays: 180, maxBytes: 10_240 * 2 ** 20, pruneIntervalMs: 3_600_000 });
+    expect(loadConfig({ ...good, RECORDING_RETENTION_DAYS: "0", RECORDING_RETENTION_MAX_MB: "0", RECORDING_PRUNE_INTERVAL_MIN: "5" }).recordingRetention).toEqual({
+      maxAgeDays: null,
+      maxBytes: null,
+      pruneIntervalMs: 300_000,
+    });
   });
 });
 

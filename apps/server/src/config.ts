@@ -130,6 +130,14 @@ const envSchema = z.object({
    * 0: it takes none and only submits (a web-only instance, with worker instances elsewhere).
    */
   TRIAL_QUEUE_CONCURRENCY: count(0, 256).optional(),
+  /**
+   * Recording retention (modules/recordings/retention.ts): recordings older than this many days, and the
+   * oldest beyond this total size, are pruned unless referenced or live. 0 switches that limit off.
+   */
+  RECORDING_RETENTION_DAYS: count(0, 36_500).default(180),
+  RECORDING_RETENTION_MAX_MB: count(0, 10_000_000).default(10_240),
+  /** Minutes between two retention passes (one also runs at start). */
+  RECORDING_PRUNE_INTERVAL_MIN: count(1, 1440).default(60),
 }).refine((v) => v.SMTP_PORT !== 0 || v.FAKE_SMTP === "1", { message: "may be 0 only with FAKE_SMTP=1", path: ["SMTP_PORT"] });
 
 export type Config = {
@@ -157,7 +165,17 @@ export type Config = {
   jogFrameRateHz: number;
   /** Live jogging: caps on live sessions and the rate of `start` messages (issue 11, item 8). */
   jogLimits: JogLimits;
+  /** How long recordings are kept (issue 11, item 8). */
+  recordingRetention: RecordingRetention;
 };
+
+export interface RecordingRetention {
+  /** Recordings that started longer ago are pruned; null: no age limit. */
+  maxAgeDays: number | null;
+  /** The most all recordings' chunks may take, in bytes (1 MB = 2^20 bytes); null: no size limit. */
+  maxBytes: number | null;
+  pruneIntervalMs: number;
+}
 
 export interface JogLimits {
   maxSessionsPerAccount: number;
@@ -211,6 +229,11 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
       maxSessions: v.JOG_MAX_SESSIONS,
       startsPerWindow: v.JOG_STARTS_PER_WINDOW,
       startWindowS: v.JOG_START_WINDOW_S,
+    },
+    recordingRetention: {
+      maxAgeDays: v.RECORDING_RETENTION_DAYS || null,
+      maxBytes: v.RECORDING_RETENTION_MAX_MB ? v.RECORDING_RETENTION_MAX_MB * 2 ** 20 : null,
+      pruneIntervalMs: v.RECORDING_PRUNE_INTERVAL_MIN * 60_000,
     },
   };
 }

@@ -26,7 +26,9 @@
  *  7. Singularity guard "stop-before": when the motion, followed by a stop within the acceleration limits
  *     (the stopping horizon; none without limits), would end with σ_min below the threshold and lower than
  *     now, the arm brakes to a halt (s = 0) until the operator acknowledges; motion that raises σ_min
- *     (backing out) is always allowed. The stop-and-warn rule for coordinated motion near a singularity
+ *     (backing out) is always allowed. Once stopped, every motion that lowers σ_min is held and the state
+ *     stays "stopped" (the acknowledgement is owed) until it is given or σ_min is back above
+ *     releaseFactor·sigmaStop, however the push, the enabling control or the mode change meanwhile. The stop-and-warn rule for coordinated motion near a singularity
  *     follows the manual-mode singularity clause of ISO 10218-1:2011 (from memory — clause not verified;
  *     the 2011 edition was replaced in February 2025).
  *  8. q += qdot·dt (explicit Euler, Whitney 1969). The drift reference advances by the achieved twist of
@@ -129,8 +131,8 @@ export type BindingLimit =
 
 /**
  * "off": policy damp-through (or joint jog). "clear": no hold. "stopped": braking or held before the
- * singular region, waiting for an acknowledgement or a motion away. "backing-out": inside the region,
- * moving out. "acknowledged": the operator acknowledged; damping through.
+ * singular region, waiting for an acknowledgement (it stays until the acknowledgement or σ_min above
+ * releaseFactor·sigmaStop). "backing-out": inside the region or owing an acknowledgement, moving out. "acknowledged": the operator acknowledged; damping through.
  */
 export type GuardState = "off" | "clear" | "stopped" | "backing-out" | "acknowledged";
 
@@ -156,6 +158,13 @@ export interface ControlState {
   guardState: GuardState;
   /** Set by the caller when the operator acknowledges a singularity stop; cleared by the step on release. */
   singularityAcknowledged: boolean;
+  /**
+   * The stop-before guard has stopped the arm and the acknowledgement is still owed: set by the step when
+   * the guard stops, cleared by an acknowledgement or once σ_min is back above releaseFactor·sigmaStop.
+   * While set, guardState is "stopped" (or "backing-out" while the arm moves away) and every motion that
+   * lowers σ_min is held, so the need neither flickers with the push nor lapses when the push stops.
+   */
+  isGuardHolding: boolean;
   /** Seconds integrated so far and steps taken. */
   time: number;
   steps: number;
@@ -350,7 +359,7 @@ export function createControlState(arm: ArmModel, q0: ArrayLike<number>): Contro
   const referencePose = forwardPoseInto(kernel, q, new Float64Array(16));
   return {
     n, q, qdot: new Float64Array(n), qdotCorrection: new Float64Array(n), referencePose,
-    guardState: "off", singularityAcknowledged: false, time: 0, steps: 0,
+    guardState: "off", singularityAcknowledged: false, isGuardHolding: false, time: 0, steps: 0,
   };
 }
 
@@ -773,22 +782,29 @@ function limitAndIntegrate(
     bindingJoint = report.bindingJoint;
   }
 
-  // Singularity guard (Cartesian motion only).
+  // Singularity guard: it acts on Cartesian motion only (`guarded`), but a hold's need for an
+  // acknowledgement outlasts any step until it is given or the arm is out of the guard zone.
   const guard = params.guard;
-  if (!guarded || guard.policy === "damp-through") {
+  if (guard.policy === "damp-through") {
     state.guardState = "off";
     state.singularityAcknowledged = false;
+    state.isGuardHolding = false;
   } else {
     const sigma = report.sigmaMin;
-    if (state.singularityAcknowledged && sigma >= guard.sigmaStop * guard.releaseFactor) {
-      state.singularityAcknowledged = false; // the passage is over: the next approach stops again
+    if (sigma >= guard.sigmaStop * guard.releaseFactor) {
+      // Out of the guard zone: a passage is over (the next approach stops again), a hold is owed nothing.
+      state.singularityAcknowledged = false;
+      state.isGuardHolding = false;
     }
     if (state.singularityAcknowledged) {
+      state.isGuardHolding = false;
       state.guardState = "acknowledged";
+    } else if (!guarded) {
+      // A joint step (joint jog, or the ramp of a controlled stop): no coordinated motion to check.
+      state.guardState = state.isGuardHolding ? "stopped" : "off";
     } else if (!moving || s === 0) {
       // Nothing commanded (or already held by a limit): the arm is at rest or braking, nothing to check.
-      if (state.guardState !== "stopped") state.guardState = sigma < guard.sigmaStop ? "backing-out" : "clear";
-      if (state.guardState === "stopped" && sigma >= guard.sigmaStop * guard.releaseFactor) state.guardState = "clear";
+      state.guardState = state.isGuardHolding ? "stopped" : sigma < guard.sigmaStop ? "backing-out" : "clear";
     } else {
       // Evaluate σ_min where the arm would come to rest: this step, then a stop by one factor within the
       // acceleration limits, q + r·H with H the stopping horizon (limits.ts stoppingHorizonInto; H = dt
@@ -808,14 +824,17 @@ function limitAndIntegrate(
       copySigmaTracker(ws.tracker, ws.trialTracker);
       estimateSigmaMin(ws.trialTracker, ws.Gtrial);
       const sigmaNext = ws.trialTracker.sigmaMin;
-      if (sigmaNext < guard.sigmaStop && sigmaNext < sigma) {
+      // Approaching: stop when the stop would end below σ_stop; once stopped, every approach is held (no
+      // creeping on at the threshold) until the operator acknowledges or backs out of the zone.
+      if (sigmaNext < sigma && (state.isGuardHolding || sigmaNext < guard.sigmaStop)) {
         s = 0;
         binding = "singularity-guard";
         bindingJoint = -1;
         state.guardState = "stopped";
+        state.isGuardHolding = true;
         if (isAccel) accelLimitedRates(ws, state, params, dt, report, true); // brake within the limits
       } else {
-        state.guardState = sigma < guard.sigmaStop || sigmaNext < guard.sigmaStop ? "backing-out" : "clear";
+        state.guardState = state.isGuardHolding || sigma < guard.sigmaStop || sigmaNext < guard.sigmaStop ? "backing-out" : "clear";
       }
     }
   }

@@ -88,7 +88,7 @@ describe("isDriveable", () => {
 
   it("the rule's data says what the SQL is built from: operators drive approved, engineers all but retired", () => {
     expect(DRIVING_RULE.operatorStates).toEqual(["approved"]);
-    expect([...DRIVING_RULE.engineerStates].sort()).toEqual(["approved", "draft", "rejected", "submitted", "superseded"]);
+    expect([...DRIVING_RULE.engineerStates].sort()).toEqual(["approved", "draft", "rejected", "submitted", "superseded", "withdrawn"]);
     const roles: Role[] = ["engineer", "safety_officer"];
     expect(DRIVING_RULE.staffRoles).toEqual(roles);
   });

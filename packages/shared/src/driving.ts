@@ -64,6 +64,7 @@ const STATE_WORDS: Record<VersionState, string> = {
   rejected: "rejected",
   superseded: "superseded by a newer approved version",
   retired: "retired",
+  withdrawn: "withdrawn from review, not approved",
 };
 
 /** True when the version is the approved one and not flagged as above the ceilings. */

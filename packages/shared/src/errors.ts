@@ -29,6 +29,8 @@ export const ERROR_CODES = [
   "invalid_transition",
   /** A version is submitted without the evidence the site requires, or its evidence breaks the rule (issue 10). */
   "evidence_insufficient",
+  /** Approving a version older than the profile's approved one rolls the operator back: the request must say `rollback: true` (issue 13). */
+  "rollback_unconfirmed",
   "internal",
   "unavailable",
   /** MariaDB is stopped, paused or unreachable: 503; live jogging continues, saving waits (issue 11, item 5). */

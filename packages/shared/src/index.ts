@@ -13,3 +13,5 @@ export * from "./profile-fields.ts";
 export * from "./driving.ts";
 export * from "./trials.ts";
 export * from "./bench-api.ts";
+export * from "./labels.ts";
+export * from "./arm-library.ts";

@@ -199,6 +199,50 @@ export type JogState = z.infer<typeof jogStateSchema>;
  */
 export const INPUT_EVENT = { start: 0, input: 1, estop: 2, resetEstop: 3, requireRelease: 4, acknowledge: 5, readyPose: 6, stall: 7, end: 8 } as const;
 
+/**
+ * Why a session ended: the `ended` frame's `reason` and the recording's `end_reason` (the server's
+ * sentence for the person comes with it; the console's words for each are JOG_END_REASON_LABELS).
+ */
+export const JOG_END_REASONS = [
+  "stopped",
+  "disconnected",
+  "switched",
+  "profile-not-driveable",
+  "server-shutdown",
+  "signed-out",
+  "session-expired",
+  "account-deactivated",
+  "roles-changed",
+  "simulation-failed",
+] as const;
+export type JogEndReason = (typeof JOG_END_REASONS)[number];
+
+/**
+ * The codes of the socket's own `error` frames (it also sends the API's ERROR_CODES: forbidden, not_found,
+ * validation_failed, rate_limited, internal, database_unavailable), and the console's own three for what
+ * it finds itself (a frame it cannot read, a close that means signed out or deactivated).
+ */
+export const JOG_ERROR_CODES = [
+  "no_session",
+  "read_only",
+  "busy",
+  "bad_message",
+  "bad_json",
+  "too_large",
+  "too_many_bad_messages",
+  "account_changed",
+  "bad_axes",
+  "estop_latched",
+  "not_stopped",
+  "start_rate_limited",
+  "account_session_limit",
+  "server_session_limit",
+  "bad_frame",
+  "signed_out",
+  "account_deactivated",
+] as const;
+export type JogErrorCode = (typeof JOG_ERROR_CODES)[number];
+
 export const jogServerMessageSchema = z.discriminatedUnion("type", [
   z.object({ type: z.literal("welcome"), userId: z.string(), roles: z.array(z.string()) }),
   z.object({ type: z.literal("session"), session: jogSessionInfoSchema }),
@@ -224,10 +268,15 @@ export type JogServerMessage = z.infer<typeof jogServerMessageSchema>;
  * WebSocket close codes of /ws/jog beyond the standard ones (1001 server shutting down, 1008 too many bad
  * messages, 1009 too large). Application codes (4000–4999, RFC 6455 §7.4.2), 4000 + the HTTP status they
  * mirror; the `ended` frame of a driven or watched session is always sent before the close. A client does
- * not reconnect after either: the cookie session is gone.
+ * not reconnect after either (they "will not come back": the cookie session or the account is gone), and
+ * reconnects with backoff after any other close.
  */
 export const JOG_CLOSE_CODES = {
-  /** The cookie session ended: signed out (here or in another tab), expired, or the password was changed. */
+  /**
+   * The cookie session ended: signed out (here or in another tab), expired, or the password was changed;
+   * also an upgrade without a valid session (completed and closed at once, so a browser, which never sees
+   * a refused upgrade's HTTP status, can tell it from a network failure and send the person to sign in).
+   */
   signedOut: 4401,
   /** An admin deactivated the account. */
   accountDeactivated: 4403,

@@ -16,11 +16,21 @@ export const createProfileSchema = z.object({
 });
 export type CreateProfileInput = z.infer<typeof createProfileSchema>;
 
-/** Every save is a new version; parentVersionId must be the profile's latest version (optimistic concurrency). */
+/**
+ * Every save is a new version. parentVersionId is the version the edits started from (any version of the
+ * profile); latestVersionId is the profile's latest version as the editor saw it (optimistic concurrency:
+ * 409 stale_parent when another version was saved since). Without latestVersionId the parent must be the
+ * latest version.
+ */
 export const saveVersionSchema = z.object({
   parentVersionId: z.number().int().positive(),
+  latestVersionId: z.number().int().positive().optional(),
   params: profileParamsSchema,
   note: note.default(""),
+  /** Move to another revision of the profile's arm (issue 12); absent: the parent version's revision. */
+  armRevisionId: z.number().int().positive().optional(),
+  /** The tool on that revision; absent: the parent's tool (or, with a new revision, its first tool); null: none. */
+  toolId: z.number().int().positive().nullable().optional(),
 });
 export type SaveVersionInput = z.infer<typeof saveVersionSchema>;
 
@@ -28,12 +38,18 @@ export const approveVersionSchema = z.object({
   comment: z.string().trim().min(3, "an approval needs a comment").max(2000),
   /** The SHA-256 the reviewer saw; approval is refused if the version's hash differs. */
   paramsSha256: z.string().regex(/^[0-9a-f]{64}$/, "a SHA-256 in hex"),
+  /** Required (true) to approve a version older than the profile's approved one: a rollback (409 rollback_unconfirmed otherwise). */
+  rollback: z.boolean().optional(),
 });
+/** The author takes a submission back; the note is kept with the version. */
+export const withdrawVersionSchema = z.object({ note: z.string().trim().max(2000).default("") });
+/** A safety officer confirms a flagged approved version that complies with the ceilings in force. */
+export const reconfirmVersionSchema = z.object({ comment: z.string().trim().min(3, "say why it may be driven again").max(2000) });
 export const rejectVersionSchema = z.object({ reason: z.string().trim().min(3, "say why it is rejected").max(2000) });
 export const retireVersionSchema = z.object({ reason: z.string().trim().min(3, "say why it is retired").max(2000) });
 
 /** What the audit trail records changes of. */
-export const AUDIT_ENTITIES = ["user", "arm", "profile", "version", "ceilings", "approval", "session", "trial"] as const;
+export const AUDIT_ENTITIES = ["user", "arm", "profile", "version", "ceilings", "approval", "session", "trial", "recording"] as const;
 
 export const profileVersionSchema = z.object({
   id: z.number().int(),
@@ -95,6 +111,12 @@ export const auditEntrySchema = z.object({
   actorName: z.string().nullable(),
   entity: z.enum(AUDIT_ENTITIES),
   entityId: z.string(),
+  /**
+   * What the entry is about, as everyone else names it: `"Pack opening" v6` for a version (never its row
+   * id), a user name, a profile's or trial's name, "revision 4" (issue 13, item 9). The list route fills it;
+   * the CSV export keeps entity and entity_id only.
+   */
+  entityLabel: z.string(),
   action: z.string(),
   summary: z.string(),
   sha256Before: z.string().nullable(),
@@ -110,6 +132,9 @@ export const auditQuerySchema = z.object({
   to: z.iso.datetime({ offset: true }).optional(),
   page: z.coerce.number().int().min(1).default(1),
   pageSize: z.coerce.number().int().min(1).max(200).default(50),
+}).refine((q) => !q.from || !q.to || Date.parse(q.from) <= Date.parse(q.to), {
+  message: "the start of the period must not be after its end",
+  path: ["to"],
 });
 
 export const mailMessageSchema = z.object({
@@ -142,6 +167,20 @@ export const profileResponseSchema = z.object({ profile: profileSummarySchema })
 /** POST /api/profiles/:id/versions and the version transitions. */
 export const versionResponseSchema = z.object({ version: profileVersionSchema });
 
+/** One event of a version's flag history (issue 13, item 3). */
+export const CEILING_EVENT_KINDS = ["flag", "reconfirm"] as const;
+export const ceilingEventSchema = z.object({
+  id: z.number().int(),
+  versionId: z.number().int(),
+  kind: z.enum(CEILING_EVENT_KINDS),
+  ceilingsRevision: z.number().int(),
+  actorId: z.string().nullable(),
+  actorName: z.string().nullable(),
+  comment: z.string(),
+  at: z.string(),
+});
+export type CeilingEvent = z.infer<typeof ceilingEventSchema>;
+
 export const ceilingViolationSchema = z.object({ field: z.string(), ceiling: z.string(), message: z.string() });
 /** GET /api/versions/:id: the version, its profile, its ceiling check, the approved version and its approval. */
 export const versionDetailResponseSchema = z.object({
@@ -154,5 +193,36 @@ export const versionDetailResponseSchema = z.object({
     .nullable(),
   /** The runs the version was submitted with (empty for a draft, or where the site requires none). */
   evidence: z.array(trialRunSchema).default(() => []),
+  /** Its flag history: flagged above the ceilings, re-confirmed under them (oldest first). */
+  ceilingEvents: z.array(ceilingEventSchema).default(() => []),
 });
 export type VersionDetail = z.infer<typeof versionDetailResponseSchema>;
+
+// The flag history and the flagged versions (issue 13, item 3).
+
+
+/** An approved version of a profile above the ceilings (or re-confirmed), named as people know it. */
+export const flaggedVersionSchema = z.object({
+  versionId: z.number().int(),
+  number: z.number().int(),
+  profileId: z.number().int(),
+  profileName: z.string(),
+  operatorName: z.string(),
+  /** "Olena — pack opening v5" */
+  label: z.string(),
+  /** Still flagged: not driveable by its operator. */
+  exceedsCeilings: z.boolean(),
+  /** Within the ceilings in force now (a flagged one can be re-confirmed). */
+  compliesNow: z.boolean(),
+  violations: z.array(ceilingViolationSchema),
+  events: z.array(ceilingEventSchema),
+});
+export type FlaggedVersion = z.infer<typeof flaggedVersionSchema>;
+/** GET /api/ceilings/flagged: approved versions flagged now, with their history. */
+export const flaggedVersionsResponseSchema = z.object({ versions: z.array(flaggedVersionSchema) });
+/** PUT /api/ceilings */
+export const updateCeilingsResponseSchema = z.object({
+  record: ceilingsRecordSchema,
+  flaggedVersionIds: z.array(z.number().int()),
+  flaggedVersions: z.array(flaggedVersionSchema),
+});

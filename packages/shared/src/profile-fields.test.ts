@@ -45,6 +45,22 @@ describe("profile field metadata", () => {
     expect(parsed.damping).toEqual({ kind: "singular-value", epsilonM: 0.04, lambdaMaxM: 0.04 });
   });
 
+  it("edits σ, ε and λ in mm, the unit the drive page shows them in, and stores them in m", () => {
+    // Issue 13 item 12: one unit for damping everywhere; PRODUCT.md converts lengths to mm at the UI edge.
+    const ui = profileParamsToUi(base());
+    // defaultProfileParams: ε = λmax = 0.04 m → 40 mm (derived: ×1000).
+    expect(ui.epsilonMm).toBe(40);
+    expect(ui.lambdaMaxMm).toBe(40);
+    for (const path of ["damping.lambdaM", "damping.epsilonM", "damping.lambdaMaxM", "damping.lambda0M", "guard.sigmaStopM"]) {
+      expect(NUMERIC_PROFILE_FIELDS.find((f) => f.path === path)?.uiUnit, path).toBe("mm");
+    }
+    ui.epsilonMm = 150.5;
+    ui.sigmaStopMm = 12.5;
+    const parsed = profileParamsSchema.parse(profileParamsFromUi(ui));
+    expect(parsed.damping).toEqual({ kind: "singular-value", epsilonM: 0.1505, lambdaMaxM: 0.04 });
+    expect(parsed.guard.sigmaStopM).toBeCloseTo(0.0125, 12);
+  });
+
   it("carries only the damping fields of the chosen scheme", () => {
     const ui = profileParamsToUi(base());
     ui.dampingKind = "fixed";
@@ -55,7 +71,7 @@ describe("profile field metadata", () => {
   it("maps profile paths to form keys and labels", () => {
     expect(uiKeyForProfilePath("tcpLinearCapMPerS")).toBe("tcpLinearCapMmPerS");
     expect(uiKeyForProfilePath("jointRateCapsRadPerS.3")).toBe("jointRateCapsDegPerS.3");
-    expect(uiKeyForProfilePath("guard.sigmaStopM")).toBe("sigmaStopM");
+    expect(uiKeyForProfilePath("guard.sigmaStopM")).toBe("sigmaStopMm");
     expect(labelForProfilePath("jointRateCapsRadPerS.3")).toBe("Joint 4 rate cap");
     expect(labelForProfilePath("watchdogMs")).toBe("Input watchdog");
   });
@@ -92,8 +108,8 @@ describe("diffProfileParams", () => {
     const b: ProfileParams = { ...base(), damping: { kind: "fixed", lambdaM: 0.03 } };
     const rows = diffProfileParams(a, b);
     expect(rows.find((r) => r.field === "damping.kind")).toMatchObject({ before: "Singular-value schedule", after: "Fixed λ", changed: true });
-    expect(rows.find((r) => r.field === "damping.lambdaM")).toMatchObject({ before: null, after: 0.03, uiUnit: "m", changed: true });
-    expect(rows.find((r) => r.field === "damping.lambdaMaxM")).toMatchObject({ before: 0.04, after: null, changed: true });
+    expect(rows.find((r) => r.field === "damping.lambdaM")).toMatchObject({ before: null, after: 30, uiUnit: "mm", changed: true });
+    expect(rows.find((r) => r.field === "damping.lambdaMaxM")).toMatchObject({ before: 40, after: null, changed: true });
     expect(rows.find((r) => r.field === "damping.w0M3")).toBeUndefined();
   });
 

@@ -1,12 +1,12 @@
-import { DAMPING_KINDS, type DampingSchemeParams, type GuardPolicy, type ProfileParams } from "./profile.ts";
+import { DAMPING_KINDS, GUARD_POLICY_LABELS, type DampingSchemeParams, type GuardPolicy, type ProfileParams } from "./profile.ts";
 import { DEG_PER_RAD } from "./units.ts";
 
 /**
  * What the console and the version diff need to know about every profile parameter: a label, the SI unit
  * it is stored in, the unit people read and type (UI unit), the conversion between the two and how many
  * decimals are meaningful in the UI unit. Stored values stay SI (PRODUCT.md, "Conventions"); the UI
- * units are deg, deg/s, mm/s, mm/s², deg/s², ms, %, mm for distances, m for σ and λ, m³ for the
- * manipulability w0.
+ * units are deg, deg/s, mm/s, mm/s², deg/s², ms, %, mm for distances and for σ, ε and λ (the drive page
+ * and the bench show them in mm too: one unit everywhere, issue 13 item 12), m³ for the manipulability w0.
  *
  * `uiKey` names the value in its UI unit (a flat, unit-carrying name for form state), `path` is the
  * dotted path of the SI value inside ProfileParams, the same path the server's issues and
@@ -74,11 +74,11 @@ const num = (
 
 /** Every scalar numeric parameter (the per-joint caps are JOINT_RATE_CAP_FIELD below), in form order. */
 export const NUMERIC_PROFILE_FIELDS: readonly NumericProfileField[] = [
-  num("damping.lambdaM", "lambdaM", "Damping λ", "Damping", UNITS.metres, 4, { dampingKind: "fixed" }),
-  num("damping.epsilonM", "epsilonM", "Damped region ε (σ_min below)", "Damping", UNITS.metres, 4, { dampingKind: "singular-value" }),
-  num("damping.lambdaMaxM", "lambdaMaxM", "Damping at the singularity λmax", "Damping", UNITS.metres, 4, { dampingKind: "singular-value" }),
+  num("damping.lambdaM", "lambdaMm", "Damping λ", "Damping", UNITS.metresToMm, 1, { dampingKind: "fixed" }),
+  num("damping.epsilonM", "epsilonMm", "Damped region ε (σ_min below)", "Damping", UNITS.metresToMm, 1, { dampingKind: "singular-value" }),
+  num("damping.lambdaMaxM", "lambdaMaxMm", "Damping at the singularity λmax", "Damping", UNITS.metresToMm, 1, { dampingKind: "singular-value" }),
   num("damping.w0M3", "w0M3", "Damped region w0 (w below)", "Damping", UNITS.cubicMetres, 6, { dampingKind: "manipulability" }),
-  num("damping.lambda0M", "lambda0M", "Damping at the singularity λ0", "Damping", UNITS.metres, 4, { dampingKind: "manipulability" }),
+  num("damping.lambda0M", "lambda0Mm", "Damping at the singularity λ0", "Damping", UNITS.metresToMm, 1, { dampingKind: "manipulability" }),
   num("tcpLinearCapMPerS", "tcpLinearCapMmPerS", "TCP linear cap", "Speed caps", UNITS.mPerSToMmPerS, 1),
   num("tcpAngularCapRadPerS", "tcpAngularCapDegPerS", "TCP angular cap", "Speed caps", UNITS.radPerSToDegPerS, 2),
   num("jointAccelFraction", "jointAccelPercent", "Joint acceleration, of rated", "Speed caps", UNITS.fractionToPercent, 0, {
@@ -90,7 +90,7 @@ export const NUMERIC_PROFILE_FIELDS: readonly NumericProfileField[] = [
   num("jointLimitSlowZoneRad", "jointLimitSlowZoneDeg", "Slow-down zone", "Joint limits", UNITS.radToDeg, 2, {
     hint: "Width of the zone before the stand-off where joints slow down.",
   }),
-  num("guard.sigmaStopM", "sigmaStopM", "Guard threshold σ", "Singularity guard", UNITS.metres, 4, {
+  num("guard.sigmaStopM", "sigmaStopMm", "Guard threshold σ", "Singularity guard", UNITS.metresToMm, 1, {
     hint: "Stop-before holds when σ_min would fall below this.",
   }),
   num("watchdogMs", "watchdogMs", "Input watchdog", "Input", UNITS.milliseconds, 0, { hint: "No input for this long → controlled stop." }),
@@ -130,13 +130,14 @@ export const DAMPING_KIND_LABELS: Record<DampingSchemeParams["kind"], string> = 
   manipulability: "Manipulability schedule",
 };
 
-export const GUARD_POLICY_LABELS: Record<GuardPolicy, string> = {
-  "damp-through": "Damp through",
-  "stop-before": "Stop before, until acknowledged",
+/** Values for the damping fields of the schemes a profile does not use (so switching scheme starts sensibly), by SI path. */
+export const DAMPING_FIELD_DEFAULTS_SI: Readonly<Record<string, number>> = {
+  "damping.lambdaM": 0.02,
+  "damping.epsilonM": 0.04,
+  "damping.lambdaMaxM": 0.04,
+  "damping.w0M3": 0.002,
+  "damping.lambda0M": 0.04,
 };
-
-/** Values for the damping fields of the schemes a profile does not use (so switching scheme starts sensibly). */
-export const DAMPING_FIELD_DEFAULTS_SI = { lambdaM: 0.02, epsilonM: 0.04, lambdaMaxM: 0.04, w0M3: 0.002, lambda0M: 0.04 } as const;
 
 /** The values of a profile in UI units, flat and named by their unit; the console's form state. */
 export interface ProfileUiValues {
@@ -191,7 +192,7 @@ export function profileParamsToUi(params: ProfileParams, jointKinds?: readonly J
   };
   for (const field of NUMERIC_PROFILE_FIELDS) {
     const si = getPath(params, field.path);
-    const value = typeof si === "number" ? si : DAMPING_FIELD_DEFAULTS_SI[field.uiKey as keyof typeof DAMPING_FIELD_DEFAULTS_SI];
+    const value = typeof si === "number" ? si : DAMPING_FIELD_DEFAULTS_SI[field.path];
     ui[field.uiKey] = roundTo(field.toUi(value ?? Number.NaN), field.decimals);
   }
   return ui;

@@ -14,22 +14,28 @@ export const GUARD_POLICIES = ["damp-through", "stop-before"] as const;
 export const guardPolicySchema = z.enum(GUARD_POLICIES);
 export type GuardPolicy = z.infer<typeof guardPolicySchema>;
 
+/** The guard policies as people read them (the labels map of labels.ts lists this one too). */
+export const GUARD_POLICY_LABELS: Record<GuardPolicy, string> = {
+  "damp-through": "Damp through",
+  "stop-before": "Stop before, until acknowledged",
+};
+
 export const DAMPING_KINDS = ["fixed", "singular-value", "manipulability"] as const;
 
 export const dampingSchemeSchema = z.discriminatedUnion("kind", [
   /** A constant λ (Wampler 1986; Nakamura & Hanafusa 1986). */
-  z.object({ kind: z.literal("fixed"), lambdaM: nonNegative("λ").refine((v) => v <= 1, "λ above 1 m is not a useful damping") }),
+  z.object({ kind: z.literal("fixed"), lambdaM: nonNegative("λ").refine((v) => v <= 1, "λ above 1000 mm is not a useful damping") }),
   /** λ² = (1 − (σ_min/ε)²)·λmax² inside σ_min < ε (Chiaverini, Siciliano & Egeland 1994). */
   z.object({
     kind: z.literal("singular-value"),
-    epsilonM: positive("ε").refine((v) => v <= 1, "ε above 1 m is not a useful region width"),
-    lambdaMaxM: positive("λmax").refine((v) => v <= 1, "λmax above 1 m is not a useful damping"),
+    epsilonM: positive("ε").refine((v) => v <= 1, "ε above 1000 mm is not a useful region width"),
+    lambdaMaxM: positive("λmax").refine((v) => v <= 1, "λmax above 1000 mm is not a useful damping"),
   }),
   /** λ = λ0·(1 − w/w0) inside w < w0, i.e. k = λ² = λ0²(1 − w/w0)² (Nakamura & Hanafusa 1986, from memory). */
   z.object({
     kind: z.literal("manipulability"),
     w0M3: positive("w0"),
-    lambda0M: positive("λ0").refine((v) => v <= 1, "λ0 above 1 m is not a useful damping"),
+    lambda0M: positive("λ0").refine((v) => v <= 1, "λ0 above 1000 mm is not a useful damping"),
   }),
 ]);
 export type DampingSchemeParams = z.infer<typeof dampingSchemeSchema>;
@@ -53,7 +59,7 @@ export const profileParamsSchema = z
     guard: z.object({
       policy: guardPolicySchema,
       /** "stop-before": hold when σ_min would fall below this, until the operator acknowledges. */
-      sigmaStopM: positive("the guard threshold").refine((v) => v <= 0.5, "the guard threshold must be at most 0.5 m"),
+      sigmaStopM: positive("the guard threshold").refine((v) => v <= 0.5, "the guard threshold must be at most 500 mm"),
     }),
     /** No input for this long → controlled stop. Common practice 100–250 ms (METHODS.md §8). */
     watchdogMs: z.number().int("whole milliseconds").min(20, "the watchdog must be at least 20 ms").max(2000, "the watchdog must be at most 2000 ms"),
@@ -145,8 +151,11 @@ export function defaultProfileParams(ratedJointSpeedsRadPerS: readonly number[])
   };
 }
 
-/** Profile-version states. approved versions are locked (a DB trigger refuses UPDATE/DELETE). */
-export const VERSION_STATES = ["draft", "submitted", "approved", "rejected", "superseded", "retired"] as const;
+/**
+ * Profile-version states. approved versions are locked (a DB trigger refuses UPDATE/DELETE). withdrawn: a
+ * submission taken back by its author or replaced by a newer submission of the profile (migration 0016).
+ */
+export const VERSION_STATES = ["draft", "submitted", "approved", "rejected", "superseded", "retired", "withdrawn"] as const;
 export const versionStateSchema = z.enum(VERSION_STATES);
 export type VersionState = z.infer<typeof versionStateSchema>;
 
@@ -188,7 +197,7 @@ export const ceilingsSchema = z.object({
   watchdogMaxMs: z.number().int().min(20, "at least 20 ms").max(2000, "at most 2000 ms"),
   allowedGuardPolicies: z.array(guardPolicySchema).min(1, "allow at least one guard policy").refine((a) => new Set(a).size === a.length, "each policy once"),
   /** The smallest damping allowed at the singularity (λmax, λ0 or fixed λ). */
-  lambdaMaxMinM: nonNegative("the smallest λmax").refine((v) => v <= 1, "at most 1 m"),
+  lambdaMaxMinM: nonNegative("the smallest λmax").refine((v) => v <= 1, "at most 1000 mm"),
   // The two below came after ceilings revision 1 was stored; their defaults let that row parse.
   /**
    * Longest controlled stop from a version's top TCP speed, v²/(2a). 50 mm default: common practice, no
@@ -288,7 +297,7 @@ export function checkCeilings(
     out.push({
       field: "guard.policy",
       ceiling: "allowedGuardPolicies",
-      message: `guard policy "${params.guard.policy}" is not allowed at this site (allowed: ${ceilings.allowedGuardPolicies.join(", ")})`,
+      message: `the guard policy "${GUARD_POLICY_LABELS[params.guard.policy]}" is not allowed at this site (allowed: ${ceilings.allowedGuardPolicies.map((p) => GUARD_POLICY_LABELS[p]).join(", ")})`,
     });
   }
   const lambdaAtSingularity = dampingAtSingularityM(params.damping);
@@ -297,7 +306,7 @@ export function checkCeilings(
     out.push({
       field,
       ceiling: "lambdaMaxMinM",
-      message: `damping at the singularity ${lambdaAtSingularity} m is below the site minimum of ${ceilings.lambdaMaxMinM} m`,
+      message: `damping at the singularity ${mm(lambdaAtSingularity)} is below the site minimum of ${mm(ceilings.lambdaMaxMinM)}`,
     });
   }
   const decel = params.shaping.linearAccelMPerS2;

@@ -17,9 +17,14 @@ export interface NavItem {
   roles: readonly Role[];
   /** Loads the route module lazily; its default export is the page. */
   load: () => Promise<{ default: ComponentType }>;
+  /** A count shown beside the label (e.g. the review queue's length); app/shell/nav-count.tsx reads it. */
+  badge?: NavBadge;
   /** Pages below this one (e.g. ":profileId"), same roles, not in the menu. */
   children?: readonly { path: string; load: () => Promise<{ default: ComponentType }> }[];
 }
+
+/** The counts the navigation can show beside an item. */
+export type NavBadge = "review-queue";
 
 const ALL_ROLES: readonly Role[] = ["operator", "engineer", "safety_officer", "admin"];
 
@@ -52,6 +57,7 @@ export const NAV_ITEMS: readonly NavItem[] = [
     path: "/reviews",
     icon: ClipboardCheck,
     roles: ["safety_officer"],
+    badge: "review-queue",
     load: () => import("./routes/reviews-route.tsx"),
     children: [
       { path: ":versionId", load: () => import("./routes/review-route.tsx") },

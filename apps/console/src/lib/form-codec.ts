@@ -11,8 +11,11 @@ import { z } from "zod";
  */
 export const asSentence = (message: string): string => (/^[a-z]/.test(message) ? message.charAt(0).toUpperCase() + message.slice(1) : message);
 
+/** "Enter a number in mm/s"; a unitless field ("—", as the tables show it) says "Enter a number". */
+export const enterANumber = (unit?: string) => (unit && unit !== "—" ? `Enter a number in ${unit}` : "Enter a number");
+
 /** A number input (react-hook-form's valueAsNumber gives NaN for an empty or non-numeric box). */
-export const uiNumber = (unit?: string) => z.number({ error: unit ? `Enter a number in ${unit}` : "Enter a number" });
+export const uiNumber = (unit?: string) => z.number({ error: enterANumber(unit) });
 
 /**
  * Checks the SI candidate with the shared schema (the one the server applies) and puts each issue on the

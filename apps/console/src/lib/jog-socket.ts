@@ -1,7 +1,11 @@
 import { useSyncExternalStore } from "react";
 import {
+  ERROR_CODES,
   JOG_CLOSE_CODES,
+  JOG_ERROR_CODES,
+  humanizeCode,
   jogServerMessageSchema,
+  label,
   type JogClientMessage,
   type JogInput,
   type JogSessionInfo,
@@ -38,17 +42,54 @@ export interface JogEnded {
   recordingId: number | null;
 }
 
-/** What to show for an ended session: the server's sentence, else its reason code. */
+/** What to show for an ended session: the server's sentence, else the words for its reason (never the code). */
 export function describeEnded(ended: JogEnded): string {
-  return ended.message ?? `${ended.reason}.`;
+  return ended.message ?? `${label("jogEndReason", ended.reason)}.`;
+}
+
+/** The title for an error frame's code: the socket's own codes, then the API's, else the code in words. */
+export function jogErrorTitle(code: string): string {
+  if ((JOG_ERROR_CODES as readonly string[]).includes(code)) return label("jogError", code);
+  if ((ERROR_CODES as readonly string[]).includes(code)) return label("errorCode", code);
+  return humanizeCode(code);
 }
 
 /**
  * Close codes after which reconnecting cannot help (the cookie session is gone: signed out, expired,
- * password changed, account deactivated); the client stays closed and says why.
+ * password changed, never signed in; or the account deactivated); the client stays closed and says why.
  */
 export function isFinalClose(code: number): boolean {
   return code === JOG_CLOSE_CODES.signedOut || code === JOG_CLOSE_CODES.accountDeactivated;
+}
+
+/**
+ * What a close means for the person: whether the client reconnects, the end of a session that was live
+ * (its reason code and sentence), and for a final close the error the page shows (`signed_out` sends the
+ * person to sign in; `account_deactivated` stays and says why).
+ */
+export function closeOutcome(code: number): { isFinal: boolean; endReason: string; endMessage: string; error: { code: string; message: string } | null } {
+  if (code === JOG_CLOSE_CODES.accountDeactivated) {
+    return {
+      isFinal: true,
+      endReason: "account-deactivated",
+      endMessage: "An administrator deactivated your account: the arm made a controlled stop and the session ended.",
+      error: { code: "account_deactivated", message: "Your account has been deactivated, so live jogging is closed. Ask an administrator if this is a mistake." },
+    };
+  }
+  if (code === JOG_CLOSE_CODES.signedOut) {
+    return {
+      isFinal: true,
+      endReason: "signed-out",
+      endMessage: "You were signed out, so the arm made a controlled stop and the session ended.",
+      error: { code: "signed_out", message: "You are signed out (here or elsewhere, or the sign-in expired or the password was changed). Sign in again to drive." },
+    };
+  }
+  return {
+    isFinal: false,
+    endReason: "disconnected",
+    endMessage: "The connection to the server was lost, so the session ended. Start it again once connected.",
+    error: null,
+  };
 }
 
 /** Safety officers may stop the session they watch (it latches the driver's station); nobody else from a watch. */
@@ -193,30 +234,22 @@ export class JogSocketClient implements FrameSource {
       this.socket = null;
       this.stopPing();
       const hadSession = this.snapshot.session;
-      // Signed out or deactivated: the server sent `ended` (with its sentence) before closing; a reconnect
-      // would only be refused, so the client stays closed and says why.
-      const isFinal = isFinalClose(event.code);
-      if (isFinal) this.wantOpen = false;
+      // Signed out, never signed in, or deactivated (4401/4403): the server sent `ended` (with its
+      // sentence) before closing, and a reconnect would only be refused, so the client stays closed and says why.
+      const outcome = closeOutcome(event.code);
+      if (outcome.isFinal) this.wantOpen = false;
       // The upgrade could not check the sign-in: the shell's banner says why; the reconnect backoff retries.
       if (event.code === JOG_CLOSE_CODES.databaseUnavailable) reportDatabaseUnavailable();
+      // No session outlives its socket (the server ends it on close): nothing may keep showing its motion.
+      this.clearLiveState();
       this.update({
         connection: this.wantOpen ? "reconnecting" : "closed",
         session: null,
+        state: null,
         ended: hadSession
-          ? { sessionId: hadSession.sessionId, reason: event.reason || "connection lost", recordingId: null }
+          ? { sessionId: hadSession.sessionId, reason: outcome.endReason, message: outcome.endMessage, recordingId: null }
           : this.snapshot.ended,
-        ...(isFinal
-          ? {
-              error: {
-                code: event.code === JOG_CLOSE_CODES.accountDeactivated ? "account_deactivated" : "signed_out",
-                message:
-                  event.code === JOG_CLOSE_CODES.accountDeactivated
-                    ? "Your account has been deactivated: live jogging is closed."
-                    : "You are signed out (signed out elsewhere, the sign-in expired or the password was changed). Sign in again.",
-                atMs: performance.now(),
-              },
-            }
-          : {}),
+        ...(outcome.error ? { error: { ...outcome.error, atMs: performance.now() } } : {}),
       });
       if (this.wantOpen) this.scheduleReconnect();
     };
@@ -326,9 +359,13 @@ export class JogSocketClient implements FrameSource {
         this.update({ roundTripMs: performance.now() - message.clientTimeMs });
         break;
       case "ended":
+        // The session is over: its last frame stays only in the 3D view (where the arm stands); the panels
+        // and the motion line get no state, so nothing reads "Moving" or "latched" for a dead session.
+        this.clearLiveState();
         this.update({
           ended: { sessionId: message.sessionId, reason: message.reason, message: message.message, recordingId: message.recordingId },
           session: null,
+          state: null,
         });
         break;
       case "error":
@@ -338,6 +375,8 @@ export class JogSocketClient implements FrameSource {
   }
 
   private receiveState(state: JogState): void {
+    // Only the live session's frames count (none arrive before its `session` or after its `ended`).
+    if (this.snapshot.session?.sessionId !== state.sessionId) return;
     const previous = this.latest;
     if (previous === null || this.trace.joints !== state.q.length) {
       this.trace.reset(state.q.map(() => "revolute"));
@@ -365,6 +404,12 @@ export class JogSocketClient implements FrameSource {
       // Make sure the last frame of a burst reaches the panels too.
       this.snapshotTimer = setTimeout(() => this.publishState(), SNAPSHOT_INTERVAL_MS);
     }
+  }
+
+  /** Drops the throttled snapshot's pending refresh, so no state of an ended session is published later. */
+  private clearLiveState(): void {
+    if (this.snapshotTimer) clearTimeout(this.snapshotTimer);
+    this.snapshotTimer = null;
   }
 
   private publishState(): void {

@@ -15,6 +15,9 @@ import * as m0012 from "./migrations/0012-station-estop-latches.ts";
 import * as m0013 from "./migrations/0013-flag-long-stops.ts";
 import * as m0014 from "./migrations/0014-approval-guard.ts";
 import * as m0015 from "./migrations/0015-tuning-bench.ts";
+import * as m0016 from "./migrations/0016-workflow.ts";
+import * as m0017 from "./migrations/0017-recording-storage.ts";
+import * as m0018 from "./migrations/0018-arm-library.ts";
 
 /** Versioned migrations, applied in order and recorded in `schema_migrations`. Never sync(). */
 const MIGRATIONS = [
@@ -32,6 +35,9 @@ const MIGRATIONS = [
   { name: "0013-flag-long-stops", ...m0013 },
   { name: "0014-approval-guard", ...m0014 },
   { name: "0015-tuning-bench", ...m0015 },
+  { name: "0016-workflow", ...m0016 },
+  { name: "0017-recording-storage", ...m0017 },
+  { name: "0018-arm-library", ...m0018 },
 ];
 
 /** One applied migration, as `schema_migrations` records it. */

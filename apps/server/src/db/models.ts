@@ -47,10 +47,10 @@ function defineAll(sequelize: Sequelize) {
     ...defineUserModels(sequelize), // User, UserRole
     ...defineCeilingsModels(sequelize), // SiteCeilings
     ...defineProfileModels(sequelize), // Profile
-    ...defineVersionModels(sequelize), // Version, VersionStatus
+    ...defineVersionModels(sequelize), // Version, VersionStatus, CeilingEvent
     ...defineReviewModels(sequelize), // Approval
     ...defineSessionModels(sequelize), // Session
-    ...defineArmModels(sequelize), // Arm
+    ...defineArmModels(sequelize), // Arm, ArmRevision, ArmTool, VersionArm
     ...defineAuditModels(sequelize), // AuditEntry
     ...defineMailModels(sequelize), // OutboxMail
     ...defineGamepadModels(sequelize), // GamepadMapping
@@ -95,6 +95,8 @@ function associateAll(models: Models): void {
   models.Recording.belongsTo(models.Arm, { as: "arm", foreignKey: "armId" });
   models.Recording.belongsTo(Profile, { as: "profile", foreignKey: "profileId" });
   models.Recording.belongsTo(Version, { as: "version", foreignKey: "versionId" });
+  // The bench runs that replay a recording: retention keeps a referenced recording (recordings/retention.ts).
+  models.Recording.hasMany(models.TrialRun, { as: "replayRuns", foreignKey: "recordingId" });
 
   // The tuning bench: who made a trial or run, the profile and version a run ran with.
   models.Trial.belongsTo(User, { as: "creator", foreignKey: "createdBy" });
@@ -117,6 +119,8 @@ function associateAll(models: Models): void {
       { model: User, as: "author", attributes: NAME },
     ],
   });
+  models.CeilingEvent.belongsTo(User, { as: "actor", foreignKey: "actorId" });
+  models.CeilingEvent.addScope("withActorName", { include: [{ model: User, as: "actor", attributes: NAME }] });
   SiteCeilings.addScope("withName", { include: [{ model: User, as: "updatedByUser", attributes: NAME }] });
   Approval.addScope("withName", { include: [{ model: User, as: "approver", attributes: NAME }] });
 }

@@ -1,6 +1,7 @@
 import nodemailer, { type Transporter } from "nodemailer";
 import type { Sequelize, Transaction } from "sequelize";
 import * as outbox from "../modules/mail/service.ts";
+import type { MailKind } from "@jogwright/shared";
 
 /**
  * Outgoing mail. A workflow step enqueues its mails inside its own transaction (`enqueue`), so the step
@@ -15,7 +16,8 @@ export interface MailSettings {
 }
 
 export interface OutgoingMail {
-  kind: string;
+  /** One of MAIL_KINDS (packages/shared/src/labels.ts). */
+  kind: MailKind;
   to: string[];
   subject: string;
   text: string;

@@ -7,7 +7,8 @@ import { Redis } from "ioredis";
 import { Queue } from "bullmq";
 import { sweepResultSchema, takeStreamEvents } from "@jogwright/shared";
 import { createHarness, type Harness } from "../test/harness.ts";
-import { createProfile, freshTeam, sixAxisArm } from "../test/profiles-fixture.ts";
+import { approveWithSql, createProfile, freshTeam, sixAxisArm, type Team } from "../test/profiles-fixture.ts";
+import { JogTestClient } from "../modules/jog/jog-test-client.ts";
 import { TRIAL_QUEUE } from "../modules/trials/trial-queue.ts";
 
 /**
@@ -91,6 +92,8 @@ let h: Harness;
 let a: Instance;
 let b: Instance;
 let versionId: number;
+let team: Team;
+let approvedVersionId: number;
 
 beforeAll(async () => {
   const redis = new Redis(redisUrl);
@@ -98,9 +101,11 @@ beforeAll(async () => {
   await redis.quit();
   // The file's database (fresh-database.ts) is migrated and seeded: the instances only open it.
   h = createHarness();
-  const t = await freshTeam(h);
+  team = await freshTeam(h);
   const arm = await sixAxisArm(h);
-  versionId = (await createProfile(h, t, arm)).latestVersion.id;
+  versionId = (await createProfile(h, team, arm)).latestVersion.id;
+  approvedVersionId = (await createProfile(h, team, arm)).latestVersion.id;
+  await approveWithSql(h, approvedVersionId, team.officer.id);
   const common = { DATABASE_URL: process.env.DATABASE_URL!, MIGRATION_DATABASE_URL: process.env.MIGRATION_DATABASE_URL ?? process.env.DATABASE_URL!, SEED_DEMO: "0" };
   // Together: the database is migrated already, so neither has a migration to race the other for.
   [a, b] = await Promise.all([
@@ -161,4 +166,43 @@ describe("two instances and one Redis", () => {
     expect(await attempt(a)).toBe(429);
     expect(await attempt(b)).toBe(429);
   });
+
+  it("a safety officer on instance B lists, watches and stops a session driven on instance A; the watch ends with the session", async () => {
+    const wsUrl = (i: Instance) => `${i.baseUrl.replace("http", "ws")}/ws/jog`;
+    const operatorCookie = await signInAt(a, team.operator.username, "fresh-password-1");
+    const driver = await JogTestClient.connect(wsUrl(a), { Cookie: operatorCookie, Origin: a.baseUrl });
+    const officerCookie = await signInAt(b, "sigrid", "demo-pass-2026");
+    const watcher = await JogTestClient.connect(wsUrl(b), { Cookie: officerCookie, Origin: b.baseUrl });
+    try {
+      driver.send({ type: "start", versionId: approvedVersionId });
+      const started = await driver.next((m) => m.type === "session" || m.type === "error", 10_000);
+      if (started.type !== "session") throw new Error(`start refused: ${JSON.stringify(started)}`);
+      const sessionId = started.session.sessionId;
+      await driver.nextState();
+
+      const live = (await (await fetch(`${b.baseUrl}/api/jog/live`, { headers: { Cookie: officerCookie } })).json()) as { sessions: { sessionId: string }[] };
+      expect(live.sessions.map((s) => s.sessionId)).toContain(sessionId);
+
+      watcher.send({ type: "watch", sessionId });
+      const watched = await watcher.next((m) => m.type === "session" || m.type === "error", 5000);
+      expect(watched).toMatchObject({ type: "session", session: { sessionId, isWatching: true } });
+      const seen = await watcher.nextState((st) => st.sessionId === sessionId, 5000);
+      expect(seen.estopLatched).toBe(false);
+
+      watcher.send({ type: "estop" });
+      const latched = await driver.nextState((st) => st.estopLatched, 5000);
+      expect(latched.qdot.every((v) => v === 0)).toBe(true);
+      await watcher.nextState((st) => st.estopLatched, 5000);
+
+      driver.send({ type: "stop" });
+      const ended = await watcher.next((m) => m.type === "ended", 5000);
+      expect(ended).toMatchObject({ type: "ended", sessionId });
+      // Gone from the directory once it ended.
+      const after = (await (await fetch(`${b.baseUrl}/api/jog/live`, { headers: { Cookie: officerCookie } })).json()) as { sessions: { sessionId: string }[] };
+      expect(after.sessions.map((s) => s.sessionId)).not.toContain(sessionId);
+    } finally {
+      await watcher.close();
+      await driver.close();
+    }
+  }, 60_000);
 });

@@ -1,11 +1,15 @@
 import { scratchDatabase, withMigrationAccount } from "./scratch-databases.ts";
+import { prepareTemplate } from "./template-database.ts";
 
 /**
  * Once before the API tests: check that the migration account (MIGRATION_DATABASE_URL, else
  * DATABASE_URL's) may create and drop the first test database, so a missing grant is one clear sentence
- * instead of a failure in every file. Each file then gets its own fresh database (fresh-database.ts).
- * Each Vitest project runs it (vitest.config.ts), so it is idempotent.
+ * instead of a failure in every file; then migrate and seed the template every file's database is copied
+ * from (template-database.ts). Each Vitest project runs it (vitest.config.ts): the template is made once
+ * per `vitest run` (the projects' set-ups share this process).
  */
+const state = globalThis as { jogwrightTemplate?: Promise<void> };
+
 export default async function setup(): Promise<void> {
   const base = process.env.DATABASE_URL;
   if (!base) {
@@ -16,4 +20,6 @@ export default async function setup(): Promise<void> {
     await sql(`CREATE DATABASE IF NOT EXISTS \`${first}\``);
     await sql(`DROP DATABASE IF EXISTS \`${first}\``);
   });
+  state.jogwrightTemplate ??= prepareTemplate(base, process.env.MIGRATION_DATABASE_URL || base);
+  await state.jogwrightTemplate;
 }

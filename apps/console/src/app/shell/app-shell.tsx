@@ -10,6 +10,7 @@ import { useSignOut } from "../../features/auth/hooks/use-sign-in.ts";
 import { useCurrentUser } from "../../lib/session.ts";
 import { navItemsFor } from "../navigation.ts";
 import { Brand } from "./brand.tsx";
+import { NavCount } from "./nav-count.tsx";
 
 export function AppShell() {
   const user = useCurrentUser();
@@ -59,7 +60,7 @@ export function AppShell() {
       <div className="flex flex-1">
         <nav aria-label="Main" data-print="hide" className="w-52 shrink-0 border-r border-ink-700 bg-ink-900 p-3">
           <ul className="flex flex-col gap-1">
-            {items.map(({ path, label, icon: Icon }) => (
+            {items.map(({ path, label, icon: Icon, badge }) => (
               <li key={path}>
                 <NavLink
                   to={path}
@@ -75,6 +76,7 @@ export function AppShell() {
                 >
                   <Icon aria-hidden className="size-4" />
                   {label}
+                  {badge ? <NavCount badge={badge} label={label} /> : null}
                 </NavLink>
               </li>
             ))}

@@ -1,16 +1,16 @@
 import { useEffect, useRef } from "react";
 import uPlot from "uplot";
 import "uplot/dist/uPlot.min.css";
+import { AXIS_LABEL_FONT, AXIS_STYLE } from "./chart-style.ts";
 
 /**
  * A static uPlot chart (the bench's runs, sweeps): the data is drawn once and again whenever it changes;
- * it follows its container's width. Series are told apart by dash pattern and the legend ("Ink & Iris"
- * tokens, as the live charts). `points`: a scatter (no lines). `onPick`: a click on the plot area reports
+ * it follows its container's width. Its series (two versions, or a sweep's points) are told apart by
+ * lightness, dash pattern and the legend ("Ink & Iris" tokens); the axes share chart-style.ts with the
+ * live charts. `points`: a scatter (no lines). `onPick`: a click on the plot area reports
  * the nearest data index of the first series.
  */
 
-const AXIS = { stroke: "#a9b1c2", grid: { stroke: "#283040", width: 1 }, ticks: { stroke: "#283040", width: 1 }, font: "11px 'JetBrains Mono', monospace" };
-const LABEL_FONT = "11px 'Atkinson Hyperlegible Next', sans-serif";
 export const SERIES_STYLES: { stroke: string; dash?: number[] }[] = [
   { stroke: "#8f8cff" },
   { stroke: "#e6e9f0", dash: [6, 3] },
@@ -54,8 +54,8 @@ export function Plot({
       cursor: { drag: { x: false, y: false } },
       scales: { x: { time: false } },
       axes: [
-        { ...AXIS, label: xLabel, labelFont: LABEL_FONT, size: 34, labelSize: 14 },
-        { ...AXIS, label: yLabel, labelFont: LABEL_FONT, size: 56, labelSize: 14 },
+        { ...AXIS_STYLE, label: xLabel, labelFont: AXIS_LABEL_FONT, size: 34, labelSize: 14 },
+        { ...AXIS_STYLE, label: yLabel, labelFont: AXIS_LABEL_FONT, size: 56, labelSize: 14 },
       ],
       series: [
         { label: xLabel },

@@ -1,10 +1,13 @@
-import type { ReactNode } from "react";
+import { useRef, type ReactNode } from "react";
 import type { Arm, ProfileParams, RecordedFrame } from "@jogwright/shared";
 import { cn } from "../../lib/cn.ts";
 import type { FrameSource } from "../../lib/frame-trace.ts";
 import type { JogSnapshot } from "../../lib/jog-socket.ts";
 import { formatFixed } from "../../lib/format.ts";
 import { ArmView } from "./arm-view.tsx";
+import type { ChartKey } from "./chart-columns.ts";
+import { CollapsiblePanel } from "./collapsible-panel.tsx";
+import { useFitToViewport } from "./fit-height.ts";
 import { LiveCharts } from "./live-charts.tsx";
 import {
   BindingLimit,
@@ -16,37 +19,82 @@ import {
   TcpReadout,
 } from "./status-panels.tsx";
 
+/** The first screen's height bounds: never squeezed below a usable view, never stretched on a tall screen. */
+const FIT = { minPx: 460, maxPx: 1100, bottomMarginPx: 16 };
+/** The chart on the first screen, and the ones below (constants, so the memoised charts do not re-render). */
+const FIRST_CHART: readonly ChartKey[] = ["jointRates"];
+const MORE_CHARTS: readonly ChartKey[] = ["sigma", "speed"];
+
 /**
- * The 3D view, the panels beside it and the charts below, for one frame source: the live session, a
- * watched session or a replay. `controls` goes under the view, `side` above the panels.
+ * The 3D view, the controls and panels around it and the charts, for one frame source: the live session, a
+ * watched session or a replay. On a wide screen (xl, 1280 px and up) the first screen holds what driving
+ * needs at once — the view with one chart (joint rates) under it, `controls` (the jog pad) beside it, and
+ * `side` (STOP, enabling) with the motion state and the singularity indicator on the right — and is sized to
+ * end at the bottom of the window, the view taking the height the rest leaves (1440×900 fits without
+ * scrolling: tests/e2e/drive-layout.spec.ts). Everything else follows below, each panel and chart folding
+ * to its title. `header` spans the full width above (the replay's timeline). Narrower, it all stacks.
  */
-export function DriveWorkspace({ arm, params, frame, source, controls, side }: {
+export function DriveWorkspace({ arm, params, frame, source, controls, side, header }: {
   arm: Arm;
   params: ProfileParams | null;
   frame: RecordedFrame | null;
   source: FrameSource;
   controls?: ReactNode;
   side?: ReactNode;
+  header?: ReactNode;
 }) {
+  const firstScreenRef = useRef<HTMLDivElement>(null);
+  useFitToViewport(firstScreenRef, FIT);
+  const jointCount = arm.model.joints.length;
   return (
-    <div className="flex flex-col gap-6">
-      <div className="grid grid-cols-1 gap-6 lg:grid-cols-[minmax(0,1fr)_22rem]">
+    <div className="flex flex-col gap-4" data-testid="drive-workspace">
+      {header}
+      <div
+        ref={firstScreenRef}
+        data-testid="drive-first-screen"
+        className={cn(
+          "grid grid-cols-1 gap-4",
+          controls ? "xl:grid-cols-[minmax(0,1fr)_26rem_19rem]" : "xl:grid-cols-[minmax(0,1fr)_19rem]",
+        )}
+      >
         <div className="flex min-w-0 flex-col gap-4">
-          <ArmView arm={arm.model} restPose={arm.readyPose} source={source} />
-          {controls}
+          <ArmView
+            arm={arm.model}
+            restPose={arm.readyPose}
+            source={source}
+            className="relative h-[26rem] overflow-hidden rounded-lg border border-ink-700 bg-ink-950 xl:h-auto xl:min-h-56 xl:flex-1 xl:[contain:size]"
+          />
+          <LiveCharts source={source} jointCount={jointCount} params={params} keys={FIRST_CHART} />
         </div>
-        <aside className="flex flex-col gap-3" aria-label="Arm state">
+        {controls ? <div className="flex min-w-0 flex-col gap-4">{controls}</div> : null}
+        <aside className="flex min-w-0 flex-col gap-3" aria-label="Arm state">
           {side}
           <MotionState frame={frame} />
           <SingularityIndicator frame={frame} params={params} />
-          <BindingLimit frame={frame} params={params} />
-          <TcpReadout frame={frame} />
-          <StoppingPanel frame={frame} params={params} />
-          <JointPositionBars arm={arm} frame={frame} />
-          <JointRateBars arm={arm} frame={frame} params={params} />
         </aside>
       </div>
-      <LiveCharts source={source} jointCount={arm.model.joints.length} />
+      <section aria-label="More arm state" className="grid grid-cols-1 items-start gap-4 md:grid-cols-2 xl:grid-cols-3">
+        <div className="flex min-w-0 flex-col gap-4">
+          <CollapsiblePanel id="binding" title="Binding limit">
+            <BindingLimit frame={frame} params={params} />
+          </CollapsiblePanel>
+          <CollapsiblePanel id="tcp" title="TCP">
+            <TcpReadout frame={frame} />
+          </CollapsiblePanel>
+          <CollapsiblePanel id="stopping" title="Stopping">
+            <StoppingPanel frame={frame} params={params} />
+          </CollapsiblePanel>
+        </div>
+        <div className="flex min-w-0 flex-col gap-4">
+          <CollapsiblePanel id="joint-positions" title="Joint positions">
+            <JointPositionBars arm={arm} frame={frame} />
+          </CollapsiblePanel>
+          <CollapsiblePanel id="joint-rates" title="Joint rates">
+            <JointRateBars arm={arm} frame={frame} params={params} />
+          </CollapsiblePanel>
+        </div>
+        <LiveCharts source={source} jointCount={jointCount} params={params} keys={MORE_CHARTS} isCollapsible className="md:col-span-2 xl:col-span-1" />
+      </section>
     </div>
   );
 }

@@ -1,10 +1,10 @@
 import { ratedJointAccel } from "@jogwright/kinematics";
-import { DEG_PER_RAD, STOP_KINDS } from "@jogwright/shared";
+import { DEG_PER_RAD, GUARD_STATE_LABELS, STOP_KIND_LABELS, STOP_KINDS } from "@jogwright/shared";
 import type { ReactNode } from "react";
 import type { Arm, ProfileParams, RecordedFrame, StopKind } from "@jogwright/shared";
 import { cn } from "../../lib/cn.ts";
 import { formatFixed } from "../../lib/format.ts";
-import { GUARD_WORDS, bindingInWords, motionInWords, type MotionTone } from "./limit-words.ts";
+import { bindingInWords, motionInWords, type MotionTone } from "./limit-words.ts";
 
 // The panels beside the 3D view. They take a frame (live or replayed) and the profile version's
 // parameters; SI in, mm / deg / deg/s out.
@@ -55,6 +55,31 @@ export function singularityThresholdM(params: ProfileParams | null): number | nu
   return params.damping.kind === "singular-value" ? params.damping.epsilonM : params.guard.sigmaStopM;
 }
 
+/**
+ * The indicator's headline. The guard's own state comes first — held, backing out, passing through — so
+ * the headline and the guard row below it never contradict each other (a hold happens just outside
+ * σ_stop, where σ alone would read "inside the damped region" or even "clear"); otherwise σ_min against
+ * σ_stop and ε.
+ */
+export function singularityInWords(
+  frame: Pick<RecordedFrame, "sigmaMin" | "guardState"> | null, epsilonM: number | null, stopM: number | null,
+): { label: string; tone: MotionTone } {
+  if (!frame) return { label: "—", tone: "neutral" };
+  const sigma = frame.sigmaMin;
+  switch (frame.guardState) {
+    case "stopped":
+      return { label: "Held at the guard — acknowledge, or back out", tone: "stop" };
+    case "backing-out":
+      return { label: "Backing out of the guard zone", tone: "warn" };
+    case "acknowledged":
+      return { label: "Passing through, damped (acknowledged)", tone: "warn" };
+    default:
+      if (stopM !== null && sigma < stopM) return { label: "Inside the guard zone", tone: "stop" };
+      if (epsilonM !== null && sigma < epsilonM) return { label: "Inside the damped region", tone: "warn" };
+      return { label: "Clear of singularities", tone: "ok" };
+  }
+}
+
 export function SingularityIndicator({ frame, params }: { frame: RecordedFrame | null; params: ProfileParams | null }) {
   const epsilon = singularityThresholdM(params);
   const stop = params?.guard.policy === "stop-before" ? params.guard.sigmaStopM : null;
@@ -62,14 +87,11 @@ export function SingularityIndicator({ frame, params }: { frame: RecordedFrame |
   // Scale: 0 … 3ε (or 0.15 m without a profile); σ beyond it pins the marker at the right end.
   const full = epsilon ? 3 * epsilon : 0.15;
   const at = (v: number) => `${Math.min(100, Math.max(0, (v / full) * 100))}%`;
-  const tone: MotionTone =
-    sigma === null ? "neutral" : stop !== null && sigma < stop ? "stop" : epsilon !== null && sigma < epsilon ? "warn" : "ok";
-  const label =
-    sigma === null ? "—" : tone === "stop" ? "At the guard" : tone === "warn" ? "Inside the damped region" : "Clear of singularities";
+  const { label, tone } = singularityInWords(frame, epsilon, stop);
   return (
     <Panel title="Singularity">
       <div className="flex items-baseline justify-between gap-2">
-        <span className={cn("text-sm font-semibold", toneText[tone])} data-testid="singularity-state">
+        <span className={cn("text-sm font-semibold", toneText[tone])} data-testid="singularity-state" data-tone={tone}>
           {label}
         </span>
         <span className="num text-sm text-ink-100">
@@ -91,8 +113,8 @@ export function SingularityIndicator({ frame, params }: { frame: RecordedFrame |
         <dt>λ now</dt>
         <dd className="num text-right text-ink-100">{frame ? `${formatFixed(frame.lambda * 1000, 1)} mm` : "—"}</dd>
         <dt>Guard</dt>
-        <dd className="text-right text-ink-100" data-testid="guard-state">
-          {frame ? GUARD_WORDS[frame.guardState] : "—"}
+        <dd className="text-right text-ink-100" data-testid="guard-state" data-state={frame?.guardState ?? ""}>
+          {frame ? GUARD_STATE_LABELS[frame.guardState] : "—"}
           {stop !== null ? <span className="num text-ink-400"> (stops at {formatFixed(stop * 1000, 1)} mm)</span> : null}
         </dd>
         <dt>Manipulability w</dt>
@@ -144,13 +166,8 @@ export function TcpReadout({ frame }: { frame: RecordedFrame | null }) {
   );
 }
 
-/** The operator-facing name of each kind of stop (the e-stop's simulated behaviour named for what it is). */
-export const STOP_KIND_WORDS: Record<StopKind, string> = {
-  "enabling-released": "Enabling released",
-  watchdog: "Watchdog (input lost)",
-  "singularity-guard": "Singularity guard",
-  "instant-halt": "Instant halt (simulation)",
-};
+/** The operator-facing name of each kind of stop (the shared labels: the e-stop's simulated behaviour named for what it is). */
+export const STOP_KIND_WORDS: Readonly<Record<StopKind, string>> = STOP_KIND_LABELS;
 
 const ms = (s: number) => formatFixed(s * 1000, 0);
 const mm = (m: number) => formatFixed(m * 1000, 1);

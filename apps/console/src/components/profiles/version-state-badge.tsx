@@ -8,8 +8,9 @@ const STATE_LABELS: Record<VersionState, string> = {
   rejected: "Rejected",
   superseded: "Superseded",
   retired: "Retired",
+  withdrawn: "Withdrawn",
 };
-const STATE_TONES = { draft: "neutral", submitted: "accent", approved: "ok", rejected: "stop", superseded: "neutral", retired: "neutral" } as const;
+const STATE_TONES = { draft: "neutral", submitted: "accent", approved: "ok", rejected: "stop", superseded: "neutral", retired: "neutral", withdrawn: "neutral" } as const;
 
 export function VersionStateBadge({ state }: { state: VersionState }) {
   return <Badge tone={STATE_TONES[state]}>{STATE_LABELS[state]}</Badge>;

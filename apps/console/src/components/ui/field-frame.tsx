@@ -1,5 +1,6 @@
 import type { ReactNode } from "react";
 import { cn } from "../../lib/cn.ts";
+import { asSentence } from "../../lib/format.ts";
 
 // The frame every labelled form control shares: the label above the control, then its hint, its error and
 // (for values checked against the site ceilings) its warning, each with an id the control lists in
@@ -8,7 +9,11 @@ import { cn } from "../../lib/cn.ts";
 export interface FieldNotes {
   hint?: ReactNode;
   error?: string | undefined;
-  /** A caution that does not block saving (e.g. above a site ceiling). */
+  /**
+   * A caution that does not block saving (e.g. above a site ceiling), as a whole statement: "TCP linear
+   * cap 300 mm/s exceeds the site ceiling of 250 mm/s". Shown as a sentence, without a prefix of its own
+   * (a prefix once read "Above the site ceiling: … is below the site minimum").
+   */
   warning?: string | undefined;
 }
 
@@ -44,7 +49,7 @@ export function FieldFrame({ id, label, hint, error, warning, className, childre
       ) : null}
       {warning ? (
         <p id={`${id}-warning`} className="text-sm text-warn-400" data-testid="ceiling-warning">
-          Above the site ceiling: {warning}
+          {asSentence(warning)}
         </p>
       ) : null}
     </div>

@@ -1,5 +1,5 @@
 import { queryOptions, useQuery } from "@tanstack/react-query";
-import { ceilingsRecordSchema } from "@jogwright/shared";
+import { ceilingsRecordSchema, flaggedVersionsResponseSchema } from "@jogwright/shared";
 import { apiRequest } from "../api-client.ts";
 
 /** The site ceilings in force (read by the ceilings page and every profile form): one key factory, one query. */
@@ -7,6 +7,8 @@ import { apiRequest } from "../api-client.ts";
 export const ceilingKeys = {
   all: ["ceilings"] as const,
   current: () => [...ceilingKeys.all, "current"] as const,
+  /** Approved versions flagged above the ceilings now (the ceilings page's re-confirm list). */
+  flagged: () => [...ceilingKeys.all, "flagged"] as const,
 };
 
 export const ceilingsQueryOptions = () =>
@@ -16,3 +18,11 @@ export const ceilingsQueryOptions = () =>
   });
 
 export const useCeilings = () => useQuery(ceilingsQueryOptions());
+
+export const flaggedVersionsQueryOptions = () =>
+  queryOptions({
+    queryKey: ceilingKeys.flagged(),
+    queryFn: async ({ signal }) => (await apiRequest("/api/ceilings/flagged", { schema: flaggedVersionsResponseSchema, signal })).versions,
+  });
+
+export const useFlaggedVersions = () => useQuery(flaggedVersionsQueryOptions());

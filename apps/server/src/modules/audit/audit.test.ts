@@ -94,6 +94,43 @@ describe("the audit trail", () => {
     expect(csvCell(null)).toBe("");
   });
 
+  it("names what each entry is about as people do: a version as \"name\" v1, never its row id; fields by their labels", async () => {
+    // Issue 13, item 9: the page once read "version #7" for what everyone else calls v6, and a flag's
+    // summary listed "(tcpLinearCapMPerS)".
+    const { profile, version } = await approvedProfile(h, team, arm);
+    const entries: { entity: string; entityId: string; entityLabel: string; action: string; summary: string }[] = (
+      await call(h, "get", `/api/audit?entity=version&actorId=${team.engineer.id}&pageSize=200`, officer)
+    ).body.entries;
+    const saved = entries.find((e) => e.entityId === String(version.id) && e.action === "submit")!;
+    expect(saved.entityLabel).toBe(`"${profile.name}" v${version.number}`);
+    const approval = (await call(h, "get", `/api/audit?entity=approval&actorId=${team.officer.id}`, officer)).body.entries[0];
+    expect(approval.entityLabel).toMatch(/^".*" v\d+$/);
+    const account = (await call(h, "get", `/api/audit?entity=user`, admin)).body.entries[0];
+    expect(account.entityLabel).not.toMatch(/^#/);
+
+    const before = (await call(h, "get", "/api/ceilings", team.officer.cookie)).body;
+    const lowered = { ...before.ceilings, tcpLinearMaxMPerS: 0.01 };
+    const put = await call(h, "put", "/api/ceilings", team.officer.cookie).send({ revision: before.revision, ceilings: lowered, note: "audit wording" });
+    expect(put.status).toBe(200);
+    try {
+      const flag = (await call(h, "get", `/api/audit?entity=version&action=flag`, officer)).body.entries.find((e: { entityId: string }) => e.entityId === String(version.id));
+      expect(flag.summary).toContain("TCP linear cap");
+      expect(flag.summary).not.toMatch(/tcpLinearCapMPerS/);
+      expect(flag.summary).toContain(`v${version.number}`);
+      const ceilingsEntry = (await call(h, "get", `/api/audit?entity=ceilings`, officer)).body.entries[0];
+      expect(ceilingsEntry.entityLabel).toBe(`revision ${put.body.record.revision}`);
+    } finally {
+      const now = (await call(h, "get", "/api/ceilings", team.officer.cookie)).body;
+      await call(h, "put", "/api/ceilings", team.officer.cookie).send({ revision: now.revision, ceilings: before.ceilings, note: "restore" }).expect(200);
+    }
+  });
+
+  it("refuses a period whose start is after its end, with a message", async () => {
+    const res = await call(h, "get", `/api/audit?from=${encodeURIComponent("2026-12-03T00:00:00.000Z")}&to=${encodeURIComponent("2026-12-01T23:59:59.999Z")}`, officer);
+    expect(res.status).toBe(400);
+    expect(res.body.error.issues).toEqual([{ path: "to", message: "the start of the period must not be after its end" }]);
+  });
+
   it("entries cannot be updated or deleted, even with raw SQL", async () => {
     await expect(h.db.query("UPDATE audit_log SET summary = 'rewritten' ORDER BY id DESC LIMIT 1")).rejects.toThrow(/append-only/);
     // The runtime account may not delete here at all (db/privileges.ts); the trigger refuses even the owner.

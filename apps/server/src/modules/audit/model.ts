@@ -8,6 +8,8 @@ import { AUDIT_ENTITIES, type AuditEntry } from "@jogwright/shared";
  * the trail outlives whatever it mentions.
  */
 export type AuditEntity = AuditEntry["entity"];
+/** An entry as stored (the list route adds `entityLabel`, entity-labels.ts). */
+export type AuditRecord = Omit<AuditEntry, "entityLabel">;
 
 export interface AuditFilter {
   entity?: AuditEntity;
@@ -37,7 +39,7 @@ export class AuditEntryModel extends Model<InferAttributes<AuditEntryModel, { om
  * An entry as the API shows it, from a row read with `withActorName` (an instance or, as the listing
  * reads them, `raw: true, nest: true` attributes).
  */
-export function toAuditEntry(row: InferAttributes<AuditEntryModel, { omit: "actor" }> & { actor?: { displayName: string | null } | null }): AuditEntry {
+export function toAuditEntry(row: InferAttributes<AuditEntryModel, { omit: "actor" }> & { actor?: { displayName: string | null } | null }): AuditRecord {
   return {
     id: Number(row.id),
     at: row.at.toISOString(),

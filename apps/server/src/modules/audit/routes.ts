@@ -1,3 +1,4 @@
+import { pipeline } from "node:stream/promises";
 import { auditQuerySchema } from "@jogwright/shared";
 import { ApiRouter } from "../../http/api-router.ts";
 import { parseQuery } from "../../http/validate.ts";
@@ -12,10 +13,10 @@ export function auditRouter(ctx: AppContext): ApiRouter {
     })
     .add("get", "/export.csv", ["safety_officer", "admin"], async (req, res) => {
       const { page: _page, pageSize: _pageSize, ...filter } = parseQuery(req, auditQuerySchema);
-      const csv = await service.exportAuditCsv(ctx.db, filter);
       const stamp = new Date().toISOString().slice(0, 19).replace(/[-:]/g, "").replace("T", "-");
       res.set("Content-Type", "text/csv; charset=utf-8");
       res.set("Content-Disposition", `attachment; filename="jogwright-audit-${stamp}.csv"`);
-      res.send(csv);
+      // Streamed in batches, no row cap (issue 12); an error after the first bytes can only cut the answer short.
+      await pipeline(service.streamAuditCsv(ctx.db, filter), res);
     });
 }

@@ -14,7 +14,7 @@ import {
 import { AppError } from "../../errors.ts";
 import { modelsOf } from "../../db/models.ts";
 import { findProfile, versionLabel } from "../profiles/service.ts";
-import { armFor, findVersion } from "../versions/service.ts";
+import { armForVersion, findVersion } from "../versions/service.ts";
 
 /**
  * The drive permission: what a person may drive (GET /api/drive/versions, the console's picker) and
@@ -110,6 +110,6 @@ export async function loadVersionForDriving(
   const profile = (await findProfile(db, version.profileId))!;
   const decision = isDriveable(drivingFacts(version, profile), user);
   if (!decision.isDriveable) throw new AppError(decision.status, decision.code, drivingRefusalMessage(decision, versionLabel(profile, version)));
-  const arm = await armFor(db, profile.armId);
+  const arm = await armForVersion(db, version, profile.armId);
   return { version, profile, arm, kind: decision.kind };
 }

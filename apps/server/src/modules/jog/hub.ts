@@ -1,14 +1,18 @@
 import { randomUUID } from "node:crypto";
-import { RateLimiterMemory, RateLimiterRes } from "rate-limiter-flexible";
-import type { Arm, DrivingKind, JogInput, JogSessionInfo, LiveSession, ProfileSummary, ProfileVersion, User } from "@jogwright/shared";
+import { RateLimiterRes, type RateLimiterAbstract } from "rate-limiter-flexible";
+import type { Arm, DrivingKind, JogEndReason, JogInput, JogSessionInfo, LiveSession, ProfileSummary, ProfileVersion, User } from "@jogwright/shared";
 import type { JogLimits } from "../../config.ts";
 import type { AppContext } from "../../context.ts";
 import { insertRecording } from "../recordings/service.ts";
+import { RecordingRetentionJob } from "../recordings/retention.ts";
 import { RecordingWriter } from "../recordings/writer.ts";
 import type { FrameText, FromWorker, SessionCommand, SimThreadStats } from "./sim-messages.ts";
 import { SimulationThread } from "./sim-thread.ts";
 import { checkInputAxes, type InputResult, type SimulationSummary } from "./simulation.ts";
 import { sqlStationLatchStore, StationLatches, type Station } from "./station-latches.ts";
+import { LiveDirectory, type ControlMessage } from "../../scale/live-directory.ts";
+import { rateLimiter } from "../../scale/redis.ts";
+import { findUserById } from "../users/service.ts";
 
 /**
  * The live jog sessions of one server, on the main thread: per session a driver connection, any read-only
@@ -20,6 +24,10 @@ import { sqlStationLatchStore, StationLatches, type Station } from "./station-la
  * The hub also owns the emergency-stop latch of each operator station (user and arm, station-latches.ts):
  * an e-stop latches the station and halts every live session at it; a session started at a latched station
  * starts latched; only a deliberate reset clears it.
+ *
+ * Scaled out (REDIS_URL, docs/scaling.md), the hub lists its sessions in the shared live directory
+ * (scale/live-directory.ts), publishes the frames of a session watched from another instance, and takes a
+ * safety officer's STOP from another instance as from a watcher of its own.
  */
 
 /** What a session sends to: the driver or a watcher connection. */
@@ -30,9 +38,8 @@ export interface FrameSink {
   onSessionEnded(session: LiveJogSession, reason: string): void;
 }
 
-export type EndReason =
-  | "stopped" | "disconnected" | "switched" | "profile-not-driveable" | "server-shutdown" | "signed-out"
-  | "session-expired" | "account-deactivated" | "roles-changed" | "simulation-failed";
+/** Why a session ended: the shared list (JOG_END_REASONS), which the console labels. */
+export type EndReason = JogEndReason;
 
 /**
  * The `ended` frame's sentences for each reason, to the driver and to the people watching (the reason
@@ -223,6 +230,7 @@ export class LiveJogSession {
     if ((this.isEnded && !this.isWindingDown) || appliedCmdSeq < this.estopCmdSeq) return;
     if (!this.driver.sendText(text)) this.framesSkipped++;
     for (const w of this.isEnded ? this.endWatchers : this.watchers) w.sendText(text);
+    if (this.hub.directory?.isWatchedElsewhere(this.id)) this.hub.directory.publish(this.id, text);
   }
 
   private record(text: string, bodyStart: number, bodyEnd: number): void {
@@ -285,6 +293,14 @@ export class LiveJogSession {
     this.driver.sendText(ended(this.endDriverMessage));
     const toWatchers = ended(END_MESSAGES[this.endReason].watcher);
     for (const s of sinks) if (s !== this.driver) s.sendText(toWatchers);
+    const directory = this.hub.directory;
+    if (directory) {
+      if (directory.isWatchedElsewhere(this.id)) {
+        if (frame) directory.publish(this.id, frame.text);
+        directory.publish(this.id, toWatchers);
+      }
+      directory.withdraw(this.id);
+    }
     resolve(q);
   }
 }
@@ -302,6 +318,8 @@ export interface StartAdmission {
 
 export class JogHub {
   readonly writer: RecordingWriter;
+  /** Recording retention, at start and periodically; a live session's recording is never pruned. */
+  readonly retention: RecordingRetentionJob;
   readonly thread: SimulationThread;
   /** The emergency-stop latch of every operator station (authoritative here; stored and audited after). */
   readonly stations: StationLatches;
@@ -313,25 +331,56 @@ export class JogHub {
   private nextKey = 1;
   private cmdSeq = 0;
   /** `start` messages per account within the window (issue 11, item 8: 200 starts in 1 s made 145 recordings). */
-  private readonly startLimiter: RateLimiterMemory;
+  private readonly startLimiter: RateLimiterAbstract;
+  /** The live sessions of every instance, when scaled out (REDIS_URL); null for a single instance. */
+  readonly directory: LiveDirectory | null;
   /** Admitted starts not yet live, per account and in all: they count against the caps like live sessions. */
   private readonly admittedBy = new Map<string, number>();
   private admittedTotal = 0;
 
   constructor(readonly ctx: AppContext, readonly frameRateHz: number, readonly limits: JogLimits = ctx.config.jogLimits) {
-    this.startLimiter = new RateLimiterMemory({ keyPrefix: "jog-start", points: limits.startsPerWindow, duration: limits.startWindowS });
+    this.startLimiter = rateLimiter(ctx.scale, { keyPrefix: "jog-start", points: limits.startsPerWindow, duration: limits.startWindowS });
+    this.directory = ctx.scale ? new LiveDirectory(ctx.scale) : null;
+    this.directory?.handleControl((msg) => void this.onControl(msg));
     this.writer = new RecordingWriter(ctx.db);
+    this.retention = new RecordingRetentionJob(ctx.db, ctx.config.recordingRetention, (id) => this.isRecordingLive(id));
+    this.retention.start();
     this.thread = new SimulationThread((msg) => this.onWorkerMessage(msg), (error) => this.onWorkerFailure(error));
     this.stations = new StationLatches(sqlStationLatchStore(ctx.db));
     void this.stations.ready();
+  }
+
+  /** A recording this server still writes: its session runs or ends, or its frames wait for the writer. */
+  isRecordingLive(recordingId: number): boolean {
+    if (this.writer.isPending(recordingId)) return true;
+    for (const s of this.byKey.values()) if (s.recordingId === recordingId) return true;
+    for (const s of this.sessions.values()) if (s.recordingId === recordingId) return true;
+    return false;
   }
 
   nextCmdSeq(): number {
     return ++this.cmdSeq;
   }
 
-  listLive(): LiveSession[] {
-    return [...this.sessions.values()].map((s) => s.live());
+  /** This instance's live sessions, and when scaled out every other instance's (the live directory). */
+  async listLive(): Promise<LiveSession[]> {
+    const mine = [...this.sessions.values()].map((s) => s.live());
+    if (!this.directory) return mine;
+    const others = await this.directory.others();
+    return [...mine, ...others.map((e) => e.live)].sort((a, b) => a.startedAt.localeCompare(b.startedAt));
+  }
+
+  /**
+   * Another instance asks something of a session this one drives: a safety officer's STOP from there is
+   * checked against the officer's account as it is now, then latches the station as a watcher's STOP here.
+   */
+  private async onControl(msg: ControlMessage): Promise<void> {
+    if (msg.t !== "estop") return;
+    const session = this.sessions.get(msg.sessionId);
+    if (!session) return;
+    const by = await findUserById(this.ctx.db, msg.byUserId).catch(() => null);
+    if (!by || !by.isActive || !by.roles.includes("safety_officer")) return;
+    this.emergencyStop(session, by);
   }
 
   /**
@@ -436,6 +485,7 @@ export class JogHub {
     // among the live sessions, so emergencyStop could not reach it).
     if (!estopLatched && this.stations.isLatched(session.station)) session.command("estop");
     this.thread.post({ t: "run", key });
+    this.directory?.announce(session.live(), session.info(true));
     return session;
   }
 
@@ -471,7 +521,8 @@ export class JogHub {
 
   private stationEvent(session: LiveJogSession, actor: User = session.driver.user) {
     const driver = session.driver.user;
-    return { actor, driver, armName: session.driven.arm.name, sessionId: session.id, versionId: session.driven.version.id };
+    const { profile, version } = session.driven;
+    return { actor, driver, armName: session.driven.arm.name, sessionId: session.id, versionId: version.id, versionName: `"${profile.name}" v${version.number}` };
   }
 
   forget(session: LiveJogSession): void {
@@ -530,9 +581,11 @@ export class JogHub {
     // byKey also holds the sessions still ending (end is idempotent: those keep their own reason).
     await Promise.all([...this.byKey.values()].map((s) => s.end("server-shutdown")));
     await this.thread.close();
+    await this.retention.stop();
     await this.writer.close();
     // Latches and resets still being stored (and audited) are written before the database goes away.
     await this.stations.settled();
+    await this.directory?.close();
   }
 }
 

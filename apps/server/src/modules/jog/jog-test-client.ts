@@ -119,3 +119,21 @@ export class JogTestClient {
 }
 
 export const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
+
+/**
+ * What an upgrade ends in: the close code and reason of a socket the server completed and closed (no
+ * message expected), or the HTTP status of a refused upgrade.
+ */
+export function upgradeOutcome(url: string, headers: Record<string, string>): Promise<{ code?: number; reason?: string; httpStatus?: number; messages: number }> {
+  return new Promise((resolve, reject) => {
+    const ws = new WebSocket(url, { headers, perMessageDeflate: false });
+    let messages = 0;
+    ws.on("message", () => messages++);
+    ws.once("close", (code, reason) => resolve({ code, reason: reason.toString(), messages }));
+    ws.once("unexpected-response", (_req, res) => {
+      resolve({ httpStatus: res.statusCode, messages });
+      ws.terminate();
+    });
+    ws.once("error", (error) => reject(error));
+  });
+}

@@ -26,6 +26,8 @@ export interface ScheduledClient {
   noteOverrun(skipped: number): void;
   /** Sends one frame. */
   runFrame(): void;
+  /** True when a tick applied a change of the commanded motion: a frame goes out at this wake (if the gap allows). */
+  readonly isFrameWanted?: boolean;
   readonly tickPeriodMs: number;
   readonly framePeriodMs: number;
   /** Scheduler bookkeeping (set by add). */
@@ -39,7 +41,15 @@ interface ClientSchedule {
   f0: number;
   frameIndex: number;
   nextFrameMs: number;
+  /** When the last frame was built (−Infinity before the first). */
+  lastFrameMs: number;
 }
+
+/**
+ * Shortest gap between two frames of one client [ms]: at most 120 frames/s, whether from the frame grid or
+ * sent at once after an input that changed the commanded motion (issue 11).
+ */
+export const MIN_FRAME_GAP_MS = 1000 / 120;
 
 /** Lateness histogram: 10 µs buckets up to 100 ms, the last bucket catches everything later. */
 export class LatenessHistogram {
@@ -106,7 +116,7 @@ export class TickScheduler {
     const f0 = now + ((this.added++ * 0.6180339887) % 1) * client.framePeriodMs;
     client.schedule = {
       t0, tickIndex: 1, nextTickMs: t0 + client.tickPeriodMs,
-      f0, frameIndex: 1, nextFrameMs: f0 + client.framePeriodMs,
+      f0, frameIndex: 1, nextFrameMs: f0 + client.framePeriodMs, lastFrameMs: -Infinity,
     };
     this.clients.push(client);
   }
@@ -161,12 +171,18 @@ export class TickScheduler {
       const client = this.clients[c]!;
       const s = client.schedule!;
       const now = performance.now();
-      if (s.nextFrameMs <= now) {
+      // A frame is due on the grid, or at once after a tick that applied a changed command; either way never
+      // within MIN_FRAME_GAP_MS of the last one (a due frame then waits for a later tick wake).
+      const isDue = s.nextFrameMs <= now;
+      if ((isDue || client.isFrameWanted === true) && now - s.lastFrameMs >= MIN_FRAME_GAP_MS) {
         try {
           client.runFrame();
         } catch (error) {
           console.error("[jogwright] jog frame failed:", error);
         }
+        s.lastFrameMs = now;
+      }
+      if (isDue && s.lastFrameMs === now) {
         s.frameIndex++;
         s.nextFrameMs = s.f0 + s.frameIndex * client.framePeriodMs;
         if (s.nextFrameMs <= now) {

@@ -91,7 +91,7 @@ describe("the cap on live sessions per account", () => {
       tabs[1]!.send({ type: "stop" });
       await tabs[1]!.next((m) => m.type === "ended");
       expect((await start(tabs[3]!, a.versionId)).type).toBe("session");
-      expect(net.jog.hub.listLive().filter((s) => s.driverId === a.userId)).toHaveLength(3);
+      expect((await net.jog.hub.listLive()).filter((s) => s.driverId === a.userId)).toHaveLength(3);
     } finally {
       await Promise.all([...tabs, other].map((c) => c.close()));
     }

@@ -59,9 +59,16 @@ class WorkerSession implements ScheduledClient {
     this.prefix = `{"type":"state","sessionId":"${sessionId}",`;
   }
 
+  /** A tick applied an input that changed the commanded motion: its frame goes out at this wake. */
+  isFrameWanted = false;
+
   runTick(_nowMs: number, stalledMs: number): void {
     // The simulation's time is its tick counter (the motion gate's watchdog counts ticks, stalls excused).
     this.sim.tick(stalledMs);
+    if (this.sim.isCommandChanged) {
+      this.sim.isCommandChanged = false;
+      this.isFrameWanted = true;
+    }
   }
 
   noteOverrun(skipped: number): void {
@@ -69,6 +76,7 @@ class WorkerSession implements ScheduledClient {
   }
 
   runFrame(): void {
+    this.isFrameWanted = false;
     const text = this.frameText();
     pendingFrames.push(this.key, text, this.prefix.length, this.bodyEnd, this.appliedCmdSeq);
   }

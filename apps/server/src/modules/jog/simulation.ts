@@ -80,6 +80,14 @@ export class JogSimulation {
   private readonly tickPeriodMs: number;
   lastInputSeq = -1;
   lastInputClientTimeMs = 0;
+  /**
+   * Set when an input changes the commanded motion (enabling, mode, frame, override or any axis), read and
+   * cleared by the simulation thread after the next tick: it then sends a frame at once instead of at the
+   * next frame slot (issue 11, "Input that feels instant"). A repeat of the same input changes nothing.
+   */
+  isCommandChanged = false;
+  /** The last input's values, to tell a change from a repeat: [enabling, mode, frame, override, axes…]. */
+  private readonly lastCommand = new Float64Array(4 + 12).fill(NaN);
 
   stopReason: StopReason;
   private lastFault: string = "none";
@@ -198,6 +206,18 @@ export class JogSimulation {
       for (let i = axesOffset; i < axesOffset + (mode === "cartesian" ? 6 : this.n); i++) event.push(axes[i]!);
       this.inputEvents.push(event);
     }
+    const c = this.lastCommand;
+    const count = mode === "cartesian" ? 6 : this.n;
+    let changed = c[0] !== (isEnabling ? 1 : 0) || c[1] !== (mode === "joint" ? 1 : 0) || c[2] !== (frame === "tool" ? 1 : 0) || c[3] !== overridePercent;
+    for (let i = 0; i < count && !changed; i++) changed = c[4 + i] !== axes[axesOffset + i];
+    if (changed) {
+      c[0] = isEnabling ? 1 : 0;
+      c[1] = mode === "joint" ? 1 : 0;
+      c[2] = frame === "tool" ? 1 : 0;
+      c[3] = overridePercent;
+      for (let i = 0; i < count; i++) c[4 + i] = axes[axesOffset + i]!;
+      this.isCommandChanged = true;
+    }
     this.overridePercent = Math.min(overridePercent, this.profile.speedOverride.maxPercent);
     this.gate.setInput(isEnabling, mode, frame, this.overridePercent / 100, axes, axesOffset);
     this.lastInputSeq = seq;
@@ -255,6 +275,7 @@ export class JogSimulation {
     this.logEvent(INPUT_EVENT.readyPose);
     setJointPositions(this.ws, this.state, this.readyPose);
     this.state.singularityAcknowledged = false;
+    this.state.isGuardHolding = false;
     this.isMeasuredAtRest = false;
     this.qdotPrev.fill(0);
     this.hold();

@@ -121,9 +121,22 @@ class TokenBucket {
   }
 }
 
+/**
+ * The session a connection watches: one of this instance's, or (scaled out) one driven on another
+ * instance, whose frames arrive through the live directory and whose STOP goes back through it.
+ */
+interface WatchTarget {
+  readonly id: string;
+  readonly recordingId: number | null;
+  /** A safety officer's STOP: latches the driver's station (where the session runs), audited there. */
+  estop(by: User): void;
+  /** Stop receiving its frames. */
+  leave(): void;
+}
+
 class JogConnection implements FrameSink {
   driving: LiveJogSession | null = null;
-  watching: LiveJogSession | null = null;
+  watching: WatchTarget | null = null;
   private readonly inputBucket = new TokenBucket(INPUT_RATE_HZ, INPUT_BURST);
   private readonly messageBucket = new TokenBucket(MESSAGE_RATE_HZ, MESSAGE_BURST);
   private strikes = 0;
@@ -179,7 +192,7 @@ class JogConnection implements FrameSink {
 
   onSessionEnded(session: LiveJogSession): void {
     if (this.driving === session) this.driving = null;
-    if (this.watching === session) this.watching = null;
+    if (this.watching?.id === session.id) this.watching = null;
   }
 
   private strike(nowMs: number, weight = 1): void {
@@ -264,7 +277,7 @@ class JogConnection implements FrameSink {
         void this.start(msg.versionId);
         return;
       case "watch":
-        return this.watch(msg.sessionId);
+        return void this.watch(msg.sessionId).catch((error: unknown) => this.sendError("internal", `Watching failed: ${(error as Error).message}`));
       case "input": {
         const s = this.requireDriving();
         if (!s) return;
@@ -325,13 +338,13 @@ class JogConnection implements FrameSink {
     if (!hasAnyRole(this.user.roles, STOP_WATCHED_ROLES)) {
       return this.sendError("read_only", "You are watching this session: only a safety officer may stop it from here.");
     }
-    this.hub.emergencyStop(watched, this.user);
+    watched.estop(this.user);
   }
 
   private requireDriving(): LiveJogSession | null {
     if (this.driving) return this.driving;
     if (this.watching) this.sendError("read_only", "You are watching this session: it cannot be driven from here.");
-    else this.sendError("no_session", "Start a session first: {type:\"start\", versionId}.");
+    else this.sendError("no_session", "No session is running: pick a version and start driving first.");
     return null;
   }
 
@@ -382,21 +395,50 @@ class JogConnection implements FrameSink {
     }
   }
 
-  private watch(sessionId: string): void {
+  private async watch(sessionId: string): Promise<void> {
     if (!hasAnyRole(this.user.roles, WATCH_ROLES)) {
       return this.sendError("forbidden", "Watching live sessions needs the engineer or safety officer role.");
     }
     const session = this.hub.sessions.get(sessionId);
-    if (!session) return this.sendError("not_found", "No live session with that id (it may have ended).");
+    if (!session) return this.watchElsewhere(sessionId);
     if (this.driving) void this.driving.end("stopped");
     this.stopWatching();
     session.watchers.add(this);
-    this.watching = session;
+    this.watching = {
+      id: session.id,
+      get recordingId() {
+        return session.recordingId;
+      },
+      estop: (by) => this.hub.emergencyStop(session, by),
+      leave: () => session.watchers.delete(this),
+    };
     this.sendJson({ type: "session", session: session.info(true) });
   }
 
+  /**
+   * Scaled out: a session driven on another instance, found in the live directory. Its frames (and its
+   * `ended`) arrive from there as sent to its driver; a STOP is sent there, where the officer's account is
+   * checked again and the driver's station latched.
+   */
+  private async watchElsewhere(sessionId: string): Promise<void> {
+    const directory = this.hub.directory;
+    const entry = directory ? await directory.find(sessionId).catch(() => null) : null;
+    if (!directory || !entry || this.isGone) return this.sendError("not_found", "No live session with that id (it may have ended).");
+    if (this.driving) void this.driving.end("stopped");
+    this.stopWatching();
+    let target: WatchTarget | null = null;
+    const leave = await directory.watch(entry, (text) => {
+      if (this.watching !== target) return;
+      this.sendText(text);
+      if (text.startsWith('{"type":"ended"')) this.stopWatching();
+    });
+    target = { id: sessionId, recordingId: null, estop: (by) => void directory.requestEstop(entry, by.id), leave };
+    this.watching = target;
+    this.sendJson({ type: "session", session: { ...entry.info, isWatching: true } });
+  }
+
   private stopWatching(): void {
-    if (this.watching) this.watching.watchers.delete(this);
+    this.watching?.leave();
     this.watching = null;
   }
 
@@ -521,6 +563,9 @@ class JogConnection implements FrameSink {
   }
 }
 
+/** The close reason for an upgrade without a valid session cookie (closed at once with 4401). */
+export const NOT_SIGNED_IN_CLOSE_REASON = "not signed in";
+
 /** The close reason for an upgrade refused while the database is unavailable (at most 123 bytes, RFC 6455 §5.5). */
 export const DATABASE_UNAVAILABLE_CLOSE_REASON = "Database unavailable: the sign-in cannot be checked; try again shortly.";
 
@@ -561,7 +606,13 @@ export function attachJogSockets(server: Server, ctx: AppContext): JogSockets {
     const serialBeforeRead = accounts.serial;
     resolveAccount(ctx, req.headers.cookie).then(
       (resolved) => {
-        if (!resolved.session || !resolved.account) return refuse(socket, 401, "unauthenticated", "Sign in first.");
+        if (!resolved.session || !resolved.account) {
+          // Completed and closed at once with 4401 rather than refused with HTTP 401: a browser never sees a
+          // refused upgrade's status (only a 1006 close, which it would retry for ever); this close tells
+          // it the person must sign in. Nothing is read or sent on it.
+          wss.handleUpgrade(req, socket, head, (ws) => ws.close(JOG_CLOSE_CODES.signedOut, NOT_SIGNED_IN_CLOSE_REASON));
+          return;
+        }
         const user = resolved.account;
         const sessionId = readSessionId(req.headers.cookie)!;
         wss.handleUpgrade(req, socket, head, (ws) => {

@@ -31,6 +31,8 @@ export interface StationEvent {
   armName: string;
   sessionId: string;
   versionId: number;
+  /** The version as people name it: its profile and number ("Pack opening" v6), for the audit summary. */
+  versionName: string;
 }
 
 /** Where the latches are kept between restarts. */
@@ -63,7 +65,7 @@ export function sqlStationLatchStore(db: Sequelize): StationLatchStore {
           entity: "session",
           entityId: stationAuditId(station),
           action: "estop-latch",
-          summary: `emergency stop latched at ${event.driver.displayName}'s station on ${event.armName}${byWatcher(event)} (session ${event.sessionId}, version id ${event.versionId}); it stays latched until reset`,
+          summary: `emergency stop latched at ${event.driver.displayName}'s station on ${event.armName}${byWatcher(event)} driving ${event.versionName}; it stays latched until reset`,
           after: { ...station, isLatched: true, latchedBy: event.actor.id },
         });
       });
@@ -76,7 +78,7 @@ export function sqlStationLatchStore(db: Sequelize): StationLatchStore {
           entity: "session",
           entityId: stationAuditId(station),
           action: "estop-reset",
-          summary: `emergency stop reset at ${event.driver.displayName}'s station on ${event.armName} (session ${event.sessionId}, version id ${event.versionId}); motion needs the enabling control released and pressed again`,
+          summary: `emergency stop reset at ${event.driver.displayName}'s station on ${event.armName} driving ${event.versionName}; motion needs the enabling control released and pressed again`,
           before: { ...station, isLatched: true },
           after: { ...station, isLatched: false },
         });

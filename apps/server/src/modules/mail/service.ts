@@ -1,5 +1,5 @@
 import { literal, type Sequelize, type Transaction } from "sequelize";
-import type { MailMessage } from "@jogwright/shared";
+import type { MailKind, MailMessage } from "@jogwright/shared";
 import { modelsOf } from "../../db/models.ts";
 import { dbNow } from "./model.ts";
 
@@ -14,7 +14,8 @@ const dbNowPlus = (seconds: number) => literal(`CURRENT_TIMESTAMP(3) + INTERVAL 
 
 export async function insertMail(
   db: Sequelize,
-  mail: { kind: string; to: string[]; subject: string; text: string },
+  /** `kind`: one of MAIL_KINDS (packages/shared/src/labels.ts), which the outbox shows by its label. */
+  mail: { kind: MailKind; to: string[]; subject: string; text: string },
   transaction?: Transaction,
 ): Promise<number> {
   const row = await modelsOf(db).OutboxMail.create(

@@ -230,7 +230,7 @@ describe("the approval workflow", () => {
     const res = await call(h, "post", `/api/versions/${profile.latestVersion.id}/submit`, team.engineer.cookie);
     expect(res.status).toBe(422);
     expect(res.body.error.code).toBe("ceiling_exceeded");
-    expect(res.body.error.issues).toEqual([{ path: "shaping.linearAccelMPerS2", message: expect.stringContaining("stoppingDistanceMaxM") }]);
+    expect(res.body.error.issues).toEqual([{ path: "shaping.linearAccelMPerS2", message: expect.stringContaining("Controlled stop, at most") }]);
   });
 
   it("a version above a site ceiling cannot be submitted; the refusal names the field and the ceiling", async () => {

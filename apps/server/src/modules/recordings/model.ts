@@ -1,9 +1,11 @@
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
 import { recordingSummarySchema, type Recording } from "@jogwright/shared";
+import { CHUNK_ENCODINGS, type ChunkEncoding } from "./chunk-codec.ts";
 
 /**
- * Recordings of live jog sessions (`jog_recordings` and `jog_recording_chunks`, migration 0010): one row
- * per session and its frames in chunks of about one second (Recording–Chunk). The classes give the types;
+ * Recordings of live jog sessions (`jog_recordings` and `jog_recording_chunks`, migrations 0010 and 0017):
+ * one row per session and its frames in chunks of about one second (Recording–Chunk), stored compactly
+ * (chunk-codec.ts). The classes give the types;
  * `defineRecordingModels` binds a copy of each to one Sequelize instance (db/models.ts). The driver, arm,
  * profile and version a recording names are associated in db/models.ts (`withNames`). The queries are in
  * service.ts.
@@ -58,11 +60,17 @@ export class RecordingChunkModel extends Model<InferAttributes<RecordingChunkMod
   declare recordingId: number;
   declare chunkIndex: number;
   declare frameCount: number;
+  /** How the frames are stored (chunk-codec.ts): `json` in `frames` (chunks before migration 0017), else in `data`. */
+  declare encoding: CreationOptional<ChunkEncoding>;
   /**
-   * The chunk's frames: written as JSON array text (LONGTEXT checked as JSON; the writer joins frame JSON it
-   * already has), read back parsed by the driver.
+   * A `json` chunk's frames: JSON array text (LONGTEXT checked as JSON), read back parsed by the driver.
+   * NULL for the other encodings.
    */
-  declare frames: string | unknown[];
+  declare frames: CreationOptional<string | unknown[] | null>;
+  /** The compressed frames of a `columns-v1` or `json-deflate` chunk (LONGBLOB); NULL for `json`. */
+  declare data: CreationOptional<Buffer | null>;
+  /** Bytes of the payload as stored (`data` or `frames`), for retention by size. */
+  declare storedBytes: number;
 }
 
 export function defineRecordingModels(sequelize: Sequelize) {
@@ -114,7 +122,10 @@ export function defineRecordingModels(sequelize: Sequelize) {
       recordingId: { type: DataTypes.INTEGER.UNSIGNED, primaryKey: true },
       chunkIndex: { type: DataTypes.INTEGER.UNSIGNED, primaryKey: true },
       frameCount: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      frames: { type: DataTypes.TEXT("long"), allowNull: false },
+      encoding: { type: DataTypes.ENUM(...CHUNK_ENCODINGS), allowNull: false, defaultValue: "json" },
+      frames: { type: DataTypes.TEXT("long"), allowNull: true },
+      data: { type: DataTypes.BLOB("long"), allowNull: true },
+      storedBytes: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
     },
     { sequelize, modelName: "RecordingChunk", tableName: "jog_recording_chunks", underscored: true, timestamps: false },
   );

@@ -1,6 +1,7 @@
 import type { Sequelize } from "sequelize";
 import { recordedFrameSchema, type RecordedFrame, type Recording } from "@jogwright/shared";
 import { modelsOf } from "../../db/models.ts";
+import { decodeChunk, type EncodedChunk } from "./chunk-codec.ts";
 
 /**
  * What the app asks of the recordings: the hub opens a session's recording (`insertRecording`), the writer
@@ -17,13 +18,17 @@ export async function insertRecording(
 }
 
 /**
- * One chunk. Idempotent on retry: a chunk whose first attempt did land is not written twice (INSERT … ON
- * DUPLICATE KEY UPDATE frame_count, as IGNORE would also hide other errors). One per live recording per
- * second; measured on the dev MariaDB (1000 inserts of a 60-frame chunk after warm-up): bulkCreate
- * 0.34 ms CPU / 0.74 ms wall per chunk, the former raw INSERT 0.29 ms / 0.72 ms.
+ * One chunk, as chunk-codec.ts encoded it. Idempotent on retry: a chunk whose first attempt did land is
+ * not written twice (INSERT … ON DUPLICATE KEY UPDATE frame_count, as IGNORE would also hide other
+ * errors). One per live recording per second; measured on the dev MariaDB (1000 inserts of a 60-frame
+ * JSON chunk after warm-up): bulkCreate 0.34 ms CPU / 0.74 ms wall per chunk, the former raw INSERT
+ * 0.29 ms / 0.72 ms.
  */
-export async function insertChunk(db: Sequelize, recordingId: number, chunkIndex: number, frameCount: number, framesJson: string): Promise<void> {
-  await modelsOf(db).RecordingChunk.bulkCreate([{ recordingId, chunkIndex, frameCount, frames: framesJson }], { updateOnDuplicate: ["frameCount"] });
+export async function insertChunk(db: Sequelize, recordingId: number, chunkIndex: number, frameCount: number, chunk: EncodedChunk): Promise<void> {
+  await modelsOf(db).RecordingChunk.bulkCreate(
+    [{ recordingId, chunkIndex, frameCount, encoding: chunk.encoding, data: chunk.data, storedBytes: chunk.data.length }],
+    { updateOnDuplicate: ["frameCount"] },
+  );
 }
 
 export async function finishRecording(db: Sequelize, recordingId: number, endedAt: Date, endReason: string, summary: object): Promise<void> {
@@ -44,24 +49,28 @@ export async function findRecording(db: Sequelize, id: number): Promise<Recordin
 }
 
 /**
- * All frames in order; each parsed with the shared schema (extra keys stripped, bad ones skipped). Plain
- * rows (`raw`): 600 chunks read in 70.7 ms, as the former raw SELECT (70.8 ms); the zod parse dominates.
+ * All frames in order, whatever each chunk's encoding (chunk-codec.ts); each parsed with the shared
+ * schema (extra keys stripped, bad ones skipped). Plain rows (`raw`): 600 JSON chunks read in 70.7 ms, as
+ * the former raw SELECT (70.8 ms); the zod parse dominates.
  */
 export async function readFrames(db: Sequelize, recordingId: number): Promise<RecordedFrame[]> {
-  const chunks = await modelsOf(db).RecordingChunk.findAll({
-    where: { recordingId },
-    attributes: ["frames"],
-    order: [["chunkIndex", "ASC"]],
-    raw: true,
-  });
   const out: RecordedFrame[] = [];
-  for (const chunk of chunks) {
-    // The server marks a column whose CHECK is JSON_VALID(column) as JSON, so the driver hands it back parsed.
-    const frames = (typeof chunk.frames === "string" ? JSON.parse(chunk.frames) : chunk.frames) as unknown[];
+  for (const frames of await readChunks(db, recordingId)) {
     for (const f of frames) {
       const parsed = recordedFrameSchema.safeParse(f);
       if (parsed.success) out.push(parsed.data);
     }
   }
   return out;
+}
+
+/** Every chunk's frames as stored, decoded but not checked (readFrames checks them), in order. */
+export async function readChunks(db: Sequelize, recordingId: number): Promise<unknown[][]> {
+  const chunks = await modelsOf(db).RecordingChunk.findAll({
+    where: { recordingId },
+    attributes: ["encoding", "frames", "data"],
+    order: [["chunkIndex", "ASC"]],
+    raw: true,
+  });
+  return Promise.all(chunks.map((c) => decodeChunk(c.encoding, c.frames ?? null, c.data ?? null)));
 }

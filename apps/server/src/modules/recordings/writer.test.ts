@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { modelsOf } from "../../db/models.ts";
 import { createHarness, type Harness } from "../../test/harness.ts";
-import { findRecording, insertRecording } from "./service.ts";
+import { findRecording, insertRecording, readChunks } from "./service.ts";
 import { RecordingWriter } from "./writer.ts";
 
 /**
@@ -29,13 +29,9 @@ afterAll(async () => {
 
 const frame = (i: number) => JSON.stringify({ t: i });
 
-/** The `t` of every stored frame, chunk by chunk in order (raw: these test frames are not full state frames). */
+/** The `t` of every stored frame, chunk by chunk in order (not readFrames: these test frames are not full state frames). */
 async function storedTimes(id: number): Promise<number[]> {
-  const rows = await h.db.query<{ frames: string | { t: number }[] }>(
-    "SELECT frames FROM jog_recording_chunks WHERE recording_id = ? ORDER BY chunk_index",
-    { replacements: [id], type: QueryTypes.SELECT },
-  );
-  return rows.flatMap((r) => (typeof r.frames === "string" ? (JSON.parse(r.frames) as { t: number }[]) : r.frames).map((f) => f.t));
+  return (await readChunks(h.db, id)).flatMap((frames) => (frames as { t: number }[]).map((f) => f.t));
 }
 
 describe("the recording writer", () => {

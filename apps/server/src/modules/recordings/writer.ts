@@ -1,9 +1,11 @@
 import type { Sequelize } from "sequelize";
+import { encodeChunk, type EncodedChunk } from "./chunk-codec.ts";
 import { finishRecording, insertChunk } from "./service.ts";
 
 /**
  * Buffered recording writer: the simulation hands over each frame's JSON (a string, built anyway for the
- * socket) and never waits; a flush every ~1 s writes one chunk per recording. When the database is slow
+ * socket) and never waits; a flush every ~1 s encodes (chunk-codec.ts: columns, zlib on libuv's thread
+ * pool) and writes one chunk per recording. When the database is slow
  * or down, frames stay queued and go out with a later flush (a failed chunk is retried, kept in order);
  * nothing here throws into the tick path. A recording's end (summary) is written after its last chunk.
  */
@@ -25,6 +27,8 @@ interface Pending {
    * so a retry after a write that did land is idempotent (insertChunk).
    */
   batch: string[] | null;
+  /** The batch as encoded for storage (chunk-codec.ts), kept for its retries. */
+  encoded: EncodedChunk | null;
   dropped: number;
   end: { endedAt: Date; reason: string; summary: object } | null;
 }
@@ -47,7 +51,7 @@ export class RecordingWriter {
   private entry(recordingId: number): Pending {
     let p = this.pending.get(recordingId);
     if (!p) {
-      p = { recordingId, nextChunk: 0, frames: [], batch: null, dropped: 0, end: null };
+      p = { recordingId, nextChunk: 0, frames: [], batch: null, encoded: null, dropped: 0, end: null };
       this.pending.set(recordingId, p);
     }
     this.ensureTimer();
@@ -70,6 +74,11 @@ export class RecordingWriter {
       p.dropped++;
       this.droppedFrames++;
     }
+  }
+
+  /** True while frames or the end of this recording wait to be written. */
+  isPending(recordingId: number): boolean {
+    return this.pending.has(recordingId);
   }
 
   /** Marks the recording ended; written after its remaining frames, by the next flush (or flushNow). */
@@ -97,8 +106,10 @@ export class RecordingWriter {
             p.frames = [];
           }
           const batch = p.batch;
-          await insertChunk(this.db, p.recordingId, p.nextChunk, batch.length, `[${batch.join(",")}]`);
+          p.encoded ??= await encodeChunk(batch);
+          await insertChunk(this.db, p.recordingId, p.nextChunk, batch.length, p.encoded);
           p.batch = null;
+          p.encoded = null;
           p.nextChunk++;
           this.chunksWritten++;
           if (!p.end) break; // one chunk per flush while live; an ended recording drains

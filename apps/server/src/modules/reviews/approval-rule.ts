@@ -1,9 +1,9 @@
 import type { Sequelize, Transaction } from "sequelize";
-import type { CeilingViolation, ProfileSummary, ProfileVersion, User } from "@jogwright/shared";
+import { CEILING_LABELS, type CeilingViolation, type ProfileSummary, type ProfileVersion, type User } from "@jogwright/shared";
 import { AppError } from "../../errors.ts";
 import { violationsNow } from "../ceilings/service.ts";
 import { versionLabel } from "../profiles/service.ts";
-import { armFor } from "../versions/service.ts";
+import { armForVersion } from "../versions/service.ts";
 
 /**
  * THE APPROVAL RULE. A version is approved when, in one transaction with its profile locked:
@@ -52,7 +52,7 @@ export async function checkWithinCeilings(
   profile: ProfileSummary,
   action: "submitted" | "approved",
 ): Promise<void> {
-  const violations = await violationsNow(db, t, version.params, await armFor(db, profile.armId));
+  const violations = await violationsNow(db, t, version.params, await armForVersion(db, version, profile.armId, t));
   if (violations.length) throw ceilingError(versionLabel(profile, version), action, violations);
 }
 
@@ -63,6 +63,6 @@ function ceilingError(label: string, action: "submitted" | "approved", violation
     422,
     "ceiling_exceeded",
     `${label} cannot be ${action}: ${first.message} — field ${first.field}, ceiling ${first.ceiling}${more}.`,
-    violations.map((v) => ({ path: v.field, message: `${v.message} (ceiling ${v.ceiling})` })),
+    violations.map((v) => ({ path: v.field, message: `${v.message} (ceiling: ${CEILING_LABELS[v.ceiling]})` })),
   );
 }

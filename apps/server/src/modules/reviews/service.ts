@@ -1,7 +1,7 @@
 import type { Sequelize, Transaction } from "sequelize";
-import { checkCeilings, type CeilingViolation, type ProfileSummary, type ProfileVersion, type SubmitVersionInput, type TrialRun, type User } from "@jogwright/shared";
+import { checkCeilings, type CeilingEvent, type CeilingViolation, type ProfileSummary, type ProfileVersion, type SubmitVersionInput, type TrialRun, type User } from "@jogwright/shared";
 import type { z } from "zod";
-import type { approveVersionSchema, rejectVersionSchema } from "@jogwright/shared";
+import type { approveVersionSchema, MailKind, rejectVersionSchema } from "@jogwright/shared";
 import { AppError } from "../../errors.ts";
 import { modelsOf } from "../../db/models.ts";
 import { recordAudit } from "../audit/service.ts";
@@ -10,13 +10,15 @@ import { findProfile, versionLabel, visibleProfile } from "../profiles/service.t
 import { attachEvidence, evidenceOf, prepareEvidence } from "../trials/service.ts";
 import { findActivePeople, listActiveWithRole } from "../users/service.ts";
 import {
-  armFor,
+  armForVersion,
   findApprovedVersion,
   findVersion,
+  listCeilingEvents,
   listVersionsInState,
   setStatus,
   supersede,
   transition,
+  withdrawOlderSubmissions,
   type WorkflowContext,
 } from "../versions/service.ts";
 import { checkApprovalRule, checkWithinCeilings, refuseOwnDecision } from "./approval-rule.ts";
@@ -80,17 +82,18 @@ export async function getVersionDetail(
   id: number,
 ): Promise<{
   version: ProfileVersion; profile: ProfileSummary; violations: CeilingViolation[]; approvedVersion: ProfileVersion | null;
-  approval: Omit<ApprovalRecord, "id" | "versionId" | "approverId"> | null; evidence: TrialRun[];
+  approval: Omit<ApprovalRecord, "id" | "versionId" | "approverId"> | null; evidence: TrialRun[]; ceilingEvents: CeilingEvent[];
 }> {
   const version = await findVersion(db, id);
   if (!version) throw new AppError(404, "not_found", "No such version.");
   const profile = await visibleProfile(db, user, version.profileId);
-  const [arm, ceilings, approvedVersion, approval, evidence] = await Promise.all([
-    armFor(db, profile.armId),
+  const [arm, ceilings, approvedVersion, approval, evidence, ceilingEvents] = await Promise.all([
+    armForVersion(db, version, profile.armId),
     findCeilingsInForce(db),
     findApprovedVersion(db, profile.id),
     findApproval(db, id),
     evidenceOf(db, id),
+    listCeilingEvents(db, [id]),
   ]);
   return {
     version,
@@ -99,6 +102,7 @@ export async function getVersionDetail(
     approvedVersion,
     approval: approval ? { approverName: approval.approverName, approvedAt: approval.approvedAt, comment: approval.comment, paramsSha256: approval.paramsSha256 } : null,
     evidence,
+    ceilingEvents,
   };
 }
 
@@ -140,6 +144,8 @@ export async function submitVersion(ctx: WorkflowContext, actor: User, versionId
     await checkWithinCeilings(ctx.db, t, version, profile, "submitted");
     await attachEvidence(ctx.db, t, version.id, runIds, actor.id);
     await setStatus(ctx.db, t, version.id, { state: "submitted", submittedAt: new Date() });
+    // One submission of a profile waits in the queue: the newer one replaces older ones (issue 13, item 4).
+    const withdrawn = await withdrawOlderSubmissions(ctx.db, t, actor, profile, version);
     const officers = await listActiveWithRole(ctx.db, "safety_officer", t);
     await ctx.mailer.enqueue(t, {
       kind: "version-submitted",
@@ -151,22 +157,36 @@ export async function submitVersion(ctx: WorkflowContext, actor: User, versionId
         `Parameters SHA-256: ${version.paramsSha256}`,
         runIds.length ? `Evidence: ${runIds.length} trial runs attached.` : "",
         version.note ? `Note: ${version.note}` : "",
+        withdrawn.length ? `It replaces ${withdrawn.map((w) => `v${w.number}`).join(", ")} in the queue (withdrawn).` : "",
         `Open the review queue in Jogwright to approve or reject it (version id ${version.id}).`,
       ]
         .filter(Boolean)
         .join("\n"),
     });
-    return `submitted ${label} for review`;
+    return `submitted ${label} for review${withdrawn.length ? ` (withdrawing ${withdrawn.map((w) => `v${w.number}`).join(", ")})` : ""}`;
   });
 }
 
-/** Approve by the approval rule (approval-rule.ts); the previous approved version is superseded. */
+/**
+ * Approve by the approval rule (approval-rule.ts); the previous approved version is superseded. Approving
+ * a version older than the profile's approved one rolls its operator back: refused (409
+ * rollback_unconfirmed) unless the request says `rollback: true`, and then audited as a rollback.
+ */
 export async function approveVersion(ctx: WorkflowContext, actor: User, versionId: number, input: ApproveInput): Promise<ProfileVersion> {
   const { db } = ctx;
   return transition(ctx, actor, versionId, ["submitted"], "approved", async ({ t, version, profile }) => {
     const label = versionLabel(profile, version);
     await checkApprovalRule(db, t, actor, version, profile, input.paramsSha256);
     const previous = await findApprovedVersion(db, profile.id, t);
+    const isRollback = previous !== null && previous.number > version.number;
+    if (isRollback && input.rollback !== true) {
+      throw new AppError(
+        409,
+        "rollback_unconfirmed",
+        `${label} is older than the approved v${previous.number}: approving it rolls ${profile.operatorName} back to v${version.number}. Confirm the roll back to v${version.number} to approve it.`,
+        [{ path: "rollback", message: `confirm the roll back from v${previous.number} to v${version.number}` }],
+      );
+    }
     if (previous) await supersede(db, t, actor, previous, profile, version);
     const approvalId = await insertApproval(db, t, { versionId: version.id, approverId: actor.id, comment: input.comment, paramsSha256: version.paramsSha256 });
     const approval = (await findApproval(db, version.id, t))!;
@@ -182,12 +202,15 @@ export async function approveVersion(ctx: WorkflowContext, actor: User, versionI
       kind: "version-approved",
       subject: `[Jogwright] Approved: ${profile.name} v${version.number}`,
       lines: [
-        `${actor.displayName} approved ${label}; it is now locked${previous ? ` and supersedes v${previous.number}` : ""}.`,
+        isRollback
+          ? `${actor.displayName} rolled "${profile.name}" back to v${version.number}: ${label} is approved and locked and replaces the newer v${previous.number}.`
+          : `${actor.displayName} approved ${label}; it is now locked${previous ? ` and supersedes v${previous.number}` : ""}.`,
         `${profile.operatorName} can drive it on ${profile.armName}.`,
         `Comment: ${input.comment}`,
         `Parameters SHA-256: ${version.paramsSha256}`,
       ],
     });
+    if (isRollback) return { action: "rollback", summary: `rolled ${label} back from v${previous.number} (approved ${label}): ${input.comment}` };
     return `approved ${label}: ${input.comment}`;
   });
 }
@@ -212,7 +235,7 @@ async function mailDecision(
   t: Transaction,
   version: ProfileVersion,
   profile: ProfileSummary,
-  mail: { kind: string; subject: string; lines: string[] },
+  mail: { kind: MailKind; subject: string; lines: string[] },
 ): Promise<void> {
   const people = await findActivePeople(ctx.db, [version.authorId, profile.operatorId], { transaction: t });
   await ctx.mailer.enqueue(t, { kind: mail.kind, to: people.map((p) => p.email), subject: mail.subject, text: mail.lines.join("\n") });

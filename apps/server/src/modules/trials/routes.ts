@@ -1,3 +1,4 @@
+import { pipeline } from "node:stream/promises";
 import type { Response } from "express";
 import { z } from "zod";
 import {
@@ -10,6 +11,7 @@ import { parseBody, parseParams, parseQuery } from "../../http/validate.ts";
 import {
   armTrials, createCustomTrial, getRun, listRuns, runTrials, singularityMap, sweepVersion, updateCustomTrial,
 } from "./service.ts";
+import { loadRunSeries, streamRunCsv, streamRunJson } from "./export.ts";
 
 /**
  * The tuning bench: engineers make trials, runs and sweeps; safety officers read the trials and runs (the
@@ -55,6 +57,14 @@ export function benchRouter(ctx: AppContext): ApiRouter {
       const actor = requireAccount(res);
       const request = parseBody(req, runRequestSchema);
       res.status(201).json({ runs: await runTrials(ctx.db, actor, request, abortOnClose(res)) });
+    })
+    // A run's full series, streamed (export.ts, issue 12).
+    .add("get", "/runs/:id/export.:format", READERS, async (req, res) => {
+      const { id, format } = parseParams(req, z.object({ id: z.coerce.number().int().positive("not a valid id"), format: z.enum(["csv", "json"]) }));
+      const { runId, series } = await loadRunSeries(ctx.db, requireAccount(res), id);
+      res.set("Content-Type", format === "csv" ? "text/csv; charset=utf-8" : "application/json; charset=utf-8");
+      res.attachment(`trial-run-${runId}.${format}`);
+      await pipeline(format === "csv" ? streamRunCsv(series) : streamRunJson(runId, series), res);
     })
     .add("get", "/runs", READERS, async (req, res) => {
       const actor = requireAccount(res);

@@ -7,7 +7,7 @@ import { mapRequestSchema } from "@jogwright/shared";
 import { modelsOf } from "../../db/models.ts";
 import { AppError } from "../../errors.ts";
 import { recordAudit } from "../audit/service.ts";
-import { findArm } from "../arms/service.ts";
+import { findArm, findArmForVersion } from "../arms/service.ts";
 import { findRecording, readFrames } from "../recordings/service.ts";
 import { visibleProfile } from "../profiles/service.ts";
 import { checkParamsFitArm, findVersion } from "../versions/service.ts";
@@ -122,7 +122,9 @@ async function resolveSource(db: Sequelize, actor: User, source: RunRequest["sou
     const version = await findVersion(db, source.versionId);
     if (!version) throw new AppError(404, "not_found", "No such version.");
     const profile = await visibleProfile(db, actor, version.profileId);
-    return { arm: await armOrNotFound(db, profile.armId), profileId: profile.id, versionId: version.id, params: version.params };
+    const arm = await findArmForVersion(db, version.id, profile.armId); // the revision and tool it was saved on
+    if (!arm) throw new AppError(404, "not_found", "No such arm.");
+    return { arm, profileId: profile.id, versionId: version.id, params: version.params };
   }
   const profile = await visibleProfile(db, actor, source.profileId);
   const arm = await armOrNotFound(db, profile.armId);

@@ -28,7 +28,9 @@ function getPool(): Piscina {
       filename: new URL("./run-worker.mjs", import.meta.url).href,
       maxThreads: trialPoolSize(),
       minThreads: 0,
-      idleTimeout: 30_000,
+      // A thread loads the kinematics, mathjs and the trial code through tsx (seconds): keep it for five
+      // minutes after its last run, so an engineer's next run, a review's evidence or a sweep starts warm.
+      idleTimeout: 5 * 60_000,
     });
   }
   return pool;

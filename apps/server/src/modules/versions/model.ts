@@ -1,5 +1,15 @@
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
-import { profileParamsSchema, VERSION_STATES, type ProfileParams, type ProfileVersion, type VersionState } from "@jogwright/shared";
+import {
+  CEILING_EVENT_KINDS,
+  profileParamsSchema,
+  VERSION_STATES,
+  type CeilingEvent,
+  type ProfileParams,
+  type ProfileVersion,
+  type VersionState,
+} from "@jogwright/shared";
+
+type CeilingEventKind = (typeof CEILING_EVENT_KINDS)[number];
 
 /**
  * Profile versions (`profile_versions`: immutable once written, locked by their approval — triggers of
@@ -65,9 +75,44 @@ export class VersionStatusModel extends Model<
   declare decidedAt: CreationOptional<Date | null>;
   declare decisionComment: CreationOptional<string | null>;
   declare exceedsCeilings: CreationOptional<boolean>;
+  /** The re-confirmation that cleared the flag last; set only by its row's trigger (migration 0016). */
+  declare reconfirmationId: CreationOptional<number | null>;
   declare updatedAt: CreationOptional<Date>;
   /** Included through the association declared in db/models.ts. */
   declare decider?: NonAttribute<{ displayName: string } | null>;
+}
+
+/**
+ * A version's flag history (`version_ceiling_events`, migration 0016): append-only. Inserting a
+ * `reconfirm` row *is* the re-confirmation: its trigger clears the version's flag in that statement.
+ */
+export class VersionCeilingEventModel extends Model<
+  InferAttributes<VersionCeilingEventModel, { omit: "actor" }>,
+  InferCreationAttributes<VersionCeilingEventModel, { omit: "actor" }>
+> {
+  declare id: CreationOptional<number>;
+  declare versionId: number;
+  declare kind: CeilingEventKind;
+  declare ceilingsRevision: number;
+  declare actorId: string | null;
+  declare comment: string;
+  /** Stamped by the BEFORE INSERT trigger. */
+  declare at: CreationOptional<Date>;
+  /** Included through the association declared in db/models.ts. */
+  declare actor?: NonAttribute<{ displayName: string } | null>;
+
+  toApi(): CeilingEvent {
+    return {
+      id: this.id,
+      versionId: this.versionId,
+      kind: this.kind,
+      ceilingsRevision: this.ceilingsRevision,
+      actorId: this.actorId,
+      actorName: this.actor?.displayName ?? null,
+      comment: this.comment,
+      at: this.at.toISOString(),
+    };
+  }
 }
 
 export function defineVersionModels(sequelize: Sequelize) {
@@ -104,17 +149,32 @@ export function defineVersionModels(sequelize: Sequelize) {
       decidedAt: { type: DataTypes.DATE(3), allowNull: true },
       decisionComment: { type: DataTypes.TEXT, allowNull: true },
       exceedsCeilings: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
+      reconfirmationId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
       updatedAt: DataTypes.DATE(3),
     },
     { sequelize, modelName: "VersionStatus", tableName: "version_status", underscored: true, timestamps: true, createdAt: false },
   );
-  return { Version, VersionStatus };
+  const CeilingEvent = class extends VersionCeilingEventModel {};
+  CeilingEvent.init(
+    {
+      id: { type: DataTypes.INTEGER.UNSIGNED, autoIncrement: true, primaryKey: true },
+      versionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+      kind: { type: DataTypes.ENUM(...CEILING_EVENT_KINDS), allowNull: false },
+      ceilingsRevision: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+      actorId: { type: DataTypes.STRING(40), allowNull: true },
+      comment: { type: DataTypes.TEXT, allowNull: false },
+      at: { type: DataTypes.DATE(3) },
+    },
+    { sequelize, modelName: "VersionCeilingEvent", tableName: "version_ceiling_events", underscored: true, timestamps: false },
+  );
+  return { Version, VersionStatus, CeilingEvent };
 }
 
 type VersionModels = ReturnType<typeof defineVersionModels>;
 
 /** Version–Status (one each). The scopes that include people are added in db/models.ts. */
-export function associateVersionModels({ Version, VersionStatus }: VersionModels): void {
+export function associateVersionModels({ Version, VersionStatus, CeilingEvent }: VersionModels): void {
+  Version.hasMany(CeilingEvent, { as: "ceilingEvents", foreignKey: "versionId" });
   Version.hasOne(VersionStatus, { as: "status", foreignKey: "versionId" });
   VersionStatus.belongsTo(Version, { as: "version", foreignKey: "versionId" });
   Version.belongsTo(Version, { as: "parent", foreignKey: "parentVersionId" });

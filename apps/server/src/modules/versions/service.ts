@@ -1,10 +1,10 @@
 import { col, fn, Op, UniqueConstraintError, type Sequelize, type Transaction } from "sequelize";
-import type { Arm, CreateProfileInput, ProfileParams, ProfileSummary, ProfileVersion, SaveVersionInput, User, VersionState } from "@jogwright/shared";
+import type { Arm, AuditAction, CeilingEvent, CreateProfileInput, ProfileParams, ProfileSummary, ProfileVersion, SaveVersionInput, User, VersionState } from "@jogwright/shared";
 import { AppError } from "../../errors.ts";
 import { sha256OfCanonical } from "../../hashing.ts";
 import type { Mailer } from "../../mail/mailer.ts";
 import { modelsOf } from "../../db/models.ts";
-import { findArm } from "../arms/service.ts";
+import { bindVersionToArm, defaultArmChoice, findArm, findArmAtRevision, findArmForVersion, findVersionArmChoice, resolveArmChoice, type ArmOfVersion, type VersionArmChoice } from "../arms/service.ts";
 import { recordAudit } from "../audit/service.ts";
 import { findProfile, insertProfile, lockProfile, versionLabel, visibleProfile } from "../profiles/service.ts";
 import { isActiveOperator } from "../users/service.ts";
@@ -28,6 +28,13 @@ export const paramsSha256 = (params: ProfileParams) => sha256OfCanonical(params)
 export async function armFor(db: Sequelize, armId: number): Promise<Arm> {
   const arm = await findArm(db, armId);
   if (!arm) throw new AppError(400, "validation_failed", "No such arm.", [{ path: "armId", message: "pick an existing arm" }]);
+  return arm;
+}
+
+/** The arm a version was saved on (its arm revision and tool, issue 12): what it drives, runs and is checked on. */
+export async function armForVersion(db: Sequelize, version: { id: number }, armId: number, transaction?: Transaction): Promise<ArmOfVersion> {
+  const arm = await findArmForVersion(db, version.id, armId, transaction);
+  if (!arm) throw new AppError(404, "not_found", "No such arm.");
   return arm;
 }
 
@@ -92,10 +99,17 @@ export async function insertVersion(
   db: Sequelize,
   transaction: Transaction,
   v: { profileId: number; number: number; parentVersionId: number | null; params: ProfileParams; note: string; authorId: string },
+  /** The arm revision and tool it is saved on; absent: the parent's, or for a first version the arm's latest. */
+  armChoice?: VersionArmChoice,
 ): Promise<number> {
   const { Version, VersionStatus } = modelsOf(db);
   const version = await Version.create({ ...v, paramsSha256: paramsSha256(v.params) }, { transaction });
   await VersionStatus.create({ versionId: version.id }, { transaction });
+  const choice =
+    armChoice ??
+    (v.parentVersionId === null ? null : await findVersionArmChoice(db, v.parentVersionId, transaction)) ??
+    (await defaultArmChoice(db, (await findProfile(db, v.profileId, transaction))!.armId, transaction));
+  if (choice) await bindVersionToArm(db, transaction, version.id, choice);
   return version.id;
 }
 
@@ -158,7 +172,16 @@ export async function createProfile(ctx: WorkflowContext, actor: User, input: Cr
 export async function saveVersion(ctx: WorkflowContext, actor: User, profileId: number, input: SaveVersionInput): Promise<ProfileVersion> {
   const { db } = ctx;
   const profile = await visibleProfile(db, actor, profileId);
-  const arm = await armFor(db, profile.armId);
+  // The revision and tool: asked for (moving to another revision happens only here, by a new version), or the parent's.
+  const parentChoice = await findVersionArmChoice(db, input.parentVersionId);
+  let armChoice: VersionArmChoice | undefined;
+  if (input.armRevisionId !== undefined) {
+    armChoice = await resolveArmChoice(db, profile.armId, { armRevisionId: input.armRevisionId, toolId: input.toolId });
+  } else if (input.toolId !== undefined && parentChoice) {
+    armChoice = await resolveArmChoice(db, profile.armId, { armRevisionId: parentChoice.armRevisionId, toolId: input.toolId });
+  }
+  const choice = armChoice ?? parentChoice;
+  const arm = choice ? ((await findArmAtRevision(db, choice)) ?? (await armFor(db, profile.armId))) : await armFor(db, profile.armId);
   checkParamsFitArm(input.params, arm);
   try {
     return await db.transaction(async (t) => {
@@ -167,7 +190,8 @@ export async function saveVersion(ctx: WorkflowContext, actor: User, profileId: 
         .Version.scope("withStatus")
         .findOne({ where: { profileId }, order: [["number", "DESC"]], lock: t.LOCK.SHARE, transaction: t });
       const latest = latestRow!.toApi();
-      if (latest.id !== input.parentVersionId) {
+      // The editor saw `latestVersionId` as the latest (or, without it, started from the latest itself).
+      if (latest.id !== (input.latestVersionId ?? input.parentVersionId)) {
         const when = latest.createdAt.slice(0, 16).replace("T", " ");
         throw new AppError(
           409,
@@ -176,22 +200,29 @@ export async function saveVersion(ctx: WorkflowContext, actor: User, profileId: 
           [{ path: "parentVersionId", message: `the latest version is now ${latest.number} (id ${latest.id}) by ${latest.authorName}` }],
         );
       }
+      // The base the engineer chose to start from: any version of this profile (issue 13, item 5).
+      const parent = latest.id === input.parentVersionId ? latest : await findVersion(db, input.parentVersionId, t);
+      if (!parent || parent.profileId !== profileId) {
+        throw new AppError(400, "validation_failed", `Start a new version of "${profile.name}" from one of its own versions.`, [
+          { path: "parentVersionId", message: "not a version of this profile" },
+        ]);
+      }
       const versionId = await insertVersion(db, t, {
         profileId,
         number: latest.number + 1,
-        parentVersionId: latest.id,
+        parentVersionId: parent.id,
         params: input.params,
         note: input.note,
         authorId: actor.id,
-      });
+      }, armChoice);
       const version = (await findVersion(db, versionId, t))!;
       await recordAudit(db, t, {
         actorId: actor.id,
         entity: "version",
         entityId: versionId,
         action: "save",
-        summary: `saved ${versionLabel(profile, version)} from v${latest.number} as a draft`,
-        before: latest,
+        summary: `saved ${versionLabel(profile, version)} from v${parent.number} as a draft`,
+        before: parent,
         after: version,
       });
       return version;
@@ -209,7 +240,7 @@ export async function saveVersion(ctx: WorkflowContext, actor: User, profileId: 
 // Transitions
 // ---------------------------------------------------------------------------------------------------
 
-const ACTIONS: Record<string, string> = { submitted: "submit", approved: "approve", rejected: "reject", retired: "retire" };
+const ACTIONS: Record<string, AuditAction> = { submitted: "submit", approved: "approve", rejected: "reject", retired: "retire", withdrawn: "withdraw" };
 
 /**
  * Run one transition of one version: lock its profile, load it, check the state, apply `change`, audit
@@ -222,7 +253,7 @@ export async function transition(
   versionId: number,
   allowedFrom: readonly VersionState[],
   verb: string,
-  change: (args: { t: Transaction; version: ProfileVersion; profile: ProfileSummary }) => Promise<string>,
+  change: (args: { t: Transaction; version: ProfileVersion; profile: ProfileSummary }) => Promise<string | { summary: string; action: AuditAction }>,
 ): Promise<ProfileVersion> {
   const { db } = ctx;
   const existing = await findVersion(db, versionId);
@@ -239,9 +270,10 @@ export async function transition(
         `${versionLabel(profile, version)} is ${version.state}; only a version that is ${allowedFrom.join(" or ")} can be ${verb}.`,
       );
     }
-    const summary = await change({ t, version, profile });
+    const result = await change({ t, version, profile });
+    const { summary, action } = typeof result === "string" ? { summary: result, action: ACTIONS[verb] ?? (verb as AuditAction) } : result;
     const after = (await findVersion(db, versionId, t))!;
-    await recordAudit(db, t, { actorId: actor.id, entity: "version", entityId: versionId, action: ACTIONS[verb] ?? verb, summary, before: version, after });
+    await recordAudit(db, t, { actorId: actor.id, entity: "version", entityId: versionId, action, summary, before: version, after });
     return after;
   });
 }
@@ -254,6 +286,48 @@ export async function retireVersion(ctx: WorkflowContext, actor: User, versionId
     await setStatus(ctx.db, t, version.id, { state: "retired", ...decision });
     return `retired ${versionLabel(profile, version)} (was ${version.state}): ${input.reason}`;
   });
+}
+
+/**
+ * The author takes a submission back (issue 13, item 4): submitted → withdrawn, out of the queue. The
+ * withdrawal is the status row's decision (who, when, the note), so the history shows it. Nobody else may.
+ */
+export async function withdrawVersion(ctx: WorkflowContext, actor: User, versionId: number, input: { note: string }): Promise<ProfileVersion> {
+  return transition(ctx, actor, versionId, ["submitted"], "withdrawn", async ({ t, version, profile }) => {
+    const label = versionLabel(profile, version);
+    if (version.authorId !== actor.id) {
+      throw new AppError(403, "forbidden", `Only ${version.authorName}, who wrote ${label}, can withdraw it from review.`);
+    }
+    const note = input.note || "withdrawn by its author";
+    await setStatus(ctx.db, t, version.id, { state: "withdrawn", decidedBy: actor.id, decidedAt: new Date(), decisionComment: note });
+    return `withdrew ${label} from review: ${note}`;
+  });
+}
+
+/**
+ * Submitting a newer version of a profile withdraws its older submissions (in the submission's
+ * transaction, profile locked): one version of a profile waits in the queue, the newest. Each withdrawal
+ * is audited and carries a note naming the newer version. Returns the versions withdrawn.
+ */
+export async function withdrawOlderSubmissions(db: Sequelize, t: Transaction, actor: User, profile: ProfileSummary, newer: ProfileVersion): Promise<ProfileVersion[]> {
+  const older = (await listVersionsInState(db, "submitted", t)).filter((v) => v.profileId === profile.id && v.number < newer.number);
+  const withdrawn: ProfileVersion[] = [];
+  for (const version of older) {
+    const note = `withdrawn: v${newer.number} was submitted in its place by ${actor.displayName}`;
+    await setStatus(db, t, version.id, { state: "withdrawn", decidedBy: actor.id, decidedAt: new Date(), decisionComment: note });
+    const after = (await findVersion(db, version.id, t))!;
+    await recordAudit(db, t, {
+      actorId: actor.id,
+      entity: "version",
+      entityId: version.id,
+      action: "withdraw",
+      summary: `${versionLabel(profile, version)} ${note}`,
+      before: version,
+      after,
+    });
+    withdrawn.push(after);
+  }
+  return withdrawn;
 }
 
 /** The previous approved version of a profile becomes superseded (the reviews module, approving a newer one). */
@@ -275,26 +349,55 @@ export async function supersede(db: Sequelize, t: Transaction, actor: User, prev
 // For the ceilings module's re-flagging
 // ---------------------------------------------------------------------------------------------------
 
-/** Every approved version with its profile's name and arm. */
-export async function listApprovedVersions(db: Sequelize, transaction: Transaction): Promise<{ version: ProfileVersion; profile: { name: string; armId: number } }[]> {
+export type ApprovedVersionWithProfile = { version: ProfileVersion; profile: Pick<ProfileSummary, "id" | "name" | "armId" | "operatorId" | "operatorName"> };
+
+/** Every approved version with its profile's name, arm and operator. */
+export async function listApprovedVersions(db: Sequelize, transaction?: Transaction): Promise<ApprovedVersionWithProfile[]> {
   const versions = await listVersionsInState(db, "approved", transaction);
-  const out: { version: ProfileVersion; profile: { name: string; armId: number } }[] = [];
+  const out: ApprovedVersionWithProfile[] = [];
   const profiles = new Map<number, ProfileSummary>();
   for (const version of versions) {
     if (!profiles.has(version.profileId)) profiles.set(version.profileId, (await findProfile(db, version.profileId, transaction))!);
     const p = profiles.get(version.profileId)!;
-    out.push({ version, profile: { name: p.name, armId: p.armId } });
+    out.push({ version, profile: { id: p.id, name: p.name, armId: p.armId, operatorId: p.operatorId, operatorName: p.operatorName } });
   }
   return out;
 }
 
 /**
- * Flag a version as above the site ceilings (sticky: the lifecycle trigger refuses clearing it), audited
- * with `summary`. Returns the version after the change.
+ * Flag a version as above the site ceilings (sticky: the lifecycle trigger refuses clearing it by an
+ * UPDATE; only a re-confirmation clears it), with a row in its flag history and an audit entry, both
+ * saying `summary`. Returns the version after the change.
  */
-export async function flagAboveCeilings(db: Sequelize, t: Transaction, actor: User, version: ProfileVersion, summary: string): Promise<ProfileVersion> {
+export async function flagAboveCeilings(
+  db: Sequelize,
+  t: Transaction,
+  actor: User,
+  version: ProfileVersion,
+  ceilingsRevision: number,
+  summary: string,
+): Promise<ProfileVersion> {
   await setStatus(db, t, version.id, { exceedsCeilings: true });
+  await modelsOf(db).CeilingEvent.create({ versionId: version.id, kind: "flag", ceilingsRevision, actorId: actor.id, comment: summary }, { transaction: t });
   const after = (await findVersion(db, version.id, t))!;
   await recordAudit(db, t, { actorId: actor.id, entity: "version", entityId: version.id, action: "flag", summary, before: version, after });
   return after;
+}
+
+/**
+ * Re-confirm a flagged approved version under the ceilings in force (the ceilings module checks that it
+ * complies, in the `transition`'s transaction, first): inserting the `reconfirm` row clears the flag in
+ * the same statement (its trigger, migration 0016), so the flag history keeps both events.
+ */
+export async function insertReconfirmation(db: Sequelize, t: Transaction, actor: User, version: ProfileVersion, ceilingsRevision: number, comment: string): Promise<void> {
+  await modelsOf(db).CeilingEvent.create({ versionId: version.id, kind: "reconfirm", ceilingsRevision, actorId: actor.id, comment }, { transaction: t });
+}
+
+/** The flag history of these versions, oldest first. */
+export async function listCeilingEvents(db: Sequelize, versionIds: readonly number[], transaction?: Transaction): Promise<CeilingEvent[]> {
+  if (versionIds.length === 0) return [];
+  const rows = await modelsOf(db)
+    .CeilingEvent.scope("withActorName")
+    .findAll({ where: { versionId: { [Op.in]: [...versionIds] } }, order: [["id", "ASC"]], transaction });
+  return rows.map((r) => r.toApi());
 }

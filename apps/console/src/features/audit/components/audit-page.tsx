@@ -3,13 +3,13 @@ import { useSearchParams } from "react-router";
 import { useQuery } from "@tanstack/react-query";
 import { getCoreRowModel, useReactTable, type ColumnDef } from "@tanstack/react-table";
 import { ChevronLeft, ChevronRight, Download } from "lucide-react";
-import type { AuditEntry } from "@jogwright/shared";
+import { AUDIT_ACTIONS, label, type AuditEntry } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { DataTable } from "../../../components/ui/data-table.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
-import { formatDateTime } from "../../../lib/format.ts";
+import { capitalized, formatDateTime } from "../../../lib/format.ts";
 import type { AuditEntity, AuditFilters } from "../../../lib/queries/audit.ts";
 import { userListQueryOptions } from "../../../lib/queries/users.ts";
 import { AUDIT_ENTITIES, auditExportHref, auditPageQueryOptions } from "../api/audit-api.ts";
@@ -45,6 +45,7 @@ export function AuditPage({ isAdmin }: { isAdmin: boolean }) {
   const audit = useQuery(auditPageQueryOptions(filters));
   const users = useQuery({ ...userListQueryOptions(), enabled: isAdmin });
   const [seenActors, setSeenActors] = useState<Map<string, string>>(new Map());
+  const [periodError, setPeriodError] = useState<string | null>(null);
 
   // Every actor seen on any page so far, for the actor filter (updated while rendering, React's pattern for
   // state derived from changing data: no effect, no extra paint).
@@ -64,6 +65,15 @@ export function AuditPage({ isAdmin }: { isAdmin: boolean }) {
   const onFilter = (event: FormEvent<HTMLFormElement>) => {
     event.preventDefault();
     const form = new FormData(event.currentTarget);
+    // Calendar days as yyyy-mm-dd compare as text. A period that ends before it starts is refused here,
+    // with the reason on the "To day" field (the API refuses it too: auditQuerySchema).
+    const fromDay = String(form.get("fromDay") ?? "");
+    const toDay = String(form.get("toDay") ?? "");
+    if (fromDay && toDay && fromDay > toDay) {
+      setPeriodError("The period ends before it starts: pick a “To day” on or after the “From day”.");
+      return;
+    }
+    setPeriodError(null);
     const next = new URLSearchParams();
     for (const key of ["entity", "action", "actorId", "fromDay", "toDay"]) {
       const value = String(form.get(key) ?? "").trim();
@@ -97,15 +107,22 @@ export function AuditPage({ isAdmin }: { isAdmin: boolean }) {
         }
       />
       <form onSubmit={onFilter} className="mb-4 grid items-end gap-3 md:grid-cols-6" aria-label="Filter the audit trail" key={searchParams.toString()}>
-        <SelectField label="Entity" name="entity" defaultValue={searchParams.get("entity") ?? ""}>
-          <option value="">Any</option>
+        <SelectField label="About" name="entity" defaultValue={searchParams.get("entity") ?? ""}>
+          <option value="">Anything</option>
           {AUDIT_ENTITIES.map((e) => (
             <option key={e} value={e}>
-              {e}
+              {label("auditEntity", e)}
             </option>
           ))}
         </SelectField>
-        <TextField label="Action" name="action" placeholder="e.g. approve" defaultValue={searchParams.get("action") ?? ""} />
+        <SelectField label="Action" name="action" defaultValue={searchParams.get("action") ?? ""}>
+          <option value="">Any action</option>
+          {AUDIT_ACTIONS.map((a) => (
+            <option key={a} value={a}>
+              {label("auditAction", a)}
+            </option>
+          ))}
+        </SelectField>
         <SelectField label="Actor" name="actorId" defaultValue={searchParams.get("actorId") ?? ""}>
           <option value="">Anyone</option>
           {actors.map(([id, name]) => (
@@ -115,12 +132,21 @@ export function AuditPage({ isAdmin }: { isAdmin: boolean }) {
           ))}
         </SelectField>
         <TextField label="From day" name="fromDay" type="date" defaultValue={searchParams.get("fromDay") ?? ""} />
-        <TextField label="To day" name="toDay" type="date" defaultValue={searchParams.get("toDay") ?? ""} />
+        <TextField label="To day" name="toDay" type="date" defaultValue={searchParams.get("toDay") ?? ""} error={periodError ?? undefined} />
         <div className="flex gap-2 pb-0.5">
           <Button type="submit" variant="primary">
             Filter
           </Button>
-          {hasFilters ? <Button onClick={() => setSearchParams(new URLSearchParams())}>Clear</Button> : null}
+          {hasFilters || periodError ? (
+            <Button
+              onClick={() => {
+                setPeriodError(null);
+                setSearchParams(new URLSearchParams());
+              }}
+            >
+              Clear
+            </Button>
+          ) : null}
         </div>
       </form>
       <QueryStatus query={audit} loading="Loading the audit trail…" failed="Could not load the audit trail" />
@@ -153,18 +179,20 @@ function AuditTable({ entries }: { entries: AuditEntry[] }) {
   const columns = useMemo<ColumnDef<AuditEntry>[]>(
     () => [
       { id: "at", header: "When", cell: (c) => <span className="num whitespace-nowrap text-ink-300">{formatDateTime(c.row.original.at)}</span> },
-      { id: "actor", header: "Actor", cell: (c) => c.row.original.actorName ?? <span className="text-ink-400">system</span> },
+      { id: "actor", header: "Who", cell: (c) => c.row.original.actorName ?? <span className="text-ink-400">Jogwright (set-up)</span> },
       {
+        // Named as everyone else names it: `"Pack opening" v6`, never the row id (issue 13, item 9).
         id: "entity",
-        header: "Entity",
+        header: "About",
         cell: (c) => (
-          <span className="whitespace-nowrap">
-            {c.row.original.entity} <span className="num text-xs text-ink-400">#{c.row.original.entityId}</span>
+          <span className="flex flex-col">
+            <span className="text-xs text-ink-400">{label("auditEntity", c.row.original.entity)}</span>
+            <span>{c.row.original.entityLabel}</span>
           </span>
         ),
       },
-      { id: "action", header: "Action", cell: (c) => <span className="num text-xs">{c.row.original.action}</span> },
-      { id: "summary", header: "Summary", cell: (c) => <span className="text-ink-300">{c.row.original.summary}</span> },
+      { id: "action", header: "Action", cell: (c) => <span className="whitespace-nowrap">{label("auditAction", c.row.original.action)}</span> },
+      { id: "summary", header: "Summary", cell: (c) => <span className="text-ink-300">{capitalized(c.row.original.summary)}</span> },
       {
         id: "hash",
         header: "SHA-256 before → after",

@@ -2,7 +2,7 @@ import { useMemo, useState } from "react";
 import { useMutation, useQuery } from "@tanstack/react-query";
 import { FlaskConical, Plus } from "lucide-react";
 import {
-  profileParamsSchema, withSweepParameter,
+  label, profileParamsSchema, withSweepParameter,
   type ProfileParams, type ProfileVersion, type SweepParameter, type TrialRef, type TrialRun,
 } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
@@ -127,7 +127,7 @@ export function BenchPage() {
             <SelectField label="Version" value={a?.id ?? ""} disabled={!versions.length} onChange={(e) => setVersionA(Number(e.target.value))}>
               {versions.map((v) => (
                 <option key={v.id} value={v.id}>
-                  v{v.number} ({v.state})
+                  v{v.number} ({label("versionState", v.state).toLowerCase()})
                 </option>
               ))}
             </SelectField>
@@ -147,7 +147,7 @@ export function BenchPage() {
                 .filter((v) => v.id !== a?.id)
                 .map((v) => (
                   <option key={v.id} value={v.id}>
-                    v{v.number} ({v.state})
+                    v{v.number} ({label("versionState", v.state).toLowerCase()})
                   </option>
                 ))}
             </SelectField>
@@ -180,7 +180,7 @@ export function BenchPage() {
               </SelectField>
               {trials.data.notApplicable.map((t) => (
                 <p key={t.kind} className="text-xs text-ink-400">
-                  {t.kind}: {t.reason}
+                  {label("builtinTrial", t.kind)}: {t.reason}
                 </p>
               ))}
             </fieldset>

@@ -1,8 +1,7 @@
-import { z } from "zod";
-import { ceilingsRecordSchema, type Ceilings } from "@jogwright/shared";
+import type { z } from "zod";
+import { updateCeilingsResponseSchema as updateResultSchema, type Ceilings } from "@jogwright/shared";
 import { apiRequest } from "../../../lib/api-client.ts";
 
-const updateResultSchema = z.object({ record: ceilingsRecordSchema, flaggedVersionIds: z.array(z.number().int()) });
 export type CeilingsUpdateResult = z.infer<typeof updateResultSchema>;
 
 /** Saving the ceilings; reading them is lib/queries/ceilings.ts (every profile form reads them too). */

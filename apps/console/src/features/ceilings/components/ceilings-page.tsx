@@ -3,10 +3,12 @@ import { Link } from "react-router";
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { Save } from "lucide-react";
-import { GUARD_POLICIES, GUARD_POLICY_LABELS, type CeilingsRecord } from "@jogwright/shared";
+import { GUARD_POLICIES, GUARD_POLICY_LABELS, labelForProfilePath, type CeilingsRecord, type FlaggedVersion } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
+import { FormFooter, SCROLL_ABOVE_FORM_FOOTER } from "../../../components/ui/form-footer.tsx";
+import { cn } from "../../../lib/cn.ts";
 import { Checkbox } from "../../../components/ui/checkbox.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
@@ -15,9 +17,8 @@ import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
 import { formatDateTime } from "../../../lib/format.ts";
 import { applyServerIssues } from "../../../lib/server-issues.ts";
-import { useProfiles } from "../../../lib/queries/profiles.ts";
 import { ISO_CEILING_CITATION } from "../../../components/profiles/ceiling-citation.ts";
-import { useCeilings } from "../../../lib/queries/ceilings.ts";
+import { useCeilings, useFlaggedVersions } from "../../../lib/queries/ceilings.ts";
 import { ceilingsFormCodec, ceilingsFormValuesOf, uiFieldOfCeilingsPath, type CeilingsFormOutput, type CeilingsFormValues } from "../forms/ceilings-form-codec.ts";
 import { useUpdateCeilings } from "../hooks/use-ceilings.ts";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
@@ -36,6 +37,7 @@ export function CeilingsPage({ canEdit }: { canEdit: boolean }) {
       />
       <QueryStatus query={record} loading="Loading the ceilings…" failed="Could not load the ceilings" />
       {record.data ? <CeilingsEditor latest={record.data} canEdit={canEdit} /> : null}
+      <FlaggedVersionsCard canReconfirm={canEdit} />
     </>
   );
 }
@@ -46,9 +48,8 @@ export function CeilingsPage({ canEdit }: { canEdit: boolean }) {
  */
 function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: boolean }) {
   const update = useUpdateCeilings();
-  const profiles = useProfiles();
   const [loaded, setLoaded] = useState(latest);
-  const [flagged, setFlagged] = useState<number[] | null>(null);
+  const [flagged, setFlagged] = useState<FlaggedVersion[] | null>(null);
   // Only the first render counts for react-hook-form; later revisions arrive through reset().
   const defaultValues = useMemo(() => ceilingsFormValuesOf(loaded.ceilings), [loaded]);
   const { register, handleSubmit, formState, reset, setError } = useForm<CeilingsFormValues, unknown, CeilingsFormOutput>({
@@ -64,59 +65,18 @@ function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: 
   const onSubmit = handleSubmit(({ ceilings, note }) => {
     setFlagged(null);
     setUnplacedIssues([]);
-    snapshotNames();
     update.mutate({ revision: loaded.revision, ceilings, note }, {
       onSuccess: (r) => {
         setLoaded(r.record);
         reset(ceilingsFormValuesOf(r.record.ceilings));
-        setFlagged(r.flaggedVersionIds);
+        setFlagged(r.flaggedVersions);
       },
       onError: (error) => setUnplacedIssues(applyServerIssues(error, fieldOfServerIssue, setError)),
     });
   });
 
-  // Names for flagged versions, from the profiles as they were before the save (a flagged version stops
-  // being driveable, so afterwards the list no longer points at it).
-  const [namesBeforeSave, setNamesBeforeSave] = useState<Map<number, { text: string; profileId: number }>>(new Map());
-  const snapshotNames = () => {
-    const names = new Map<number, { text: string; profileId: number }>();
-    for (const p of profiles.data ?? []) {
-      if (p.driveableVersionId !== null) names.set(p.driveableVersionId, { text: `${p.name} (its driveable version)`, profileId: p.id });
-      names.set(p.latestVersion.id, { text: `${p.name} v${p.latestVersion.number}`, profileId: p.id });
-    }
-    setNamesBeforeSave(names);
-  };
-  const describeVersion = (id: number) => namesBeforeSave.get(id) ?? { text: `version id ${id}`, profileId: null };
-
   return (
     <div className="flex max-w-4xl flex-col gap-6">
-      {flagged ? (
-        flagged.length === 0 ? (
-          <Message tone="ok" title="Ceilings saved">
-            No approved version is above the new ceilings.
-          </Message>
-        ) : (
-          <Message tone="warn" title={`Ceilings saved — ${flagged.length} approved ${flagged.length === 1 ? "version is" : "versions are"} now above them`}>
-            <p>These cannot be driven until a compliant version is approved:</p>
-            <ul className="list-disc pl-4" data-testid="flagged-versions">
-              {flagged.map((id) => {
-                const v = describeVersion(id);
-                return (
-                  <li key={id}>
-                    {v.profileId !== null ? (
-                      <Link to={`/profiles/${v.profileId}`} className="text-iris-300 hover:underline">
-                        {v.text}
-                      </Link>
-                    ) : (
-                      v.text
-                    )}
-                  </li>
-                );
-              })}
-            </ul>
-          </Message>
-        )
-      ) : null}
       <Card
         title={canEdit ? "Edit the ceilings" : "Ceilings in force"}
         description={
@@ -133,7 +93,7 @@ function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: 
           </>
         }
       >
-        <form onSubmit={onSubmit} noValidate className="flex flex-col gap-5" aria-label="Site ceilings">
+        <form onSubmit={onSubmit} noValidate className={cn("flex flex-col gap-5", SCROLL_ABOVE_FORM_FOOTER)} aria-label="Site ceilings">
           <div className="grid gap-4 md:grid-cols-2">
             <NumberField
               label="TCP linear speed, at most"
@@ -184,11 +144,11 @@ function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: 
             />
             <NumberField
               label="Damping at the singularity, at least"
-              unit="m"
+              unit="mm"
               hint="The smallest λmax (or λ0, or fixed λ) a profile may use near singularities."
               disabled={!canEdit}
-              error={errors.lambdaMaxMinM?.message}
-              {...register("lambdaMaxMinM", { valueAsNumber: true })}
+              error={errors.lambdaMaxMinMm?.message}
+              {...register("lambdaMaxMinMm", { valueAsNumber: true })}
             />
             <SelectField
               label="Evidence before submission"
@@ -215,44 +175,123 @@ function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: 
           {canEdit ? (
             <>
               <TextAreaField label="Note" hint="Why the ceilings change; kept in the audit trail." error={errors.note?.message} {...register("note")} />
-              {isStale ? (
-                <Message tone="stop" title="Not saved: the ceilings changed since you loaded them">
-                  <p>{update.error?.message}</p>
-                  <p>Nothing was overwritten and your values are still in the form. Load the current ceilings, then make your change again.</p>
-                  <Button
-                    size="sm"
-                    className="mt-2"
-                    onClick={() => {
-                      setLoaded(latest);
-                      reset(ceilingsFormValuesOf(latest.ceilings));
-                      update.reset();
-                    }}
-                  >
-                    Load the current ceilings (revision {latest.revision}, discards my values)
-                  </Button>
-                </Message>
-              ) : update.isError ? (
-                <Message tone="stop" title="Not saved">
-                  {update.error.message}
-                  {unplacedIssues.length > 0 ? (
-                    <ul className="mt-1 list-disc pl-4">
-                      {unplacedIssues.map((m) => (
-                        <li key={m}>{m}</li>
-                      ))}
-                    </ul>
-                  ) : null}
-                </Message>
-              ) : null}
               {errors.root ? <Message tone="stop">{errors.root.message}</Message> : null}
-              <div className="flex justify-end">
+              {/* The outcome of Save shows beside the button, in view, with focus moved to it (issue 13, item 10). */}
+              <FormFooter
+                feedbackKey={update.isIdle || update.isPending ? null : `${update.status}-${update.submittedAt}`}
+                feedback={
+                  isStale ? (
+                    <Message tone="stop" title="Not saved: the ceilings changed since you loaded them">
+                      <p>{update.error?.message}</p>
+                      <p>Nothing was overwritten and your values are still in the form. Load the current ceilings, then make your change again.</p>
+                      <Button
+                        size="sm"
+                        className="mt-2"
+                        onClick={() => {
+                          setLoaded(latest);
+                          reset(ceilingsFormValuesOf(latest.ceilings));
+                          update.reset();
+                        }}
+                      >
+                        Load the current ceilings (revision {latest.revision}, discards my values)
+                      </Button>
+                    </Message>
+                  ) : update.isError ? (
+                    <Message tone="stop" title="Not saved">
+                      {update.error.message}
+                      {unplacedIssues.length > 0 ? (
+                        <ul className="mt-1 list-disc pl-4">
+                          {unplacedIssues.map((m) => (
+                            <li key={m}>{m}</li>
+                          ))}
+                        </ul>
+                      ) : null}
+                    </Message>
+                  ) : flagged ? (
+                    flagged.length === 0 ? (
+                      <Message tone="ok" title="Ceilings saved">
+                        No approved version is above the new ceilings.
+                      </Message>
+                    ) : (
+                      <Message tone="warn" title={`Ceilings saved — ${flagged.length} approved ${flagged.length === 1 ? "version is" : "versions are"} now above them`}>
+                        <p>These cannot be driven until a compliant version is approved or a safety officer re-confirms them under the ceilings in force:</p>
+                        <ul className="list-disc pl-4" data-testid="flagged-versions">
+                          {flagged.map((v) => (
+                            <li key={v.versionId}>
+                              <Link to={`/profiles/${v.profileId}`} className="text-iris-300 hover:underline">
+                                {v.label}
+                              </Link>{" "}
+                              <span className="text-ink-300">(operator {v.operatorName})</span>
+                            </li>
+                          ))}
+                        </ul>
+                      </Message>
+                    )
+                  ) : null
+                }
+              >
                 <Button type="submit" variant="primary" disabled={update.isPending}>
                   <Save aria-hidden className="size-4" />
                   {update.isPending ? "Saving…" : "Save ceilings"}
                 </Button>
-              </div>
+              </FormFooter>
             </>
           ) : null}
         </form>
+      </Card>
+    </div>
+  );
+}
+
+/**
+ * Approved versions flagged above the ceilings now, named as people know them ("Olena — pack opening
+ * v5"), with whether each complies with the ceilings in force; a safety officer re-confirms one that does
+ * on its review page (a comment, audited, mailed), or a compliant successor is approved.
+ */
+function FlaggedVersionsCard({ canReconfirm }: { canReconfirm: boolean }) {
+  const flagged = useFlaggedVersions();
+  return (
+    <div className="mt-6 max-w-4xl">
+      <Card
+        title="Flagged versions"
+        description="Approved versions the ceilings were lowered below. Their operators cannot drive them until a compliant version is approved or a safety officer re-confirms one that complies with the ceilings in force now."
+      >
+        <QueryStatus query={flagged} loading="Loading the flagged versions…" failed="Could not load the flagged versions" />
+        {flagged.data ? (
+          flagged.data.length === 0 ? (
+            <p className="text-sm text-ink-300">No approved version is flagged.</p>
+          ) : (
+            <ul className="flex flex-col gap-3" data-testid="flagged-list">
+              {flagged.data.map((v) => (
+                <li key={v.versionId} className="flex flex-wrap items-start justify-between gap-3 border-b border-ink-700 pb-3 last:border-b-0" data-version-id={v.versionId}>
+                  <div className="flex flex-col gap-1 text-sm">
+                    <Link to={`/profiles/${v.profileId}`} className="font-semibold text-iris-300 hover:underline">
+                      {v.label}
+                    </Link>
+                    <span className="text-ink-300">
+                      Operator {v.operatorName} · flagged {v.events.filter((e) => e.kind === "flag").length}×
+                      {v.events.length ? <span className="num"> · last {formatDateTime(v.events[v.events.length - 1]!.at)}</span> : null}
+                    </span>
+                    {v.compliesNow ? (
+                      <span className="text-ok-400">Complies with the ceilings in force now.</span>
+                    ) : (
+                      <span className="text-warn-400">Still above: {v.violations.map((x) => labelForProfilePath(x.field)).join(", ")}.</span>
+                    )}
+                  </div>
+                  {canReconfirm && v.compliesNow ? (
+                    <Link
+                      to={`/reviews/${v.versionId}`}
+                      className="inline-flex h-9 items-center rounded-md border border-ink-600 px-3 text-sm font-semibold text-iris-300 hover:bg-ink-800"
+                      aria-label={`Re-confirm ${v.label}`}
+                    >
+                      Re-confirm…
+                    </Link>
+                  ) : null}
+                </li>
+              ))}
+            </ul>
+          )
+        ) : null}
       </Card>
     </div>
   );

@@ -23,7 +23,7 @@ describe("the ceilings form codec", () => {
       jointSpeedFractionMaxPercent: 75, // 0.75
       watchdogMaxMs: 300,
       allowedGuardPolicies: ["damp-through", "stop-before"],
-      lambdaMaxMinM: 0.01,
+      lambdaMaxMinMm: 10, // 0.01 m: damping in mm, as on the profile form and the drive page (issue 13, item 12)
       stoppingDistanceMaxMm: 50, // 0.05 m
       decelerationMinMPerS2: 0.5,
       evidenceRequired: "builtin-trials", // the default rule of issue 10
@@ -32,7 +32,8 @@ describe("the ceilings form codec", () => {
   });
 
   it("decodes UI values into SI ceilings and a trimmed note", () => {
-    const out = z.decode(ceilingsFormCodec, { ...uiDefaults(), tcpLinearMaxMmPerS: 200, tcpAngularMaxDegPerS: 45, jointSpeedFractionMaxPercent: 50, stoppingDistanceMaxMm: 30, note: "  lower  " });
+    const out = z.decode(ceilingsFormCodec, { ...uiDefaults(), tcpLinearMaxMmPerS: 200, tcpAngularMaxDegPerS: 45, jointSpeedFractionMaxPercent: 50, stoppingDistanceMaxMm: 30, lambdaMaxMinMm: 12.5, note: "  lower  " });
+    expect(out.ceilings.lambdaMaxMinM).toBeCloseTo(0.0125, 12);
     expect(out.ceilings.tcpLinearMaxMPerS).toBeCloseTo(0.2, 12);
     expect(out.ceilings.tcpAngularMaxRadPerS).toBeCloseTo(Math.PI / 4, 12);
     expect(out.ceilings.jointSpeedFractionMax).toBeCloseTo(0.5, 12);

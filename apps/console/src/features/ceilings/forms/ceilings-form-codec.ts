@@ -2,7 +2,8 @@ import { z } from "zod";
 import { ceilingsSchema, EVIDENCE_RULES, guardPolicySchema, roundTo, UNITS, type Ceilings } from "@jogwright/shared";
 import { addSchemaIssuesAtUiPaths, uiNumber } from "../../../lib/form-codec.ts";
 
-// The ceilings form: UI units (mm/s, deg/s, %, ms, mm, m/s², m) ⇄ the SI `ceilings` of PUT /api/ceilings.
+// The ceilings form: UI units (mm/s, deg/s, %, ms, mm, m/s², and mm for λ as everywhere else) ⇄ the SI
+// `ceilings` of PUT /api/ceilings.
 
 const NOTE_MAX = 2000;
 
@@ -13,7 +14,7 @@ const UI_KEY_OF: Record<keyof Ceilings, keyof CeilingsFormValues> = {
   jointSpeedFractionMax: "jointSpeedFractionMaxPercent",
   watchdogMaxMs: "watchdogMaxMs",
   allowedGuardPolicies: "allowedGuardPolicies",
-  lambdaMaxMinM: "lambdaMaxMinM",
+  lambdaMaxMinM: "lambdaMaxMinMm",
   stoppingDistanceMaxM: "stoppingDistanceMaxMm",
   decelerationMinMPerS2: "decelerationMinMPerS2",
   evidenceRequired: "evidenceRequired",
@@ -30,7 +31,7 @@ const ceilingsUiSchema = z
     watchdogMaxMs: uiNumber("ms"),
     // A group of checkboxes with none ticked reads as false in react-hook-form.
     allowedGuardPolicies: z.union([z.array(guardPolicySchema), z.literal(false)]),
-    lambdaMaxMinM: uiNumber("m"),
+    lambdaMaxMinMm: uiNumber("mm"),
     stoppingDistanceMaxMm: uiNumber("mm"),
     decelerationMinMPerS2: uiNumber("m/s²"),
     evidenceRequired: z.enum(EVIDENCE_RULES),
@@ -54,14 +55,14 @@ function ceilingsFromUi(v: CeilingsFormValues): z.input<typeof ceilingsSchema> {
     jointSpeedFractionMax: UNITS.fractionToPercent.toSi(v.jointSpeedFractionMaxPercent),
     watchdogMaxMs: v.watchdogMaxMs,
     allowedGuardPolicies: v.allowedGuardPolicies === false ? [] : v.allowedGuardPolicies,
-    lambdaMaxMinM: v.lambdaMaxMinM,
+    lambdaMaxMinM: UNITS.metresToMm.toSi(v.lambdaMaxMinMm),
     stoppingDistanceMaxM: UNITS.metresToMm.toSi(v.stoppingDistanceMaxMm),
     decelerationMinMPerS2: v.decelerationMinMPerS2,
     evidenceRequired: v.evidenceRequired,
   };
 }
 
-/** SI → UI, rounded to what each field shows (0.1 mm/s, 0.01 deg/s, 0.1 %, 0.1 mm, 0.001 m/s²). */
+/** SI → UI, rounded to what each field shows (0.1 mm/s, 0.01 deg/s, 0.1 %, 0.1 mm, 0.001 m/s², 0.1 mm for λ). */
 export function ceilingsFormValuesOf(ceilings: z.input<typeof ceilingsSchema>, note = ""): CeilingsFormValues {
   const c = ceilingsSchema.parse(ceilings);
   return {
@@ -70,7 +71,7 @@ export function ceilingsFormValuesOf(ceilings: z.input<typeof ceilingsSchema>, n
     jointSpeedFractionMaxPercent: roundTo(UNITS.fractionToPercent.toUi(c.jointSpeedFractionMax), 1),
     watchdogMaxMs: c.watchdogMaxMs,
     allowedGuardPolicies: [...c.allowedGuardPolicies],
-    lambdaMaxMinM: c.lambdaMaxMinM,
+    lambdaMaxMinMm: roundTo(UNITS.metresToMm.toUi(c.lambdaMaxMinM), 1),
     stoppingDistanceMaxMm: roundTo(UNITS.metresToMm.toUi(c.stoppingDistanceMaxM), 1),
     decelerationMinMPerS2: roundTo(c.decelerationMinMPerS2, 3),
     evidenceRequired: c.evidenceRequired,

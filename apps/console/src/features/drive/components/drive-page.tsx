@@ -1,23 +1,27 @@
 import { useCallback, useEffect, useState } from "react";
-import { Link } from "react-router";
-import { useQuery } from "@tanstack/react-query";
+import { Link, useSearchParams } from "react-router";
+import { useQuery, useQueryClient } from "@tanstack/react-query";
 import { DEFAULT_GAMEPAD_MAPPING, hasAnyRole } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Message } from "../../../components/ui/message.tsx";
-import { describeEnded, jogClient, useJogSnapshot } from "../../../lib/jog-socket.ts";
+import { describeEnded, jogClient, jogErrorTitle, useJogSnapshot } from "../../../lib/jog-socket.ts";
 import { useArms } from "../../../lib/queries/arms.ts";
-import { useCurrentUser } from "../../../lib/session.ts";
-import { gamepadMappingQueryOptions } from "../api/drive-api.ts";
+import { storeSession, useCurrentUser } from "../../../lib/session.ts";
+import { driveableVersionsQueryOptions, gamepadMappingQueryOptions } from "../api/drive-api.ts";
 import { profileDetailQueryOptions, profileListQueryOptions } from "../../../lib/queries/profiles.ts";
 import { jogInput } from "../input/jog-input.ts";
 import { ConnectionState, DriveWorkspace, UnapprovedBanner } from "../../../components/jog/drive-workspace.tsx";
 import { GamepadMappingDialog } from "./gamepad-mapping-dialog.tsx";
 import { EnablingButton, JogControls, StopControls } from "./jog-controls.tsx";
+import { AddressVersionRefusal, parseVersionParam } from "./address-version.tsx";
 import { VersionPicker, type PickedVersion } from "./version-picker.tsx";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 /** How long "End session" waits for the server's "ended" (with the recording id) before closing. */
 const END_WAIT_MS = 1500;
+
+/** Ends the person did not ask for: said as a caution, not as news. */
+const UNASKED_ENDS = new Set(["account-deactivated", "signed-out", "session-expired", "profile-not-driveable", "roles-changed", "disconnected", "simulation-failed", "server-shutdown"]);
 
 export function DrivePage() {
   const user = useCurrentUser();
@@ -28,6 +32,21 @@ export function DrivePage() {
   const mapping = useQuery(gamepadMappingQueryOptions());
   const [picked, setPicked] = useState<PickedVersion>({ profileId: null, versionId: null });
   const [isMappingOpen, setMappingOpen] = useState(false);
+  const queryClient = useQueryClient();
+
+  // ?version=<id> (the profile page's "Test-drive this version"): picked once the list of what this person
+  // may drive is here, when it is in it; otherwise AddressVersionRefusal says why.
+  const [searchParams] = useSearchParams();
+  const versionParam = searchParams.get("version");
+  const addressVersionId = parseVersionParam(versionParam);
+  const driveable = useQuery(driveableVersionsQueryOptions());
+  const [appliedParam, setAppliedParam] = useState<string | null>(null);
+  if (versionParam !== null && versionParam !== appliedParam && driveable.data) {
+    setAppliedParam(versionParam);
+    const fromAddress = driveable.data.find((v) => v.id === addressVersionId);
+    if (fromAddress) setPicked({ profileId: fromAddress.profileId, versionId: fromAddress.id });
+  }
+  const isAddressVersionDriveable = driveable.data?.some((v) => v.id === addressVersionId) ?? true;
 
   const session = snapshot.session;
   const isDriving = session !== null && !session.isWatching;
@@ -39,6 +58,13 @@ export function DrivePage() {
   const profileSummary = profiles.data?.find((p) => p.id === profileId) ?? null;
   const armId = session?.armId ?? profileSummary?.armId ?? null;
   const arm = arms.data?.find((a) => a.id === armId) ?? null;
+
+  // Signed out (4401: here, elsewhere, expired, or never signed in): the socket stays closed, and the
+  // session guard sends the person to sign in and back here after.
+  const isSignedOut = snapshot.error?.code === "signed_out";
+  useEffect(() => {
+    if (isSignedOut) storeSession(queryClient, { user: null, hasSignedOut: false });
+  }, [isSignedOut, queryClient]);
 
   // One socket and one input loop while the page is open.
   useEffect(() => {
@@ -110,8 +136,12 @@ export function DrivePage() {
             onPick={setPicked}
             onStart={() => picked.versionId !== null && jogClient.start(picked.versionId)}
             isDriving={isDriving}
+            drivenVersionId={isDriving ? session.versionId : null}
             canStart={snapshot.connection === "open"}
           />
+        ) : null}
+        {versionParam !== null && !isAddressVersionDriveable ? (
+          <AddressVersionRefusal versionParam={versionParam} versionId={addressVersionId} user={user} />
         ) : null}
         {session?.isUnapproved ? <UnapprovedBanner versionNumber={session.versionNumber} versionState={session.versionState} /> : null}
         {session ? (
@@ -124,13 +154,13 @@ export function DrivePage() {
           </p>
         ) : null}
         {snapshot.error ? (
-          <Message tone="stop" title="The server refused or failed">
-            {snapshot.error.message} <span className="num text-xs text-ink-400">({snapshot.error.code})</span>
+          <Message tone="stop" title={jogErrorTitle(snapshot.error.code)}>
+            <span data-testid="jog-error" data-code={snapshot.error.code}>{snapshot.error.message}</span>
           </Message>
         ) : null}
         {snapshot.ended ? (
-          <Message tone="info" title="Session ended">
-            {describeEnded(snapshot.ended)}{" "}
+          <Message tone={UNASKED_ENDS.has(snapshot.ended.reason) ? "warn" : "info"} title="Session ended">
+            <span data-testid="session-ended" data-reason={snapshot.ended.reason}>{describeEnded(snapshot.ended)}</span>{" "}
             {snapshot.ended.recordingId !== null ? (
               <Link className="text-iris-300 underline" to={`/recordings?recording=${snapshot.ended.recordingId}`}>
                 Open its recording

@@ -264,6 +264,11 @@ export function StopControls({ frame, isDriving, onEndSession }: { frame: Record
       >
         <OctagonX aria-hidden className="size-7" /> STOP
       </button>
+      {!isDriving ? (
+        <p className="text-xs text-ink-300" data-testid="stop-not-needed">
+          No live session: the arm is not moving, so there is nothing to stop.
+        </p>
+      ) : null}
       {isLatched ? (
         <Button variant="secondary" onClick={() => jogClient.command("reset-estop")} disabled={!isDriving}>
           <RotateCcw aria-hidden className="size-4" /> Reset emergency stop

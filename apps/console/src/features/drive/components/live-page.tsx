@@ -1,5 +1,5 @@
 import { useEffect, useMemo, useState } from "react";
-import { useQuery } from "@tanstack/react-query";
+import { useQuery, useQueryClient } from "@tanstack/react-query";
 import type { ColumnDef } from "@tanstack/react-table";
 import type { LiveSession } from "@jogwright/shared";
 import { Eye, OctagonX } from "lucide-react";
@@ -9,7 +9,8 @@ import { Button } from "../../../components/ui/button.tsx";
 import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
-import { describeEnded, jogClient, mayStopWatchedSession, useJogSnapshot } from "../../../lib/jog-socket.ts";
+import { describeEnded, jogClient, jogErrorTitle, mayStopWatchedSession, useJogSnapshot } from "../../../lib/jog-socket.ts";
+import { storeSession } from "../../../lib/session.ts";
 import { useArms } from "../../../lib/queries/arms.ts";
 import { liveSessionsQueryOptions } from "../api/drive-api.ts";
 import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
@@ -23,6 +24,12 @@ import { QueryStatus } from "../../../components/ui/query-status.tsx";
  */
 export function LivePage() {
   const snapshot = useJogSnapshot();
+  // Signed out (4401): the socket stays closed; the session guard sends the person to sign in.
+  const queryClient = useQueryClient();
+  const isSignedOut = snapshot.error?.code === "signed_out";
+  useEffect(() => {
+    if (isSignedOut) storeSession(queryClient, { user: null, hasSignedOut: false });
+  }, [isSignedOut, queryClient]);
   const live = useQuery(liveSessionsQueryOptions());
   const arms = useArms();
   const [watchedId, setWatchedId] = useState<string | null>(null);
@@ -59,7 +66,7 @@ export function LivePage() {
           }} />
         ) : null}
         {snapshot.error ? (
-          <Message tone="stop" title="The server refused or failed">
+          <Message tone="stop" title={jogErrorTitle(snapshot.error.code)}>
             {snapshot.error.message}
           </Message>
         ) : null}

@@ -1,6 +1,6 @@
 import { useId } from "react";
 import { useQuery } from "@tanstack/react-query";
-import type { DriveableVersion } from "@jogwright/shared";
+import { label, type DriveableVersion } from "@jogwright/shared";
 import { Button } from "../../../components/ui/button.tsx";
 import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
@@ -23,7 +23,8 @@ const selectClass = "h-9 min-w-64 rounded-md border border-ink-600 bg-ink-800 px
 
 export function versionLabel(v: Pick<DriveableVersion, "number" | "state" | "kind" | "exceedsCeilings">): string {
   if (v.kind === "approved") return `Version ${v.number} · approved`;
-  const state = v.exceedsCeilings ? `${v.state}, above the site ceilings` : v.state;
+  const stateWords = label("versionState", v.state).toLowerCase();
+  const state = v.exceedsCeilings ? `${stateWords}, above the site ceilings` : stateWords;
   return `Version ${v.number} · ${state} — UNAPPROVED, engineer test drive`;
 }
 
@@ -50,12 +51,14 @@ function groupByProfile(versions: readonly DriveableVersion[], isEngineer: boole
 /** The version to preselect: the approved one when there is one, else the newest. */
 const defaultVersionOf = (choice: ProfileChoice | undefined) => (choice?.versions.find((v) => v.kind === "approved") ?? choice?.versions[0])?.id ?? null;
 
-export function VersionPicker({ isEngineer, picked, onPick, onStart, isDriving, canStart }: {
+export function VersionPicker({ isEngineer, picked, onPick, onStart, isDriving, drivenVersionId, canStart }: {
   isEngineer: boolean;
   picked: PickedVersion;
   onPick: (picked: PickedVersion) => void;
   onStart: () => void;
   isDriving: boolean;
+  /** The version of the live session, if any: switching to it would only restart it. */
+  drivenVersionId: number | null;
   canStart: boolean;
 }) {
   const id = useId();
@@ -120,9 +123,14 @@ export function VersionPicker({ isEngineer, picked, onPick, onStart, isDriving, 
           ))}
         </select>
       </div>
-      <Button variant="primary" onClick={onStart} disabled={!canStart || picked.versionId === null || !versions.some((v) => v.id === picked.versionId)}>
+      <Button
+        variant="primary"
+        onClick={onStart}
+        disabled={!canStart || picked.versionId === null || !versions.some((v) => v.id === picked.versionId) || picked.versionId === drivenVersionId}
+      >
         {isDriving ? "Switch to this version" : "Start driving"}
       </Button>
+      {isDriving && picked.versionId === drivenVersionId ? <p className="self-center text-xs text-ink-300">You are driving this version.</p> : null}
     </div>
   );
 }

@@ -9,6 +9,9 @@ import { createGamepadReading, readGamepad } from "./shaping.ts";
  * sends it through the jog client while anything is held; with the enabling control held it sends every
  * tick, well inside the server's watchdog (≥ one frame per 50 ms). Releasing the enabling control sends
  * `enabling: false` at once, not at the next tick. Losing focus or hiding the page releases everything.
+ * After a gamepad appears or reappears, and after the window regains focus, an enabling control counts only
+ * once it has been seen released (PRODUCT.md step 2): a trigger or a Shift key still held then is ignored
+ * until it is let go and pressed again, and the server is told (`device-changed`) so it holds to that too.
  *
  * Keyboard: Shift is the enabling key (hold to run); W/S ±x, A/D ±y, R/F ±z, I/K ±rx, J/L ±ry, U/O ±rz
  * (in joint mode the same keys drive joints 1–6). Keys typed into a form field are ignored.
@@ -68,6 +71,11 @@ export class JogInputController {
   private gamepad = createGamepadReading();
   /** Set when a device (re)appears or focus returns; cleared once the pad's enabling trigger reads released. */
   private isPadReleaseNeeded = true;
+  /**
+   * Set when the window loses or regains focus; cleared by any key or pointer event that shows Shift up.
+   * A browser may report a key held since before the focus returned as a fresh (non-repeat) keydown.
+   */
+  private isKeyReleaseNeeded = false;
   private wasEstopPressed = false;
   private timer: ReturnType<typeof setInterval> | null = null;
   private wasActive = false;
@@ -103,28 +111,46 @@ export class JogInputController {
     this.timer = setInterval(() => this.tick(), TICK_MS);
     window.addEventListener("keydown", this.onKeyDown);
     window.addEventListener("keyup", this.onKeyUp);
-    window.addEventListener("blur", this.releaseAll);
+    window.addEventListener("blur", this.onBlur);
     window.addEventListener("focus", this.onFocus);
+    window.addEventListener("pointerdown", this.onPointerDown, true);
+    window.addEventListener("gamepadconnected", this.onGamepadEvent);
+    window.addEventListener("gamepaddisconnected", this.onGamepadEvent);
     document.addEventListener("visibilitychange", this.onVisibility);
   }
 
-  /**
-   * The window regained focus: blur already released everything (and told the server), so only the
-   * gamepad's trigger must be seen released before it counts again; a key still held is not seen either
-   * (keydown repeats are ignored until a fresh press).
-   */
-  private readonly onFocus = (): void => {
-    this.isPadReleaseNeeded = true;
-    if (this.enablingSources.delete("gamepad")) this.publishEnabling();
+  private readonly onBlur = (): void => {
+    this.isKeyReleaseNeeded = true;
+    this.releaseAll();
   };
 
   /**
-   * A gamepad appeared, reappeared or was swapped: as on focus, and the server makes a controlled stop and
-   * counts the enabling control only after it has seen it released (device-changed).
+   * The window regained focus: blur already released everything (and told the server). The gamepad's
+   * trigger and the Shift key must each be seen released before they count again, here and on the server.
+   */
+  private readonly onFocus = (): void => {
+    this.isKeyReleaseNeeded = true;
+    this.noteDeviceChanged();
+  };
+
+  /** A pointer press with Shift up shows the enabling key released. */
+  private readonly onPointerDown = (event: PointerEvent): void => {
+    if (!event.shiftKey) this.isKeyReleaseNeeded = false;
+  };
+
+  /** The browser saw a pad connect or disconnect, possibly between two polls of the loop. */
+  private readonly onGamepadEvent = (): void => this.noteDeviceChanged();
+
+  /**
+   * A gamepad appeared, reappeared or was swapped, or the focus returned: its trigger counts only after it
+   * reads released, and the server makes a controlled stop and counts the enabling control only after it
+   * has seen it released (device-changed). The next tick sends the input as it now is (released unless a
+   * fresh press counts), so the server sees that release without waiting for another change.
    */
   private noteDeviceChanged(): void {
-    this.onFocus();
-    if (!this.isReadOnly) jogClient.command("device-changed");
+    this.isPadReleaseNeeded = true;
+    if (this.enablingSources.delete("gamepad")) this.publishEnabling();
+    if (!this.isReadOnly && jogClient.command("device-changed")) this.wasActive = true;
   }
 
   stop(): void {
@@ -133,8 +159,11 @@ export class JogInputController {
     this.timer = null;
     window.removeEventListener("keydown", this.onKeyDown);
     window.removeEventListener("keyup", this.onKeyUp);
-    window.removeEventListener("blur", this.releaseAll);
+    window.removeEventListener("blur", this.onBlur);
     window.removeEventListener("focus", this.onFocus);
+    window.removeEventListener("pointerdown", this.onPointerDown, true);
+    window.removeEventListener("gamepadconnected", this.onGamepadEvent);
+    window.removeEventListener("gamepaddisconnected", this.onGamepadEvent);
     document.removeEventListener("visibilitychange", this.onVisibility);
   }
 
@@ -222,9 +251,11 @@ export class JogInputController {
   };
 
   private onKeyDown = (event: KeyboardEvent): void => {
+    if (!event.shiftKey) this.isKeyReleaseNeeded = false;
     if (this.isReadOnly || isEditable(event.target) || event.metaKey || event.ctrlKey || event.altKey) return;
     if (ENABLING_KEYS.has(event.code)) {
-      if (!event.repeat) this.pressEnabling("keyboard");
+      // A repeat, or a key held since before the focus returned, is not a fresh press.
+      if (!event.repeat && !this.isKeyReleaseNeeded) this.pressEnabling("keyboard");
       return;
     }
     if (KEY_AXES[event.code]) {
@@ -237,6 +268,7 @@ export class JogInputController {
   };
 
   private onKeyUp = (event: KeyboardEvent): void => {
+    if (!event.shiftKey) this.isKeyReleaseNeeded = false;
     if (ENABLING_KEYS.has(event.code)) {
       // Both Shift keys count as one enabling key; release only when neither is down.
       if (!event.shiftKey) this.releaseEnabling("keyboard");

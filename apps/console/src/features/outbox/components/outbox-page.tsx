@@ -1,6 +1,6 @@
 import { Fragment, useState } from "react";
 import { ChevronDown, ChevronRight, RotateCw } from "lucide-react";
-import type { MailMessage } from "@jogwright/shared";
+import { label, type MailMessage } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
@@ -11,7 +11,6 @@ import { useOutbox, useRetryMail } from "../hooks/use-outbox.ts";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 const STATUS_TONE = { pending: "warn", sent: "ok", failed: "stop" } as const;
-const STATUS_LABEL = { pending: "Pending", sent: "Sent", failed: "Failed" } as const;
 
 export function OutboxPage() {
   const outbox = useOutbox();
@@ -29,7 +28,7 @@ export function OutboxPage() {
       {outbox.data ? (
         <TableFrame testId="outbox-table" caption="Outgoing mail">
           <TableHead
-            headings={[<span className="sr-only">Show the text</span>, "Created", "To", "Subject", "Kind", "Status", "Attempts", "Last error", "Sent"]}
+            headings={[<span className="sr-only">Show the text</span>, "Created", "To", "Subject", "About", "Status", "Attempts", "Last error", "Sent"]}
             hasActions
           />
           <tbody>
@@ -70,9 +69,9 @@ function MailRow({ message: m, isOpen, onToggle, onRetry, isRetrying }: { messag
         {m.to.length > 2 ? <span className="text-ink-400"> +{m.to.length - 2} more</span> : null}
       </td>
       <td className="px-3 py-2">{m.subject}</td>
-      <td className="num px-3 py-2 text-xs text-ink-300">{m.kind}</td>
+      <td className="px-3 py-2 text-ink-300">{label("mailKind", m.kind)}</td>
       <td className="px-3 py-2">
-        <Badge tone={STATUS_TONE[m.status]}>{STATUS_LABEL[m.status]}</Badge>
+        <Badge tone={STATUS_TONE[m.status]}>{label("mailStatus", m.status)}</Badge>
       </td>
       <td className="num px-3 py-2 text-right">{m.attempts}</td>
       <td className="max-w-64 px-3 py-2 text-xs text-ink-300">{m.lastError ?? <span className="text-ink-400">—</span>}</td>

@@ -5,7 +5,7 @@ export const ROLE_SUMMARIES: Record<Role, string> = {
   operator:
     "You drive the simulated arm. You choose one of the rate profiles that was approved and assigned to you, jog the tool with a gamepad, sliders or the keyboard while holding the enabling control, watch how close the arm is to a singularity or a joint limit, and can record the session.",
   engineer:
-    "You tune how the arm answers an operator's hands. You write rate profiles for each operator on the site's arms, try them live on the simulated arm, compare versions side by side, and submit a version for review. Scripted trials, sweeps and attached evidence are not available yet.",
+    "You tune how the arm answers an operator's hands. You write rate profiles for each operator on the site's arms, try them live on the simulated arm, run scripted trials through and near singular poses, sweep a parameter to find a good setting, compare versions side by side, and submit a version for review with its trial evidence.",
   safety_officer:
     "You decide what may be driven. You set the site ceilings that no profile may exceed, review submitted versions with what changed since the last approved one and the ceiling check, then approve and lock, reject with a reason, or retire a version. You can read the audit trail.",
   admin:

@@ -18,6 +18,11 @@ export async function saveVersion(profileId: number, input: SaveVersionInput): P
   return (await apiRequest(`/api/profiles/${profileId}/versions`, { method: "POST", body: input, schema: versionResponseSchema })).version;
 }
 
+/** The author takes a submission back; the note stays with the version. */
+export async function withdrawVersion(versionId: number, note: string): Promise<ProfileVersion> {
+  return (await apiRequest(`/api/versions/${versionId}/withdraw`, { method: "POST", body: { note }, schema: versionResponseSchema })).version;
+}
+
 export async function submitVersion(versionId: number): Promise<ProfileVersion> {
   return (await apiRequest(`/api/versions/${versionId}/submit`, { method: "POST", body: {}, schema: versionResponseSchema })).version;
 }

@@ -1,5 +1,5 @@
 import { useState } from "react";
-import type { JointKind, ProfileVersion } from "@jogwright/shared";
+import { label as labelOf, type JointKind, type ProfileVersion } from "@jogwright/shared";
 import { Checkbox } from "../../../components/ui/checkbox.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { ParamsDiffTable } from "../../../components/profiles/params-table.tsx";
@@ -9,7 +9,7 @@ export interface ComparePair {
   toId: number;
 }
 
-const label = (v: ProfileVersion) => `v${v.number} (${v.state})`;
+const label = (v: ProfileVersion) => `v${v.number} (${labelOf("versionState", v.state).toLowerCase()})`;
 
 /** Pick any two versions; their parameters side by side, field by field, with units. */
 export function CompareVersions({ versions, pair, onPairChange, jointKinds }: {

@@ -1,9 +1,10 @@
-import { useMemo, useRef, useState } from "react";
+import { useMemo, useRef, useState, type ReactNode } from "react";
 import { Link } from "react-router";
 import { ArrowLeft, Save } from "lucide-react";
 import {
   checkCeilings,
   labelForProfilePath,
+  VERSION_STATE_LABELS,
   type Arm,
   type Ceilings,
   type ProfileParams,
@@ -13,6 +14,7 @@ import {
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
+import { FormFooter } from "../../../components/ui/form-footer.tsx";
 import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
@@ -21,6 +23,8 @@ import { useArms } from "../../../lib/queries/arms.ts";
 import { useCeilings } from "../../../lib/queries/ceilings.ts";
 import type { ProfileDetail } from "@jogwright/shared";
 import { useProfile, useSaveVersion, useSubmitVersion } from "../hooks/use-profiles.ts";
+import { WithdrawDialog } from "./withdraw-dialog.tsx";
+import { SelectField } from "../../../components/ui/select-field.tsx";
 import { jointKindsOf, ratedSpeedsOf } from "../../../lib/arm-joints.ts";
 import { CompareVersions, type ComparePair } from "./compare-versions.tsx";
 import { ParamsDiffTable, ParamsTable } from "../../../components/profiles/params-table.tsx";
@@ -66,7 +70,11 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
 
   const submit = useSubmitVersion();
   const [notice, setNotice] = useState<string | null>(null);
+  // Where the submission was asked for: its outcome shows there (the history table's Submit at the top,
+  // or the form's footer after "Saved as vN"), not 2,500 px away (issue 13, item 10).
+  const [submitOrigin, setSubmitOrigin] = useState<"history" | "form">("history");
   const [pair, setPair] = useState<ComparePair>(() => ({ fromId: (versions[1] ?? latest).id, toId: latest.id }));
+  const [withdrawing, setWithdrawing] = useState<ProfileVersion | null>(null);
   const compareRef = useRef<HTMLDivElement>(null);
 
   const submitBlockers = useMemo(() => {
@@ -80,7 +88,8 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
     return out;
   }, [versions, ceilings, arm]);
 
-  const onSubmit = (version: ProfileVersion) => {
+  const onSubmit = (version: ProfileVersion, origin: "history" | "form" = "history") => {
+    setSubmitOrigin(origin);
     setNotice(null);
     submit.mutate(version.id, { onSuccess: (v) => setNotice(`v${v.number} is submitted for review. A safety officer decides next.`) });
   };
@@ -103,8 +112,8 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
         }
       />
       <div className="flex flex-col gap-6">
-        {notice ? <Message tone="ok">{notice}</Message> : null}
-        {submit.isError ? <SubmitError error={submit.error} /> : null}
+        {notice && submitOrigin === "history" ? <Message tone="ok">{notice}</Message> : null}
+        {submit.isError && submitOrigin === "history" ? <SubmitError error={submit.error} /> : null}
 
         <Card title="Versions" description="Every save is a new version. Approved versions are locked.">
           <VersionHistoryTable
@@ -114,6 +123,12 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
             canReview={isSafetyOfficer}
             isSubmitting={submit.isPending}
             onSubmit={onSubmit}
+            user={user}
+            operatorId={profile.operatorId}
+            onWithdraw={(v) => {
+              setNotice(null);
+              setWithdrawing(v);
+            }}
             onCompare={(v) => {
               setPair({ fromId: v.parentVersionId ?? v.id, toId: v.id });
               compareRef.current?.scrollIntoView({ block: "start" });
@@ -132,9 +147,17 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
               setNotice(null);
               setPair({ fromId: v.parentVersionId ?? v.id, toId: v.id });
             }}
-            onSubmit={onSubmit}
+            onSubmit={(v) => onSubmit(v, "form")}
             isSubmitting={submit.isPending}
             submitBlockers={submitBlockers}
+            submitFeedback={
+              submitOrigin !== "form" || submit.isIdle || submit.isPending
+                ? null
+                : {
+                    key: `submit-${submit.submittedAt}-${submit.status}`,
+                    node: submit.isError ? <SubmitError error={submit.error} /> : notice ? <Message tone="ok">{notice}</Message> : null,
+                  }
+            }
           />
         ) : driveable ? (
           <Card
@@ -144,6 +167,16 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
             <ParamsTable params={driveable.params} jointKinds={jointKinds} caption={`Parameters of v${driveable.number}`} />
           </Card>
         ) : null}
+
+        <WithdrawDialog
+          version={withdrawing}
+          onClose={() => setWithdrawing(null)}
+          onDone={(v) => {
+            setWithdrawing(null);
+            setSubmitOrigin("history");
+            setNotice(`v${v.number} is withdrawn from review. It stays in the history with your note.`);
+          }}
+        />
 
         <div ref={compareRef} className="scroll-mt-4">
           <Card title="Compare versions" description="Any two versions side by side, field by field, in the units of the form.">
@@ -193,6 +226,7 @@ function NewVersionCard({
   onSubmit,
   isSubmitting,
   submitBlockers,
+  submitFeedback,
 }: {
   profileId: number;
   versions: ProfileVersion[];
@@ -202,8 +236,13 @@ function NewVersionCard({
   onSubmit: (version: ProfileVersion) => void;
   isSubmitting: boolean;
   submitBlockers: Map<number, string>;
+  /** The outcome of a submission asked for from this card's footer. */
+  submitFeedback?: { key: string; node: ReactNode } | null;
 }) {
-  const [parent, setParent] = useState<ProfileVersion>(versions[0]!);
+  // The base to start from: the approved version by default (issue 13, item 5), else the newest.
+  const [parent, setParent] = useState<ProfileVersion>(() => versions.find((v) => v.state === "approved") ?? versions[0]!);
+  // The latest version when the base was chosen: the server's stale check (409 stale_parent) compares with it.
+  const [seenLatestId, setSeenLatestId] = useState<number>(versions[0]!.id);
   const [saved, setSaved] = useState<ProfileVersion | null>(null);
   const [conflict, setConflict] = useState<StaleConflict | null>(null);
   const [isComparingConflict, setComparingConflict] = useState(false);
@@ -216,11 +255,12 @@ function NewVersionCard({
     setConflict(null);
     setSaved(null);
     save.mutate(
-      { parentVersionId: parent.id, params, note },
+      { parentVersionId: parent.id, latestVersionId: seenLatestId, params, note },
       {
         onSuccess: (version) => {
           setSaved(version);
           setParent(version);
+          setSeenLatestId(version.id);
           onSaved(version);
         },
         onError: (error) => {
@@ -235,74 +275,114 @@ function NewVersionCard({
   };
 
   const otherError = save.isError && !conflict ? save.error : null;
-  const isNewerAvailable = latest.id !== parent.id;
+  const isNewerAvailable = latest.id !== seenLatestId;
+  const startFrom = (version: ProfileVersion) => {
+    setParent(version);
+    setSeenLatestId(latest.id);
+    setConflict(null);
+    save.reset();
+  };
+
+  // One outcome at a time, the newest: a submission from here, a refused save, or the save itself.
+  const feedback: { key: string; node: ReactNode } | null = submitFeedback?.node
+    ? submitFeedback
+    : conflict
+      ? {
+          key: `conflict-${save.submittedAt}`,
+          node: (
+            <div className="flex flex-col gap-3">
+              <Message tone="stop" title={`Not saved: a newer version exists (v${latest.number})`}>
+                <p>{conflict.message}</p>
+                <p>
+                  Someone saved <strong>v{latest.number}</strong> after you started from <strong>v{parent.number}</strong>. Nothing was overwritten, and your edits are
+                  still in the form. Compare them with v{latest.number}, or load v{latest.number} and make your changes again.
+                </p>
+                <div className="mt-2 flex flex-wrap gap-2">
+                  <Button size="sm" onClick={() => setComparingConflict((x) => !x)} aria-expanded={isComparingConflict}>
+                    {isComparingConflict ? "Hide the comparison" : `Compare my edits with v${latest.number}`}
+                  </Button>
+                  <Button size="sm" variant="ghost" onClick={() => startFrom(latest)}>
+                    Load v{latest.number} (discards my edits)
+                  </Button>
+                </div>
+              </Message>
+              {isComparingConflict ? (
+                <ParamsDiffTable before={latest.params} after={conflict.params} beforeLabel={`v${latest.number} (saved)`} afterLabel="Your edits" jointKinds={jointKinds} />
+              ) : null}
+            </div>
+          ),
+        }
+      : otherError
+        ? {
+            key: `error-${save.submittedAt}`,
+            node: (
+              <Message tone="stop" title="Not saved">
+                {otherError.message}
+              </Message>
+            ),
+          }
+        : savedNow
+          ? {
+              key: `saved-${savedNow.id}`,
+              node: (
+                <Message tone="ok" title={`Saved as v${savedNow.number} (${VERSION_STATE_LABELS.draft.toLowerCase()})`}>
+                  <div className="mt-1 flex flex-wrap items-center gap-2">
+                    {savedNow.state === "draft" ? (
+                      <Button
+                        size="sm"
+                        variant="primary"
+                        disabled={isSubmitting || submitBlockers.has(savedNow.id)}
+                        title={submitBlockers.get(savedNow.id)}
+                        onClick={() => onSubmit(savedNow)}
+                      >
+                        Submit v{savedNow.number} for review
+                      </Button>
+                    ) : (
+                      <span>
+                        Now <strong>{VERSION_STATE_LABELS[savedNow.state].toLowerCase()}</strong>.
+                      </span>
+                    )}
+                  </div>
+                </Message>
+              ),
+            }
+          : null;
 
   return (
     <Card
       title="New version"
       description={
         <>
-          Loaded from <span className="num text-ink-100">v{parent.number}</span> ({formatDateTime(parent.createdAt)}). Values are in the units shown; they are
-          stored in SI units.
+          Starts from <span className="num text-ink-100">v{parent.number}</span> ({VERSION_STATE_LABELS[parent.state].toLowerCase()},{" "}
+          {formatDateTime(parent.createdAt)}). Values are in the units shown; they are stored in SI units.
         </>
       }
     >
       <div className="flex flex-col gap-4">
-        {savedNow ? (
-          <Message tone="ok" title={`Saved as v${savedNow.number} (draft)`}>
-            <div className="mt-1 flex flex-wrap items-center gap-2">
-              {savedNow.state === "draft" ? (
-                <Button
-                  size="sm"
-                  variant="primary"
-                  disabled={isSubmitting || submitBlockers.has(savedNow.id)}
-                  title={submitBlockers.get(savedNow.id)}
-                  onClick={() => onSubmit(savedNow)}
-                >
-                  Submit v{savedNow.number} for review
-                </Button>
-              ) : (
-                <span>
-                  Now <strong>{savedNow.state}</strong>.
-                </span>
-              )}
-            </div>
-          </Message>
-        ) : null}
-        {conflict ? (
-          <Message tone="stop" title={`Not saved: a newer version exists (v${latest.number})`}>
-            <p>{conflict.message}</p>
-            <p>
-              Someone saved <strong>v{latest.number}</strong> after you loaded <strong>v{parent.number}</strong>. Nothing was overwritten, and your edits are still
-              in the form below. Compare them with v{latest.number}, or load v{latest.number} and make your changes again.
-            </p>
-            <div className="mt-2 flex flex-wrap gap-2">
-              <Button size="sm" onClick={() => setComparingConflict((x) => !x)} aria-expanded={isComparingConflict}>
-                {isComparingConflict ? "Hide the comparison" : `Compare my edits with v${latest.number}`}
-              </Button>
-              <Button
-                size="sm"
-                variant="ghost"
-                onClick={() => {
-                  setParent(latest);
-                  setConflict(null);
-                  save.reset();
-                }}
-              >
-                Load v{latest.number} (discards my edits)
-              </Button>
-            </div>
-          </Message>
-        ) : isNewerAvailable && !savedNow ? (
-          <Message tone="warn" title={`v${latest.number} was saved after you loaded v${parent.number}`}>
-            <Button size="sm" variant="ghost" onClick={() => setParent(latest)}>
+        {!conflict && isNewerAvailable && !savedNow ? (
+          <Message tone="warn" title={`v${latest.number} was saved after you started from v${parent.number}`}>
+            <Button size="sm" variant="ghost" onClick={() => startFrom(latest)}>
               Load v{latest.number} (discards my edits)
             </Button>
           </Message>
         ) : null}
-        {conflict && isComparingConflict ? (
-          <ParamsDiffTable before={latest.params} after={conflict.params} beforeLabel={`v${latest.number} (saved)`} afterLabel="Your edits" jointKinds={jointKinds} />
-        ) : null}
+
+        <SelectField
+          label="Start from"
+          hint="The version whose parameters the form starts with. Changing it discards unsaved edits."
+          value={parent.id}
+          onChange={(event) => {
+            const chosen = versions.find((v) => v.id === Number(event.target.value));
+            if (chosen) startFrom(chosen);
+          }}
+          className="max-w-md"
+        >
+          {versions.map((v) => (
+            <option key={v.id} value={v.id}>
+              {`v${v.number} · ${VERSION_STATE_LABELS[v.state]}${v.exceedsCeilings ? " · above ceilings" : ""}${v.id === latest.id ? " · newest" : ""}`}
+            </option>
+          ))}
+        </SelectField>
 
         <ProfileParamsForm
           key={parent.id}
@@ -313,20 +393,15 @@ function NewVersionCard({
           serverError={save.error}
           onSave={onSave}
           footer={({ violations }) => (
-            <div className="flex flex-col gap-3">
-              {otherError ? (
-                <Message tone="stop" title="Not saved">
-                  {otherError.message}
-                </Message>
-              ) : null}
-              <div className="flex flex-wrap items-center justify-end gap-3">
-                {violations.length > 0 ? <span className="text-sm text-warn-400">Saves as a draft only; fix the ceilings before submitting.</span> : null}
-                <Button type="submit" variant="primary" disabled={save.isPending}>
-                  <Save aria-hidden className="size-4" />
-                  {save.isPending ? "Saving…" : "Save new version"}
-                </Button>
-              </div>
-            </div>
+            // The outcome of Save (and of Submit from here) shows beside the button, in view, with focus
+            // moved to it (issue 13, item 10): the footer stays at the bottom of the window.
+            <FormFooter feedback={feedback?.node} feedbackKey={feedback?.key ?? null}>
+              {violations.length > 0 ? <span className="text-sm text-warn-400">Saves as a draft only; fix the ceilings before submitting.</span> : null}
+              <Button type="submit" variant="primary" disabled={save.isPending}>
+                <Save aria-hidden className="size-4" />
+                {save.isPending ? "Saving…" : "Save new version"}
+              </Button>
+            </FormFooter>
           )}
         />
       </div>

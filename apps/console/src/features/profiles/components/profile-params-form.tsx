@@ -25,11 +25,14 @@ import {
 } from "@jogwright/shared";
 import { ISO_CEILING_CITATION } from "../../../components/profiles/ceiling-citation.ts";
 import { Checkbox } from "../../../components/ui/checkbox.tsx";
+import { SCROLL_ABOVE_FORM_FOOTER } from "../../../components/ui/form-footer.tsx";
+import { cn } from "../../../lib/cn.ts";
 import { Message } from "../../../components/ui/message.tsx";
 import { NumberField } from "../../../components/ui/number-field.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
 import { jointKindsOf, ratedSpeedsOf } from "../../../lib/arm-joints.ts";
+import { asSentence } from "../../../lib/format.ts";
 import { applyServerIssues } from "../../../lib/server-issues.ts";
 import { profileCandidateOf, profileFormCodec, profileFormValuesOf, type ProfileFormOutput, type ProfileFormValues } from "../forms/profile-form-codec.ts";
 
@@ -119,9 +122,9 @@ export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initia
   const degPerS = (radPerS: number) => roundTo((radPerS * 180) / Math.PI, 1);
 
   return (
-    <form id={formId} onSubmit={submit} noValidate className="flex flex-col gap-5" aria-label="Profile parameters">
+    <form id={formId} onSubmit={submit} noValidate className={cn("flex flex-col gap-5", SCROLL_ABOVE_FORM_FOOTER)} aria-label="Profile parameters">
       <Group title="Damping" description="Damped least squares near singularities: how much, and where.">
-        <SelectField label="Damping scheme" disabled={isReadOnly} {...register("dampingKind", { deps: ["sigmaStopM"] })}>
+        <SelectField label="Damping scheme" disabled={isReadOnly} {...register("dampingKind", { deps: ["sigmaStopMm"] })}>
           {DAMPING_KINDS.map((k) => (
             <option key={k} value={k}>
               {DAMPING_KIND_LABELS[k]}
@@ -129,7 +132,7 @@ export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initia
           ))}
         </SelectField>
         {NUMERIC_PROFILE_FIELDS.filter((f) => f.dampingKind === values.dampingKind).map((f) =>
-          field(f, f.uiKey === "epsilonM" ? ["sigmaStopM"] : undefined, ceilingHint(f.uiKey, ceilings)),
+          field(f, f.uiKey === "epsilonMm" ? ["sigmaStopMm"] : undefined, ceilingHint(f.uiKey, ceilings)),
         )}
         <div className="flex items-end pb-2 md:col-span-3">
           <Checkbox
@@ -238,7 +241,7 @@ export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initia
         <Message tone="warn" title={`Above ${violations.length === 1 ? "a site ceiling" : `${violations.length} site ceilings`}`}>
           <ul className="list-disc pl-4" data-testid="ceiling-violations">
             {violations.map((v) => (
-              <li key={v.field}>{v.message.charAt(0).toUpperCase() + v.message.slice(1)}.</li>
+              <li key={v.field}>{asSentence(v.message)}</li>
             ))}
           </ul>
           <p className="mt-1">It can be saved as a draft, but cannot be submitted for review or approved.</p>
@@ -248,7 +251,7 @@ export function ProfileParamsForm({ formId, arm, ceilings, initialParams, initia
         <Message tone="warn" title={advisories.length === 1 ? "Worth a second look" : `${advisories.length} settings worth a second look`}>
           <ul className="list-disc pl-4" data-testid="profile-warnings">
             {advisories.map((w) => (
-              <li key={w.field}>{w.message.charAt(0).toUpperCase() + w.message.slice(1)}.</li>
+              <li key={w.field}>{asSentence(w.message)}</li>
             ))}
           </ul>
           <p className="mt-1">A warning, not a refusal: the version can still be submitted and approved.</p>
@@ -269,7 +272,7 @@ function ceilingHint(uiKey: string, ceilings: Ceilings | undefined): ReactNode |
     );
   }
   if (uiKey === "tcpAngularCapDegPerS") return `Site ceiling ${roundTo((ceilings.tcpAngularMaxRadPerS * 180) / Math.PI, 1)} deg/s.`;
-  if (uiKey === "lambdaM" || uiKey === "lambdaMaxM" || uiKey === "lambda0M") return `Site minimum at the singularity ${ceilings.lambdaMaxMinM} m.`;
+  if (uiKey === "lambdaMm" || uiKey === "lambdaMaxMm" || uiKey === "lambda0Mm") return `Site minimum at the singularity ${roundTo(ceilings.lambdaMaxMinM * 1000, 1)} mm.`;
   return undefined;
 }
 

@@ -1,6 +1,6 @@
 import { Link } from "react-router";
-import { GitCompareArrows, Send } from "lucide-react";
-import type { ProfileVersion } from "@jogwright/shared";
+import { Gamepad2, GitCompareArrows, Send, Undo2 } from "lucide-react";
+import { isDriveable, type ProfileVersion, type User } from "@jogwright/shared";
 import { Button } from "../../../components/ui/button.tsx";
 import { TableFrame, TableHead } from "../../../components/ui/table-frame.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
@@ -15,15 +15,23 @@ interface VersionHistoryTableProps {
   isSubmitting: boolean;
   onSubmit: (version: ProfileVersion) => void;
   onCompare: (version: ProfileVersion) => void;
+  /** Who looks, and the profile's operator: the driving rule decides who sees the test-drive link. */
+  user: Pick<User, "id" | "roles">;
+  operatorId: string;
+  /** The author withdraws a submission (a dialog asks for a note). */
+  onWithdraw: (version: ProfileVersion) => void;
 }
 
-export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canReview, isSubmitting, onSubmit, onCompare }: VersionHistoryTableProps) {
+export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canReview, isSubmitting, onSubmit, onCompare, user, operatorId, onWithdraw }: VersionHistoryTableProps) {
   return (
     <TableFrame testId="version-history" caption="Version history, newest first">
       <TableHead headings={["Version", "State", "Author", "Created", "Note", "Hash", "Decision"]} hasActions />
       <tbody>
         {versions.map((v) => {
           const blocker = submitBlockers.get(v.id);
+          // The shared driving rule: an engineer test-drives any version but a retired one, an operator their approved one.
+          const drive = isDriveable({ state: v.state, exceedsCeilings: v.exceedsCeilings, operatorId }, user);
+          const isOwnDrive = drive.isDriveable && drive.kind === "approved" && user.id === operatorId;
           return (
             <tr key={v.id} className="border-b border-ink-700 align-top last:border-b-0 hover:bg-ink-850" data-version={v.number}>
               <th scope="row" className="num px-3 py-2 font-semibold text-ink-100">
@@ -70,13 +78,27 @@ export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canRe
                       <Send aria-hidden className="size-3.5" /> Submit for review
                     </Button>
                   ) : null}
+                  {canSubmit && v.state === "submitted" && v.authorId === user.id ? (
+                    <Button size="sm" variant="ghost" onClick={() => onWithdraw(v)} aria-label={`Withdraw v${v.number} from review`}>
+                      <Undo2 aria-hidden className="size-3.5" /> Withdraw…
+                    </Button>
+                  ) : null}
+                  {drive.isDriveable ? (
+                    <Link
+                      to={`/drive?version=${v.id}`}
+                      className="inline-flex h-7 items-center gap-1 rounded-md px-2.5 text-xs font-semibold whitespace-nowrap text-iris-300 hover:underline"
+                      aria-label={isOwnDrive ? `Drive v${v.number}` : `Test-drive v${v.number}`}
+                    >
+                      <Gamepad2 aria-hidden className="size-3.5" /> {isOwnDrive ? "Drive this version" : "Test-drive this version"}
+                    </Link>
+                  ) : null}
                   {canReview && (v.state === "submitted" || v.state === "approved") ? (
                     <Link
                       to={`/reviews/${v.id}`}
                       className="inline-flex h-7 items-center rounded-md px-2.5 text-xs font-semibold text-iris-300 hover:underline"
-                      aria-label={v.state === "submitted" ? `Review v${v.number}` : `Open v${v.number} to retire it`}
+                      aria-label={v.state === "submitted" ? `Review v${v.number}` : v.exceedsCeilings ? `Open v${v.number} to re-confirm or retire it` : `Open v${v.number} to retire it`}
                     >
-                      {v.state === "submitted" ? "Review" : "Retire…"}
+                      {v.state === "submitted" ? "Review" : v.exceedsCeilings ? "Re-confirm or retire…" : "Retire…"}
                     </Link>
                   ) : null}
                   <Button size="sm" variant="ghost" onClick={() => onCompare(v)} aria-label={`Compare v${v.number} with its parent`}>

@@ -62,7 +62,21 @@ describe("the profile form codec", () => {
   it("asks for a number in the field's unit for an empty box, but ignores the hidden fields of another damping scheme", () => {
     expect(fieldErrors({ ...uiDefaults(), tcpLinearCapMmPerS: Number.NaN })).toEqual({ tcpLinearCapMmPerS: "Enter a number in mm/s" });
     // The defaults use the singular-value scheme: an empty λ (fixed scheme) does not block, an empty ε does.
-    expect(fieldErrors({ ...uiDefaults(), lambdaM: Number.NaN })).toEqual({});
-    expect(fieldErrors({ ...uiDefaults(), epsilonM: Number.NaN })).toMatchObject({ epsilonM: "Enter a number in m" });
+    expect(fieldErrors({ ...uiDefaults(), lambdaMm: Number.NaN })).toEqual({});
+    expect(fieldErrors({ ...uiDefaults(), epsilonMm: Number.NaN })).toMatchObject({ epsilonMm: "Enter a number in mm" });
+    // A unitless field (expo) asks for a number, not "a number in —".
+    expect(fieldErrors({ ...uiDefaults(), expo: Number.NaN })).toEqual({ expo: "Enter a number" });
+  });
+
+  it("edits damping in mm, as the drive page shows it: ε 40 mm ⇄ 0.04 m, λmax 12.5 mm → 0.0125 m", () => {
+    // Issue 13 item 12: one unit for σ, ε and λ everywhere (PRODUCT.md: mm at the UI edge). ×1000, derived.
+    const ui = z.encode(codec, { params, note: "" });
+    expect(ui.epsilonMm).toBe(40);
+    expect(ui.lambdaMaxMm).toBe(40);
+    expect(ui.sigmaStopMm).toBe(params.guard.sigmaStopM * 1000);
+    const out = z.decode(codec, { ...ui, lambdaMaxMm: 12.5 });
+    expect(out.params.damping).toEqual({ kind: "singular-value", epsilonM: 0.04, lambdaMaxM: 0.0125 });
+    // The shared bound "at most 1 m" reads in the field's unit.
+    expect(fieldErrors({ ...ui, epsilonMm: 1500 })).toMatchObject({ epsilonMm: "ε above 1000 mm is not a useful region width" });
   });
 });

@@ -11,7 +11,7 @@ import {
   type ProfileParams,
   type ProfileUiValues,
 } from "@jogwright/shared";
-import { addSchemaIssuesAtUiPaths, uiNumber } from "../../../lib/form-codec.ts";
+import { addSchemaIssuesAtUiPaths, enterANumber, uiNumber } from "../../../lib/form-codec.ts";
 
 // The profile parameters form: every parameter in its UI unit (packages/shared/src/profile-fields.ts says
 // which: deg/s, mm/s, %, ms, …) ⇄ the SI ProfileParams the server stores. The per-joint caps take their
@@ -56,7 +56,7 @@ export function profileFormCodec(jointKinds: readonly JointKind[] | undefined) {
     .superRefine((values, ctx) => {
       const ui = values as ProfileFormValues;
       const emptyDamping = NUMERIC_PROFILE_FIELDS.filter((f) => f.dampingKind === ui.dampingKind && !Number.isFinite(ui[f.uiKey]));
-      for (const f of emptyDamping) ctx.addIssue({ code: "custom", message: `Enter a number in ${f.uiUnit}`, path: [f.uiKey] });
+      for (const f of emptyDamping) ctx.addIssue({ code: "custom", message: enterANumber(f.uiUnit), path: [f.uiKey] });
       const uiPathOf = (path: string) => uiKeyForProfilePath(path) ?? "root";
       addSchemaIssuesAtUiPaths(profileParamsSchema, profileCandidateOf(ui, jointKinds), ctx, uiPathOf, emptyDamping.map((f) => f.uiKey));
     }) as unknown as z.ZodType<ProfileFormValues, ProfileFormValues>;

@@ -1,6 +1,6 @@
 import { useMutation, useQuery } from "@tanstack/react-query";
 import type { CreateProfileInput, SaveVersionInput } from "@jogwright/shared";
-import { createProfile, saveVersion, submitVersion } from "../api/profiles-api.ts";
+import { createProfile, saveVersion, submitVersion, withdrawVersion } from "../api/profiles-api.ts";
 import { operatorListQueryOptions, profileDetailQueryOptions, useInvalidateProfiles } from "../../../lib/queries/profiles.ts";
 
 export const useProfile = (profileId: number) => useQuery(profileDetailQueryOptions(profileId));
@@ -18,6 +18,11 @@ export function useSaveVersion(profileId: number) {
     // On 409 stale_parent too: the newer version must show up in the history.
     onSettled: () => invalidate(),
   });
+}
+
+export function useWithdrawVersion() {
+  const invalidate = useInvalidateProfiles();
+  return useMutation({ mutationFn: ({ versionId, note }: { versionId: number; note: string }) => withdrawVersion(versionId, note), onSettled: () => invalidate() });
 }
 
 export function useSubmitVersion() {

@@ -3,7 +3,7 @@ import { useSearchParams } from "react-router";
 import { useQuery } from "@tanstack/react-query";
 import type { ColumnDef } from "@tanstack/react-table";
 import { ArrowLeft, Play } from "lucide-react";
-import { DEG_PER_RAD, type Arm, type Recording, type RecordingSummary } from "@jogwright/shared";
+import { DEG_PER_RAD, label, type Arm, type Recording, type RecordingSummary } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
@@ -16,8 +16,9 @@ import { recordingDetailQueryOptions, recordingListQueryOptions } from "../../..
 import { ReplayPlayer } from "../../../components/jog/replay-player.tsx";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
-// The recordings list and the replay of one (?recording=<id>): a timeline to scrub and play/pause at
-// real time, driving the same 3D view, panels and charts as the drive page.
+// The recordings list and the replay of one (?recording=<id>): a timeline to scrub, with the session's
+// events marked, and play/pause at a chosen speed, driving the same 3D view, panels and charts as the
+// drive page. The heading says who drove which version when.
 
 function durationText(r: Recording): string {
   if (r.summary) return `${formatFixed(r.summary.durationS, 1)} s`;
@@ -49,7 +50,7 @@ function longestStopText(stops: RecordingSummary["stopsMeasured"]): string {
       m = v;
     }
   }
-  return m ? ` · longest stop ${formatFixed(m.maxDistanceM * 1000, 1)} mm in ${formatFixed(m.maxTimeS * 1000, 0)} ms (${kind})` : "";
+  return m ? ` · longest stop ${formatFixed(m.maxDistanceM * 1000, 1)} mm in ${formatFixed(m.maxTimeS * 1000, 0)} ms (${label("stopKind", kind).toLowerCase()})` : "";
 }
 
 function summaryText(r: Recording, arm: Arm | undefined): string {
@@ -57,7 +58,7 @@ function summaryText(r: Recording, arm: Arm | undefined): string {
   if (!s) return "—";
   const stops = Object.entries(s.stops)
     .filter(([, n]) => n > 0)
-    .map(([reason, n]) => `${reason} ×${n}`)
+    .map(([reason, n]) => `${label("stopReason", reason).toLowerCase()} ×${n}`)
     .join(", ");
   return `max ${formatFixed(s.maxTcpSpeedMPerS * 1000, 0)} mm/s · min σ ${formatFixed(s.minSigma * 1000, 1)} mm · ${formatFixed(s.maxJointRateFraction * 100, 0)} % of a joint cap${peakAccelText(s.peakJointAccel, arm)}${longestStopText(s.stopsMeasured)}${stops ? ` · stops: ${stops}` : ""}${s.droppedFrames > 0 ? ` · ${s.droppedFrames} frames not recorded (the database fell behind)` : ""}`;
 }
@@ -72,7 +73,7 @@ export function RecordingsPage() {
   }
   return (
     <>
-      <PageHeader title="Recordings" description="Every driven session is recorded. Open one to replay it: scrub the timeline or play it at real time." />
+      <PageHeader title="Recordings" description="Every driven session is recorded. Open one to replay it: scrub the timeline, jump to its stops and limits, or play it at a chosen speed." />
       <QueryStatus query={recordings} loading="Loading recordings…" failed="Could not load the recordings" />
       {recordings.data?.length === 0 ? <Message>No session has been recorded yet.</Message> : null}
       {recordings.data && recordings.data.length > 0 ? (
@@ -98,7 +99,7 @@ function RecordingsTable({ recordings, arms, onReplay }: { recordings: Recording
       },
       { id: "started", header: "Started", cell: ({ row }) => formatDateTime(row.original.startedAt), meta: { className: "whitespace-nowrap text-ink-300" } },
       { id: "duration", header: "Duration", cell: ({ row }) => durationText(row.original), meta: { className: "num text-right whitespace-nowrap" } },
-      { id: "ended", header: "Ended by", cell: ({ row }) => row.original.endReason ?? <Badge tone="accent">live</Badge> },
+      { id: "ended", header: "Ended by", cell: ({ row }) => (row.original.endReason ? label("jogEndReason", row.original.endReason) : <Badge tone="accent">live</Badge>) },
       {
         id: "summary",
         header: "Summary",
@@ -122,6 +123,11 @@ function RecordingsTable({ recordings, arms, onReplay }: { recordings: Recording
   return <DataTable table={table} caption="Recorded sessions" emptyMessage="No session has been recorded yet." testId="recordings-table" verticalAlign="top" />;
 }
 
+/** Who drove, which version and when, in the replay's heading. */
+function replayTitle(recordingId: number, r: Pick<Recording, "driverName" | "profileName" | "versionNumber" | "startedAt">): string {
+  return `Replay of recording ${recordingId}: ${r.driverName} drove ${r.profileName} v${r.versionNumber} on ${formatDateTime(r.startedAt)}`;
+}
+
 function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () => void }) {
   const detail = useQuery(recordingDetailQueryOptions(recordingId));
   const arms = useArms();
@@ -133,12 +139,12 @@ function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () =
   return (
     <>
       <PageHeader
-        title={`Replay of recording ${recordingId}`}
+        title={recording ? replayTitle(recordingId, recording) : `Replay of recording ${recordingId}`}
         description={
           recording ? (
             <>
-              <span className="font-mono">{recording.driverName}</span> drove {recording.profileName} v{recording.versionNumber} on{" "}
-              {recording.armName}, {formatDateTime(recording.startedAt)}.
+              On {recording.armName}, {recording.endedAt ? `${durationText(recording)} long` : "still being recorded"}. Scrub the timeline, click a mark to go to that stop, guard or limit, or
+              play it at a chosen speed.
             </>
           ) : undefined
         }

@@ -5,6 +5,7 @@ import { z } from "zod";
 import { approveVersionSchema, rejectVersionSchema, retireVersionSchema, type ProfileVersion } from "@jogwright/shared";
 import { CAUTION_TEXT } from "../../../components/layout/cautions-banner.tsx";
 import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
+import { Checkbox } from "../../../components/ui/checkbox.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
 import { applyServerIssues } from "../../../lib/server-issues.ts";
@@ -27,28 +28,38 @@ const TEXT_SCHEMAS: Record<Decision, z.ZodObject<{ text: z.ZodType<string, strin
 /** The server names the field `comment` (approve) or `reason` (reject, retire). */
 const fieldOfServerIssue = (path: string) => (path === "comment" || path === "reason" ? ("text" as const) : undefined);
 
-/** Approve, reject or retire one version; every decision needs a written comment or reason. */
-export function DecisionDialog({ decision, version, label, onClose, onDone }: {
+/**
+ * Approve, reject or retire one version; every decision needs a written comment or reason. Approving a
+ * version older than the approved one (`approvedVersion`) is a rollback: the dialog says so and asks for
+ * an explicit "Roll back to vN" confirmation, which the server requires too (`rollback: true`).
+ */
+export function DecisionDialog({ decision, version, label, approvedVersion, onClose, onDone }: {
   decision: Decision | null;
   version: ProfileVersion;
   label: string;
+  approvedVersion?: ProfileVersion | null;
   onClose: () => void;
   onDone: (decision: Decision, version: ProfileVersion) => void;
 }) {
+  const rollbackFrom = decision === "approve" && approvedVersion && approvedVersion.number > version.number ? approvedVersion : null;
+  const title = rollbackFrom ? `Roll back to v${version.number}: ${label}` : decision ? `${TEXT[decision].title} ${label}` : "";
   return (
-    <Dialog open={decision !== null} onClose={onClose} title={decision ? `${TEXT[decision].title} ${label}` : ""}>
-      {decision ? <DecisionForm key={decision} decision={decision} version={version} onCancel={onClose} onDone={onDone} /> : null}
+    <Dialog open={decision !== null} onClose={onClose} title={title}>
+      {decision ? <DecisionForm key={decision} decision={decision} version={version} rollbackFrom={rollbackFrom} onCancel={onClose} onDone={onDone} /> : null}
     </Dialog>
   );
 }
 
-function DecisionForm({ decision, version, onCancel, onDone }: {
+function DecisionForm({ decision, version, rollbackFrom, onCancel, onDone }: {
   decision: Decision;
   version: ProfileVersion;
+  rollbackFrom: ProfileVersion | null;
   onCancel: () => void;
   onDone: (decision: Decision, version: ProfileVersion) => void;
 }) {
   const decide = useDecideVersion(version.id);
+  const [isRollbackConfirmed, setRollbackConfirmed] = useState(false);
+  const [isRollbackAsked, setRollbackAsked] = useState(false);
   const [unplacedIssues, setUnplacedIssues] = useState<string[]>([]);
   const { register, handleSubmit, setError, formState } = useForm({
     resolver: zodResolver(TEXT_SCHEMAS[decision]),
@@ -60,7 +71,14 @@ function DecisionForm({ decision, version, onCancel, onDone }: {
   // The resolver has trimmed and checked the text.
   const onSubmit = handleSubmit(({ text }) => {
     setUnplacedIssues([]);
-    const input = decision === "approve" ? { decision, comment: text, paramsSha256: version.paramsSha256 } : { decision, reason: text };
+    if (rollbackFrom && !isRollbackConfirmed) {
+      setRollbackAsked(true);
+      return;
+    }
+    const input =
+      decision === "approve"
+        ? { decision, comment: text, paramsSha256: version.paramsSha256, ...(rollbackFrom ? { rollback: true } : {}) }
+        : { decision, reason: text };
     decide.mutate(input, {
       onSuccess: (v) => onDone(decision, v),
       onError: (error) => setUnplacedIssues(applyServerIssues(error, fieldOfServerIssue, setError)),
@@ -80,6 +98,22 @@ function DecisionForm({ decision, version, onCancel, onDone }: {
           </p>
         </>
       ) : null}
+      {rollbackFrom ? (
+        <Message tone="warn" title={`This rolls the operator back from v${rollbackFrom.number} to v${version.number}`}>
+          <p>
+            v{rollbackFrom.number} is the approved version now and is newer. Approving v{version.number} supersedes it, and the operator drives v{version.number}{" "}
+            from then on. The audit trail records it as a rollback.
+          </p>
+          <div className="mt-2">
+            <Checkbox label={`Roll back to v${version.number}`} checked={isRollbackConfirmed} onChange={(e) => setRollbackConfirmed(e.target.checked)} />
+            {isRollbackAsked && !isRollbackConfirmed ? (
+              <p role="alert" className="mt-1 text-sm text-stop-400">
+                Tick “Roll back to v{version.number}” to confirm the rollback.
+              </p>
+            ) : null}
+          </div>
+        </Message>
+      ) : null}
       {decision === "retire" ? <p className="text-sm text-ink-300">A retired version can no longer be driven.</p> : null}
       <TextAreaField
         label={t.field}
@@ -96,7 +130,7 @@ function DecisionForm({ decision, version, onCancel, onDone }: {
       <DialogFormActions
         onCancel={onCancel}
         isPending={decide.isPending}
-        submitLabel={t.button}
+        submitLabel={rollbackFrom ? `Roll back to v${version.number}` : t.button}
         pendingLabel={t.busy}
         submitVariant={decision === "approve" ? "primary" : "danger"}
       />

@@ -1,7 +1,7 @@
 import { useState } from "react";
 import { Link } from "react-router";
-import { ArrowLeft, Check, FlaskConical, Archive, X } from "lucide-react";
-import { labelForProfilePath, type ProfileVersion, type User } from "@jogwright/shared";
+import { ArrowLeft, Check, FlaskConical, Archive, ShieldCheck, X } from "lucide-react";
+import { CEILING_EVENT_KIND_LABELS, label as labelOf, labelForProfilePath, type ProfileVersion, type User } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
@@ -17,6 +17,7 @@ import { EvidenceTable } from "../../../components/bench/evidence-table.tsx";
 import { useVersionDetail } from "../../../lib/queries/profiles.ts";
 import type { Decision } from "../api/reviews-api.ts";
 import { DecisionDialog } from "./decision-dialog.tsx";
+import { ReconfirmDialog } from "./reconfirm-dialog.tsx";
 
 const DONE: Record<Decision, string> = { approve: "approved and locked", reject: "rejected", retire: "retired" };
 
@@ -25,6 +26,7 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
   const arms = useArms();
   const [decision, setDecision] = useState<Decision | null>(null);
   const [notice, setNotice] = useState<string | null>(null);
+  const [isReconfirming, setReconfirming] = useState(false);
 
   if (detail.isPending) return <Loading label="Loading the version…" />;
   if (detail.isError) {
@@ -34,18 +36,24 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
       </Message>
     );
   }
-  const { version, profile, violations, approvedVersion, approval, evidence } = detail.data;
+  const { version, profile, violations, approvedVersion, approval, evidence, ceilingEvents } = detail.data;
   const arm = arms.data?.find((a) => a.id === profile.armId);
   const jointKinds = jointKindsOf(arm);
   const label = `${profile.name} v${version.number}`;
   const isAuthor = version.authorId === user.id;
   const isSubmitted = version.state === "submitted";
   const decideBlocker = !isSubmitted
-    ? `This version is ${version.state}; only a submitted version can be approved or rejected.`
+    ? `This version is ${labelOf("versionState", version.state).toLowerCase()}; only a submitted version can be approved or rejected.`
     : isAuthor
       ? "You wrote this version. Someone else must approve or reject it."
       : null;
   const approveBlocker = decideBlocker ?? (violations.length > 0 ? "It exceeds the site ceilings listed above, so it cannot be approved." : null);
+  const isRollback = isSubmitted && approvedVersion !== null && approvedVersion.number > version.number;
+  const reconfirmBlocker = isAuthor
+    ? "You wrote this version. Another safety officer must re-confirm it."
+    : violations.length > 0
+      ? "It is still above the site ceilings listed above: approve a compliant version instead."
+      : null;
 
   return (
     <>
@@ -92,6 +100,37 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
             </Message>
           )}
         </Card>
+        {version.state === "approved" && (version.exceedsCeilings || ceilingEvents.length > 0) ? (
+          <Card
+            title={version.exceedsCeilings ? "Flagged above the site ceilings" : "Flag history"}
+            description={
+              version.exceedsCeilings
+                ? "The site ceilings were lowered below this approved version, so its operator cannot drive it. If it complies with the ceilings in force now, you may re-confirm it; the flag stays in its history."
+                : "This version was flagged above the site ceilings and re-confirmed under them."
+            }
+          >
+            <div className="flex flex-col gap-3">
+              <ol className="flex flex-col gap-1 text-sm" data-testid="flag-history">
+                {ceilingEvents.map((e) => (
+                  <li key={e.id} data-kind={e.kind}>
+                    <span className="num text-ink-300">{formatDateTime(e.at)}</span> · <strong>{CEILING_EVENT_KIND_LABELS[e.kind]}</strong> (ceilings revision{" "}
+                    <span className="num">{e.ceilingsRevision}</span>){e.actorName ? <> by {e.actorName}</> : null}: <span className="text-ink-300">“{e.comment}”</span>
+                  </li>
+                ))}
+              </ol>
+              {version.exceedsCeilings ? (
+                <div className="flex flex-col gap-2">
+                  {reconfirmBlocker ? <Message tone="warn">{reconfirmBlocker}</Message> : null}
+                  <div>
+                    <Button variant="primary" disabled={reconfirmBlocker !== null} title={reconfirmBlocker ?? undefined} onClick={() => setReconfirming(true)}>
+                      <ShieldCheck aria-hidden className="size-4" /> Re-confirm under current ceilings…
+                    </Button>
+                  </div>
+                </div>
+              ) : null}
+            </div>
+          </Card>
+        ) : null}
         <Card
           title="Trial evidence"
           description="The runs this version was submitted with: the same motion gate and control step as live jogging, offline on the server. Simulation only."
@@ -154,9 +193,14 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
           <div className="flex flex-col gap-3">
             {decideBlocker ? <Message tone="warn">{decideBlocker}</Message> : null}
             {!decideBlocker && approveBlocker ? <Message tone="warn">{approveBlocker}</Message> : null}
+            {!approveBlocker && isRollback ? (
+              <Message tone="warn" title={`Approving this rolls back to v${version.number}`}>
+                v{approvedVersion!.number} is approved now and newer; approving v{version.number} supersedes it.
+              </Message>
+            ) : null}
             <div className="flex flex-wrap gap-2">
               <Button variant="primary" disabled={approveBlocker !== null} title={approveBlocker ?? undefined} onClick={() => setDecision("approve")}>
-                <Check aria-hidden className="size-4" /> Approve…
+                <Check aria-hidden className="size-4" /> {isRollback ? `Roll back to v${version.number}…` : "Approve…"}
               </Button>
               <Button variant="danger" disabled={decideBlocker !== null} title={decideBlocker ?? undefined} onClick={() => setDecision("reject")}>
                 <X aria-hidden className="size-4" /> Reject…
@@ -178,10 +222,21 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
         decision={decision}
         version={version}
         label={label}
+        approvedVersion={approvedVersion}
         onClose={() => setDecision(null)}
         onDone={(d, v: ProfileVersion) => {
           setDecision(null);
           setNotice(`${profile.name} v${v.number} is ${DONE[d]}.`);
+        }}
+      />
+      <ReconfirmDialog
+        open={isReconfirming}
+        version={version}
+        label={label}
+        onClose={() => setReconfirming(false)}
+        onDone={(v) => {
+          setReconfirming(false);
+          setNotice(`${profile.name} v${v.number} is re-confirmed under the current ceilings; its operator can drive it again.`);
         }}
       />
     </>

@@ -1,6 +1,6 @@
 import { Link } from "react-router";
 import { ArrowLeft, Printer } from "lucide-react";
-import { labelForProfilePath } from "@jogwright/shared";
+import { label as labelOf, labelForProfilePath } from "@jogwright/shared";
 import { EvidenceTable } from "../../../components/bench/evidence-table.tsx";
 import { CAUTION_TEXT } from "../../../components/layout/cautions-banner.tsx";
 import { ParamsDiffTable, ParamsTable } from "../../../components/profiles/params-table.tsx";
@@ -27,10 +27,10 @@ export function ReviewReport({ versionId }: { versionId: number }) {
   const facts: [string, string][] = [
     ["Operator", profile.operatorName],
     ["Arm", profile.armName],
-    ["Version", `v${version.number}, ${version.state}`],
+    ["Version", `v${version.number}, ${labelOf("versionState", version.state).toLowerCase()}`],
     ["Author", version.authorName],
     ["Submitted", version.submittedAt ? `${formatDateTime(version.submittedAt)} UTC` : "not submitted"],
-    ["Decision", approval ? `approved by ${approval.approverName}, ${formatDateTime(approval.approvedAt)} UTC: “${approval.comment}”` : version.decidedByName ? `${version.state} by ${version.decidedByName}${version.decisionComment ? `: “${version.decisionComment}”` : ""}` : "none yet"],
+    ["Decision", approval ? `approved by ${approval.approverName}, ${formatDateTime(approval.approvedAt)} UTC: “${approval.comment}”` : version.decidedByName ? `${labelOf("versionState", version.state)} by ${version.decidedByName}${version.decisionComment ? `: “${version.decisionComment}”` : ""}` : "none yet"],
     ["Parameters SHA-256", version.paramsSha256],
     ["Printed", `${formatDateTime(new Date().toISOString())} UTC`],
   ];

@@ -1,0 +1,63 @@
+import { useState } from "react";
+import { reconfirmVersionSchema, type ProfileVersion } from "@jogwright/shared";
+import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
+import { Message } from "../../../components/ui/message.tsx";
+import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
+import { useReconfirmVersion } from "../hooks/use-reviews.ts";
+
+/**
+ * Re-confirm a flagged approved version under the ceilings in force: a comment is required; the server
+ * checks again that the version complies (409 otherwise), keeps the flag in the version's history, audits
+ * and mails.
+ */
+export function ReconfirmDialog({ open, version, label, onClose, onDone }: {
+  open: boolean;
+  version: ProfileVersion;
+  label: string;
+  onClose: () => void;
+  onDone: (version: ProfileVersion) => void;
+}) {
+  return (
+    <Dialog open={open} onClose={onClose} title={`Re-confirm ${label} under the current ceilings`}>
+      {open ? <ReconfirmForm version={version} onCancel={onClose} onDone={onDone} /> : null}
+    </Dialog>
+  );
+}
+
+function ReconfirmForm({ version, onCancel, onDone }: { version: ProfileVersion; onCancel: () => void; onDone: (version: ProfileVersion) => void }) {
+  const reconfirm = useReconfirmVersion(version.id);
+  const [comment, setComment] = useState("");
+  const [isTouched, setTouched] = useState(false);
+  const parsed = reconfirmVersionSchema.safeParse({ comment });
+  const error = isTouched && !parsed.success ? parsed.error.issues[0]?.message : undefined;
+  return (
+    <form
+      noValidate
+      className="flex flex-col gap-4"
+      onSubmit={(event) => {
+        event.preventDefault();
+        setTouched(true);
+        if (parsed.success) reconfirm.mutate(parsed.data.comment, { onSuccess: onDone });
+      }}
+    >
+      <p className="text-sm text-ink-300">
+        The site ceilings were lowered below this version once. It complies with the ceilings in force now; re-confirming it lets its operator drive it again.
+        The flag stays in its history, beside your re-confirmation.
+      </p>
+      <TextAreaField
+        label="Comment"
+        hint="Required. Recorded with your name, the time and the ceilings revision; the author and operator are mailed."
+        error={error}
+        value={comment}
+        onChange={(e) => setComment(e.target.value)}
+        onBlur={() => setTouched(true)}
+      />
+      {reconfirm.isError ? (
+        <Message tone="stop" title="Not re-confirmed">
+          {reconfirm.error.message}
+        </Message>
+      ) : null}
+      <DialogFormActions onCancel={onCancel} isPending={reconfirm.isPending} submitLabel="Re-confirm" pendingLabel="Re-confirming…" />
+    </form>
+  );
+}
