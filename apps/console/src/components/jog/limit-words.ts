@@ -1,7 +1,8 @@
 import type { ProfileParams, RecordedFrame, StopReason } from "@jogwright/shared";
 import { formatFixed } from "../../lib/format.ts";
 
-// The operator-facing words for the controller's binding limit, stop reason and guard state.
+// The operator-facing status lines for the controller's binding limit and what the arm is doing (with the
+// values in them); the names of closed sets (stop reasons, guard states …) are in @jogwright/shared's labels.ts.
 
 const mmPerS = (mPerS: number) => `${formatFixed(mPerS * 1000, 0)} mm/s`;
 const degPerS = (radPerS: number) => `${formatFixed((radPerS * 180) / Math.PI, 0)} deg/s`;
@@ -36,19 +37,12 @@ export const STOP_REASON_WORDS: Record<StopReason, string> = {
   "profile-not-driveable": "Stopped — this profile version may no longer be driven",
 };
 
-export const GUARD_WORDS: Record<RecordedFrame["guardState"], string> = {
-  off: "Guard off — damping through",
-  clear: "Clear",
-  stopped: "Stopped before the singular region",
-  "backing-out": "Backing out of the singular region",
-  acknowledged: "Acknowledged — passing through, damped",
-};
-
 export type MotionTone = "ok" | "warn" | "stop" | "neutral";
 
 /** One line for "what is the arm doing", and its state colour. */
 export function motionInWords(frame: RecordedFrame | null): { text: string; tone: MotionTone } {
-  if (!frame) return { text: "No state yet", tone: "neutral" };
+  // No live frames: before the first one, and after the session ended (never a motion state then).
+  if (!frame) return { text: "No live session", tone: "neutral" };
   if (frame.estopLatched) return { text: STOP_REASON_WORDS["emergency-stop"], tone: "stop" };
   let moving = false;
   for (const v of frame.qdot) if (Math.abs(v) > 1e-4) moving = true;
