@@ -1,19 +1,10 @@
-import type { ProfileVersion, VersionState } from "@jogwright/shared";
+import { VERSION_STATE_LABELS, type ProfileVersion, type VersionState } from "@jogwright/shared";
 import { Badge } from "../ui/badge.tsx";
 
-const STATE_LABELS: Record<VersionState, string> = {
-  draft: "Draft",
-  submitted: "Submitted",
-  approved: "Approved",
-  rejected: "Rejected",
-  superseded: "Superseded",
-  retired: "Retired",
-  withdrawn: "Withdrawn",
-};
 const STATE_TONES = { draft: "neutral", submitted: "accent", approved: "ok", rejected: "stop", superseded: "neutral", retired: "neutral", withdrawn: "neutral" } as const;
 
 export function VersionStateBadge({ state }: { state: VersionState }) {
-  return <Badge tone={STATE_TONES[state]}>{STATE_LABELS[state]}</Badge>;
+  return <Badge tone={STATE_TONES[state]}>{VERSION_STATE_LABELS[state]}</Badge>;
 }
 
 /** "Above ceilings" for an approved version flagged after the site ceilings were lowered. */

@@ -1,6 +1,6 @@
 import { randomUUID } from "node:crypto";
 import { RateLimiterRes, type RateLimiterAbstract } from "rate-limiter-flexible";
-import type { Arm, DrivingKind, JogEndReason, JogInput, JogSessionInfo, LiveSession, ProfileSummary, ProfileVersion, User } from "@jogwright/shared";
+import { hasAnyRole, type Arm, type DrivingKind, type JogEndReason, type JogInput, type JogSessionInfo, type LiveSession, type ProfileSummary, type ProfileVersion, type User } from "@jogwright/shared";
 import type { JogLimits } from "../../config.ts";
 import type { AppContext } from "../../context.ts";
 import { insertRecording } from "../recordings/service.ts";
@@ -13,6 +13,7 @@ import { sqlStationLatchStore, StationLatches, type Station } from "./station-la
 import { LiveDirectory, type ControlMessage } from "../../scale/live-directory.ts";
 import { rateLimiter } from "../../scale/redis.ts";
 import { findUserById } from "../users/service.ts";
+import { versionLabel } from "../profiles/service.ts";
 
 /**
  * The live jog sessions of one server, on the main thread: per session a driver connection, any read-only
@@ -379,7 +380,7 @@ export class JogHub {
     const session = this.sessions.get(msg.sessionId);
     if (!session) return;
     const by = await findUserById(this.ctx.db, msg.byUserId).catch(() => null);
-    if (!by || !by.isActive || !by.roles.includes("safety_officer")) return;
+    if (!by || !by.isActive || !hasAnyRole(by.roles, ["safety_officer"])) return;
     this.emergencyStop(session, by);
   }
 
@@ -522,7 +523,7 @@ export class JogHub {
   private stationEvent(session: LiveJogSession, actor: User = session.driver.user) {
     const driver = session.driver.user;
     const { profile, version } = session.driven;
-    return { actor, driver, armName: session.driven.arm.name, sessionId: session.id, versionId: version.id, versionName: `"${profile.name}" v${version.number}` };
+    return { actor, driver, armName: session.driven.arm.name, sessionId: session.id, versionId: version.id, versionName: versionLabel(profile, version) };
   }
 
   forget(session: LiveJogSession): void {

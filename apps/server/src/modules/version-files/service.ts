@@ -10,7 +10,7 @@ import {
 import { AppError } from "../../errors.ts";
 import { findArmAtRevision, findArmForVersion, resolveArmChoice } from "../arms/service.ts";
 import { violationsNow } from "../ceilings/service.ts";
-import { visibleProfile } from "../profiles/service.ts";
+import { versionLabel, visibleProfile } from "../profiles/service.ts";
 import { checkParamsFitArm, findVersion, paramsSha256, saveVersion, type WorkflowContext } from "../versions/service.ts";
 
 /**
@@ -72,7 +72,7 @@ export async function importVersion(ctx: WorkflowContext, actor: User, profileId
       violations.map((v) => ({ path: `params.${v.field}`, message: `${v.message} (ceiling: ${CEILING_LABELS[v.ceiling]})` })),
     );
   }
-  const note = `Imported from "${file.profile.name}" v${file.version.number}${file.version.note ? `: ${file.version.note}` : ""}`.slice(0, 2000);
+  const note = `Imported from ${versionLabel(file.profile, file.version)}${file.version.note ? `: ${file.version.note}` : ""}`.slice(0, 2000);
   return saveVersion(ctx, actor, profileId, {
     parentVersionId: profile.latestVersion.id,
     params: file.params,
