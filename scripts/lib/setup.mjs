@@ -156,7 +156,7 @@ export const TEST_DATABASE_SLOTS = 4;
  * url, socket, owned, stop }: `url` is the migration account's, for a tool that takes one URL (given as
  * DATABASE_URL alone, that one account migrates and runs everything).
  */
-export async function startPrivateMariadb({ name, port, database }) {
+export async function startPrivateMariadb({ name, port, database, extraArgs = [] }) {
   const dataRoot = path.join(DATA_DIR, name);
   const dataDir = path.join(dataRoot, "db");
   const socket = path.join(dataRoot, "mariadb.sock");
@@ -209,6 +209,7 @@ export async function startPrivateMariadb({ name, port, database }) {
         "--collation-server=utf8mb4_unicode_ci",
         "--innodb-buffer-pool-size=64M",
         "--innodb-log-file-size=16M",
+        ...extraArgs,
       ],
       { detached: true, stdio: "ignore" },
     );
@@ -322,7 +323,16 @@ export function recreateDatabase(socket, database) {
 }
 
 /** The shared steps: pnpm, Debian packages, dependencies, database. */
-export async function prepare({ withChromium, withRedis = false, dbName, defaultDbPort, database }) {
+/**
+ * MariaDB options for a server whose data is thrown away after the run (the test server): no fsync on
+ * commit, no doublewrite buffer, tables in the shared tablespace (creating and dropping a test file's
+ * database does not create and delete ~25 files). Constraints, triggers, transactions and privileges are
+ * unchanged; only what survives a crash of the machine is. Measured on the 2-core machine: copying the
+ * template into a used slot 2.5–2.7 s → 0.4–0.8 s.
+ */
+export const THROWAWAY_MARIADB_ARGS = ["--innodb-flush-log-at-trx-commit=0", "--innodb-doublewrite=0", "--innodb-flush-method=nosync", "--innodb-file-per-table=0"];
+
+export async function prepare({ withChromium, withRedis = false, dbName, defaultDbPort, database, throwaway = false }) {
   const packages = { "mariadb-server": "mariadbd" };
   if (withChromium) packages.chromium = "chromium";
   // Only the tests need Redis (the scale-out tests); `npm start` runs without it.
@@ -343,7 +353,7 @@ export async function prepare({ withChromium, withRedis = false, dbName, default
   pnpmInstall();
   if (external) return { runtimeUrl: external, migrationUrl: externalMigration, url: externalMigration, socket: null, owned: false, stop: async () => {} };
   const port = portFromEnv(dbName === "mariadb" ? "DB_PORT" : "DB_TEST_PORT", defaultDbPort);
-  return startPrivateMariadb({ name: dbName, port, database });
+  return startPrivateMariadb({ name: dbName, port, database, extraArgs: throwaway ? THROWAWAY_MARIADB_ARGS : [] });
 }
 
 export function buildConsole() {

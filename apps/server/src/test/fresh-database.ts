@@ -1,11 +1,11 @@
 import { afterAll } from "vitest";
-import { scratchDatabase, withMigrationAccount } from "./scratch-databases.ts";
+import { claimSlot, scratchDatabase, withMigrationAccount } from "./scratch-databases.ts";
 import { cloneTemplate } from "./template-database.ts";
 
 /**
  * Vitest `setupFiles` entry: runs in each test file's process before the file is imported. The file gets
- * a database of its own, `<base>_<slot>` (scratch-databases.ts; files running at the same time have
- * different slots): a fresh copy of the template that global-setup.ts migrated, granted and seeded with
+ * a database of its own, `<base>_<slot>` (scratch-databases.ts: a slot no file running at the same time
+ * holds, claimed with a named lock): a fresh copy of the template that global-setup.ts migrated, granted and seeded with
  * prepareDatabase exactly as the server does on boot (template-database.ts). DATABASE_URL and
  * MIGRATION_DATABASE_URL then name it, so every harness, owner connection and child server of the file
  * uses it; it is dropped after the file. No test sees what another file did.
@@ -19,7 +19,9 @@ const original = ((globalThis as { jogwrightDatabaseUrls?: { base?: string; migr
 const base = original.base;
 if (!base) throw new Error("DATABASE_URL is not set: run the API tests through `npm test`, which starts the test MariaDB.");
 const migrationBase = original.migration || base;
-const database = scratchDatabase(decodeURIComponent(new URL(base).pathname.slice(1)), process.env.VITEST_POOL_ID ?? "1");
+const baseName = decodeURIComponent(new URL(base).pathname.slice(1));
+const claimed = await claimSlot(migrationBase, baseName);
+const database = scratchDatabase(baseName, claimed.slot);
 
 const onDatabase = (url: string) => {
   const u = new URL(url);
@@ -34,5 +36,9 @@ process.env.DATABASE_URL = onDatabase(base);
 if (original.migration) process.env.MIGRATION_DATABASE_URL = onDatabase(original.migration);
 
 afterAll(async () => {
-  await withMigrationAccount(migrationBase, database, (sql) => sql(`DROP DATABASE IF EXISTS \`${database}\``));
+  try {
+    await withMigrationAccount(migrationBase, database, (sql) => sql(`DROP DATABASE IF EXISTS \`${database}\``));
+  } finally {
+    await claimed.release();
+  }
 });

@@ -3,7 +3,8 @@ import { accessDeniedMessage } from "../db/privileges.ts";
 
 /**
  * The API tests' own databases: each test file runs on `<base>_<slot>` (fresh-database.ts), where the
- * base is DATABASE_URL's database and the slot the worker's VITEST_POOL_ID (1 … maxWorkers). The
+ * base is DATABASE_URL's database and the slot one of 1 … TEST_DATABASE_SLOTS claimed with a MariaDB named
+ * lock for the file's lifetime (claimSlot). The
  * migration account creates, grants and drops them, so it needs every privilege WITH GRANT OPTION on each
  * of them by name; `npm test` gives it `<base>_1` … `<base>_4` on its private MariaDB
  * (TEST_DATABASE_SLOTS in scripts/lib/setup.mjs). A wildcard grant would not do: MariaDB lets the holder
@@ -13,6 +14,40 @@ export function scratchDatabase(base: string, slot: string): string {
   const name = `${base}_${slot}`;
   if (!/^[\w$]{1,64}$/.test(name)) throw new Error(`"${name}" cannot name a test database (letters, digits, _ and $, at most 64 characters).`);
   return name;
+}
+
+/** How many `<base>_<slot>` databases the migration account may use (TEST_DATABASE_SLOTS in scripts/lib/setup.mjs). */
+export const TEST_DATABASE_SLOTS = 4;
+
+/**
+ * Claims a free slot for this test file: the first of 1 … TEST_DATABASE_SLOTS whose named lock
+ * (`<base>_slot_<n>`, GET_LOCK) this connection obtains; the lock lasts until `release` (or until the
+ * process ends and its connection with it). Not VITEST_POOL_ID: with more than one Vitest project, Vitest 4
+ * gave two files running at the same time the same pool id (tried), and so the same database.
+ */
+export async function claimSlot(migrationUrl: string, base: string, waitMs = 120_000): Promise<{ slot: string; release: () => Promise<void> }> {
+  const u = new URL(migrationUrl);
+  const connection = await mariadb.createConnection({
+    host: u.hostname,
+    port: Number(u.port || 3306),
+    user: decodeURIComponent(u.username),
+    password: decodeURIComponent(u.password),
+    connectTimeout: 5000,
+  });
+  // A connection lost later (a test that stops a server) must not throw from an unhandled 'error' event.
+  connection.on("error", () => {});
+  const deadline = Date.now() + waitMs;
+  for (;;) {
+    for (let n = 1; n <= TEST_DATABASE_SLOTS; n++) {
+      const [row] = (await connection.query("SELECT GET_LOCK(?, 0) AS got", [`${base}_slot_${n}`])) as { got: number | bigint | null }[];
+      if (Number(row?.got) === 1) return { slot: String(n), release: () => connection.end() };
+    }
+    if (Date.now() > deadline) {
+      await connection.end();
+      throw new Error(`no free test database slot of ${TEST_DATABASE_SLOTS} within ${waitMs / 1000} s: more test files run at once than there are slots.`);
+    }
+    await new Promise((r) => setTimeout(r, 100));
+  }
 }
 
 /** A connection as `url`'s account (no default database unless `withDatabase`), closed after `work`. */

@@ -1,6 +1,7 @@
 import type { ArmModel } from "@jogwright/kinematics";
 import type { TrialDefinition } from "@jogwright/shared";
-import { all, create, type EvalFunction, type MathNode, type Unit } from "mathjs";
+import { createRequire } from "node:module";
+import type { EvalFunction, MathJsInstance, MathNode, Unit } from "mathjs";
 import type { CompiledSegment, CompiledTrial } from "./runner.ts";
 
 /**
@@ -23,15 +24,27 @@ export class TrialInvalidError extends Error {
   }
 }
 
-const math = create(all!);
+/**
+ * mathjs is loaded on first use (a trial with expression segments), not when the server starts: it takes
+ * 1–2.5 s to load on the 2-core machine, and built-in trials, the review's evidence and every thread of the
+ * trial pool that never meets an expression do without it. Synchronous (require of its CommonJS build), so
+ * checking and compiling stay synchronous.
+ */
+let mathInstance: MathJsInstance | null = null;
+let units: { LINEAR: Unit; ANGULAR: Unit; PER_SECOND: Unit } | null = null;
+function mathjs(): MathJsInstance {
+  if (!mathInstance) {
+    const { all, create } = createRequire(import.meta.url)("mathjs") as typeof import("mathjs");
+    mathInstance = create(all!);
+    units = { LINEAR: mathInstance.unit("m/s"), ANGULAR: mathInstance.unit("rad/s"), PER_SECOND: mathInstance.unit("1/s") };
+  }
+  return mathInstance;
+}
 const ALLOWED_FUNCTIONS = new Set([
   "sin", "cos", "tan", "asin", "acos", "atan", "atan2", "sinh", "cosh", "tanh", "sqrt", "abs", "exp", "log",
   "min", "max", "sign", "pow", "floor", "ceil", "round", "mod", "unaryMinus", "unaryPlus",
 ]);
 const ALLOWED_CONSTANTS = new Set(["t", "pi", "e", "tau"]);
-const LINEAR = math.unit("m/s");
-const ANGULAR = math.unit("rad/s");
-const PER_SECOND = math.unit("1/s");
 const AXES = ["x", "y", "z"] as const;
 
 /** The segment's field names as a person reads them: "segment 2, linear y". */
@@ -46,6 +59,7 @@ interface ParsedExpression {
 
 /** Parses one expression and checks its symbols and functions; throws a sentence. */
 function parseExpression(text: string): ParsedExpression {
+  const math = mathjs();
   let node: MathNode;
   try {
     node = math.parse(text);
@@ -72,6 +86,8 @@ function parseExpression(text: string): ParsedExpression {
 
 /** Evaluates at time t [s] into SI (m/s or rad/s); throws a sentence. */
 function evaluateSI(p: ParsedExpression, t: number, part: "linear" | "angular"): number {
+  const math = mathjs();
+  const { LINEAR, ANGULAR, PER_SECOND } = units!;
   let value: unknown;
   try {
     value = p.compiled.evaluate({ t: math.unit(t, "s") });
