@@ -2,6 +2,7 @@ import { spawn } from "node:child_process";
 import net from "node:net";
 import path from "node:path";
 import { describe, expect, it } from "vitest";
+import { freePort } from "./test/free-port.ts";
 
 /** Start the real server process with a given environment; collect what it prints and how it ends. */
 function startServer(env: Record<string, string>, timeoutMs = 20_000): Promise<{ code: number | null; out: string; err: string }> {
@@ -45,12 +46,7 @@ describe("start-up with a bad environment ends with one clear message", () => {
 
   it("an unreachable database", async () => {
     // A port nothing listens on: bind one, note it, close it.
-    const port = await new Promise<number>((resolve) => {
-      const s = net.createServer().listen(0, "127.0.0.1", () => {
-        const p = (s.address() as net.AddressInfo).port;
-        s.close(() => resolve(p));
-      });
-    });
+    const port = await freePort();
     const r = await startServer({ DATABASE_URL: `mariadb://u:p@127.0.0.1:${port}/nothing` });
     expectOneClearLine(r, /^\[jogwright\] cannot start: cannot reach the database at 127\.0\.0\.1:\d+\/nothing — /);
   });

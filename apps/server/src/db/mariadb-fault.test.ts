@@ -1,8 +1,7 @@
-import net from "node:net";
-import type { AddressInfo } from "node:net";
 import { readFileSync } from "node:fs";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { freePort } from "../test/free-port.ts";
 import { recordedFrameSchema, type RecordedFrame } from "@jogwright/shared";
 import { DATA_DIR, recreateDatabase, startPrivateMariadb, type PrivateMariadb } from "../../../../scripts/lib/setup.mjs";
 import { loadConfig } from "../config.ts";
@@ -22,13 +21,6 @@ import { JogTestClient, sleep } from "../modules/jog/jog-test-client.ts";
 const NAME = "mariadb-fault";
 const DATABASE = "jogwright_fault";
 
-async function freePort(): Promise<number> {
-  const server = net.createServer();
-  await new Promise<void>((resolve) => server.listen(0, "127.0.0.1", resolve));
-  const { port } = server.address() as AddressInfo;
-  await new Promise((r) => server.close(r));
-  return port;
-}
 
 const pidOf = () => Number(readFileSync(path.join(DATA_DIR, NAME, "mariadb.pid"), "utf8").trim());
 

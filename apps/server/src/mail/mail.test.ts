@@ -1,9 +1,9 @@
 import { mkdtempSync, readFileSync } from "node:fs";
-import net from "node:net";
 import os from "node:os";
 import path from "node:path";
 import nodemailer from "nodemailer";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { freePort } from "../test/free-port.ts";
 import { mailMessageSchema, type Arm } from "@jogwright/shared";
 import { call, createHarness, createMailHarness, DEMO_BY_ROLE, signIn, type Harness } from "../test/harness.ts";
 import { createProfile, freshTeam, sixAxisArm, type Team } from "../test/profiles-fixture.ts";
@@ -26,14 +26,6 @@ afterAll(async () => {
 
 const mailAbout = (smtp: FakeSmtp, name: string, subject: string) => smtp.messages.filter((m) => m.subject.includes(name) && m.subject.includes(subject));
 
-async function freePort(): Promise<number> {
-  return new Promise((resolve) => {
-    const s = net.createServer().listen(0, "127.0.0.1", () => {
-      const port = (s.address() as net.AddressInfo).port;
-      s.close(() => resolve(port));
-    });
-  });
-}
 
 describe("workflow mail through the fake SMTP server", () => {
   it("a submitted version is mailed to every active safety officer", async () => {

@@ -1,8 +1,7 @@
 import { spawn, type ChildProcess } from "node:child_process";
-import net from "node:net";
-import type { AddressInfo } from "node:net";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { freePort } from "../test/free-port.ts";
 import { Redis } from "ioredis";
 import { Queue } from "bullmq";
 import { sweepResultSchema, takeStreamEvents } from "@jogwright/shared";
@@ -27,13 +26,6 @@ interface Instance {
   log: string[];
 }
 
-async function freePort(): Promise<number> {
-  const server = net.createServer();
-  await new Promise<void>((resolve) => server.listen(0, "127.0.0.1", resolve));
-  const { port } = server.address() as AddressInfo;
-  await new Promise((r) => server.close(r));
-  return port;
-}
 
 async function startInstance(name: string, env: Record<string, string>): Promise<Instance> {
   const port = await freePort();

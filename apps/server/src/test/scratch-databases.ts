@@ -26,14 +26,7 @@ export const TEST_DATABASE_SLOTS = 4;
  * gave two files running at the same time the same pool id (tried), and so the same database.
  */
 export async function claimSlot(migrationUrl: string, base: string, waitMs = 120_000): Promise<{ slot: string; release: () => Promise<void> }> {
-  const u = new URL(migrationUrl);
-  const connection = await mariadb.createConnection({
-    host: u.hostname,
-    port: Number(u.port || 3306),
-    user: decodeURIComponent(u.username),
-    password: decodeURIComponent(u.password),
-    connectTimeout: 5000,
-  });
+  const connection = await connect(migrationUrl, false);
   // A connection lost later (a test that stops a server) must not throw from an unhandled 'error' event.
   connection.on("error", () => {});
   const deadline = Date.now() + waitMs;
@@ -50,10 +43,10 @@ export async function claimSlot(migrationUrl: string, base: string, waitMs = 120
   }
 }
 
-/** A connection as `url`'s account (no default database unless `withDatabase`), closed after `work`. */
-async function withConnection<T>(url: string, withDatabase: boolean, work: (c: Connection) => Promise<T>): Promise<T> {
+/** A connection as `url`'s account, on its database only with `withDatabase`. */
+function connect(url: string, withDatabase: boolean): Promise<Connection> {
   const u = new URL(url);
-  const connection = await mariadb.createConnection({
+  return mariadb.createConnection({
     host: u.hostname,
     port: Number(u.port || 3306),
     user: decodeURIComponent(u.username),
@@ -61,6 +54,11 @@ async function withConnection<T>(url: string, withDatabase: boolean, work: (c: C
     ...(withDatabase ? { database: decodeURIComponent(u.pathname.slice(1)) } : {}),
     connectTimeout: 5000,
   });
+}
+
+/** A connection as `url`'s account (no default database unless `withDatabase`), closed after `work`. */
+export async function withConnection<T>(url: string, withDatabase: boolean, work: (c: Connection) => Promise<T>): Promise<T> {
+  const connection = await connect(url, withDatabase);
   try {
     return await work(connection);
   } finally {

@@ -1,9 +1,9 @@
-import mariadb, { type Connection } from "mariadb";
+import type { Connection } from "mariadb";
 import { loadConfig } from "../config.ts";
 import { createSequelize } from "../db/connection.ts";
 import { prepareDatabase } from "../db/prepare.ts";
 import { grantRuntimePrivileges } from "../db/privileges.ts";
-import { accountOf, scratchDatabase, withMigrationAccount } from "./scratch-databases.ts";
+import { accountOf, scratchDatabase, withConnection, withMigrationAccount } from "./scratch-databases.ts";
 
 /**
  * The API tests' databases, made fast (issue 9: `npm test` under 8 minutes). Once per `vitest run`
@@ -52,21 +52,8 @@ export async function prepareTemplate(baseUrl: string, migrationBase: string): P
   }
 }
 
-async function asMigrationAccount<T>(migrationBase: string, work: (c: Connection) => Promise<T>): Promise<T> {
-  const u = new URL(migrationBase);
-  const c = await mariadb.createConnection({
-    host: u.hostname,
-    port: Number(u.port || 3306),
-    user: decodeURIComponent(u.username),
-    password: decodeURIComponent(u.password),
-    connectTimeout: 5000,
-    multipleStatements: false,
-  });
-  try {
-    return await work(c);
-  } finally {
-    await c.end();
-  }
+function asMigrationAccount<T>(migrationBase: string, work: (c: Connection) => Promise<T>): Promise<T> {
+  return withConnection(migrationBase, false, work);
 }
 
 /** Makes `target` a copy of the template: tables, rows, triggers, then the runtime account's grants. */
