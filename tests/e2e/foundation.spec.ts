@@ -56,15 +56,18 @@ test.describe("console foundation", () => {
     });
   }
 
-  test("lists the demo arms with their DH tables in mm and deg", async ({ page }) => {
+  test("lists the demo arms, each opening its DH table in mm and deg", async ({ page }) => {
     await page.goto("/arms");
     await fillSignInForm(page, "emeka", DEMO_PASSWORD);
     await page.waitForURL(/\/arms$/);
     await expect(page.getByRole("heading", { level: 1, name: "Arms" })).toBeVisible();
-    const tables = page.getByRole("main").getByRole("table");
-    await expect(tables.first()).toContainText(/a \[mm\]/);
-    expect(await tables.count()).toBeGreaterThanOrEqual(1);
+    const arms = page.getByTestId("arms-table").getByRole("link");
+    expect(await arms.count()).toBeGreaterThanOrEqual(2); // the two demo arms (seed)
     await saveScreenshot(page, "arms");
+    await arms.first().click();
+    await page.waitForURL(/\/arms\/\d+$/);
+    await expect(page.getByTestId("dh-table")).toContainText(/a \[mm\]/);
+    await expect(page.getByTestId("dh-table")).toContainText(/α \[deg\]/);
   });
 
   test("lets an admin create a user who can then sign in", async ({ page }) => {

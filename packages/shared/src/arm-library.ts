@@ -62,6 +62,8 @@ export const armRevisionSchema = z.object({
   readyPose: z.array(finite),
   note: z.string(),
   createdBy: z.string().nullable(),
+  /** The author's display name (null for the seed's revisions). */
+  createdByName: z.string().nullable().default(null),
   createdAt: z.string(),
   /** Profile versions that name this revision (a used revision is never changed in place). */
   versionCount: z.number().int().nonnegative(),
@@ -75,6 +77,14 @@ export const armDetailSchema = z.object({
   revisions: z.array(armRevisionSchema),
 });
 export type ArmDetail = z.infer<typeof armDetailSchema>;
+
+/** `POST /api/arms/upload?save=1`: the form fields saved with the file (multipart, beside `file`). */
+export const armUploadFieldsSchema = z.object({
+  name: singleLineName({ requiredMessage: "name the arm", max: 120 }),
+  description: z.string().trim().max(4000).default(""),
+  note: z.string().trim().max(2000).default(""),
+});
+export type ArmUploadFields = z.infer<typeof armUploadFieldsSchema>;
 
 const readyPoseSchema = z.array(finite).max(12);
 
@@ -149,3 +159,14 @@ export function toolPoseOf(m: readonly number[]): { positionM: number[]; rpyRad:
     rpyRad: [Math.atan2(m[9]!, m[10]!), Math.atan2(-m[8]!, Math.hypot(m[0]!, m[4]!)), Math.atan2(m[4]!, m[0]!)],
   };
 }
+
+// Responses of the arms routes (the console parses every answer with these).
+
+/** GET /api/arms: every arm as its latest revision. */
+export const armListResponseSchema = z.object({ arms: z.array(armSchema) });
+/** POST /api/arms/upload without saving: the parsed arm and σ at the zero pose. */
+export const armUploadPreviewResponseSchema = z.object({ preview: armUploadPreviewSchema });
+/** POST /api/arms/upload?save=1: the preview and the saved arm with its revision 1. */
+export const armUploadSavedResponseSchema = armDetailSchema.extend({ preview: armUploadPreviewSchema });
+/** The tool routes: the tool as stored. */
+export const toolResponseSchema = z.object({ tool: toolSchema });

@@ -131,6 +131,11 @@ export const jogSessionInfoSchema = z.object({
   profileName: z.string(),
   armId: z.number().int(),
   armName: z.string(),
+  /** The arm revision and tool the version was saved on (issue 12); null where the server does not know them. */
+  armRevisionId: z.number().int().nullable().optional(),
+  armRevision: z.number().int().nullable().optional(),
+  toolId: z.number().int().nullable().optional(),
+  toolName: z.string().nullable().optional(),
   driverId: z.string(),
   driverName: z.string(),
   tickRateHz: z.number(),

@@ -13,6 +13,10 @@ export const createProfileSchema = z.object({
   armId: z.number().int().positive("pick an arm"),
   params: profileParamsSchema,
   note: note.default(""),
+  /** The arm revision v1 is made on (issue 12); absent: the arm's latest revision. */
+  armRevisionId: z.number().int().positive().optional(),
+  /** The tool on that revision; absent: its first tool in service; null: none (the revision's own tool transform). */
+  toolId: z.number().int().positive().nullable().optional(),
 });
 export type CreateProfileInput = z.infer<typeof createProfileSchema>;
 

@@ -40,7 +40,20 @@ export const NAV_ITEMS: readonly NavItem[] = [
     load: () => import("./routes/recordings-route.tsx"),
   },
   { label: "Bench", path: "/bench", icon: FlaskConical, roles: ["engineer", "safety_officer"], load: () => import("./routes/bench-route.tsx") },
-  { label: "Arms", path: "/arms", icon: Boxes, roles: ALL_ROLES, load: () => import("./routes/arms-route.tsx") },
+  {
+    label: "Arms",
+    path: "/arms",
+    icon: Boxes,
+    roles: ALL_ROLES,
+    load: () => import("./routes/arms-route.tsx"),
+    // New, upload and edit are shown to everyone but say "read only" to all but engineers (the server refuses them).
+    children: [
+      { path: "new", load: () => import("./routes/arm-form-route.tsx") },
+      { path: "upload", load: () => import("./routes/arm-upload-route.tsx") },
+      { path: ":armId", load: () => import("./routes/arm-detail-route.tsx") },
+      { path: ":armId/edit", load: () => import("./routes/arm-form-route.tsx") },
+    ],
+  },
   {
     label: "Profiles",
     path: "/profiles",

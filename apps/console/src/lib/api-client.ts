@@ -87,6 +87,30 @@ export async function apiEventStream(path: string, body: unknown, signal?: Abort
 }
 
 /**
+ * POST a multipart form (a file upload: `POST /api/arms/upload`, the one route that takes one) and parse the
+ * JSON answer with `schema`. The browser sets the multipart Content-Type with its boundary; failures throw
+ * as apiRequest's do (a 422's issues in `issues`).
+ */
+export async function apiUpload<S extends z.ZodType>(path: string, form: FormData, schema: S, signal?: AbortSignal): Promise<z.output<S>> {
+  let response: Response;
+  try {
+    response = await fetch(path, { method: "POST", headers: { Accept: "application/json" }, credentials: "same-origin", body: form, signal });
+  } catch (cause) {
+    if (cause instanceof DOMException && cause.name === "AbortError") throw cause;
+    throw new ApiRequestError(0, "unavailable", "Cannot reach the Jogwright server. Check your connection and try again.");
+  }
+  if (!response.ok) {
+    const error = await errorFromResponse(response);
+    if (error.code === "database_unavailable") reportDatabaseUnavailable();
+    throw error;
+  }
+  reportDatabaseAvailable();
+  const parsed = schema.safeParse(await response.json().catch(() => undefined));
+  if (!parsed.success) throw new ApiRequestError(response.status, "bad_response", `The server's answer to POST ${path} does not have the expected shape.`);
+  return parsed.data;
+}
+
+/**
  * Fetch wrapper for the same-origin Jogwright API. Sends and expects JSON, carries the session cookie,
  * validates the answer with the given shared schema and turns every failure into an ApiRequestError.
  */

@@ -9,7 +9,16 @@ import {
   type ArmModel,
   type VelocityEllipsoid,
 } from "@jogwright/kinematics";
-import type { FrameSource } from "../../lib/frame-trace.ts";
+import type { RecordedFrame } from "@jogwright/shared";
+
+/**
+ * What the view reads: the newest pose (joint values and the two twists) and a serial that moves with it.
+ * The live jog client and a replay (FrameSource) are ones; so is a still pose set by sliders (pose-source.ts).
+ */
+export interface ArmPoseSource {
+  latestFrame(): Pick<RecordedFrame, "q" | "twistCommanded" | "twistAchieved"> | null;
+  frameSerial(): number;
+}
 
 /**
  * The 3D arm, built from its DH model in the browser: every link frame from q (kinematics package,
@@ -65,7 +74,7 @@ function placeSegment(mesh: THREE.Object3D, ax: number, ay: number, az: number, 
 interface ArmRigProps {
   arm: ArmModel;
   restPose: readonly number[];
-  source: FrameSource;
+  source: ArmPoseSource;
   /** Written on every drawn frame (data-drawn-frames, data-tcp-mm) so tests can see the view move. */
   statusRef: React.RefObject<HTMLDivElement | null>;
 }
@@ -303,7 +312,7 @@ export interface ArmViewProps {
   arm: ArmModel;
   /** Pose shown before the first frame (the arm's ready pose). */
   restPose: readonly number[];
-  source: FrameSource;
+  source: ArmPoseSource;
   className?: string;
 }
 

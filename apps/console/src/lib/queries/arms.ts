@@ -1,22 +1,40 @@
-import { queryOptions, useQuery } from "@tanstack/react-query";
-import { z } from "zod";
-import { armSchema } from "@jogwright/shared";
+import { queryOptions, skipToken, useQuery, useQueryClient } from "@tanstack/react-query";
+import { armDetailSchema, armListResponseSchema } from "@jogwright/shared";
 import { apiRequest } from "../api-client.ts";
+import { auditKeys } from "./audit.ts";
 
-/** The arms (read by the arms page, profiles, reviews, drive, live and recordings): one key factory, one query. */
-
-const armListSchema = z.object({ arms: z.array(armSchema) });
-
+/**
+ * The arms (read by the arms pages, profiles, reviews, drive, live and recordings): one key factory, the
+ * list (each arm as its latest revision) and one arm with its revisions and tools.
+ */
 export const armKeys = {
   all: ["arms"] as const,
   lists: () => [...armKeys.all, "list"] as const,
+  details: () => [...armKeys.all, "detail"] as const,
+  /** null: no arm picked yet (the query is skipped, never fetched with a placeholder id). */
+  detail: (armId: number | null) => [...armKeys.details(), armId] as const,
 };
 
 export const armListQueryOptions = () =>
   queryOptions({
     queryKey: armKeys.lists(),
-    queryFn: async ({ signal }) => (await apiRequest("/api/arms", { schema: armListSchema, signal })).arms,
+    queryFn: async ({ signal }) => (await apiRequest("/api/arms", { schema: armListResponseSchema, signal })).arms,
     staleTime: 5 * 60_000,
   });
 
+/** GET /api/arms/:id: the arm as today with every revision (newest first) and its tools; skipped while armId is null. */
+export const armDetailQueryOptions = (armId: number | null) =>
+  queryOptions({
+    queryKey: armKeys.detail(armId),
+    queryFn: armId === null ? skipToken : ({ signal }) => apiRequest(`/api/arms/${armId}`, { schema: armDetailSchema, signal }),
+    staleTime: 60_000,
+  });
+
 export const useArms = () => useQuery(armListQueryOptions());
+export const useArmDetail = (armId: number | null) => useQuery(armDetailQueryOptions(armId));
+
+/** After an arm, a revision or a tool changed: every arm query and the audit trail. */
+export function useInvalidateArms() {
+  const queryClient = useQueryClient();
+  return () => Promise.all([queryClient.invalidateQueries({ queryKey: armKeys.all }), queryClient.invalidateQueries({ queryKey: auditKeys.all })]);
+}

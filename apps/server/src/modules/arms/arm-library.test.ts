@@ -135,6 +135,7 @@ describe("revisions: an arm that profiles use is never changed in place", () => 
     expect(detail.revisions.map((r) => r.revision)).toEqual([2, 1]);
     const rev2 = detail.revisions[0]!;
     expect(rev2.tools.map((t) => t.name)).toEqual(["Flange tool"]); // the tools come along as copies
+    expect(rev2).toMatchObject({ note: "longer upper arm", createdBy: team.engineer.id, createdByName: team.engineer.displayName });
     expect(detail.arm.model.joints[1]!.a).toBe(0.45); // the arm as it is today
 
     // A stale edit is refused and saves nothing.
@@ -184,6 +185,43 @@ describe("revisions: an arm that profiles use is never changed in place", () => 
     const res = await call(h, "post", "/api/arms", team.engineer.cookie).send({ name: uniqueName("Sheared"), model: { ...model, tool: [1, 0.2, 0, 0, 0, 1, 0, 0, 0, 0, 1, 0.1, 0, 0, 0, 1] } });
     expect(res.status).toBe(400);
     expect(res.body.error.issues[0].path).toBe("model.tool");
+  });
+});
+
+describe("a new profile names its arm revision and tool", () => {
+  it("v1 is made on the revision and tool asked for; a revision of another arm or a retired tool is refused on the field", async () => {
+    const created = await call(h, "post", "/api/arms", team.engineer.cookie).send({ name: uniqueName("Profile arm"), model: (await upload("/api/arms/upload", SMALL_CSV)).body.preview.model });
+    const arm = created.body.arm as Arm & { latestRevisionId: number };
+    const rev1 = arm.latestRevisionId;
+    const probe = await call(h, "post", `/api/arms/${arm.id}/revisions/${rev1}/tools`, team.engineer.cookie).send({ name: "Probe", positionM: [0, 0, 0.25], rpyRad: [0, 0, 0], massKg: 0.4 });
+    expect(probe.status).toBe(201);
+    const edit = await call(h, "put", `/api/arms/${arm.id}`, team.engineer.cookie).send({ parentRevisionId: rev1, model: arm.model, note: "revision 2, same model" });
+    expect(edit.status).toBe(200);
+    const engineer = { ...team.engineer, roles: ["engineer"] } as never;
+    const base = { operatorId: team.operator.id, armId: arm.id, params: compliantParams(arm), note: "v1" };
+
+    // Revision 1 with its "Probe" tool, although revision 2 is the latest.
+    const onRev1 = await call(h, "post", "/api/profiles", team.engineer.cookie).send({ ...base, name: uniqueName("On rev 1"), armRevisionId: rev1, toolId: probe.body.tool.id });
+    expect(onRev1.status).toBe(201);
+    const driven = await loadVersionForDriving(h.db, engineer, onRev1.body.profile.latestVersion.id);
+    expect(driven.arm).toMatchObject({ armRevisionId: rev1, revision: 1, tool: { id: probe.body.tool.id, name: "Probe" } });
+    expect(driven.arm.model.tool![11]).toBeCloseTo(0.25, 12);
+
+    // Without a revision: the latest, with its first tool in service (the copied "Flange tool").
+    const onLatest = await call(h, "post", "/api/profiles", team.engineer.cookie).send({ ...base, name: uniqueName("On latest") });
+    expect(onLatest.status).toBe(201);
+    expect((await loadVersionForDriving(h.db, engineer, onLatest.body.profile.latestVersion.id)).arm).toMatchObject({ revision: 2, tool: { name: "Flange tool" } });
+
+    const [profiles, versions] = [await count("profiles"), await count("profile_versions")];
+    const otherRev = armDetailSchema.parse((await call(h, "get", `/api/arms/${(await sixAxisArm(h)).id}`, team.engineer.cookie)).body).arm.latestRevisionId;
+    const wrongRevision = await call(h, "post", "/api/profiles", team.engineer.cookie).send({ ...base, name: uniqueName("Wrong"), armRevisionId: otherRev });
+    expect(wrongRevision.status).toBe(400);
+    expect(wrongRevision.body.error.issues[0].path).toBe("armRevisionId");
+    await call(h, "post", `/api/arms/${arm.id}/tools/${probe.body.tool.id}/retire`, team.engineer.cookie).expect(200);
+    const retired = await call(h, "post", "/api/profiles", team.engineer.cookie).send({ ...base, name: uniqueName("Retired"), armRevisionId: rev1, toolId: probe.body.tool.id });
+    expect(retired.status).toBe(400);
+    expect(retired.body.error.issues[0].path).toBe("toolId");
+    expect([await count("profiles"), await count("profile_versions")]).toEqual([profiles, versions]);
   });
 });
 

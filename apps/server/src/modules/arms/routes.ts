@@ -1,7 +1,7 @@
 import type { Request, Response } from "express";
 import multer from "multer";
 import { z } from "zod";
-import { createArmSchema, editArmSchema, numericIdParamSchema, singleLineName, toolInputSchema } from "@jogwright/shared";
+import { armUploadFieldsSchema, createArmSchema, editArmSchema, numericIdParamSchema, toolInputSchema } from "@jogwright/shared";
 import { AppError } from "../../errors.ts";
 import { ApiRouter, requireAccount } from "../../http/api-router.ts";
 import { parseBody, parseParams, parseQuery } from "../../http/validate.ts";
@@ -34,11 +34,6 @@ function readUpload(req: Request, res: Response): Promise<void> {
 }
 
 const uploadQuerySchema = z.object({ save: z.enum(["0", "1"]).default("0") });
-const uploadFieldsSchema = z.object({
-  name: singleLineName({ requiredMessage: "name the arm", max: 120 }),
-  description: z.string().trim().max(4000).default(""),
-  note: z.string().trim().max(2000).default(""),
-});
 const armToolParamsSchema = z.object({ id: z.coerce.number().int().positive("not a valid id"), toolId: z.coerce.number().int().positive("not a valid id") });
 const armRevisionParamsSchema = z.object({ id: z.coerce.number().int().positive("not a valid id"), revisionId: z.coerce.number().int().positive("not a valid id") });
 
@@ -87,7 +82,7 @@ export function armsRouter(ctx: AppContext): ApiRouter {
         res.json({ preview, issues: [] });
         return;
       }
-      const fields = uploadFieldsSchema.safeParse(req.body ?? {});
+      const fields = armUploadFieldsSchema.safeParse(req.body ?? {});
       if (!fields.success) {
         throw new AppError(400, "validation_failed", "Name the arm to save it.", fields.error.issues.map((i) => ({ path: i.path.join("."), message: i.message })));
       }

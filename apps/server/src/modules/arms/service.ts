@@ -107,6 +107,9 @@ export async function listRevisions(db: Sequelize, armId: number, transaction?: 
     raw: true,
     transaction,
   })) as unknown as { armRevisionId: number; n: number | string }[];
+  // Authors by name, deactivated ones too (a revision keeps who made it).
+  const authorIds = [...new Set(rows.map((r) => r.createdBy).filter((id): id is string => id !== null))];
+  const authors = authorIds.length ? await modelsOf(db).User.findAll({ where: { id: { [Op.in]: authorIds } }, attributes: ["id", "displayName"], transaction }) : [];
   return rows.map((r) => ({
     id: r.id,
     armId: r.armId,
@@ -115,6 +118,7 @@ export async function listRevisions(db: Sequelize, armId: number, transaction?: 
     readyPose: r.readyPose,
     note: r.note,
     createdBy: r.createdBy,
+    createdByName: authors.find((a) => a.id === r.createdBy)?.displayName ?? null,
     createdAt: r.createdAt.toISOString(),
     versionCount: Number(counts.find((c) => Number(c.armRevisionId) === r.id)?.n ?? 0),
     tools: tools.filter((t) => t.armRevisionId === r.id).map((t) => t.toApi()),

@@ -3,7 +3,6 @@ import {
   DRIVING_RULE,
   drivingRefusalMessage,
   isDriveable,
-  type Arm,
   type DriveableVersion,
   type DrivingKind,
   type DrivingUser,
@@ -14,6 +13,7 @@ import {
 import { AppError } from "../../errors.ts";
 import { modelsOf } from "../../db/models.ts";
 import { findProfile, versionLabel } from "../profiles/service.ts";
+import type { ArmOfVersion } from "../arms/service.ts";
 import { armForVersion, findVersion } from "../versions/service.ts";
 
 /**
@@ -104,7 +104,7 @@ export async function loadVersionForDriving(
   db: Sequelize,
   user: User,
   versionId: number,
-): Promise<{ version: ProfileVersion; profile: ProfileSummary; arm: Arm; kind: DrivingKind }> {
+): Promise<{ version: ProfileVersion; profile: ProfileSummary; arm: ArmOfVersion; kind: DrivingKind }> {
   const version = await findVersion(db, versionId);
   if (!version) throw new AppError(404, "not_found", "No such version.");
   const profile = (await findProfile(db, version.profileId))!;

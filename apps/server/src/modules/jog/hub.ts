@@ -97,7 +97,8 @@ export interface EndOptions {
 export interface DrivenVersion {
   version: ProfileVersion;
   profile: ProfileSummary;
-  arm: Arm;
+  /** The arm at the version's revision with its tool (arms service's ArmOfVersion; the references optional for callers without them). */
+  arm: Arm & { armRevisionId?: number; revision?: number; tool?: { id: number; name: string } | null };
   /** How the driver may drive it, by the shared driving rule (isDriveable, via loadVersionForDriving). */
   kind: DrivingKind;
 }
@@ -169,6 +170,10 @@ export class LiveJogSession {
       profileName: profile.name,
       armId: arm.id,
       armName: arm.name,
+      armRevisionId: arm.armRevisionId ?? null,
+      armRevision: arm.revision ?? null,
+      toolId: arm.tool?.id ?? null,
+      toolName: arm.tool?.name ?? null,
       driverId: this.driver.user.id,
       driverName: this.driver.user.displayName,
       tickRateHz: this.tickRateHz,

@@ -136,7 +136,8 @@ describe("who may drive", () => {
     const cookie = await signIn(h, "olena");
     const c = await startDriving(cookie, driveable[0]!.id);
     const info = c.messages.find((m) => m.msg.type === "session")!.msg;
-    expect(info).toMatchObject({ type: "session", session: { isUnapproved: false, isWatching: false, versionId: driveable[0]!.id } });
+    // The seeded demo version is on its arm's revision 1 with the seed's "Flange tool" (issue 12: the drive page shows both).
+    expect(info).toMatchObject({ type: "session", session: { isUnapproved: false, isWatching: false, versionId: driveable[0]!.id, armRevision: 1, toolName: "Flange tool" } });
     await c.close();
   });
 

@@ -133,14 +133,19 @@ export async function setStatus(
 /** POST /api/profiles: a profile and its version 1 (a draft), audited, in one transaction. */
 export async function createProfile(ctx: WorkflowContext, actor: User, input: CreateProfileInput): Promise<ProfileSummary> {
   const { db } = ctx;
-  const arm = await armFor(db, input.armId);
+  const latest = await armFor(db, input.armId);
+  // The revision and tool asked for (checked against the arm; a tool alone is on the latest revision), else
+  // the arm's latest revision with its first tool in service.
+  const revisionId = input.armRevisionId ?? (input.toolId !== undefined ? (await defaultArmChoice(db, latest.id))?.armRevisionId : undefined);
+  const armChoice = revisionId !== undefined ? await resolveArmChoice(db, latest.id, { armRevisionId: revisionId, toolId: input.toolId }) : undefined;
+  const arm = armChoice ? ((await findArmAtRevision(db, armChoice)) ?? latest) : latest;
   checkParamsFitArm(input.params, arm);
   if (!(await isActiveOperator(db, input.operatorId))) {
     throw new AppError(400, "validation_failed", "Pick an active operator for the profile.", [{ path: "operatorId", message: "not an active operator" }]);
   }
   const profileId = await db.transaction(async (t) => {
     const id = await insertProfile(db, t, { name: input.name, operatorId: input.operatorId, armId: arm.id, createdBy: actor.id });
-    const versionId = await insertVersion(db, t, { profileId: id, number: 1, parentVersionId: null, params: input.params, note: input.note, authorId: actor.id });
+    const versionId = await insertVersion(db, t, { profileId: id, number: 1, parentVersionId: null, params: input.params, note: input.note, authorId: actor.id }, armChoice);
     const profile = (await findProfile(db, id, t))!;
     const version = (await findVersion(db, versionId, t))!;
     await recordAudit(db, t, {

@@ -1,22 +1,106 @@
+import { useMemo } from "react";
+import { Link } from "react-router";
+import type { ColumnDef } from "@tanstack/react-table";
+import { Plus, Upload } from "lucide-react";
+import type { Arm, User } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
-import { Message } from "../../../components/ui/message.tsx";
-import { useArms } from "../../../lib/queries/arms.ts";
-import { ArmCard } from "./arm-card.tsx";
+import { DataTable, TableFilter, useSortableFilterableTable } from "../../../components/ui/data-table.tsx";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
+import { formatDateTime } from "../../../lib/format.ts";
+import { useArms } from "../../../lib/queries/arms.ts";
 
-export function ArmsPage() {
+export const LINK_BUTTON_PRIMARY = "inline-flex h-9 items-center gap-2 rounded-md bg-iris-400 px-4 text-sm font-semibold text-ink-950 hover:bg-iris-300";
+export const LINK_BUTTON_SECONDARY = "inline-flex h-9 items-center gap-2 rounded-md border border-ink-600 bg-ink-800 px-4 text-sm font-semibold text-ink-100 hover:border-ink-400";
+
+/** The arm library: every arm as its latest revision, linking to its page; engineers add arms by form or by file. */
+export function ArmsPage({ user }: { user: User }) {
   const arms = useArms();
+  const isEngineer = user.roles.includes("engineer");
   return (
     <>
       <PageHeader
         title="Arms"
-        description="The simulated arms, as Denavit–Hartenberg tables. Lengths in mm, angles in deg, speeds in deg/s (mm and mm/s for sliding joints)."
+        description="The simulated arms, as Denavit–Hartenberg tables with their tools. An arm that profiles use is never changed in place: editing it makes a new revision."
+        actions={
+          isEngineer ? (
+            <>
+              <Link to="/arms/upload" className={LINK_BUTTON_SECONDARY}>
+                <Upload aria-hidden className="size-4" /> Upload arm file
+              </Link>
+              <Link to="/arms/new" className={LINK_BUTTON_PRIMARY}>
+                <Plus aria-hidden className="size-4" /> New arm
+              </Link>
+            </>
+          ) : null
+        }
       />
       <QueryStatus query={arms} loading="Loading arms…" failed="Could not load the arms" />
-      {arms.data?.length === 0 ? <Message>No arm is defined yet.</Message> : null}
-      <div className="flex flex-col gap-6">
-        {arms.data?.map((arm) => <ArmCard key={arm.id} arm={arm} />)}
-      </div>
+      {arms.data ? <ArmsTable arms={arms.data} /> : null}
     </>
+  );
+}
+
+function ArmsTable({ arms }: { arms: Arm[] }) {
+  const columns = useMemo<ColumnDef<Arm>[]>(
+    () => [
+      {
+        id: "name",
+        accessorKey: "name",
+        header: "Name",
+        cell: (c) => (
+          <Link to={`/arms/${c.row.original.id}`} className="font-semibold text-iris-300 hover:underline">
+            {c.row.original.name}
+          </Link>
+        ),
+        meta: { isRowHeader: true, className: "font-normal" },
+      },
+      {
+        id: "joints",
+        accessorFn: (a) => a.model.joints.length,
+        header: "Joints",
+        enableGlobalFilter: false,
+        cell: (c) => <span className="num">{c.row.original.model.joints.length}</span>,
+        meta: { className: "text-right", headClassName: "text-right" },
+      },
+      {
+        id: "kinds",
+        header: "Joint types",
+        enableSorting: false,
+        enableGlobalFilter: false,
+        cell: (c) => {
+          const prismatic = c.row.original.model.joints.filter((j) => j.type === "prismatic").length;
+          return prismatic === 0 ? "revolute" : `${c.row.original.model.joints.length - prismatic} revolute, ${prismatic} prismatic`;
+        },
+        meta: { className: "text-ink-300" },
+      },
+      {
+        id: "convention",
+        accessorFn: (a) => (a.model.convention === "standard" ? "standard DH" : "modified DH"),
+        header: "Convention",
+        meta: { className: "text-ink-300" },
+      },
+      { id: "description", accessorKey: "description", header: "Description", enableSorting: false, meta: { className: "max-w-xl text-sm text-ink-300" } },
+      {
+        id: "updated",
+        accessorKey: "updatedAt",
+        header: "Last changed",
+        enableGlobalFilter: false,
+        cell: (c) => <span className="num whitespace-nowrap text-ink-300">{formatDateTime(c.row.original.updatedAt)}</span>,
+      },
+    ],
+    [],
+  );
+  const { table, filter } = useSortableFilterableTable({ data: arms, columns, initialSort: [{ id: "name", desc: false }] });
+  return (
+    <div className="flex flex-col gap-3">
+      <TableFilter table={table} label="Filter arms" placeholder="Filter by name, convention or description" rowsNoun="arms" />
+      <DataTable
+        table={table}
+        testId="arms-table"
+        verticalAlign="top"
+        caption="Arms. Select a column heading to sort by it."
+        emptyMessage={arms.length === 0 ? "No arm is defined yet." : `No arm matches “${filter}”.`}
+      />
+    </div>
   );
 }

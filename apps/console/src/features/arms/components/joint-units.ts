@@ -21,5 +21,11 @@ export function jointSpeed(joint: ArmJoint, si: number): DisplayValue {
     : { text: formatFixed(mToMm(si), 0), unit: "mm/s" };
 }
 
+export function jointAccel(joint: ArmJoint, si: number): DisplayValue {
+  return joint.type === "revolute"
+    ? { text: formatFixed(radToDeg(si), 0), unit: "deg/s²" }
+    : { text: formatFixed(mToMm(si), 0), unit: "mm/s²" };
+}
+
 export const lengthMm = (m: number): string => formatFixed(mToMm(m), 1);
 export const angleDeg = (rad: number): string => formatFixed(radToDeg(rad), 1);

@@ -7,6 +7,7 @@ import { ReplayPlayer } from "../../../components/jog/replay-player.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { framesOfRun } from "../run-frames.ts";
 import { Plot } from "../../../components/charts/plot.tsx";
+import { ExportLinks } from "../../../components/ui/export-links.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
@@ -122,10 +123,14 @@ export function RunComparison({ a, b, arm }: { a: RunSet; b: RunSet | null; arm:
               </h3>
               <ComparisonTable trialName={run.trialName} a={run} b={other} labelA={labelA} labelB={labelB} />
               <RunPlots arm={arm} trialName={run.trialName} a={run} b={other} labelA={labelA} labelB={labelB} />
-              <p className="num text-xs text-ink-400">
-                Run #{run.id}
-                {other ? `, #${other.id}` : ""} · series SHA-256 {run.seriesHash.slice(0, 12)}… · {run.durationMs} ms in the worker
-              </p>
+              <div className="flex flex-wrap items-center gap-3">
+                <p className="num text-xs text-ink-400">
+                  Run #{run.id}
+                  {other ? `, #${other.id}` : ""} · series SHA-256 {run.seriesHash.slice(0, 12)}… · {run.durationMs} ms in the worker
+                </p>
+                <ExportLinks base={`/api/bench/runs/${run.id}`} what={`run ${run.id}`} />
+                {other ? <ExportLinks base={`/api/bench/runs/${other.id}`} what={`run ${other.id}`} /> : null}
+              </div>
             </section>
           );
         })}

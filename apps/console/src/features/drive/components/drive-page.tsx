@@ -1,11 +1,12 @@
-import { useCallback, useEffect, useState } from "react";
+import { useCallback, useEffect, useMemo, useState } from "react";
 import { Link, useSearchParams } from "react-router";
 import { useQuery, useQueryClient } from "@tanstack/react-query";
-import { DEFAULT_GAMEPAD_MAPPING, hasAnyRole } from "@jogwright/shared";
+import { DEFAULT_GAMEPAD_MAPPING, hasAnyRole, type JointKind } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { describeEnded, jogClient, jogErrorTitle, useJogSnapshot } from "../../../lib/jog-socket.ts";
-import { useArms } from "../../../lib/queries/arms.ts";
+import { armAtRevision } from "../../../lib/arm-revision.ts";
+import { useArmDetail, useArms } from "../../../lib/queries/arms.ts";
 import { storeSession, useCurrentUser } from "../../../lib/session.ts";
 import { driveableVersionsQueryOptions, gamepadMappingQueryOptions } from "../api/drive-api.ts";
 import { profileDetailQueryOptions, profileListQueryOptions } from "../../../lib/queries/profiles.ts";
@@ -57,7 +58,13 @@ export function DrivePage() {
   const params = version?.params ?? null;
   const profileSummary = profiles.data?.find((p) => p.id === profileId) ?? null;
   const armId = session?.armId ?? profileSummary?.armId ?? null;
-  const arm = arms.data?.find((a) => a.id === armId) ?? null;
+  const listedArm = arms.data?.find((a) => a.id === armId) ?? null;
+  // The session's arm revision and tool (issue 12): the 3D view draws the arm the version was saved on.
+  const armDetail = useArmDetail(session?.armRevisionId != null ? session.armId : null);
+  const arm = useMemo(
+    () => (listedArm ? armAtRevision(listedArm, armDetail.data, session?.armRevisionId, session?.toolId) : null),
+    [listedArm, armDetail.data, session?.armRevisionId, session?.toolId],
+  );
 
   // Signed out (4401: here, elsewhere, expired, or never signed in): the socket stays closed, and the
   // session guard sends the person to sign in and back here after.
@@ -91,12 +98,16 @@ export function DrivePage() {
     if (drivenSessionId) jogInput.announceReleased();
   }, [drivenSessionId]);
 
+  // By the joint types, not the arm object: the arm is built again when its revision's detail arrives, and
+  // setting the types resets the charts' trace.
+  const jointTypes = arm ? arm.model.joints.map((j) => j.type).join(",") : null;
   useEffect(() => {
-    if (arm) {
-      jogInput.configure({ axisCount: arm.model.joints.length });
-      jogClient.setJointTypes(arm.model.joints.map((j) => j.type));
+    if (jointTypes) {
+      const types = jointTypes.split(",") as JointKind[];
+      jogInput.configure({ axisCount: types.length });
+      jogClient.setJointTypes(types);
     }
-  }, [arm]);
+  }, [jointTypes]);
 
   // A new session starts at the version's default override, bounded by its maximum.
   const sessionId = session?.sessionId ?? null;
@@ -148,7 +159,19 @@ export function DrivePage() {
           <p className="text-sm text-ink-300" data-testid="session-info">
             Driving <span className="font-semibold text-ink-100">{session.profileName}</span>, version{" "}
             <span className="num text-ink-100">{session.versionNumber}</span> on{" "}
-            <span className="font-semibold text-ink-100">{session.armName}</span> · watchdog{" "}
+            <span className="font-semibold text-ink-100">{session.armName}</span>
+            {session.armRevision != null ? (
+              <>
+                {" "}
+                <span data-testid="session-arm-revision">revision <span className="num text-ink-100">{session.armRevision}</span></span>
+              </>
+            ) : null}
+            {session.armRevision != null || session.toolName != null ? (
+              <>
+                {" "}with <span data-testid="session-tool" className="font-semibold text-ink-100">{session.toolName ?? "its flange as the tool"}</span>
+              </>
+            ) : null}{" "}
+            · watchdog{" "}
             <span className="num text-ink-100">{session.watchdogMs}</span> ms · control{" "}
             <span className="num text-ink-100">{session.tickRateHz}</span> Hz
           </p>

@@ -1,4 +1,4 @@
-import { useMemo, useState } from "react";
+import { useState } from "react";
 import { Link, useNavigate } from "react-router";
 import { ArrowLeft, Plus } from "lucide-react";
 import { createProfileSchema, defaultProfileParams, type Arm, type ProfileParams } from "@jogwright/shared";
@@ -10,12 +10,17 @@ import { Message } from "../../../components/ui/message.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
-import { useArms } from "../../../lib/queries/arms.ts";
+import { armAtRevision } from "../../../lib/arm-revision.ts";
+import { formatFixed } from "../../../lib/format.ts";
+import { useArmDetail, useArms } from "../../../lib/queries/arms.ts";
 import { useCeilings } from "../../../lib/queries/ceilings.ts";
 import { useCreateProfile, useOperators } from "../hooks/use-profiles.ts";
 import { ProfileParamsForm } from "./profile-params-form.tsx";
 
 const headSchema = createProfileSchema.pick({ name: true, operatorId: true });
+
+/** A TCP position in mm, e.g. "(0, 0, 160) mm". */
+const toolText = (positionM: readonly number[]) => `(${positionM.map((m) => formatFixed(m * 1000, 1)).join(", ")}) mm`;
 
 /** Defaults for an arm: half of each joint's rated speed (a joint without one gets 1 rad/s as its basis). */
 const defaultsFor = (arm: Arm): ProfileParams => defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed ?? 1));
@@ -31,8 +36,18 @@ export function NewProfilePage() {
   const [armId, setArmId] = useState<number | null>(null);
   const [isHeadTouched, setHeadTouched] = useState(false);
 
-  const arm = arms.data?.find((a) => a.id === (armId ?? arms.data[0]?.id));
-  const initialParams = useMemo(() => (arm ? defaultsFor(arm) : null), [arm]);
+  const listedArm = arms.data?.find((a) => a.id === (armId ?? arms.data[0]?.id));
+  // The arm revision and tool version 1 is made on (issue 12): the current revision and its first tool in service unless picked.
+  const armDetail = useArmDetail(listedArm?.id ?? null);
+  const [picked, setPicked] = useState<{ armId: number; revisionId: number; toolId: number | null } | null>(null);
+  const revisions = armDetail.data?.revisions ?? [];
+  const pickedHere = picked && picked.armId === listedArm?.id ? picked : null;
+  const revision = revisions.find((r) => r.id === pickedHere?.revisionId) ?? revisions[0];
+  const toolsInService = revision?.tools.filter((t) => !t.retiredAt) ?? [];
+  const tool = pickedHere && pickedHere.revisionId === revision?.id ? toolsInService.find((t) => t.id === pickedHere.toolId) : toolsInService[0];
+  const arm = listedArm ? armAtRevision(listedArm, armDetail.data, revision?.id, tool?.id) : undefined;
+  // No useMemo: the React Compiler memoizes this component (ProfileParamsForm reads its defaults once anyway).
+  const initialParams = arm ? defaultsFor(arm) : null;
   const head = headSchema.safeParse({ name, operatorId });
   const headErrors: Record<string, string> = {};
   if (!head.success) for (const issue of head.error.issues) headErrors[String(issue.path[0])] ??= issue.message;
@@ -53,7 +68,10 @@ export function NewProfilePage() {
   const onSave = (params: ProfileParams, note: string) => {
     setHeadTouched(true);
     if (!head.success || !arm) return;
-    create.mutate({ name: name.trim(), operatorId, armId: arm.id, params, note }, { onSuccess: (profile) => navigate(`/profiles/${profile.id}`) });
+    create.mutate(
+      { name: name.trim(), operatorId, armId: arm.id, params, note, ...(revision ? { armRevisionId: revision.id, toolId: tool?.id ?? null } : {}) },
+      { onSuccess: (profile) => navigate(`/profiles/${profile.id}`) },
+    );
   };
 
   return (
@@ -87,12 +105,44 @@ export function NewProfilePage() {
                 </option>
               ))}
             </SelectField>
+            <SelectField
+              label="Arm revision"
+              value={revision?.id ?? ""}
+              disabled={!revision}
+              onChange={(e) => {
+                const next = revisions.find((r) => r.id === Number(e.target.value));
+                if (listedArm && next) setPicked({ armId: listedArm.id, revisionId: next.id, toolId: next.tools.find((t) => !t.retiredAt)?.id ?? null });
+              }}
+              hint="The profile keeps this revision; it moves to another only by saving a new version."
+            >
+              {revisions.map((r) => (
+                <option key={r.id} value={r.id}>
+                  Revision {r.revision}
+                  {r.id === armDetail.data?.arm.latestRevisionId ? " (current)" : ""}
+                  {r.note ? ` — ${r.note}` : ""}
+                </option>
+              ))}
+            </SelectField>
+            <SelectField
+              label="Tool"
+              value={tool?.id ?? ""}
+              disabled={toolsInService.length === 0}
+              onChange={(e) => listedArm && revision && setPicked({ armId: listedArm.id, revisionId: revision.id, toolId: Number(e.target.value) })}
+              hint={tool ? `TCP ${toolText(tool.positionM)} from the flange, ${tool.massKg} kg.` : "No tool in service on this revision: the model's own tool transform is used."}
+            >
+              {toolsInService.length === 0 ? <option value="">No tool</option> : null}
+              {toolsInService.map((t) => (
+                <option key={t.id} value={t.id}>
+                  {t.name}
+                </option>
+              ))}
+            </SelectField>
           </div>
         </Card>
         {arm && initialParams ? (
           <Card title="Parameters" description="Prefilled with defaults for this arm: joint caps at half the rated speed, TCP 250 mm/s. Stored in SI units.">
             <ProfileParamsForm
-              key={arm.id}
+              key={`${arm.id}-${revision?.id ?? "latest"}`}
               formId="new-profile-form"
               arm={arm}
               ceilings={ceilings.data?.ceilings}

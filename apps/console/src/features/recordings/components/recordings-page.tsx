@@ -8,6 +8,7 @@ import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
+import { ExportLinks } from "../../../components/ui/export-links.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { formatDateTime, formatFixed } from "../../../lib/format.ts";
 import { useArms } from "../../../lib/queries/arms.ts";
@@ -110,9 +111,12 @@ function RecordingsTable({ recordings, arms, onReplay }: { recordings: Recording
         id: "actions",
         header: () => <span className="sr-only">Actions</span>,
         cell: ({ row: { original: r } }) => (
-          <Button size="sm" onClick={() => onReplay(r.id)} aria-label={`Replay recording ${r.id}`}>
-            <Play aria-hidden className="size-3.5" /> Replay
-          </Button>
+          <span className="inline-flex flex-wrap justify-end gap-2">
+            <Button size="sm" onClick={() => onReplay(r.id)} aria-label={`Replay recording ${r.id}`}>
+              <Play aria-hidden className="size-3.5" /> Replay
+            </Button>
+            <ExportLinks base={`/api/recordings/${r.id}`} what={`recording ${r.id}`} />
+          </span>
         ),
         meta: { className: "text-right" },
       },
@@ -149,9 +153,12 @@ function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () =
           ) : undefined
         }
         actions={
-          <Button variant="ghost" onClick={onBack}>
-            <ArrowLeft aria-hidden className="size-4" /> All recordings
-          </Button>
+          <>
+            <ExportLinks base={`/api/recordings/${recordingId}`} what={`recording ${recordingId}`} />
+            <Button variant="ghost" onClick={onBack}>
+              <ArrowLeft aria-hidden className="size-4" /> All recordings
+            </Button>
+          </>
         }
       />
       <QueryStatus query={detail} isPending={detail.isPending || arms.isPending} loading="Loading the recording…" failed="Could not load the recording" />
