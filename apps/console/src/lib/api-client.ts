@@ -53,13 +53,15 @@ type Result<S> = S extends z.ZodType ? z.output<S> : void;
  * (the server refuses other content types there).
  */
 async function send(path: string, method: Method, body: unknown, signal: AbortSignal | undefined, headers: Record<string, string>): Promise<Response> {
+  // A FormData body (a file upload) goes as multipart: the browser sets its Content-Type with the boundary.
+  const isForm = body instanceof FormData;
   let response: Response;
   try {
     response = await fetch(path, {
       method,
-      headers: method === "GET" ? headers : { ...headers, "Content-Type": "application/json" },
+      headers: method === "GET" || isForm ? headers : { ...headers, "Content-Type": "application/json" },
       credentials: "same-origin",
-      body: method === "GET" ? undefined : JSON.stringify(body ?? {}),
+      body: method === "GET" ? undefined : isForm ? body : JSON.stringify(body ?? {}),
       signal,
     });
   } catch (cause) {
@@ -92,19 +94,7 @@ export async function apiEventStream(path: string, body: unknown, signal?: Abort
  * as apiRequest's do (a 422's issues in `issues`).
  */
 export async function apiUpload<S extends z.ZodType>(path: string, form: FormData, schema: S, signal?: AbortSignal): Promise<z.output<S>> {
-  let response: Response;
-  try {
-    response = await fetch(path, { method: "POST", headers: { Accept: "application/json" }, credentials: "same-origin", body: form, signal });
-  } catch (cause) {
-    if (cause instanceof DOMException && cause.name === "AbortError") throw cause;
-    throw new ApiRequestError(0, "unavailable", "Cannot reach the Jogwright server. Check your connection and try again.");
-  }
-  if (!response.ok) {
-    const error = await errorFromResponse(response);
-    if (error.code === "database_unavailable") reportDatabaseUnavailable();
-    throw error;
-  }
-  reportDatabaseAvailable();
+  const response = await send(path, "POST", form, signal, { Accept: "application/json" });
   const parsed = schema.safeParse(await response.json().catch(() => undefined));
   if (!parsed.success) throw new ApiRequestError(response.status, "bad_response", `The server's answer to POST ${path} does not have the expected shape.`);
   return parsed.data;

@@ -1,7 +1,7 @@
 import { z } from "zod";
 import { armModelSchema, createArmSchema, roundTo, type ArmJoint, type ArmModel, type JointKind } from "@jogwright/shared";
 import { addSchemaIssuesAtUiPaths, uiNumber } from "../../../lib/form-codec.ts";
-import { isZeroPose, poseUiOfTransform, transformOfPoseUi, ZERO_POSE, type PoseUi } from "./pose-units.ts";
+import { isZeroPose, poseUiOfTransform, poseUiSchema, transformOfPoseUi, ZERO_POSE, type PoseUi } from "./pose-units.ts";
 
 // The arm form (create and edit): the DH table, ranges, rated speeds and accelerations in the units people
 // read them in — lengths mm, angles deg, a revolute joint's range in deg, speed deg/s, acceleration deg/s²,
@@ -113,14 +113,6 @@ export function armFieldOfPath(path: string): string | undefined {
 }
 
 const optionalNumber = z.union([z.number(), z.nan(), z.literal("")]);
-const poseUiSchema = z.object({
-  xMm: uiNumber("mm"),
-  yMm: uiNumber("mm"),
-  zMm: uiNumber("mm"),
-  rollDeg: uiNumber("deg"),
-  pitchDeg: uiNumber("deg"),
-  yawDeg: uiNumber("deg"),
-});
 
 const armRequestSchema = z.object({ name: z.string(), description: z.string(), model: armModelSchema, note: z.string() });
 /** What the form submits: name, description, note (trimmed) and the SI model, checked with the shared schemas. */

@@ -1,4 +1,6 @@
+import { z } from "zod";
 import { roundTo, toolPoseOf, toolTransform } from "@jogwright/shared";
+import { uiNumber } from "../../../lib/form-codec.ts";
 
 // A base or tool transform as people type it: a position in mm and roll-pitch-yaw in deg, with
 // R = Rz(yaw)·Ry(pitch)·Rx(roll) about the fixed axes (packages/shared/src/arm-library.ts, toolTransform).
@@ -16,6 +18,17 @@ export interface PoseUi {
 const RAD_PER_DEG = Math.PI / 180;
 /** Decimals kept in the form: 0.000001 mm and deg, so an unchanged value saves back within 1e-9 m / 1e-8 rad. */
 const POSE_DECIMALS = 6;
+
+/** The six pose fields of a form as typed (mm and deg), each refused with its unit when it is not a number. */
+export const poseUiFields = {
+  xMm: uiNumber("mm"),
+  yMm: uiNumber("mm"),
+  zMm: uiNumber("mm"),
+  rollDeg: uiNumber("deg"),
+  pitchDeg: uiNumber("deg"),
+  yawDeg: uiNumber("deg"),
+};
+export const poseUiSchema = z.object(poseUiFields);
 
 export const ZERO_POSE: PoseUi = { xMm: 0, yMm: 0, zMm: 0, rollDeg: 0, pitchDeg: 0, yawDeg: 0 };
 

@@ -1,7 +1,7 @@
 import { z } from "zod";
 import { toolInputSchema, type Tool, type ToolInput } from "@jogwright/shared";
 import { addSchemaIssuesAtUiPaths, uiNumber } from "../../../lib/form-codec.ts";
-import { poseSiOf, poseUiOf, ZERO_POSE, type PoseUi } from "./pose-units.ts";
+import { poseSiOf, poseUiFields, poseUiOf, ZERO_POSE, type PoseUi } from "./pose-units.ts";
 
 // The tool form: name, TCP offset as position (mm) + roll-pitch-yaw (deg), mass (kg), note ⇄ the SI
 // ToolInput of the tool routes (positionM, rpyRad).
@@ -25,12 +25,7 @@ export function toolFieldOfPath(path: string): keyof ToolFormValues | undefined 
 const uiSchema = z
   .object({
     name: z.string(),
-    xMm: uiNumber("mm"),
-    yMm: uiNumber("mm"),
-    zMm: uiNumber("mm"),
-    rollDeg: uiNumber("deg"),
-    pitchDeg: uiNumber("deg"),
-    yawDeg: uiNumber("deg"),
+    ...poseUiFields,
     massKg: uiNumber("kg"),
     note: z.string(),
   })
