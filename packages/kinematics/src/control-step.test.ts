@@ -219,6 +219,24 @@ describe("controlStep", () => {
     expect(maxAbsDiff(report.achievedTwist, tw)).toBeLessThan(1e-9);
   });
 
+  it("reports the TCP pose where the step started and the joint positions it was evaluated at, bit for bit the forward kinematics", () => {
+    // A recorder takes the pose after a step from the next step's report when poseJoints match (trials).
+    for (const demo of [arm6, arm7]) {
+      const { ws, state, report } = setup(demo);
+      const p = params({ jointAccelLimits: demo.model.joints.map((j) => ratedJointAccel(j) * 0.5) });
+      for (let s = 0; s < 200; s++) {
+        const q0 = Array.from(state.q);
+        const twist = [0.05 * Math.cos(s / 20), 0.04, -0.02, 0.1, 0, 0.2 * Math.sin(s / 30)];
+        if (s % 50 === 49) jointJogStep(ws, state, p, demo.model.joints.map(() => 0.1), 0.002, report);
+        else controlStep(ws, state, p, twist, 0.002, report);
+        expect(report.fault).toBe("none");
+        expect(Array.from(report.poseJoints.subarray(0, state.n))).toEqual(q0);
+        expect(Array.from(report.pose)).toEqual(Array.from(forwardPose(demo.model, q0)));
+      }
+      expect(Array.from(state.q)).not.toEqual(demo.readyPose);
+    }
+  });
+
   it("is deterministic: the same inputs give bit-identical states", () => {
     // Our contract (common practice, no source).
     const run = () => {

@@ -39,7 +39,7 @@
  */
 
 import type { ArmKernel, ArmModel } from "./arm.ts";
-import { KinematicsInputError, compileArm, requireFiniteVector, validateArm } from "./arm.ts";
+import { KinematicsInputError, MAX_JOINTS, compileArm, requireFiniteVector, validateArm } from "./arm.ts";
 import type { DampingScheme } from "./damping.ts";
 import { dampingForSchemeInto, validateDampingScheme } from "./damping.ts";
 import { dlsFilteredFromGramInto, dlsFromGramBoxed, dlsSolveWithFactor, jtY6Into } from "./dls.ts";
@@ -211,6 +211,12 @@ export interface ControlStepReport {
   tcpAngularSpeed: number;
   /** TCP pose at the start of the step (where J and σ were evaluated). */
   readonly pose: Float64Array;
+  /**
+   * The joint positions `pose` was evaluated at (the first n of MAX_JOINTS numbers): a caller that needs the
+   * TCP pose after a step (a recorder) takes it from the next step's report when these match, instead of
+   * evaluating the forward kinematics again.
+   */
+  readonly poseJoints: Float64Array;
   driftPositionError: number;
   driftOrientationError: number;
   driftReset: boolean;
@@ -227,7 +233,6 @@ export interface ControlWorkspace {
   readonly G: Float64Array;
   readonly L: Float64Array;
   readonly y: Float64Array;
-  readonly pose: Float64Array;
   readonly cmd: Float64Array;
   readonly solve: Float64Array;
   readonly err: Float64Array;
@@ -302,7 +307,6 @@ export function createControlWorkspace(arm: ArmModel): ControlWorkspace {
     G: new Float64Array(k * k),
     L: new Float64Array(k * k),
     y: new Float64Array(Math.max(6, n)),
-    pose: new Float64Array(16),
     cmd: new Float64Array(6),
     solve: new Float64Array(6),
     err: new Float64Array(6),
@@ -392,7 +396,7 @@ export function createControlReport(): ControlStepReport {
     binding: "none", bindingJoint: -1, guardState: "off",
     commandedTwist: new Float64Array(6), correctionTwist: new Float64Array(6), solvedTwist: new Float64Array(6),
     achievedTwist: new Float64Array(6),
-    tcpLinearSpeed: 0, tcpAngularSpeed: 0, pose: new Float64Array(16),
+    tcpLinearSpeed: 0, tcpAngularSpeed: 0, pose: new Float64Array(16), poseJoints: new Float64Array(MAX_JOINTS).fill(Number.NaN),
     driftPositionError: 0, driftOrientationError: 0, driftReset: false,
     sigmaIterations: 0, sigmaFullDecomposition: false, fault: "none", isDegenerate: false,
   };
@@ -524,18 +528,18 @@ function commandIsFinite(v: ArrayLike<number> | null | undefined, len: number): 
 }
 
 /**
- * Evaluates J, pose and the Gram matrix at state.q into the workspace and the pose into the report (σ
- * follows in estimateSigma). False when q (or J) is not finite.
+ * Evaluates J and the Gram matrix at state.q into the workspace and the TCP pose into the report (with the
+ * joint positions it was evaluated at; σ follows in estimateSigma). False when q (or J) is not finite.
  */
 function measure(ws: ControlWorkspace, state: ControlState, report: ControlStepReport): boolean {
   const n = ws.n;
   const q = state.q;
   for (let i = 0; i < n; i++) if (!Number.isFinite(q[i]!)) return false;
   // J, pose and G in one pass (jacobian.ts; bit-identical to geometricJacobianInto + gramInto).
-  const pose = ws.pose, G = ws.G;
-  jacobianPoseGramInto(ws.kernel, q, ws.J, pose, G);
-  const rp = report.pose;
-  for (let i = 0; i < 16; i++) rp[i] = pose[i]!;
+  // The pose goes straight into the report, where the rest of the step reads it.
+  const G = ws.G, pq = report.poseJoints;
+  jacobianPoseGramInto(ws.kernel, q, ws.J, report.pose, G);
+  for (let i = 0; i < n; i++) pq[i] = q[i]!;
   // A non-finite entry of J makes a diagonal entry of the Gram matrix (a sum of squares) non-finite.
   const k = ws.tracker.k;
   for (let i = 0; i < k; i++) if (!(G[i * k + i]! < Infinity)) return false;
@@ -978,7 +982,7 @@ export function controlStep(
   if (!measure(ws, state, report)) return fail(state, report, "non-finite-result");
   const n = ws.n;
   const cmd = ws.cmd;
-  const pose = ws.pose;
+  const pose = report.pose;
   const J = ws.J;
   if (params.twistFrame === "tool") toolTwistToWorldInto(pose, twist, cmd);
   else {

@@ -358,7 +358,8 @@ export class MotionGate {
   ): void {
     const count = mode === "cartesian" ? 6 : this.n;
     const raw = this.rawAxes;
-    for (let i = 0; i < MAX_JOINTS; i++) raw[i] = i < count ? axes[axesOffset + i]! : 0;
+    for (let i = 0; i < count; i++) raw[i] = axes[axesOffset + i]!;
+    for (let i = count; i < MAX_JOINTS; i++) raw[i] = 0;
     this.inputMode = mode;
     this.inputFrame = frame;
     const o = override < this.maxOverride ? override : this.maxOverride;
@@ -538,7 +539,8 @@ export class MotionGate {
 
     // Enabled: shaping (step 1) and slew.
     const target = this.target;
-    target.fill(0);
+    // Only what is read below (6 axes or n joints); a loop: TypedArray.fill is a builtin call per tick.
+    for (let i = 0, m = n > 6 ? n : 6; i < m; i++) target[i] = 0;
     let switching = this.inputMode !== this.cmdMode || (this.inputMode === "cartesian" && this.inputFrame !== this.cmdFrame);
     if (switching && this.commandZero) {
       this.cmdMode = this.inputMode;

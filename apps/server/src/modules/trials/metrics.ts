@@ -167,106 +167,273 @@ function dist3(a: Float64Array, i: number, b: Float64Array, j: number): number {
 }
 
 /**
- * The exact nearest point of a polyline (points 0 … count−1) to a query point, fast: segments are grouped
- * in blocks of 32 and blocks in groups of 32, each with a bounding capsule (the chord from its first to its
- * last point, and a radius: the farthest of its points from that chord — a segment lies inside the capsule
- * of its end points, the capsule being convex), and a block or group is skipped when its capsule is farther
- * than the best distance so far, which starts at the previous sample's nearest segment. Capsules rather than
- * spheres: a path is nearly straight over a block, so its capsule is thin, and only the block beside the
- * query point survives (spheres let every block within the deviation through: 2.5× slower on a 10-s trial
- * with 8 mm deviation, measured). Exact (a brute-force scan agrees: trials.test.ts). No allocation per query.
+ * The exact nearest point of a polyline (points 0 … count−1) to a query point, fast: a tree of bounding
+ * capsules over the segments, fan-out 8 at every level (a capsule: the chord from the node's first to its
+ * last point, and a radius, the farthest of its points from that chord — a segment lies inside the capsule
+ * of its end points, the capsule being convex). A node is skipped when its capsule is at least as far as
+ * the best distance so far, which starts at the previous sample's nearest segment; the rest is visited in
+ * index order. Capsules rather than spheres: a path is nearly straight over a node, so its capsule is thin,
+ * and only the nodes beside the query point survive (spheres let every block within the deviation through:
+ * 2.5× slower on a 10-s trial with 8 mm deviation, measured).
+ *
+ * Consecutive samples are close, so most queries skip the tree: a full search keeps a window of leaves
+ * around the segments it scanned (one leaf more on each side) and a lower bound D on the distance from its
+ * query point p₀ to every segment outside the window (the smallest of its skipped capsules' distances). A
+ * later query point p is at least D − |p − p₀| from them (triangle inequality), so when the previous
+ * answer's segment is nearer than that (1e-12 m margin), the best of the window (its leaves' capsules first)
+ * is the answer; otherwise the query searches the tree again. On the 10-s trial at 1 kHz: a full search for
+ * 8 % of the samples, ~6 capsules and ~10 segments per sample (two levels of 32 without the window: ~77).
+ * Segments are compared by their squared distance (the square root, monotonic, is taken of the winner only),
+ * so the answer is the segment of least distance, bit for bit the distance a brute-force scan gives
+ * (trials.test.ts, on a path whose nearest segment jumps between two legs). No allocation per query.
  */
 class NearestOnPolyline {
-  private static readonly B = 32;
+  private static readonly F = 8;
+  /** Skipped capsules remembered per full search (beyond: no window for the next queries). */
+  private static readonly MAX_SKIPPED = 512;
+  /** Widest window [leaves] (a path that comes back near itself scans leaves far apart: no window). */
+  private static readonly MAX_WINDOW_LEAVES = 8;
+  /** Margin [m] on the window's bound, far above the rounding of the capsule distances (~1e-16 m). */
+  private static readonly MARGIN_M = 1e-12;
   private readonly segments: number;
-  private readonly blocks: Bounds;
-  private readonly groups: Bounds;
-  /** The latest answer: distance, position along its segment [m], segment index. */
+  /** Capsules per level, 8 numbers a node (capsules()): level ℓ groups 8^(ℓ+1) segments. */
+  private readonly levels: Float64Array[] = [];
+  private readonly nodeCounts: number[] = [];
+  /** Segments a node of each level covers (8^(ℓ+1)). */
+  private readonly spans: number[] = [];
+  /** The latest answer: distance [m] and segment index (its position along the segment: along). */
   distance = 0;
-  along = 0;
   segment = 0;
+  // The query in progress (fields, read by the helpers below).
+  private qx = 0;
+  private qy = 0;
+  private qz = 0;
+  private best2 = 0;
+  private best = 0;
+  private bestT = 0;
+  private bestSegment = 0;
+  private readonly stack: Int32Array;
+  // The full search's skipped capsules (level, node; distance − radius) and the leaves it scanned.
+  private readonly skippedNodes = new Int32Array(2 * NearestOnPolyline.MAX_SKIPPED);
+  private readonly skippedBounds = new Float64Array(NearestOnPolyline.MAX_SKIPPED);
+  private skipped = 0;
+  private firstLeaf = 0;
+  private lastLeaf = 0;
+  // The window: leaves windowFrom … windowTo−1, and D and p₀ (isWindow false: none).
+  private isWindow = false;
+  private windowFrom = 0;
+  private windowTo = 0;
+  private windowBound = 0;
+  private wx = 0;
+  private wy = 0;
+  private wz = 0;
 
   constructor(private readonly r: Float64Array, count: number) {
     this.segments = Math.max(1, count - 1);
-    const B = NearestOnPolyline.B;
-    // Points first … last of block b (segment j joins points j and j+1).
-    this.blocks = capsules(Math.ceil(this.segments / B), (b) => [b * B, Math.min((b + 1) * B, count - 1)], r);
-    this.groups = capsules(Math.ceil(this.blocks.count / B), (g) => [g * B * B, Math.min((g + 1) * B * B, count - 1)], r);
+    const F = NearestOnPolyline.F;
+    // Node i of a level covering `span` segments: points i·span … min((i+1)·span, count − 1).
+    for (let span = F, nodes = Math.ceil(this.segments / F); ; span *= F, nodes = Math.ceil(nodes / F)) {
+      this.levels.push(capsules(nodes, span, count, r));
+      this.nodeCounts.push(nodes);
+      this.spans.push(span);
+      if (nodes <= F) break;
+    }
+    this.stack = new Int32Array(2 * F * (this.levels.length + 1));
   }
 
   find(p: Float64Array, k: number, hint: number): void {
-    const B = NearestOnPolyline.B;
+    const F = NearestOnPolyline.F;
     const lastPoint = this.segments; // segment j joins points j and j+1 ≤ lastPoint (one point: j = 0 … 0)
-    this.segment = Math.min(hint, this.segments - 1);
-    segmentDistance(p, k, this.r, this.segment, Math.min(this.segment + 1, lastPoint));
-    this.distance = scratch.distance;
-    this.along = scratch.along;
-    const px = p[k * 3]!, py = p[k * 3 + 1]!, pz = p[k * 3 + 2]!;
-    for (let g = 0; g < this.groups.count; g++) {
-      if (this.groups.farther(g, px, py, pz, this.distance)) continue;
-      const lastBlock = Math.min((g + 1) * B, this.blocks.count);
-      for (let b = g * B; b < lastBlock; b++) {
-        if (this.blocks.farther(b, px, py, pz, this.distance)) continue;
-        const to = Math.min((b + 1) * B, this.segments);
-        for (let j = b * B; j < to; j++) {
-          segmentDistance(p, k, this.r, j, Math.min(j + 1, lastPoint));
-          if (scratch.distance < this.distance) {
-            this.distance = scratch.distance;
-            this.along = scratch.along;
-            this.segment = j;
-          }
+    const h = Math.min(hint, this.segments - 1);
+    const x = p[k * 3]!, y = p[k * 3 + 1]!, z = p[k * 3 + 2]!;
+    this.qx = x;
+    this.qy = y;
+    this.qz = z;
+    this.best2 = Infinity;
+    this.bestSegment = h;
+    this.scanSegments(h, h + 1, lastPoint);
+    let isDone = false;
+    if (this.isWindow) {
+      const dx = x - this.wx, dy = y - this.wy, dz = z - this.wz;
+      const reach = this.windowBound - Math.sqrt(dx * dx + dy * dy + dz * dz) - NearestOnPolyline.MARGIN_M;
+      if (this.best < reach) {
+        // The window's leaves, each skipped when its capsule is no nearer than the best (the hint's, first).
+        for (let leaf = this.windowFrom; leaf < this.windowTo; leaf++) {
+          if (this.isFarther(0, leaf)) continue;
+          this.scanSegments(leaf * F, Math.min((leaf + 1) * F, this.segments), lastPoint);
+        }
+        isDone = this.best < reach;
+      }
+    }
+    if (!isDone) {
+      // Depth first in index order. A node is tested before it is pushed (the stack holds the survivors as
+      // (level, node) pairs, children pushed last to first); a survivor's children are tested in a row.
+      this.skipped = 0;
+      this.firstLeaf = Infinity;
+      this.lastLeaf = -1;
+      const stack = this.stack;
+      const levels = this.levels, counts = this.nodeCounts;
+      let sp = 0;
+      const top = levels.length - 1;
+      sp = this.pushSurvivors(top, 0, counts[top]!, sp);
+      while (sp > 0) {
+        const node = stack[--sp]!;
+        const level = stack[--sp]!;
+        if (level === 0) {
+          if (node < this.firstLeaf) this.firstLeaf = node;
+          if (node > this.lastLeaf) this.lastLeaf = node;
+          this.scanSegments(node * F, Math.min((node + 1) * F, this.segments), lastPoint);
+        } else {
+          sp = this.pushSurvivors(level - 1, node * F, Math.min(node * F + F, counts[level - 1]!), sp);
         }
       }
+      this.makeWindow(x, y, z);
+    }
+    this.segment = this.bestSegment;
+    this.distance = this.best;
+  }
+
+  /** The latest answer's position along its segment [m]. */
+  get along(): number {
+    const r = this.r;
+    const j = this.bestSegment;
+    const b = Math.min(j + 1, this.segments);
+    const ux = r[b * 3]! - r[j * 3]!, uy = r[b * 3 + 1]! - r[j * 3 + 1]!, uz = r[b * 3 + 2]! - r[j * 3 + 2]!;
+    return this.bestT * Math.sqrt(ux * ux + uy * uy + uz * uz);
+  }
+
+  /**
+   * After a full search from (x, y, z): the window of the leaves it scanned, one more on each side, and the
+   * least distance − radius of the capsules it skipped that are not inside the window.
+   */
+  private makeWindow(x: number, y: number, z: number): void {
+    const F = NearestOnPolyline.F;
+    const leaves = this.nodeCounts[0]!;
+    this.isWindow = false;
+    // The best segment's leaf too (it may have been skipped as a tie when the best came from the hint).
+    const bestLeaf = Math.floor(this.bestSegment / F);
+    if (bestLeaf < this.firstLeaf) this.firstLeaf = bestLeaf;
+    if (bestLeaf > this.lastLeaf) this.lastLeaf = bestLeaf;
+    if (this.skipped < 0 || this.lastLeaf - this.firstLeaf + 3 > NearestOnPolyline.MAX_WINDOW_LEAVES) return;
+    const fromLeaf = Math.max(0, this.firstLeaf - 1), toLeaf = Math.min(leaves, this.lastLeaf + 2);
+    const from = fromLeaf * F, to = Math.min(toLeaf * F, this.segments);
+    let bound = Infinity;
+    for (let i = 0; i < this.skipped; i++) {
+      // Node i of level ℓ covers segments node·8^(ℓ+1) … (node+1)·8^(ℓ+1) − 1.
+      const span = this.spans[this.skippedNodes[2 * i]!]!, node = this.skippedNodes[2 * i + 1]!;
+      if (node * span >= from && Math.min((node + 1) * span, this.segments) <= to) continue;
+      if (this.skippedBounds[i]! < bound) bound = this.skippedBounds[i]!;
+    }
+    this.isWindow = true;
+    this.windowFrom = fromLeaf;
+    this.windowTo = toLeaf;
+    this.windowBound = bound;
+    this.wx = x;
+    this.wy = y;
+    this.wz = z;
+  }
+
+  /**
+   * Pushes the nodes from … to−1 of a level whose capsules are nearer than the best so far, last to first;
+   * returns the new stack size. Skipped when (distance to the chord − radius) ≥ best, compared squared:
+   * d² ≥ best² + rad·(2·best + rad) (no square root or division here; best² itself, so a tie — a capsule of
+   * no radius as far as the best segment, e.g. on a path that stands still — is skipped as unsquared). A
+   * skipped capsule's distance − radius is kept for the window (makeWindow).
+   */
+  private pushSurvivors(level: number, from: number, to: number, sp: number): number {
+    const c = this.levels[level]!, stack = this.stack;
+    const x = this.qx, y = this.qy, z = this.qz;
+    const best2 = this.best2, best = this.best;
+    for (let i = to - 1; i >= from; i--) {
+      const o = i * 8;
+      const px = x - c[o]!, py = y - c[o + 1]!, pz = z - c[o + 2]!;
+      const ux = c[o + 3]!, uy = c[o + 4]!, uz = c[o + 5]!;
+      let t = (px * ux + py * uy + pz * uz) * c[o + 6]!;
+      t = t < 0 ? 0 : t > 1 ? 1 : t;
+      const dx = px - t * ux, dy = py - t * uy, dz = pz - t * uz;
+      const rad = c[o + 7]!;
+      const d2 = dx * dx + dy * dy + dz * dz;
+      if (d2 >= best2 + rad * (2 * best + rad)) {
+        const m = this.skipped;
+        if (m >= 0 && m < NearestOnPolyline.MAX_SKIPPED) {
+          this.skippedNodes[2 * m] = level;
+          this.skippedNodes[2 * m + 1] = i;
+          this.skippedBounds[m] = Math.sqrt(d2) - rad;
+          this.skipped = m + 1;
+        } else {
+          this.skipped = -1; // too many to remember: no window
+        }
+        continue;
+      }
+      stack[sp++] = level;
+      stack[sp++] = i;
+    }
+    return sp;
+  }
+
+  /** Node i of a level is no nearer than the best so far (pushSurvivors' test). */
+  private isFarther(level: number, i: number): boolean {
+    const c = this.levels[level]!;
+    const o = i * 8;
+    const px = this.qx - c[o]!, py = this.qy - c[o + 1]!, pz = this.qz - c[o + 2]!;
+    const ux = c[o + 3]!, uy = c[o + 4]!, uz = c[o + 5]!;
+    let t = (px * ux + py * uy + pz * uz) * c[o + 6]!;
+    t = t < 0 ? 0 : t > 1 ? 1 : t;
+    const dx = px - t * ux, dy = py - t * uy, dz = pz - t * uz;
+    const rad = c[o + 7]!;
+    return dx * dx + dy * dy + dz * dz >= this.best2 + rad * (2 * this.best + rad);
+  }
+
+  /** Segments from … to−1 against the best so far (squared distances; strictly closer wins). */
+  private scanSegments(from: number, to: number, lastPoint: number): void {
+    const r = this.r;
+    const x = this.qx, y = this.qy, z = this.qz;
+    let best2 = this.best2;
+    for (let j = from; j < to; j++) {
+      const a = j * 3, b = (j + 1 < lastPoint ? j + 1 : lastPoint) * 3;
+      const ax = r[a]!, ay = r[a + 1]!, az = r[a + 2]!;
+      const ux = r[b]! - ax, uy = r[b + 1]! - ay, uz = r[b + 2]! - az;
+      const px = x - ax, py = y - ay, pz = z - az;
+      const len2 = ux * ux + uy * uy + uz * uz;
+      let t = len2 > 0 ? (px * ux + py * uy + pz * uz) / len2 : 0;
+      t = t < 0 ? 0 : t > 1 ? 1 : t;
+      const dx = px - t * ux, dy = py - t * uy, dz = pz - t * uz;
+      const d2 = dx * dx + dy * dy + dz * dz;
+      if (d2 < best2) {
+        best2 = d2;
+        this.bestT = t;
+        this.bestSegment = j;
+      }
+    }
+    if (best2 < this.best2) {
+      this.best2 = best2;
+      this.best = Math.sqrt(best2);
     }
   }
 }
 
-interface Bounds {
-  count: number;
-  farther(i: number, x: number, y: number, z: number, distance: number): boolean;
-}
-
-/** Distance from (x, y, z) to the segment a–b given as a and u = b − a. */
-function toChord(x: number, y: number, z: number, ax: number, ay: number, az: number, ux: number, uy: number, uz: number, len2: number): number {
-  const px = x - ax, py = y - ay, pz = z - az;
-  let t = len2 > 0 ? (px * ux + py * uy + pz * uz) / len2 : 0;
-  t = t < 0 ? 0 : t > 1 ? 1 : t;
-  const dx = px - t * ux, dy = py - t * uy, dz = pz - t * uz;
-  return Math.sqrt(dx * dx + dy * dy + dz * dz);
-}
-
-function capsules(count: number, span: (i: number) => [number, number], r: Float64Array): Bounds {
-  // Per capsule: a (3), u = b − a (3), |u|² (1), radius (1).
-  const c = new Float64Array(count * 8);
-  for (let i = 0; i < count; i++) {
-    const [first, last] = span(i);
+/** Capsules of `nodes` nodes of `span` segments each over the polyline r of `count` points. */
+function capsules(nodes: number, span: number, count: number, r: Float64Array): Float64Array {
+  // Per capsule: a (3), u = b − a (3), 1/|u|² (1; 0 for a chord of no length), radius (1).
+  const c = new Float64Array(nodes * 8);
+  for (let i = 0; i < nodes; i++) {
+    const first = i * span, last = Math.min((i + 1) * span, count - 1);
     const ax = r[first * 3]!, ay = r[first * 3 + 1]!, az = r[first * 3 + 2]!;
     const ux = r[last * 3]! - ax, uy = r[last * 3 + 1]! - ay, uz = r[last * 3 + 2]! - az;
     const len2 = ux * ux + uy * uy + uz * uz;
-    let rad = 0;
-    for (let j = first; j <= last; j++) rad = Math.max(rad, toChord(r[j * 3]!, r[j * 3 + 1]!, r[j * 3 + 2]!, ax, ay, az, ux, uy, uz, len2));
-    c.set([ax, ay, az, ux, uy, uz, len2, rad], i * 8);
+    // The farthest point from the chord, squared distances compared (one square root a capsule).
+    let rad2 = 0;
+    for (let j = first; j <= last; j++) {
+      const px = r[j * 3]! - ax, py = r[j * 3 + 1]! - ay, pz = r[j * 3 + 2]! - az;
+      let t = len2 > 0 ? (px * ux + py * uy + pz * uz) / len2 : 0;
+      t = t < 0 ? 0 : t > 1 ? 1 : t;
+      const dx = px - t * ux, dy = py - t * uy, dz = pz - t * uz;
+      const d2 = dx * dx + dy * dy + dz * dz;
+      if (d2 > rad2) rad2 = d2;
+    }
+    const rad = Math.sqrt(rad2);
+    const o = i * 8;
+    c[o] = ax; c[o + 1] = ay; c[o + 2] = az; c[o + 3] = ux; c[o + 4] = uy; c[o + 5] = uz; c[o + 6] = len2 > 0 ? 1 / len2 : 0; c[o + 7] = rad;
   }
-  return {
-    count,
-    farther(i, x, y, z, distance) {
-      const o = i * 8;
-      return toChord(x, y, z, c[o]!, c[o + 1]!, c[o + 2]!, c[o + 3]!, c[o + 4]!, c[o + 5]!, c[o + 6]!) - c[o + 7]! >= distance;
-    },
-  };
-}
-
-/** segmentDistance's answer (no allocation per call). */
-const scratch = { distance: 0, along: 0 };
-
-function segmentDistance(p: Float64Array, k: number, r: Float64Array, a: number, b: number): void {
-  const ax = r[a * 3]!, ay = r[a * 3 + 1]!, az = r[a * 3 + 2]!;
-  const ux = r[b * 3]! - ax, uy = r[b * 3 + 1]! - ay, uz = r[b * 3 + 2]! - az;
-  const px = p[k * 3]! - ax, py = p[k * 3 + 1]! - ay, pz = p[k * 3 + 2]! - az;
-  const len2 = ux * ux + uy * uy + uz * uz;
-  let t = len2 > 0 ? (px * ux + py * uy + pz * uz) / len2 : 0;
-  t = t < 0 ? 0 : t > 1 ? 1 : t;
-  const dx = px - t * ux, dy = py - t * uy, dz = pz - t * uz;
-  scratch.distance = Math.sqrt(dx * dx + dy * dy + dz * dz);
-  scratch.along = t * Math.sqrt(len2);
+  return c;
 }

@@ -84,21 +84,20 @@ export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTr
   for (const s of trial.segments) plannedTicks += s.kind === "waypoint" ? s.maxTicks : s.ticks;
   const capacity = Math.min(plannedTicks + Math.ceil(MAX_STOP_S / dt) + 2, Math.ceil(maxDuration / dt) + 2);
 
-  const rec = new SeriesRecorder(sim, arm, capacity);
-  const { pose, reference, wantedWorld } = rec;
+  const rec = new SeriesRecorder(sim, arm, capacity, { predictionsFromNextTick: true });
+  const { reference, wanted } = rec;
   const override = params.speedOverride.maxPercent;
   const scale = override / 100;
   const linCap = params.tcpLinearCapMPerS * scale;
   const angCap = params.tcpAngularCapRadPerS * scale;
   const { deadband, expo } = params.shaping;
   const axes = new Float64Array(6);
-  const wanted = new Float64Array(6);
   let seq = 0;
-  const record = () => rec.record();
 
   /**
    * One tick: wanted (in its frame) → the stick deflections a live operator would need → the same input
    * path as live jogging; then the commanded path advances by what the gate handed to the control step.
+   * The recorder rotates a tool-frame `wanted` into the world frame with the TCP pose before the tick.
    */
   const lastWanted = new Float64Array(6).fill(Number.NaN);
   const tickWith = (frame: "world" | "tool"): void => {
@@ -109,25 +108,31 @@ export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTr
       const cap = i < 3 ? linCap : angCap;
       axes[i] = cap > 0 ? unshapeAxis(v / cap, deadband, expo) : 0;
     }
-    toWorld(wanted, frame, pose, wantedWorld);
+    rec.isWantedInTool = frame === "tool";
     sim.applyInputValues(seq++, 0, true, "cartesian", frame, override, axes, 0);
     sim.tick();
     rec.advanceReference();
-    record();
+    rec.record();
   };
 
-  wantedWorld.fill(0);
-  record(); // sample 0: the start
+  wanted.fill(0);
+  rec.record(); // sample 0: the start
   // The gate arms on a released enabling control first (PRODUCT.md step 2), as a console does on connect.
   axes.fill(0);
   sim.applyInputValues(seq++, 0, false, "cartesian", "world", override, axes, 0);
 
   let ticksLeft = Math.ceil(maxDuration / dt);
   for (const seg of trial.segments) {
-    if (seg.kind === "twist" || seg.kind === "samples") {
+    if (seg.kind === "twist") {
+      const tw = seg.twist;
       for (let j = 0; j < seg.ticks && ticksLeft > 0; j++, ticksLeft--) {
-        if (seg.kind === "twist") wanted.set(seg.twist);
-        else for (let i = 0; i < 6; i++) wanted[i] = seg.samples[j * 6 + i]!;
+        for (let i = 0; i < 6; i++) wanted[i] = tw[i]!;
+        tickWith(seg.frame);
+      }
+    } else if (seg.kind === "samples") {
+      const samples = seg.samples;
+      for (let j = 0; j < seg.ticks && ticksLeft > 0; j++, ticksLeft--) {
+        for (let i = 0; i < 6; i++) wanted[i] = samples[j * 6 + i]!;
         tickWith(seg.frame);
       }
     } else {
@@ -150,13 +155,13 @@ export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTr
   // Release: the controlled stop, until the arm rests.
   rec.markRelease();
   wanted.fill(0);
-  wantedWorld.fill(0);
+  rec.isWantedInTool = false;
   axes.fill(0);
   sim.applyInputValues(seq++, 0, false, "cartesian", "world", override, axes, 0);
   const stopTicks = Math.ceil(MAX_STOP_S / dt);
   for (let j = 0; j < stopTicks && !rec.isFull; j++) {
     sim.tick();
-    record();
+    rec.record();
     if (sim.isAtRest) break;
   }
   return rec.series();
@@ -166,36 +171,80 @@ export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTr
  * Records a JogSimulation tick by tick into a TrialSeries (the trial runner's and the replay's): joint
  * state, TCP and commanded (reference) position, twists, σ_min, λ, the predicted stop, cap and guard
  * flags. The reference starts at the TCP and advances by what the gate handed to the control step
- * (Cartesian commands; a joint jog leaves it where it is). Allocates the series once.
+ * (Cartesian commands; a joint jog leaves it where it is). Nothing is allocated per tick.
+ *
+ * What the next tick computes anyway is taken from it, one sample late, rather than computed twice:
+ * - the TCP pose after a tick is where the next tick's control step evaluates J (its report's pose): a
+ *   sample's TCP position and orientation error come from that pose when the step started at exactly the
+ *   sample's joint positions (report.poseJoints), else — the last sample, a tick that did not step — from
+ *   the forward kinematics (the step's pose is forwardPoseInto's arithmetic: the same numbers either way);
+ * - with `predictionsFromNextTick` (the trial runner, which does nothing between a sample and the next
+ *   tick but send an input), the predicted stop: the gate predicts it at the start of every tick from the
+ *   previous step's motion (MotionGate.updatePredictions), which is the sample's motion. (The gate's
+ *   snapshot of the watchdog prediction at each input is then a tick older; it only measures a watchdog
+ *   stop, which an input every tick never trips.) A replay applies e-stops and ready-pose moves between
+ *   ticks, so it asks the gate after each tick.
+ *
+ * The channels are recorded into a scratch series kept for the next run of the thread (up to
+ * SCRATCH_SAMPLES samples: a sweep runs many trials in a row) and copied out at their length by series().
  */
 export class SeriesRecorder {
-  readonly pose = new Float64Array(16);
   /** The commanded pose, integrated from the gate's commanded twist. */
   readonly reference = new Float64Array(16);
-  /** The twist asked for this tick, world frame (the trial's; zero for a replay). */
-  readonly wantedWorld = new Float64Array(6);
+  /** The twist asked for this tick, in its frame (the trial's; zero for a replay). */
+  readonly wanted = new Float64Array(6);
+  /** `wanted` is in the tool frame: recorded rotated into the world frame by the TCP rotation before the tick. */
+  isWantedInTool = false;
   private readonly kernel: ReturnType<typeof compileArm>;
   private readonly out: TrialSeries;
   private k = 0;
+  private isDone = false;
+  private readonly isPredictingNext: boolean;
+  /** The sample whose TCP pose (and predicted stop) is still owed (−1: none). */
+  private pending = -1;
+  /** The latest settled sample's TCP pose (the report's, or poseScratch), null before the first. */
+  private lastPose: Float64Array | null = null;
+  /** The forward kinematics of the pending sample when the next step did not start there, and its joints. */
+  private readonly poseScratch = new Float64Array(16);
+  private readonly pendingQ: Float64Array;
+  private readonly rotation = new Float64Array(10);
+  private readonly lastAngular = new Float64Array(3);
 
-  constructor(private readonly sim: JogSimulation, arm: ArmModel, private readonly capacity: number) {
+  constructor(
+    private readonly sim: JogSimulation, arm: ArmModel, private readonly capacity: number,
+    options: { predictionsFromNextTick?: boolean } = {},
+  ) {
     this.kernel = compileArm(arm);
-    this.out = allocate(sim.tickRateHz, sim.n, capacity);
-    forwardPoseInto(this.kernel, sim.state.q, this.pose);
-    this.reference.set(this.pose);
+    this.out = takeScratch(sim.tickRateHz, sim.n, capacity);
+    this.isPredictingNext = options.predictionsFromNextTick === true;
+    this.pendingQ = new Float64Array(sim.n);
+    forwardPoseInto(this.kernel, sim.state.q, this.reference);
+    this.lastAngular.fill(Number.NaN);
   }
 
   get isFull(): boolean {
     return this.k >= this.capacity;
   }
 
-  /** After a tick: the reference follows the commanded twist of a Cartesian command. */
+  /**
+   * After a tick: the reference follows the commanded twist of a Cartesian command (the previous sample,
+   * whose reference it still is, is settled first).
+   */
   advanceReference(): void {
-    if (this.sim.gate.command.action === "cartesian") advance(this.reference, this.sim.report.commandedTwist, this.sim.dt);
+    if (this.pending >= 0) this.settlePending(true);
+    if (this.sim.gate.command.action === "cartesian") advance(this.reference, this.sim.report.commandedTwist, this.sim.dt, this.rotation, this.lastAngular);
   }
 
-  /** The commanded path starts again at the TCP (a replay's ready-pose move, a joint jog's end). */
+  /**
+   * The commanded path starts again at the TCP (a replay's ready-pose move, a joint jog's end); the previous
+   * sample is settled first, against the reference it had. Not with predictionsFromNextTick: the sample's
+   * motion is gone by now.
+   */
   resetReference(): void {
+    if (this.pending >= 0) {
+      if (this.isPredictingNext) throw new Error("resetReference is for a recorder that predicts after each tick (a replay)");
+      this.settlePending(false);
+    }
     forwardPoseInto(this.kernel, this.sim.state.q, this.reference);
   }
 
@@ -204,41 +253,126 @@ export class SeriesRecorder {
     this.out.releaseIndex = this.k;
   }
 
+  /** After a tick (or at the start): one sample. */
   record(): void {
+    if (this.isDone) throw new Error("the series was taken already (its scratch went back to the thread)");
+    const { sim, out, reference } = this;
+    const r = sim.report;
+    // The previous sample's TCP pose (and predicted stop) from this tick, unless advanceReference did it.
+    if (this.pending >= 0) this.settlePending(true);
     if (this.k >= this.capacity) return;
-    const { sim, out, pose, reference, wantedWorld } = this;
     const k = this.k;
     const n = sim.n;
-    forwardPoseInto(this.kernel, sim.state.q, pose);
-    const r = sim.report;
+    const q = sim.state.q, qdot = sim.state.qdot;
     out.t[k] = sim.time;
+    const oq = out.q, oqd = out.qdot;
     for (let i = 0; i < n; i++) {
-      out.q[k * n + i] = sim.state.q[i]!;
-      out.qdot[k * n + i] = sim.state.qdot[i]!;
+      oq[k * n + i] = q[i]!;
+      oqd[k * n + i] = qdot[i]!;
     }
-    for (let i = 0; i < 3; i++) {
-      out.tcp[k * 3 + i] = pose[i * 4 + 3]!;
-      out.reference[k * 3 + i] = reference[i * 4 + 3]!;
+    const ref = out.reference;
+    ref[k * 3] = reference[3]!;
+    ref[k * 3 + 1] = reference[7]!;
+    ref[k * 3 + 2] = reference[11]!;
+    // The wanted twist in the world frame: a tool-frame one rotated by the TCP rotation before the tick.
+    const w = this.wanted, ow = out.wanted, o6 = k * 6;
+    const P = this.lastPose;
+    if (this.isWantedInTool && P !== null) {
+      for (let h = 0; h < 2; h++) {
+        const o = h * 3;
+        for (let row = 0; row < 3; row++) ow[o6 + o + row] = P[row * 4]! * w[o]! + P[row * 4 + 1]! * w[o + 1]! + P[row * 4 + 2]! * w[o + 2]!;
+      }
+    } else {
+      for (let i = 0; i < 6; i++) ow[o6 + i] = w[i]!;
     }
-    out.orientationError[k] = rotationAngleBetween(pose, reference);
+    const ct = r.commandedTwist, at = r.achievedTwist, oc = out.commanded, oa = out.achieved;
     for (let i = 0; i < 6; i++) {
-      out.wanted[k * 6 + i] = wantedWorld[i]!;
-      out.commanded[k * 6 + i] = r.commandedTwist[i]!;
-      out.achieved[k * 6 + i] = r.achievedTwist[i]!;
+      oc[o6 + i] = ct[i]!;
+      oa[o6 + i] = at[i]!;
     }
     out.sigmaMin[k] = r.sigmaMin;
     out.lambda[k] = r.lambda;
-    sim.gate.updatePredictions(r, sim.state.qdot);
-    out.stopDistance[k] = sim.gate.predictions["enabling-released"].distance;
+    if (!this.isPredictingNext) {
+      sim.gate.updatePredictions(r, qdot);
+      out.stopDistance[k] = sim.gate.predictions["enabling-released"].distance;
+    }
     out.capBound[k] = r.binding === "joint-rate" ? 1 : 0;
     out.guardHeld[k] = r.guardState === "stopped" ? 1 : 0;
     out.fault[k] = r.fault !== "none" ? 1 : 0;
+    this.pending = k;
     this.k++;
   }
 
+  /** The series so far, at its length (the last sample settled from the current state). */
   series(): TrialSeries {
-    return trim(this.out, this.k);
+    if (this.isDone) throw new Error("the series was taken already (its scratch went back to the thread)");
+    if (this.pending >= 0) this.settlePending(false);
+    const s = trim(this.out, this.k);
+    this.isDone = true;
+    giveScratch(this.out);
+    return s;
   }
+
+  /**
+   * Writes the pending sample's TCP position and orientation error (and, predicting from the next tick,
+   * its predicted stop), before the reference moves on; keeps the TCP pose used in lastPose. The pose is the
+   * report's when evaluated at exactly the sample's joint positions, else the forward kinematics.
+   * `isAfterTick`: a tick has run since the sample, so the gate's predictions are the sample's; otherwise
+   * (the last sample) they are made here from the current state.
+   */
+  private settlePending(isAfterTick: boolean): void {
+    const k = this.pending;
+    this.pending = -1;
+    const sim = this.sim, out = this.out;
+    const n = sim.n, oq = out.q, o = k * n;
+    const poseJoints = sim.report.poseJoints;
+    // The report's pose is always the forward kinematics of its poseJoints: usable when those are exactly
+    // the sample's joint positions (±0 told apart: the kinematics may differ in the sign of a zero).
+    let isSame = true;
+    for (let i = 0; i < n && isSame; i++) isSame = isSameNumber(poseJoints[i]!, oq[o + i]!);
+    let P = sim.report.pose;
+    if (!isSame) {
+      const q = this.pendingQ;
+      for (let i = 0; i < n; i++) q[i] = oq[o + i]!;
+      P = forwardPoseInto(this.kernel, q, this.poseScratch);
+    }
+    out.tcp[k * 3] = P[3]!;
+    out.tcp[k * 3 + 1] = P[7]!;
+    out.tcp[k * 3 + 2] = P[11]!;
+    // The reference has not moved since the sample (settled before advanceReference moves it).
+    out.orientationError[k] = rotationAngleBetween(P, this.reference);
+    if (this.isPredictingNext) {
+      if (!isAfterTick) sim.gate.updatePredictions(sim.report, sim.state.qdot);
+      out.stopDistance[k] = sim.gate.predictions["enabling-released"].distance;
+    }
+    this.lastPose = P;
+  }
+}
+
+/** Samples up to which a thread keeps its scratch series for the next run (~5.4 MB for six joints). */
+const SCRATCH_SAMPLES = 16384;
+let scratch: TrialSeries | null = null;
+let scratchCapacity = 0;
+
+/** A series of at least `capacity` samples: the thread's scratch when it fits, else a new one. */
+function takeScratch(tickRateHz: number, n: number, capacity: number): TrialSeries {
+  const s = scratch;
+  if (s !== null && s.n === n && scratchCapacity >= capacity) {
+    scratch = null;
+    s.tickRateHz = tickRateHz;
+    s.count = scratchCapacity;
+    s.releaseIndex = capacity;
+    return s;
+  }
+  return allocate(tickRateHz, n, capacity);
+}
+
+/** Keeps a series' arrays for the next run of this thread (the larger one, up to SCRATCH_SAMPLES). */
+function giveScratch(s: TrialSeries): void {
+  const capacity = s.t.length;
+  if (capacity > SCRATCH_SAMPLES || (scratch !== null && scratchCapacity >= capacity)) return;
+  scratch = s;
+  scratchCapacity = capacity;
 }
 
 function allocate(tickRateHz: number, n: number, count: number): TrialSeries {
@@ -284,43 +418,44 @@ function trim(s: TrialSeries, count: number): TrialSeries {
   };
 }
 
-/** A tool-frame twist rotated into the world frame by the TCP rotation (row-major 4×4 pose). */
-function toWorld(twist: Float64Array, frame: "world" | "tool", pose: Float64Array, out: Float64Array): void {
-  if (frame === "world") {
-    out.set(twist);
-    return;
-  }
-  for (let h = 0; h < 2; h++) {
-    const o = h * 3;
-    for (let r = 0; r < 3; r++) out[o + r] = pose[r * 4]! * twist[o]! + pose[r * 4 + 1]! * twist[o + 1]! + pose[r * 4 + 2]! * twist[o + 2]!;
-  }
-}
-
-const rotationScratch = new Float64Array(9);
-
 /**
  * The reference pose advanced by a world twist over dt: position += v·dt; rotation R ← Rot(ω·dt)·R with
- * Rodrigues' formula (derived; the same first-order hold the control step's drift reference uses).
+ * Rodrigues' formula (derived; the same first-order hold the control step's drift reference uses). Rot(ω·dt)
+ * is kept in R[0 … 8] (R[9] = 1: there is a rotation) for the angular part in `last` and reused while it
+ * stays the same (a constant twist).
  */
-function advance(T: Float64Array, twist: Float64Array, dt: number): void {
+function advance(T: Float64Array, twist: Float64Array, dt: number, R: Float64Array, last: Float64Array): void {
   T[3]! += twist[0]! * dt;
   T[7]! += twist[1]! * dt;
   T[11]! += twist[2]! * dt;
-  const wx = twist[3]! * dt, wy = twist[4]! * dt, wz = twist[5]! * dt;
-  const th = Math.sqrt(wx * wx + wy * wy + wz * wz);
-  if (th === 0) return;
-  const kx = wx / th, ky = wy / th, kz = wz / th;
-  const c = Math.cos(th), s = Math.sin(th), v = 1 - c;
-  const R = rotationScratch;
-  R[0] = c + kx * kx * v; R[1] = kx * ky * v - kz * s; R[2] = kx * kz * v + ky * s;
-  R[3] = ky * kx * v + kz * s; R[4] = c + ky * ky * v; R[5] = ky * kz * v - kx * s;
-  R[6] = kz * kx * v - ky * s; R[7] = kz * ky * v + kx * s; R[8] = c + kz * kz * v;
+  const w3 = twist[3]!, w4 = twist[4]!, w5 = twist[5]!;
+  if (!isSameNumber(w3, last[0]!) || !isSameNumber(w4, last[1]!) || !isSameNumber(w5, last[2]!)) {
+    last[0] = w3;
+    last[1] = w4;
+    last[2] = w5;
+    const wx = w3 * dt, wy = w4 * dt, wz = w5 * dt;
+    const th = Math.sqrt(wx * wx + wy * wy + wz * wz);
+    R[9] = th === 0 ? 0 : 1;
+    if (th !== 0) {
+      const kx = wx / th, ky = wy / th, kz = wz / th;
+      const c = Math.cos(th), s = Math.sin(th), v = 1 - c;
+      R[0] = c + kx * kx * v; R[1] = kx * ky * v - kz * s; R[2] = kx * kz * v + ky * s;
+      R[3] = ky * kx * v + kz * s; R[4] = c + ky * ky * v; R[5] = ky * kz * v - kx * s;
+      R[6] = kz * kx * v - ky * s; R[7] = kz * ky * v + kx * s; R[8] = c + kz * kz * v;
+    }
+  }
+  if (R[9] === 0) return;
   for (let col = 0; col < 3; col++) {
     const a = T[col]!, b = T[4 + col]!, d = T[8 + col]!;
     T[col] = R[0]! * a + R[1]! * b + R[2]! * d;
     T[4 + col] = R[3]! * a + R[4]! * b + R[5]! * d;
     T[8 + col] = R[6]! * a + R[7]! * b + R[8]! * d;
   }
+}
+
+/** The very same number: equal, and a zero of the same sign (NaN is never the same). */
+function isSameNumber(a: number, b: number): boolean {
+  return a === b && (a !== 0 || 1 / a === 1 / b);
 }
 
 /** The angle of R_aᵀ·R_b [rad] from its trace (derived), for two row-major 4×4 poses. */

@@ -1,9 +1,11 @@
 import { createHash } from "node:crypto";
-import { findDemoArm, type ArmModel } from "@jogwright/kinematics";
-import { defaultProfileParams, type ProfileParams } from "@jogwright/shared";
+import { controlledStopTime, findDemoArm, forwardPose, type ArmModel } from "@jogwright/kinematics";
+import { INPUT_EVENT, defaultProfileParams, type ProfileParams } from "@jogwright/shared";
 import { Matrix, SingularValueDecomposition } from "ml-matrix";
 import { describe, expect, it } from "vitest";
+import { JogSimulation } from "../jog/simulation.ts";
 import { computeTrialMetrics } from "./metrics.ts";
+import { replayInputs } from "./replay.ts";
 import { runTrial, type CompiledTrial, type TrialSeries } from "./runner.ts";
 
 const DEG = Math.PI / 180;
@@ -282,5 +284,161 @@ describe("tuning bench: metrics recomputed independently from a stored series ag
     expect(m.stalledReason).toMatch(/stop-before guard/);
     expect(m.singularity.guardStops).toBeGreaterThanOrEqual(1);
     expect(m.singularity.minSigma).toBeGreaterThan(0.02 * 0.5);
+  });
+});
+
+describe("tuning bench: what the recorder takes from the next tick is what it would compute itself", () => {
+  it("TCP positions are the forward kinematics of the recorded joints, tool-frame wanted twists are rotated by the pose before the tick, predicted stops are the gate's formula — bit for bit", () => {
+    const params = defaultProfileParams(rated);
+    params.guard = { policy: "damp-through", sigmaStopM: 0.02 };
+    const toolTwist = [0.02, -0.03, 0.01, 0.2, 0, -0.1];
+    const trial: CompiledTrial = {
+      startPose: Float64Array.from(findDemoArm("cell-arm-6")!.readyPose),
+      segments: [
+        { kind: "twist", frame: "world", twist: Float64Array.from([0.05, 0, 0.02, 0, 0, 0.2]), ticks: 300 },
+        { kind: "twist", frame: "tool", twist: Float64Array.from(toolTwist), ticks: 300 },
+        { kind: "waypoint", position: Float64Array.from([0.5, 0.05, 0.6]), speed: 0.1, maxTicks: 800 },
+      ],
+    };
+    const s = runTrial(demo, params, trial);
+    const n = s.n;
+    const sim = new JogSimulation({ arm: demo, readyPose: Array.from(trial.startPose), params });
+    const accel = sim.jointAccel;
+    const { linearAccelMPerS2: aLin, angularAccelRadPerS2: aAng } = params.shaping;
+    let toolSamples = 0;
+    for (let k = 0; k < s.count; k++) {
+      const q = s.q.subarray(k * n, k * n + n);
+      const P = forwardPose(demo, q);
+      expect([s.tcp[k * 3], s.tcp[k * 3 + 1], s.tcp[k * 3 + 2]]).toEqual([P[3], P[7], P[11]]);
+      // The gate's stop prediction from this sample's motion (MotionGate.updatePredictions' formula).
+      const a = s.achieved.subarray(k * 6, k * 6 + 6);
+      const lin = Math.sqrt(a[0]! * a[0]! + a[1]! * a[1]! + a[2]! * a[2]!);
+      const ang = Math.sqrt(a[3]! * a[3]! + a[4]! * a[4]! + a[5]! * a[5]!);
+      const T = controlledStopTime(lin, ang, s.qdot.subarray(k * n, k * n + n), n, aLin, aAng, accel);
+      expect(s.stopDistance[k]).toBe((lin * T) / 2);
+      if (k >= 302 && k <= 600) {
+        // Samples 301 … 600 are the tool-frame segment's ticks: rotated by the TCP pose of the sample before.
+        const R = forwardPose(demo, s.q.subarray((k - 1) * n, k * n));
+        for (let h = 0; h < 2; h++) {
+          for (let row = 0; row < 3; row++) {
+            const o = h * 3;
+            expect(s.wanted[k * 6 + o + row]).toBe(R[row * 4]! * toolTwist[o]! + R[row * 4 + 1]! * toolTwist[o + 1]! + R[row * 4 + 2]! * toolTwist[o + 2]!);
+          }
+        }
+        toolSamples++;
+      }
+    }
+    expect(toolSamples).toBe(299);
+    expect(s.stopDistance.some((d) => d > 0)).toBe(true);
+  });
+
+  it("a replay with an e-stop and a ready-pose move between ticks: TCP positions and predicted stops as computed afresh, bit for bit", () => {
+    const arm = findDemoArm("cell-arm-6")!;
+    const params = defaultProfileParams(rated);
+    params.guard = { policy: "damp-through", sigmaStopM: 0.02 };
+    // [tick, kind, seq, enabling, mode (0 Cartesian), frame (0 world), override %, six stick axes]
+    const held = (k: number) => [k, INPUT_EVENT.input, k, 1, 0, 0, 100, 0.6 * Math.sin(k / 40), 0.4, -0.3, 0, 0.2, 0.1];
+    const events: number[][] = [[0, INPUT_EVENT.start, 0, ...arm.readyPose], [0, INPUT_EVENT.input, 0, 0, 0, 0, 100, 0, 0, 0, 0, 0, 0]];
+    for (let k = 2; k < 300; k += 7) events.push(held(k));
+    events.push([300, INPUT_EVENT.estop], [320, INPUT_EVENT.resetEstop], [321, INPUT_EVENT.input, 999, 0, 0, 0, 100, 0, 0, 0, 0, 0, 0]);
+    events.push([340, INPUT_EVENT.readyPose]);
+    events.push([343, INPUT_EVENT.input, 1000, 0, 0, 0, 100, 0, 0, 0, 0, 0, 0]);
+    for (let k = 345; k < 500; k += 9) events.push(held(k));
+    const s = replayInputs(demo, arm.readyPose, params, { events, recordedTickRateHz: 500, recordedTicks: 520 });
+    const sim = new JogSimulation({ arm: demo, readyPose: arm.readyPose, params });
+    const n = s.n;
+    let moved = 0;
+    for (let k = 0; k < s.count; k++) {
+      const P = forwardPose(demo, s.q.subarray(k * n, k * n + n));
+      expect([s.tcp[k * 3], s.tcp[k * 3 + 1], s.tcp[k * 3 + 2]]).toEqual([P[3], P[7], P[11]]);
+      const a = s.achieved.subarray(k * 6, k * 6 + 6);
+      const lin = Math.sqrt(a[0]! * a[0]! + a[1]! * a[1]! + a[2]! * a[2]!);
+      const ang = Math.sqrt(a[3]! * a[3]! + a[4]! * a[4]! + a[5]! * a[5]!);
+      const T = controlledStopTime(lin, ang, s.qdot.subarray(k * n, k * n + n), n, params.shaping.linearAccelMPerS2, params.shaping.angularAccelRadPerS2, sim.jointAccel);
+      expect(s.stopDistance[k]).toBe((lin * T) / 2);
+      if (k > 0 && s.q.subarray(k * n, k * n + n).some((v, i) => v !== s.q[(k - 1) * n + i])) moved++;
+    }
+    // It moved, and the ready-pose move put the arm back where it started.
+    expect(moved).toBeGreaterThan(100);
+    expect(Array.from(s.q.subarray(341 * n, 342 * n))).toEqual(arm.readyPose);
+  });
+
+  it("a run after a longer one (the thread's scratch series reused) records the same series as a fresh process would", () => {
+    const params = wristLineProfile(0.04);
+    const hash = (s: TrialSeries) => {
+      const h = createHash("sha256");
+      for (const a of [s.t, s.q, s.qdot, s.tcp, s.reference, s.orientationError, s.wanted, s.commanded, s.achieved, s.sigmaMin, s.lambda, s.stopDistance, s.capBound, s.guardHeld, s.fault]) {
+        h.update(new Uint8Array(a.buffer, a.byteOffset, a.byteLength));
+      }
+      return `${s.count}|${s.releaseIndex}|${h.digest("hex")}`;
+    };
+    const short: CompiledTrial = { ...wristLine, segments: [{ ...wristLine.segments[0]!, ticks: 200 } as CompiledTrial["segments"][number]] };
+    const first = hash(runTrial(demo, params, short));
+    runTrial(demo, params, wristLine); // fills the scratch with other numbers, further along
+    expect(hash(runTrial(demo, params, short))).toBe(first);
+  });
+});
+
+describe("tuning bench: path deviation and lag on a path that comes back on itself equal a brute-force scan exactly", () => {
+  it("a hairpin whose return leg runs 2 mm beside the outward one, the TCP wobbling ±3 mm across both: max and RMS deviation and lag, bit for bit", () => {
+    // A hand-made series (only the path channels matter to the path metrics): the reference 0.2 m out along
+    // x and back 2 mm to the side, 3000 samples each way; the TCP wobbles across, so its nearest segment
+    // jumps between the legs, far apart in the polyline, and back.
+    const count = 6000, n = 6;
+    const s: TrialSeries = {
+      tickRateHz: 1000, n, count, releaseIndex: count,
+      t: Float64Array.from({ length: count }, (_, k) => k / 1000),
+      q: new Float64Array(count * n), qdot: new Float64Array(count * n),
+      tcp: new Float64Array(count * 3), reference: new Float64Array(count * 3),
+      orientationError: new Float64Array(count), wanted: new Float64Array(count * 6),
+      commanded: new Float64Array(count * 6), achieved: new Float64Array(count * 6),
+      sigmaMin: new Float64Array(count).fill(1), lambda: new Float64Array(count), stopDistance: new Float64Array(count),
+      capBound: new Uint8Array(count), guardHeld: new Uint8Array(count), fault: new Uint8Array(count),
+    };
+    for (let k = 0; k < count; k++) {
+      const out = k < count / 2;
+      const x = out ? (0.2 * k) / (count / 2) : (0.2 * (count - 1 - k)) / (count / 2);
+      s.reference.set([0.4 + x, out ? 0 : 0.002, 0.6 + 0.0005 * Math.sin(40 * x)], k * 3);
+      s.tcp.set([0.4 + x + 0.0003 * Math.sin(0.05 * k), s.reference[k * 3 + 1]! + 0.003 * Math.sin(0.013 * k), s.reference[k * 3 + 2]!], k * 3);
+    }
+    const m = computeTrialMetrics(s, { jointCaps: new Array(n).fill(1), epsilonM: null, wristJoint: null });
+    // Brute force with the same arithmetic: every segment, the least distance (the first such segment).
+    const r = s.reference;
+    let maxDev = 0, sumSq = 0, lastSeg = 0, lastT = 0, jumps = 0, prevSeg = 0;
+    for (let k = 0; k < count; k++) {
+      const x = s.tcp[k * 3]!, y = s.tcp[k * 3 + 1]!, z = s.tcp[k * 3 + 2]!;
+      let best = Infinity, bestSeg = 0;
+      for (let j = 0; j + 1 < count; j++) {
+        const ax = r[j * 3]!, ay = r[j * 3 + 1]!, az = r[j * 3 + 2]!;
+        const ux = r[j * 3 + 3]! - ax, uy = r[j * 3 + 4]! - ay, uz = r[j * 3 + 5]! - az;
+        const px = x - ax, py = y - ay, pz = z - az;
+        const len2 = ux * ux + uy * uy + uz * uz;
+        let t = len2 > 0 ? (px * ux + py * uy + pz * uz) / len2 : 0;
+        t = t < 0 ? 0 : t > 1 ? 1 : t;
+        const dx = px - t * ux, dy = py - t * uy, dz = pz - t * uz;
+        const d = Math.sqrt(dx * dx + dy * dy + dz * dz);
+        if (d < best) {
+          best = d;
+          bestSeg = j;
+          if (k === count - 1) { lastSeg = j; lastT = t; }
+        }
+      }
+      if (Math.abs(bestSeg - prevSeg) > 100) jumps++;
+      prevSeg = bestSeg;
+      if (best > maxDev) maxDev = best;
+      sumSq += best * best;
+    }
+    let arcEnd = 0, arcSeg = 0;
+    for (let j = 1; j < count; j++) {
+      const dx = r[(j - 1) * 3]! - r[j * 3]!, dy = r[(j - 1) * 3 + 1]! - r[j * 3 + 1]!, dz = r[(j - 1) * 3 + 2]! - r[j * 3 + 2]!;
+      arcEnd += Math.sqrt(dx * dx + dy * dy + dz * dz);
+      if (j === lastSeg) arcSeg = arcEnd;
+    }
+    const ux = r[lastSeg * 3 + 3]! - r[lastSeg * 3]!, uy = r[lastSeg * 3 + 4]! - r[lastSeg * 3 + 1]!, uz = r[lastSeg * 3 + 5]! - r[lastSeg * 3 + 2]!;
+    const lag = Math.max(0, arcEnd - (arcSeg + lastT * Math.sqrt(ux * ux + uy * uy + uz * uz)));
+    expect(jumps).toBeGreaterThan(10); // the nearest segment does jump between the legs
+    expect(m.path.maxDeviationM).toBe(maxDev);
+    expect(m.path.rmsDeviationM).toBe(Math.sqrt(sumSq / count));
+    expect(m.path.lagM).toBe(lag);
   });
 });
