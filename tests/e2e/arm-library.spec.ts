@@ -141,6 +141,8 @@ test("an engineer uploads an arm file, previews and saves it, makes a profile on
   await page.getByRole("button", { name: "End session" }).click();
   await page.getByRole("link", { name: "Open its recording" }).click();
   await expect(page.getByRole("heading", { level: 1, name: /Replay of recording/ })).toBeVisible();
+  // The replay names (and draws) the revision and tool the recorded version drove.
+  await expect(page.getByTestId("replay-arm-revision")).toHaveText("revision 1 with Flange tool", { useInnerText: true });
 
   // --- The recording's CSV export: streamed as a download, the units in its header (recordings/export.ts).
   const recordingId = /recording=(\d+)/.exec(page.url())![1]!;
@@ -214,4 +216,59 @@ test("an engineer edits a used arm by form into a new revision and keeps its too
   await expect(page.getByRole("heading", { level: 1, name: arm.name })).toBeVisible();
   await expect(page.getByRole("link", { name: "Edit (new revision)" })).toHaveCount(0);
   await expect(page.getByRole("button", { name: "Add tool" })).toHaveCount(0);
+});
+
+test("an engineer moves a profile to the arm's revision 2 and another tool by saving a new version; v1 keeps revision 1", async ({ page, setup }, testInfo) => {
+  const engineer = await setup.person(["engineer"]);
+  const operator = await setup.person(["operator"]);
+  const demo = await setup.arm(6);
+  const emeka = await setup.as("emeka");
+  const created = await emeka.post("/api/arms", { data: { name: `E2E moved arm ${uniqueTag()}`, model: demo.model, note: "copied from the demo arm" } });
+  expect(created.status(), await created.text()).toBe(201);
+  const { arm } = (await created.json()) as { arm: typeof demo & { latestRevisionId: number } };
+  const profile = await setup.profile({ name: `E2E moving on ${arm.name}`, operator, arm });
+  // The arm's revision 2 (same kinematics, a new definition) with a second tool of its own.
+  const edited = await emeka.put(`/api/arms/${arm.id}`, { data: { parentRevisionId: arm.latestRevisionId, model: demo.model, note: "Re-measured base" } });
+  expect(edited.status(), await edited.text()).toBe(200);
+  const rev2 = ((await edited.json()) as { revisions: { id: number; revision: number }[] }).revisions[0]!;
+  expect(rev2.revision).toBe(2);
+  const gripper = await emeka.post(`/api/arms/${arm.id}/revisions/${rev2.id}/tools`, { data: { name: "Long gripper", positionM: [0, 0, 0.3], rpyRad: [0, 0, 0], massKg: 1.2 } });
+  expect(gripper.status(), await gripper.text()).toBe(201);
+
+  await signIn(page, "", engineer.username, `/profiles/${profile.id}`, engineer.password);
+  await expect(page.getByRole("heading", { level: 1, name: profile.name })).toBeVisible();
+  const row = (n: number) => page.getByTestId("version-history").locator(`tr[data-version="${n}"]`);
+  // Two lines: the revision, then the tool.
+  await expect(row(1).getByTestId("version-arm")).toHaveText("Revision 1 Flange tool");
+  await expect(row(1).getByTestId("version-arm")).toHaveAttribute("title", "Revision 1 · Flange tool");
+
+  // The new-version form starts on v1's revision and tool; nothing says it moves.
+  const revisionSelect = page.getByLabel("Arm revision");
+  const toolSelect = page.getByLabel("Tool", { exact: true });
+  await expect(revisionSelect.locator("option:checked")).toHaveText(/^Revision 1/);
+  await expect(toolSelect.locator("option:checked")).toHaveText("Flange tool");
+  await expect(page.getByTestId("arm-move")).toHaveCount(0);
+
+  // Revision 2 picks its first tool; then the gripper. The form says what saving does.
+  await revisionSelect.selectOption(String(rev2.id));
+  await expect(toolSelect.locator("option:checked")).toHaveText("Flange tool");
+  await toolSelect.selectOption({ label: "Long gripper" });
+  await expect(page.getByTestId("arm-move")).toContainText(
+    'v2 will drive revision 2 with tool "Long gripper" (v1 drives revision 1 with tool "Flange tool"); it goes through review again like any new version.',
+  );
+  await page.getByLabel("Note").fill("Onto revision 2 with the long gripper.");
+  await page.getByTestId("arm-move").scrollIntoViewIfNeeded();
+  await keepScreenshot(page, testInfo, "version-moves-revision");
+  await page.getByRole("button", { name: "Save new version" }).click();
+  await expect(page.getByRole("status").filter({ hasText: "Saved as v2" })).toBeVisible();
+
+  // The list names what each version drives: v2 revision 2 with the gripper, v1 still revision 1.
+  await expect(row(2).getByTestId("version-arm")).toHaveText("Revision 2 Long gripper moved from v1");
+  await expect(row(1).getByTestId("version-arm")).toHaveText("Revision 1 Flange tool");
+  // The form now starts from v2, on v2's revision and tool: no move.
+  await expect(revisionSelect.locator("option:checked")).toHaveText(/^Revision 2/);
+  await expect(toolSelect.locator("option:checked")).toHaveText("Long gripper");
+  await expect(page.getByTestId("arm-move")).toHaveCount(0);
+  await page.getByTestId("version-history").scrollIntoViewIfNeeded();
+  await keepScreenshot(page, testInfo, "version-list-revisions");
 });

@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { versionArmRefShape } from "./profile-api.ts";
 
 /**
  * The live-jogging WebSocket protocol (path /ws/jog). JSON text frames, one message each, every one
@@ -350,6 +351,8 @@ export const recordingSchema = z.object({
   endedAt: z.string().nullable(),
   endReason: z.string().nullable(),
   summary: recordingSummarySchema.nullable(),
+  /** The arm revision and tool its version drove (GET /api/recordings/:id fills them; the replay draws that revision). */
+  ...versionArmRefShape,
 });
 export type Recording = z.infer<typeof recordingSchema>;
 

@@ -55,6 +55,18 @@ export const retireVersionSchema = z.object({ reason: z.string().trim().min(3, "
 /** What the audit trail records changes of. */
 export const AUDIT_ENTITIES = ["user", "arm", "profile", "version", "ceilings", "approval", "session", "trial", "recording"] as const;
 
+/**
+ * The arm revision and tool a version drives (issue 12), as GET /api/profiles/:id and the save name them
+ * (absent where a route does not fill them; null: not known). The same fields name a recording's.
+ */
+export const versionArmRefShape = {
+  armRevisionId: z.number().int().nullable().optional(),
+  /** The revision's number (1, 2, …) within its arm. */
+  armRevision: z.number().int().nullable().optional(),
+  toolId: z.number().int().nullable().optional(),
+  toolName: z.string().nullable().optional(),
+};
+
 export const profileVersionSchema = z.object({
   id: z.number().int(),
   profileId: z.number().int(),
@@ -75,6 +87,7 @@ export const profileVersionSchema = z.object({
   decisionComment: z.string().nullable(),
   /** Set when site ceilings were lowered below this approved version: it cannot be driven. */
   exceedsCeilings: z.boolean(),
+  ...versionArmRefShape,
 });
 export type ProfileVersion = z.infer<typeof profileVersionSchema>;
 

@@ -1,10 +1,12 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { demoArms } from "@jogwright/kinematics";
-import { armDetailSchema, armUploadPreviewSchema, toolTransform, type Arm, type ArmModel } from "@jogwright/shared";
+import { randomUUID } from "node:crypto";
+import { armDetailSchema, armUploadPreviewSchema, profileDetailResponseSchema, recordingSchema, toolTransform, versionResponseSchema, type Arm, type ArmModel } from "@jogwright/shared";
 import { call, createHarness, type Harness } from "../../test/harness.ts";
 import { compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, uniqueName, type Team } from "../../test/profiles-fixture.ts";
 import { loadVersionForDriving } from "../driving/service.ts";
+import { insertRecording } from "../recordings/service.ts";
 import type { ArmOfVersion } from "./service.ts";
 
 let h: Harness;
@@ -185,6 +187,48 @@ describe("revisions: an arm that profiles use is never changed in place", () => 
     const res = await call(h, "post", "/api/arms", team.engineer.cookie).send({ name: uniqueName("Sheared"), model: { ...model, tool: [1, 0.2, 0, 0, 0, 1, 0, 0, 0, 0, 1, 0.1, 0, 0, 0, 1] } });
     expect(res.status).toBe(400);
     expect(res.body.error.issues[0].path).toBe("model.tool");
+  });
+});
+
+describe("the API names the arm revision and tool each version drives", () => {
+  it("in the profile's version list, in the save's answer and in a recording of each version", async () => {
+    const created = await call(h, "post", "/api/arms", team.engineer.cookie).send({ name: uniqueName("Named arm"), model: (await upload("/api/arms/upload", SMALL_CSV)).body.preview.model });
+    const arm = created.body.arm as Arm & { latestRevisionId: number };
+    const rev1 = arm.latestRevisionId;
+    const profile = await createProfile(h, team, arm, compliantParams(arm));
+    const v1 = profile.latestVersion.id;
+    const edit = await call(h, "put", `/api/arms/${arm.id}`, team.engineer.cookie).send({ parentRevisionId: rev1, model: arm.model, note: "revision 2" });
+    const rev2 = armDetailSchema.parse(edit.body).revisions[0]!;
+    const gripper = await call(h, "post", `/api/arms/${arm.id}/revisions/${rev2.id}/tools`, team.engineer.cookie).send({ name: "Long gripper", positionM: [0, 0, 0.3], rpyRad: [0, 0, 0], massKg: 1.2 });
+    expect(gripper.status).toBe(201);
+
+    const saved = await call(h, "post", `/api/profiles/${profile.id}/versions`, team.engineer.cookie).send({
+      parentVersionId: v1,
+      params: compliantParams(arm),
+      note: "onto revision 2",
+      armRevisionId: rev2.id,
+      toolId: gripper.body.tool.id,
+    });
+    expect(saved.status).toBe(201);
+    const v2 = versionResponseSchema.parse(saved.body).version;
+    expect(v2).toMatchObject({ armRevisionId: rev2.id, armRevision: 2, toolId: gripper.body.tool.id, toolName: "Long gripper" });
+
+    // Read by the profile's operator too (the version list is the same for everyone who may see it).
+    const read = await call(h, "get", `/api/profiles/${profile.id}`, team.operator.cookie);
+    expect(read.status).toBe(200);
+    const { versions } = profileDetailResponseSchema.parse(read.body);
+    expect(versions.map((v) => [v.number, v.armRevisionId, v.armRevision, v.toolName])).toEqual([
+      [2, rev2.id, 2, "Long gripper"],
+      [1, rev1, 1, "Flange tool"],
+    ]);
+
+    // A recording names the revision and tool of the version driven, not the arm's latest.
+    for (const [versionId, want] of [[v1, { armRevisionId: rev1, armRevision: 1, toolName: "Flange tool" }], [v2.id, { armRevisionId: rev2.id, armRevision: 2, toolName: "Long gripper" }]] as const) {
+      const recordingId = await insertRecording(h.db, { sessionId: randomUUID(), driverId: team.operator.id, armId: arm.id, profileId: profile.id, versionId, startedAt: new Date() });
+      const res = await call(h, "get", `/api/recordings/${recordingId}`, team.engineer.cookie);
+      expect(res.status).toBe(200);
+      expect(recordingSchema.parse(res.body.recording)).toMatchObject({ versionId, ...want });
+    }
   });
 });
 

@@ -150,6 +150,40 @@ export async function findVersionArmChoice(db: Sequelize, versionId: number, tra
   return row ? { armRevisionId: row.armRevisionId, toolId: row.toolId } : null;
 }
 
+/** How the API names what a version drives: its revision (id and number) and its tool (id and name, null: none). */
+export interface VersionArmRef {
+  armRevisionId: number;
+  armRevision: number;
+  toolId: number | null;
+  toolName: string | null;
+}
+
+/**
+ * The revision and tool each of these versions names, by version id (three queries however many versions);
+ * a version without a binding row is absent.
+ */
+export async function listVersionArmRefs(db: Sequelize, versionIds: readonly number[], transaction?: Transaction): Promise<Map<number, VersionArmRef>> {
+  const out = new Map<number, VersionArmRef>();
+  if (versionIds.length === 0) return out;
+  const { ArmRevision, ArmTool, VersionArm } = modelsOf(db);
+  const bindings = await VersionArm.findAll({ where: { versionId: { [Op.in]: [...versionIds] } }, transaction });
+  const revisionIds = [...new Set(bindings.map((b) => b.armRevisionId))];
+  const toolIds = [...new Set(bindings.map((b) => b.toolId).filter((id): id is number => id !== null))];
+  const revisions = revisionIds.length ? await ArmRevision.findAll({ where: { id: { [Op.in]: revisionIds } }, attributes: ["id", "revision"], transaction }) : [];
+  const tools = toolIds.length ? await ArmTool.findAll({ where: { id: { [Op.in]: toolIds } }, attributes: ["id", "name"], transaction }) : [];
+  const revisionNumber = new Map(revisions.map((r) => [r.id, r.revision]));
+  const toolName = new Map(tools.map((t) => [t.id, t.name]));
+  for (const b of bindings) {
+    out.set(b.versionId, {
+      armRevisionId: b.armRevisionId,
+      armRevision: revisionNumber.get(b.armRevisionId)!,
+      toolId: b.toolId,
+      toolName: b.toolId === null ? null : (toolName.get(b.toolId) ?? null),
+    });
+  }
+  return out;
+}
+
 /** An arm at one revision with one tool (or the revision's own tool transform when `toolId` is null). */
 export async function findArmAtRevision(db: Sequelize, choice: VersionArmChoice, transaction?: Transaction): Promise<ArmOfVersion | null> {
   const { Arm, ArmRevision, ArmTool } = modelsOf(db);

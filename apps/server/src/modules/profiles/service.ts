@@ -2,6 +2,7 @@ import { col, fn, Op, type Sequelize, type Transaction, type WhereOptions } from
 import { DRIVING_RULE, hasAnyRole, isDriveable, type ProfileSummary, type ProfileVersion, type User } from "@jogwright/shared";
 import { AppError } from "../../errors.ts";
 import { modelsOf } from "../../db/models.ts";
+import { listVersionArmRefs } from "../arms/service.ts";
 import type { ProfileModel } from "./model.ts";
 
 /**
@@ -40,11 +41,12 @@ export async function listProfilesFor(db: Sequelize, user: User): Promise<Profil
   return summaries(db, isStaff(user) ? {} : { operatorId: user.id });
 }
 
-/** GET /api/profiles/:id: the profile and its versions, newest first. */
+/** GET /api/profiles/:id: the profile and its versions, newest first, each naming the arm revision and tool it drives. */
 export async function getProfile(db: Sequelize, user: User, id: number): Promise<{ profile: ProfileSummary; versions: ProfileVersion[] }> {
   const profile = await visibleProfile(db, user, id);
   const versions = await modelsOf(db).Version.scope("withStatus").findAll({ where: { profileId: id }, order: [["number", "DESC"]] });
-  return { profile, versions: versions.map((v) => v.toApi()) };
+  const arms = await listVersionArmRefs(db, versions.map((v) => v.id));
+  return { profile, versions: versions.map((v) => ({ ...v.toApi(), ...arms.get(v.id) })) };
 }
 
 /** Lock the profile row until `transaction` ends: every change to a profile's versions goes through it. */

@@ -1,6 +1,7 @@
 import type { Sequelize } from "sequelize";
 import { recordedFrameSchema, type RecordedFrame, type Recording } from "@jogwright/shared";
 import { modelsOf } from "../../db/models.ts";
+import { listVersionArmRefs } from "../arms/service.ts";
 import { decodeChunk, type EncodedChunk } from "./chunk-codec.ts";
 
 /**
@@ -43,9 +44,12 @@ export async function listRecordings(db: Sequelize, driverId: string | null, lim
   return recordings.map((r) => r.toApi());
 }
 
+/** One recording, naming the arm revision and tool its version drove (the replay draws that revision). */
 export async function findRecording(db: Sequelize, id: number): Promise<Recording | null> {
   const recording = await modelsOf(db).Recording.scope("withNames").findByPk(id);
-  return recording?.toApi() ?? null;
+  if (!recording) return null;
+  const arm = (await listVersionArmRefs(db, [recording.versionId])).get(recording.versionId);
+  return { ...recording.toApi(), ...arm };
 }
 
 /**

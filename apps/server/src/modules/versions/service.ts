@@ -4,7 +4,7 @@ import { AppError } from "../../errors.ts";
 import { sha256OfCanonical } from "../../hashing.ts";
 import type { Mailer } from "../../mail/mailer.ts";
 import { modelsOf } from "../../db/models.ts";
-import { bindVersionToArm, defaultArmChoice, findArm, findArmAtRevision, findArmForVersion, findVersionArmChoice, resolveArmChoice, type ArmOfVersion, type VersionArmChoice } from "../arms/service.ts";
+import { bindVersionToArm, defaultArmChoice, findArm, findArmAtRevision, findArmForVersion, findVersionArmChoice, listVersionArmRefs, resolveArmChoice, type ArmOfVersion, type VersionArmChoice } from "../arms/service.ts";
 import { recordAudit } from "../audit/service.ts";
 import { findProfile, insertProfile, lockProfile, versionLabel, visibleProfile } from "../profiles/service.ts";
 import { isActiveOperator } from "../users/service.ts";
@@ -230,7 +230,8 @@ export async function saveVersion(ctx: WorkflowContext, actor: User, profileId: 
         before: parent,
         after: version,
       });
-      return version;
+      // The answer names what it drives, as GET /api/profiles/:id does (the audit row keeps the version alone).
+      return { ...version, ...(await listVersionArmRefs(db, [versionId], t)).get(versionId) };
     });
   } catch (error) {
     // Belt and braces: the unique (profile, number) key catches a race the lock did not.

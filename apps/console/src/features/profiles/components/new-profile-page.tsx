@@ -11,16 +11,14 @@ import { SelectField } from "../../../components/ui/select-field.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
 import { armAtRevision } from "../../../lib/arm-revision.ts";
-import { formatFixed } from "../../../lib/format.ts";
 import { useArmDetail, useArms } from "../../../lib/queries/arms.ts";
 import { useCeilings } from "../../../lib/queries/ceilings.ts";
 import { useCreateProfile, useOperators } from "../hooks/use-profiles.ts";
+import { pickableTools } from "../forms/arm-choice.ts";
+import { ArmRevisionFields } from "./arm-revision-fields.tsx";
 import { ProfileParamsForm } from "./profile-params-form.tsx";
 
 const headSchema = createProfileSchema.pick({ name: true, operatorId: true });
-
-/** A TCP position in mm, e.g. "(0, 0, 160) mm". */
-const toolText = (positionM: readonly number[]) => `(${positionM.map((m) => formatFixed(m * 1000, 1)).join(", ")}) mm`;
 
 /** Defaults for an arm: half of each joint's rated speed (a joint without one gets 1 rad/s as its basis). */
 const defaultsFor = (arm: Arm): ProfileParams => defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed ?? 1));
@@ -43,7 +41,7 @@ export function NewProfilePage() {
   const revisions = armDetail.data?.revisions ?? [];
   const pickedHere = picked && picked.armId === listedArm?.id ? picked : null;
   const revision = revisions.find((r) => r.id === pickedHere?.revisionId) ?? revisions[0];
-  const toolsInService = revision?.tools.filter((t) => !t.retiredAt) ?? [];
+  const toolsInService = pickableTools(revision, null);
   const tool = pickedHere && pickedHere.revisionId === revision?.id ? toolsInService.find((t) => t.id === pickedHere.toolId) : toolsInService[0];
   const arm = listedArm ? armAtRevision(listedArm, armDetail.data, revision?.id, tool?.id) : undefined;
   // No useMemo: the React Compiler memoizes this component (ProfileParamsForm reads its defaults once anyway).
@@ -105,38 +103,13 @@ export function NewProfilePage() {
                 </option>
               ))}
             </SelectField>
-            <SelectField
-              label="Arm revision"
-              value={revision?.id ?? ""}
-              disabled={!revision}
-              onChange={(e) => {
-                const next = revisions.find((r) => r.id === Number(e.target.value));
-                if (listedArm && next) setPicked({ armId: listedArm.id, revisionId: next.id, toolId: next.tools.find((t) => !t.retiredAt)?.id ?? null });
-              }}
-              hint="The profile keeps this revision; it moves to another only by saving a new version."
-            >
-              {revisions.map((r) => (
-                <option key={r.id} value={r.id}>
-                  Revision {r.revision}
-                  {r.id === armDetail.data?.arm.latestRevisionId ? " (current)" : ""}
-                  {r.note ? ` — ${r.note}` : ""}
-                </option>
-              ))}
-            </SelectField>
-            <SelectField
-              label="Tool"
-              value={tool?.id ?? ""}
-              disabled={toolsInService.length === 0}
-              onChange={(e) => listedArm && revision && setPicked({ armId: listedArm.id, revisionId: revision.id, toolId: Number(e.target.value) })}
-              hint={tool ? `TCP ${toolText(tool.positionM)} from the flange, ${tool.massKg} kg.` : "No tool in service on this revision: the model's own tool transform is used."}
-            >
-              {toolsInService.length === 0 ? <option value="">No tool</option> : null}
-              {toolsInService.map((t) => (
-                <option key={t.id} value={t.id}>
-                  {t.name}
-                </option>
-              ))}
-            </SelectField>
+            <ArmRevisionFields
+              detail={armDetail.data}
+              value={revision ? { revisionId: revision.id, toolId: tool?.id ?? null } : null}
+              base={null}
+              onChange={(choice) => listedArm && setPicked({ armId: listedArm.id, ...choice })}
+              revisionHint="The profile keeps this revision; it moves to another only by saving a new version."
+            />
           </div>
         </Card>
         {arm && initialParams ? (

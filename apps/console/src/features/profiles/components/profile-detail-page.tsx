@@ -19,11 +19,14 @@ import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
 import { formatDateTime } from "../../../lib/format.ts";
-import { useArms } from "../../../lib/queries/arms.ts";
+import { armAtRevision } from "../../../lib/arm-revision.ts";
+import { useArmDetail, useArms } from "../../../lib/queries/arms.ts";
 import { useCeilings } from "../../../lib/queries/ceilings.ts";
 import type { ProfileDetail } from "@jogwright/shared";
 import { useProfile, useSaveVersion, useSubmitVersion } from "../hooks/use-profiles.ts";
 import { WithdrawDialog } from "./withdraw-dialog.tsx";
+import { armChoiceFields, armChoiceOf, describeArmMove, fitParamsToJoints, isSameChoice, type ArmChoice } from "../forms/arm-choice.ts";
+import { ArmRevisionFields } from "./arm-revision-fields.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { jointKindsOf, ratedSpeedsOf } from "../../../lib/arm-joints.ts";
 import { CompareVersions, type ComparePair } from "./compare-versions.tsx";
@@ -249,13 +252,35 @@ function NewVersionCard({
   const save = useSaveVersion(profileId);
   const latest = versions[0]!;
   const savedNow = saved ? (versions.find((v) => v.id === saved.id) ?? saved) : null;
-  const jointKinds = jointKindsOf(arm);
+
+  // The arm revision and tool (issue 12): the base version's unless the engineer picks others for this
+  // version (a pick belongs to the base it was made on, so choosing another base starts from its own).
+  const armDetail = useArmDetail(arm.id);
+  const base = versions.find((v) => v.id === parent.id) ?? parent;
+  const baseChoice = armChoiceOf(base);
+  const [picked, setPicked] = useState<(ArmChoice & { baseId: number }) | null>(null);
+  const armChoice = picked && picked.baseId === parent.id ? picked : baseChoice;
+  const chosenRevision = armDetail.data?.revisions.find((r) => r.id === armChoice?.revisionId);
+  const chosenToolName = armChoice?.toolId == null ? null : (chosenRevision?.tools.find((t) => t.id === armChoice.toolId)?.name ?? null);
+  const armMove =
+    chosenRevision && !isSameChoice(baseChoice, armChoice)
+      ? describeArmMove(
+          latest.number + 1,
+          base.armRevision == null ? null : { number: base.number, revision: base.armRevision, toolName: base.toolName ?? null },
+          { revision: chosenRevision.revision, toolName: chosenToolName },
+        )
+      : null;
+  // The form checks the parameters against the arm this version will drive: that revision with that tool.
+  // Memoized: the form's resolver and ceiling checks follow the arm object.
+  const drivenArm = useMemo(() => armAtRevision(arm, armDetail.data, armChoice?.revisionId, armChoice?.toolId), [arm, armDetail.data, armChoice?.revisionId, armChoice?.toolId]);
+  const jointKinds = jointKindsOf(drivenArm);
+  const initialParams = useMemo(() => fitParamsToJoints(parent.params, drivenArm), [parent.params, drivenArm]);
 
   const onSave = (params: ProfileParams, note: string) => {
     setConflict(null);
     setSaved(null);
     save.mutate(
-      { parentVersionId: parent.id, latestVersionId: seenLatestId, params, note },
+      { parentVersionId: parent.id, latestVersionId: seenLatestId, params, note, ...armChoiceFields(baseChoice, armChoice) },
       {
         onSuccess: (version) => {
           setSaved(version);
@@ -367,43 +392,66 @@ function NewVersionCard({
           </Message>
         ) : null}
 
-        <SelectField
-          label="Start from"
-          hint="The version whose parameters the form starts with. Changing it discards unsaved edits."
-          value={parent.id}
-          onChange={(event) => {
-            const chosen = versions.find((v) => v.id === Number(event.target.value));
-            if (chosen) startFrom(chosen);
-          }}
-          className="max-w-md"
-        >
-          {versions.map((v) => (
-            <option key={v.id} value={v.id}>
-              {`v${v.number} · ${VERSION_STATE_LABELS[v.state]}${v.exceedsCeilings ? " · above ceilings" : ""}${v.id === latest.id ? " · newest" : ""}`}
-            </option>
-          ))}
-        </SelectField>
+        <div className="grid gap-4 md:grid-cols-3">
+          <SelectField
+            label="Start from"
+            hint="The version whose parameters the form starts with. Changing it discards unsaved edits."
+            value={parent.id}
+            onChange={(event) => {
+              const chosen = versions.find((v) => v.id === Number(event.target.value));
+              if (chosen) startFrom(chosen);
+            }}
+          >
+            {versions.map((v) => (
+              <option key={v.id} value={v.id}>
+                {`v${v.number} · ${VERSION_STATE_LABELS[v.state]}${v.exceedsCeilings ? " · above ceilings" : ""}${v.id === latest.id ? " · newest" : ""}`}
+              </option>
+            ))}
+          </SelectField>
+          <ArmRevisionFields
+            detail={armDetail.data}
+            value={armChoice}
+            base={baseChoice}
+            onChange={(choice) => setPicked({ ...choice, baseId: parent.id })}
+            revisionHint={`v${parent.number}'s revision by default. Another one moves the new version to it; it is reviewed like any new version.`}
+          />
+        </div>
+        {armDetail.isError ? (
+          <Message tone="warn" title="Could not load the arm's revisions">
+            The new version keeps v{parent.number}'s revision and tool. {armDetail.error.message}
+          </Message>
+        ) : null}
+        {armMove ? (
+          <div data-testid="arm-move">
+            <Message title={`Moves to revision ${chosenRevision!.revision}${chosenToolName ? ` with "${chosenToolName}"` : ""}`}>{armMove}</Message>
+          </div>
+        ) : null}
 
-        <ProfileParamsForm
-          key={parent.id}
-          formId="new-version-form"
-          arm={arm}
-          ceilings={ceilings}
-          initialParams={parent.params}
-          serverError={save.error}
-          onSave={onSave}
-          footer={({ violations }) => (
-            // The outcome of Save (and of Submit from here) shows beside the button, in view, with focus
-            // moved to it (issue 13, item 10): the footer stays at the bottom of the window.
-            <FormFooter feedback={feedback?.node} feedbackKey={feedback?.key ?? null}>
-              {violations.length > 0 ? <span className="text-sm text-warn-400">Saves as a draft only; fix the ceilings before submitting.</span> : null}
-              <Button type="submit" variant="primary" disabled={save.isPending}>
-                <Save aria-hidden className="size-4" />
-                {save.isPending ? "Saving…" : "Save new version"}
-              </Button>
-            </FormFooter>
-          )}
-        />
+        {armDetail.isPending ? (
+          <Loading label="Loading the arm's revisions…" />
+        ) : (
+          <ProfileParamsForm
+            // Again when the joints change (another revision may have other joints): their fields and units follow them.
+            key={`${parent.id}-${drivenArm.model.joints.map((j) => j.type).join(",")}`}
+            formId="new-version-form"
+            arm={drivenArm}
+            ceilings={ceilings}
+            initialParams={initialParams}
+            serverError={save.error}
+            onSave={onSave}
+            footer={({ violations }) => (
+              // The outcome of Save (and of Submit from here) shows beside the button, in view, with focus
+              // moved to it (issue 13, item 10): the footer stays at the bottom of the window.
+              <FormFooter feedback={feedback?.node} feedbackKey={feedback?.key ?? null}>
+                {violations.length > 0 ? <span className="text-sm text-warn-400">Saves as a draft only; fix the ceilings before submitting.</span> : null}
+                <Button type="submit" variant="primary" disabled={save.isPending}>
+                  <Save aria-hidden className="size-4" />
+                  {save.isPending ? "Saving…" : "Save new version"}
+                </Button>
+              </FormFooter>
+            )}
+          />
+        )}
       </div>
     </Card>
   );

@@ -5,6 +5,7 @@ import { Button } from "../../../components/ui/button.tsx";
 import { TableFrame, TableHead } from "../../../components/ui/table-frame.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
 import { FlaggedBadge, shortHash, VersionStateBadge } from "../../../components/profiles/version-state-badge.tsx";
+import { movesArm, versionArmText } from "../forms/arm-choice.ts";
 
 interface VersionHistoryTableProps {
   versions: ProfileVersion[];
@@ -25,10 +26,11 @@ interface VersionHistoryTableProps {
 export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canReview, isSubmitting, onSubmit, onCompare, user, operatorId, onWithdraw }: VersionHistoryTableProps) {
   return (
     <TableFrame testId="version-history" caption="Version history, newest first">
-      <TableHead headings={["Version", "State", "Author", "Created", "Note", "Hash", "Decision"]} hasActions />
+      <TableHead headings={["Version", "State", "Arm", "Author", "Created", "Note", "Hash", "Decision"]} hasActions />
       <tbody>
         {versions.map((v) => {
           const blocker = submitBlockers.get(v.id);
+          const parent = versions.find((p) => p.id === v.parentVersionId);
           // The shared driving rule: an engineer test-drives any version but a retired one, an operator their approved one.
           const drive = isDriveable({ state: v.state, exceedsCeilings: v.exceedsCeilings, operatorId }, user);
           const isOwnDrive = drive.isDriveable && drive.kind === "approved" && user.id === operatorId;
@@ -42,6 +44,22 @@ export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canRe
                   <VersionStateBadge state={v.state} />
                   <FlaggedBadge version={v} />
                 </span>
+              </td>
+              <td className="px-3 py-2" data-testid="version-arm" title={versionArmText(v) ?? undefined}>
+                {v.armRevision == null ? (
+                  <span className="text-ink-400">—</span>
+                ) : (
+                  <>
+                    <span className="whitespace-nowrap">Revision {v.armRevision}</span>{" "}
+                    <span className="block text-xs whitespace-nowrap text-ink-300">{v.toolName ?? "the model's own tool"}</span>
+                    {parent && movesArm(v, parent) ? (
+                      <>
+                        {" "}
+                        <span className="block text-xs whitespace-nowrap text-ink-400">moved from v{parent.number}</span>
+                      </>
+                    ) : null}
+                  </>
+                )}
               </td>
               <td className="px-3 py-2 whitespace-nowrap">{v.authorName}</td>
               <td className="num px-3 py-2 whitespace-nowrap text-ink-300">{formatDateTime(v.createdAt)}</td>

@@ -11,7 +11,8 @@ import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
 import { ExportLinks } from "../../../components/ui/export-links.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { formatDateTime, formatFixed } from "../../../lib/format.ts";
-import { useArms } from "../../../lib/queries/arms.ts";
+import { armAtRevision } from "../../../lib/arm-revision.ts";
+import { useArmDetail, useArms } from "../../../lib/queries/arms.ts";
 import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
 import { recordingDetailQueryOptions, recordingListQueryOptions } from "../../../lib/queries/recordings.ts";
 import { ReplayPlayer } from "../../../components/jog/replay-player.tsx";
@@ -136,7 +137,15 @@ function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () =
   const detail = useQuery(recordingDetailQueryOptions(recordingId));
   const arms = useArms();
   const recording = detail.data?.recording;
-  const arm = arms.data?.find((a) => a.id === recording?.armId) ?? null;
+  const listedArm = arms.data?.find((a) => a.id === recording?.armId) ?? null;
+  // The revision and tool the recording's version drove (issue 12), as the drive page draws a live session:
+  // not the arm's latest revision. The player waits for the revision's detail so it is built once.
+  const armDetail = useArmDetail(recording?.armRevisionId != null ? recording.armId : null);
+  const isDetailLoading = armDetail.isLoading;
+  const arm = useMemo(
+    () => (listedArm && !isDetailLoading ? armAtRevision(listedArm, armDetail.data, recording?.armRevisionId, recording?.toolId) : null),
+    [listedArm, isDetailLoading, armDetail.data, recording?.armRevisionId, recording?.toolId],
+  );
   const profile = useQuery({ ...profileDetailQueryOptions(recording?.profileId ?? null), retry: false });
   const params = profile.data?.versions.find((v) => v.id === recording?.versionId)?.params ?? null;
 
@@ -147,7 +156,14 @@ function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () =
         description={
           recording ? (
             <>
-              On {recording.armName}, {recording.endedAt ? `${durationText(recording)} long` : "still being recorded"}. Scrub the timeline, click a mark to go to that stop, guard or limit, or
+              On {recording.armName}
+              {recording.armRevision != null ? (
+                <span data-testid="replay-arm-revision">
+                  {" "}
+                  revision <span className="num">{recording.armRevision}</span> with {recording.toolName ?? "the model's own tool"}
+                </span>
+              ) : null}
+              , {recording.endedAt ? `${durationText(recording)} long` : "still being recorded"}. Scrub the timeline, click a mark to go to that stop, guard or limit, or
               play it at a chosen speed.
             </>
           ) : undefined

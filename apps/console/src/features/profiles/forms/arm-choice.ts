@@ -1,0 +1,89 @@
+import { defaultProfileParams, type Arm, type ArmRevision, type ProfileParams, type ProfileVersion, type Tool } from "@jogwright/shared";
+
+/**
+ * The arm revision and tool a profile version is saved on (issue 12): what the new-profile and new-version
+ * forms pick, what a save sends, and how the pages name them. A profile moves to another revision or tool
+ * only by saving a new version, which goes through review again like any other.
+ */
+export interface ArmChoice {
+  revisionId: number;
+  /** null: no tool record (the revision's own tool transform). */
+  toolId: number | null;
+}
+
+/** What a version drives, as the API names it (`versionArmRefShape`). */
+export type VersionArmRef = Pick<ProfileVersion, "armRevisionId" | "armRevision" | "toolId" | "toolName">;
+
+/** The choice a version was saved on, or null where the API did not name it. */
+export function armChoiceOf(version: VersionArmRef): ArmChoice | null {
+  return version.armRevisionId == null ? null : { revisionId: version.armRevisionId, toolId: version.toolId ?? null };
+}
+
+/**
+ * The tools offered on a revision: those in service, and the base's own tool on its own revision even if
+ * retired since (a version keeps a retired tool; a new one may keep it too, by not naming another).
+ */
+export function pickableTools(revision: ArmRevision | undefined, base: ArmChoice | null): Tool[] {
+  if (!revision) return [];
+  return revision.tools.filter((t) => !t.retiredAt || (base?.revisionId === revision.id && t.id === base.toolId));
+}
+
+/** The tool picked with a revision: the base's on the base's own revision, else the revision's first in service. */
+export function defaultToolOn(revision: ArmRevision, base: ArmChoice | null): number | null {
+  if (base && base.revisionId === revision.id) return base.toolId;
+  return revision.tools.find((t) => !t.retiredAt)?.id ?? null;
+}
+
+export const isSameChoice = (a: ArmChoice | null, b: ArmChoice | null) => a?.revisionId === b?.revisionId && a?.toolId === b?.toolId;
+
+/**
+ * The save's `armRevisionId`/`toolId`: nothing while the choice is the base version's (the server then keeps
+ * the parent's revision and tool, a retired tool included), else both.
+ */
+export function armChoiceFields(base: ArmChoice | null, chosen: ArmChoice | null): { armRevisionId?: number; toolId?: number | null } {
+  if (!chosen || isSameChoice(base, chosen)) return {};
+  return { armRevisionId: chosen.revisionId, toolId: chosen.toolId };
+}
+
+/** `revision 2 with tool "Long gripper"` (or `with the model's own tool transform` when it names no tool). */
+export function drivesText(revision: number, toolName: string | null): string {
+  return `revision ${revision} ${toolName === null ? "with the model's own tool transform" : `with tool "${toolName}"`}`;
+}
+
+/** A version that drives another revision or tool than its parent: it moved the profile there. */
+export function movesArm(version: VersionArmRef, parent: VersionArmRef): boolean {
+  const [from, to] = [armChoiceOf(parent), armChoiceOf(version)];
+  return from !== null && to !== null && !isSameChoice(from, to);
+}
+
+/** How the version list names what a version drives: `Revision 2 · Long gripper`, or null when not known. */
+export function versionArmText(version: VersionArmRef): string | null {
+  if (version.armRevision == null) return null;
+  return `Revision ${version.armRevision} · ${version.toolName ?? "the model's own tool"}`;
+}
+
+/**
+ * The sentence shown when a new version moves to another revision or tool than the version it starts from:
+ * `v3 will drive revision 2 with tool "Long gripper" (v1 drives revision 1 with tool "Flange tool"); it goes
+ * through review again like any new version.`
+ */
+export function describeArmMove(
+  nextNumber: number,
+  base: { number: number; revision: number; toolName: string | null } | null,
+  chosen: { revision: number; toolName: string | null },
+): string {
+  const from = base ? ` (v${base.number} drives ${drivesText(base.revision, base.toolName)})` : "";
+  return `v${nextNumber} will drive ${drivesText(chosen.revision, chosen.toolName)}${from}; it goes through review again like any new version.`;
+}
+
+/**
+ * Parameters fitted to the joints of the arm a version will drive: unchanged when the joint count is the
+ * same (the same object), else the caps of the joints both have kept and half the rated speed (the
+ * console's default, `defaultProfileParams`) for the joints the revision adds.
+ */
+export function fitParamsToJoints(params: ProfileParams, arm: Arm): ProfileParams {
+  const joints = arm.model.joints;
+  if (params.jointRateCapsRadPerS.length === joints.length) return params;
+  const defaults = defaultProfileParams(joints.map((j) => j.maxSpeed ?? 1)).jointRateCapsRadPerS;
+  return { ...params, jointRateCapsRadPerS: joints.map((_, i) => params.jointRateCapsRadPerS[i] ?? defaults[i]!) };
+}
