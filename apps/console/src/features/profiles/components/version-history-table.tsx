@@ -63,7 +63,7 @@ export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canRe
               </td>
               <td className="px-3 py-2 whitespace-nowrap">{v.authorName}</td>
               <td className="num px-3 py-2 whitespace-nowrap text-ink-300">{formatDateTime(v.createdAt)}</td>
-              <td className="max-w-72 px-3 py-2 text-ink-300">{v.note || <span className="text-ink-400">—</span>}</td>
+              <td className="max-w-72 min-w-32 px-3 py-2 text-ink-300">{v.note || <span className="text-ink-400">—</span>}</td>
               <td className="px-3 py-2">
                 <span className="num text-xs text-ink-300" title={v.paramsSha256}>
                   {shortHash(v.paramsSha256)}
@@ -82,8 +82,9 @@ export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canRe
                   <span className="text-ink-400">—</span>
                 )}
               </td>
-              <td className="px-3 py-2">
-                <span className="flex justify-end gap-1">
+              <td className="min-w-56 px-3 py-2">
+                {/* Actions wrap as whole buttons, never inside one ("Submit for review" on one line). */}
+                <span className="flex flex-wrap justify-end gap-1 [&>*]:whitespace-nowrap">
                   {canSubmit && v.state === "draft" ? (
                     <Button
                       size="sm"
