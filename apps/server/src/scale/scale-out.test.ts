@@ -4,8 +4,8 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { freePort } from "../test/free-port.ts";
 import { Redis } from "ioredis";
 import { Queue } from "bullmq";
-import { sweepResultSchema, takeStreamEvents } from "@jogwright/shared";
-import { createHarness, type Harness } from "../test/harness.ts";
+import { JOG_CLOSE_CODES, sweepResultSchema, takeStreamEvents } from "@jogwright/shared";
+import { createHarness, freshUser, type Harness } from "../test/harness.ts";
 import { approveWithSql, createProfile, freshTeam, sixAxisArm, type Team } from "../test/profiles-fixture.ts";
 import { JogTestClient } from "../modules/jog/jog-test-client.ts";
 import { TRIAL_QUEUE } from "../modules/trials/trial-queue.ts";
@@ -195,6 +195,57 @@ describe("two instances and one Redis", () => {
     } finally {
       await watcher.close();
       await driver.close();
+    }
+  }, 60_000);
+
+  it("an account deactivated through instance A has its session on instance B stopped and its socket closed (4403) at once", async () => {
+    const wsUrl = `${b.baseUrl.replace("http", "ws")}/ws/jog`;
+    const engineer = await freshUser(h, ["engineer"]);
+    const draft = (await createProfile(h, team, await sixAxisArm(h))).latestVersion.id;
+    const driver = await JogTestClient.connect(wsUrl, { Cookie: await signInAt(b, engineer.username, engineer.password), Origin: b.baseUrl });
+    const closed = new Promise<number>((resolve) => driver.ws.once("close", (code: number) => resolve(code)));
+    try {
+      driver.send({ type: "start", versionId: draft });
+      const started = await driver.next((m) => m.type === "session" || m.type === "error", 10_000);
+      if (started.type !== "session") throw new Error(`start refused: ${JSON.stringify(started)}`);
+      await driver.nextState();
+      const adminCookie = await signInAt(a, "adele", "demo-pass-2026");
+      // Waited for from before the PATCH: B may end the session before A's answer reaches this test.
+      const ending = driver.next((m) => m.type === "ended", 3000);
+      const patchedAt = performance.now();
+      const res = await fetch(`${a.baseUrl}/api/users/${engineer.user.id}`, {
+        method: "PATCH",
+        headers: { "Content-Type": "application/json", Cookie: adminCookie, Origin: a.baseUrl },
+        body: JSON.stringify({ isActive: false }),
+      });
+      expect(res.status).toBe(200);
+      const ended = await ending;
+      expect(ended).toMatchObject({ type: "ended", reason: "account-deactivated" });
+      expect(await closed).toBe(JOG_CLOSE_CODES.accountDeactivated);
+      // Through Redis, not B's 10 s re-check of the account.
+      expect(performance.now() - patchedAt).toBeLessThan(3000);
+    } finally {
+      await driver.close();
+    }
+  }, 60_000);
+
+  it("the live-session cap of one account counts its sessions on every instance", async () => {
+    const engineer = await freshUser(h, ["engineer"]);
+    const draft = (await createProfile(h, team, await sixAxisArm(h))).latestVersion.id;
+    const open = async (i: Instance) =>
+      JogTestClient.connect(`${i.baseUrl.replace("http", "ws")}/ws/jog`, { Cookie: await signInAt(i, engineer.username, engineer.password), Origin: i.baseUrl });
+    const clients = [await open(a), await open(b), await open(a), await open(b)];
+    try {
+      const answers = [];
+      for (const c of clients) {
+        c.send({ type: "start", versionId: draft });
+        answers.push(await c.next((m) => m.type === "session" || m.type === "error", 10_000));
+      }
+      // JOG_MAX_SESSIONS_PER_ACCOUNT is 3 (the default): two on A and one on B went live, the fourth is refused on B.
+      expect(answers.slice(0, 3).map((m) => m.type)).toEqual(["session", "session", "session"]);
+      expect(answers[3]).toMatchObject({ type: "error", code: "account_session_limit" });
+    } finally {
+      await Promise.all(clients.map((c) => c.close()));
     }
   }, 60_000);
 });

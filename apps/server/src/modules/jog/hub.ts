@@ -409,9 +409,20 @@ export class JogHub {
         message: `You started ${this.limits.startsPerWindow} sessions within ${this.limits.startWindowS} s, the most allowed: wait ${waitS} s, then start again.`,
       };
     }
+    // Scaled out, the account's live sessions on the other instances count too (the live directory). Two
+    // starts at the same moment on two instances can each miss the other's: the cap may then be passed by
+    // one session per instance, once; the shared start-rate limit above bounds how often.
+    let elsewhere = 0;
+    if (this.directory) {
+      try {
+        elsewhere = (await this.directory.others()).filter((e) => e.live.driverId === key).length;
+      } catch (error) {
+        console.error(`[jogwright] the live directory could not be read for the session cap (this instance's sessions counted): ${(error as Error).message}`);
+      }
+    }
     // Synchronous from here to the reservation: no other start can interleave between check and count.
     const freed = replacing && this.sessions.has(replacing.id) ? 1 : 0;
-    let ofAccount = this.admittedBy.get(key) ?? 0;
+    let ofAccount = (this.admittedBy.get(key) ?? 0) + elsewhere;
     for (const s of this.sessions.values()) if (s.driver.user.id === key) ofAccount++;
     const refusal: StartRefusal | null =
       ofAccount - freed >= this.limits.maxSessionsPerAccount
