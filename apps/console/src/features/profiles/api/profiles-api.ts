@@ -23,6 +23,14 @@ export async function withdrawVersion(versionId: number, note: string): Promise<
   return (await apiRequest(`/api/versions/${versionId}/withdraw`, { method: "POST", body: { note }, schema: versionResponseSchema })).version;
 }
 
+/**
+ * A version file (its JSON as the file holds it, already checked with versionFileSchema) as a new draft on
+ * the profile's latest version; the server checks its hash, arm and the site ceilings and saves nothing on a refusal.
+ */
+export async function importVersionFile(profileId: number, file: unknown): Promise<ProfileVersion> {
+  return (await apiRequest(`/api/profiles/${profileId}/import`, { method: "POST", body: file, schema: versionResponseSchema })).version;
+}
+
 export async function submitVersion(versionId: number): Promise<ProfileVersion> {
   return (await apiRequest(`/api/versions/${versionId}/submit`, { method: "POST", body: {}, schema: versionResponseSchema })).version;
 }

@@ -33,6 +33,7 @@ import { CompareVersions, type ComparePair } from "./compare-versions.tsx";
 import { ParamsDiffTable, ParamsTable } from "../../../components/profiles/params-table.tsx";
 import { ProfileParamsForm } from "./profile-params-form.tsx";
 import { VersionHistoryTable } from "./version-history-table.tsx";
+import { ImportVersionFileButton, useVersionFileImport, VersionFileImportOutcome } from "./version-file-import.tsx";
 import { ProfileFacts } from "../../../components/profiles/profile-facts.tsx";
 import { VersionLabel } from "../../../components/profiles/version-state-badge.tsx";
 
@@ -79,6 +80,13 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
   const [pair, setPair] = useState<ComparePair>(() => ({ fromId: (versions[1] ?? latest).id, toId: latest.id }));
   const [withdrawing, setWithdrawing] = useState<ProfileVersion | null>(null);
   const compareRef = useRef<HTMLDivElement>(null);
+  // The draft a version file was imported as (issue 12): opened in Compare, and marked in the list while
+  // that import is the last outcome shown.
+  const versionFile = useVersionFileImport(profile.id, (v) => {
+    setNotice(null);
+    setPair({ fromId: v.parentVersionId ?? v.id, toId: v.id });
+  });
+  const importedId = versionFile.outcome?.kind === "imported" ? versionFile.outcome.version.id : null;
 
   const submitBlockers = useMemo(() => {
     const out = new Map<number, string>();
@@ -118,8 +126,18 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
         {notice && submitOrigin === "history" ? <Message tone="ok">{notice}</Message> : null}
         {submit.isError && submitOrigin === "history" ? <SubmitError error={submit.error} /> : null}
 
-        <Card title="Versions" description="Every save is a new version. Approved versions are locked.">
+        <Card
+          title="Versions"
+          description="Every save is a new version. Approved versions are locked. Export downloads a version as a JSON file."
+          actions={isEngineer ? <ImportVersionFileButton onChoose={(file) => void versionFile.choose(file)} isPending={versionFile.isPending} /> : undefined}
+        >
+          {isEngineer && versionFile.outcome ? (
+            <div className="mb-4">
+              <VersionFileImportOutcome outcome={versionFile.outcome} />
+            </div>
+          ) : null}
           <VersionHistoryTable
+            selectedVersionId={importedId}
             versions={versions}
             submitBlockers={submitBlockers}
             canSubmit={isEngineer}

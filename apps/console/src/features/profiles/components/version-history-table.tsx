@@ -1,11 +1,13 @@
 import { Link } from "react-router";
-import { Gamepad2, GitCompareArrows, Send, Undo2 } from "lucide-react";
+import { Download, Gamepad2, GitCompareArrows, Send, Undo2 } from "lucide-react";
 import { isDriveable, type ProfileVersion, type User } from "@jogwright/shared";
 import { Button } from "../../../components/ui/button.tsx";
+import { cn } from "../../../lib/cn.ts";
 import { TableFrame, TableHead } from "../../../components/ui/table-frame.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
 import { FlaggedBadge, shortHash, VersionStateBadge } from "../../../components/profiles/version-state-badge.tsx";
 import { movesArm, versionArmText } from "../forms/arm-choice.ts";
+import { versionExportPath } from "../forms/version-file.ts";
 
 interface VersionHistoryTableProps {
   versions: ProfileVersion[];
@@ -21,9 +23,11 @@ interface VersionHistoryTableProps {
   operatorId: string;
   /** The author withdraws a submission (a dialog asks for a note). */
   onWithdraw: (version: ProfileVersion) => void;
+  /** The version just imported: its row is marked (issue 12); null for none. */
+  selectedVersionId?: number | null;
 }
 
-export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canReview, isSubmitting, onSubmit, onCompare, user, operatorId, onWithdraw }: VersionHistoryTableProps) {
+export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canReview, isSubmitting, onSubmit, onCompare, user, operatorId, onWithdraw, selectedVersionId = null }: VersionHistoryTableProps) {
   return (
     <TableFrame testId="version-history" caption="Version history, newest first">
       <TableHead headings={["Version", "State", "Arm", "Author", "Created", "Note", "Hash", "Decision"]} hasActions />
@@ -34,8 +38,14 @@ export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canRe
           // The shared driving rule: an engineer test-drives any version but a retired one, an operator their approved one.
           const drive = isDriveable({ state: v.state, exceedsCeilings: v.exceedsCeilings, operatorId }, user);
           const isOwnDrive = drive.isDriveable && drive.kind === "approved" && user.id === operatorId;
+          const isSelected = v.id === selectedVersionId;
           return (
-            <tr key={v.id} className="border-b border-ink-700 align-top last:border-b-0 hover:bg-ink-850" data-version={v.number}>
+            <tr
+              key={v.id}
+              className={cn("border-b border-ink-700 align-top last:border-b-0 hover:bg-ink-850", isSelected && "bg-iris-400/10 shadow-[inset_3px_0_0_var(--color-iris-400)] hover:bg-iris-400/10")}
+              data-version={v.number}
+              data-selected={isSelected || undefined}
+            >
               <th scope="row" className="num px-3 py-2 font-semibold text-ink-100">
                 v{v.number}
               </th>
@@ -123,6 +133,16 @@ export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canRe
                   <Button size="sm" variant="ghost" onClick={() => onCompare(v)} aria-label={`Compare v${v.number} with its parent`}>
                     <GitCompareArrows aria-hidden className="size-3.5" /> Compare
                   </Button>
+                  {/* Everyone who sees the version may export it (the server: operators their own profiles'). */}
+                  <a
+                    href={versionExportPath(v.id)}
+                    download
+                    className="inline-flex h-7 items-center gap-1 rounded-md px-2.5 text-xs font-semibold text-iris-300 hover:underline"
+                    aria-label={`Export v${v.number} as a version file (JSON)`}
+                    title="Download this version as a JSON file: its arm revision and tool, parameters and SHA-256"
+                  >
+                    <Download aria-hidden className="size-3.5" /> Export
+                  </a>
                 </span>
               </td>
             </tr>

@@ -1,6 +1,6 @@
 import { useMutation, useQuery } from "@tanstack/react-query";
 import type { CreateProfileInput, SaveVersionInput } from "@jogwright/shared";
-import { createProfile, saveVersion, submitVersion, withdrawVersion } from "../api/profiles-api.ts";
+import { createProfile, importVersionFile, saveVersion, submitVersion, withdrawVersion } from "../api/profiles-api.ts";
 import { operatorListQueryOptions, profileDetailQueryOptions, useInvalidateProfiles } from "../../../lib/queries/profiles.ts";
 
 export const useProfile = (profileId: number) => useQuery(profileDetailQueryOptions(profileId));
@@ -18,6 +18,12 @@ export function useSaveVersion(profileId: number) {
     // On 409 stale_parent too: the newer version must show up in the history.
     onSettled: () => invalidate(),
   });
+}
+
+/** Import a version file (its JSON body) as a new draft; invalidates as a save does. */
+export function useImportVersionFile(profileId: number) {
+  const invalidate = useInvalidateProfiles();
+  return useMutation({ mutationFn: ({ body }: { body: unknown; fileName: string }) => importVersionFile(profileId, body), onSuccess: () => invalidate() });
 }
 
 export function useWithdrawVersion() {
