@@ -1,7 +1,7 @@
 import { Matrix, SingularValueDecomposition } from "ml-matrix";
 import { describe, expect, it } from "vitest";
 import {
-  KinematicsInputError, capScale, controlStep, createControlReport, createControlState, createControlWorkspace,
+  KinematicsInputError, accelScaleInto, capScale, controlStep, createControlReport, createControlState, createControlWorkspace,
   dampedLeastSquares, dampedLeastSquaresInto, dampingFor, defaultControlParams, demoArms, forwardPose,
   geometricJacobian, jointJogStep, jointLimitScale, ratedJointAccel, singularValues, validateControlParams,
 } from "./index.ts";
@@ -797,6 +797,35 @@ describe("the control step's damping and limits are damping.ts's and limits.ts's
         expect(report.limitScale).toBe(jointLimitScale(q, rates, mins, maxs, combined, n, q.map(() => margin), q.map(() => zone), dt, null, rated));
       }
     }
+  });
+
+  it("reports the acceleration factor and its joint of limits.ts accelScaleInto, from random previous rates", () => {
+    // Pinning test: the step writes accelScaleInto's loop out (fused with its other sweeps over the joints);
+    // checked exactly against limits.ts wherever the first blend stands (no joint-limit bisection).
+    const next = rng(94);
+    let checked = 0, limiting = 0;
+    for (let trial = 0; trial < 3000; trial++) {
+      const demo = trial % 2 ? arm7 : arm6;
+      const n = demo.model.joints.length;
+      const q = demo.model.joints.map((j) => 0.6 * (j.min! + (j.max! - j.min!) * next()));
+      const rates = q.map(() => 2 * (next() - 0.5));
+      const dt = 0.001 + 0.004 * next();
+      const accel = q.map(() => (next() < 0.2 ? Infinity : 1 + 50 * next()));
+      const { ws, state, report } = setup(demo, q);
+      for (let i = 0; i < n; i++) state.qdot[i] = 2 * (next() - 0.5);
+      const prev = Float64Array.from(state.qdot);
+      jointJogStep(ws, state, params({ jointAccelLimits: accel, tcpLinearCap: Infinity, tcpAngularCap: Infinity }), rates, dt, report);
+      if (report.binding === "joint-limit") continue;
+      const rated = accel.map((a, i) => Math.min(a, ratedJointAccel(demo.model.joints[i]!)));
+      const box = new Float64Array([dt]), bind = new Int32Array(1);
+      accelScaleInto(prev, rates.map((r) => report.scale * r), rated, n, box, bind);
+      expect(report.accelScale).toBe(box[0]);
+      expect(report.accelBindingJoint).toBe(box[0]! < 1 ? bind[0] : -1);
+      checked++;
+      if (box[0]! < 1) limiting++;
+    }
+    expect(checked).toBeGreaterThan(2000);
+    expect(limiting).toBeGreaterThan(1000);
   });
 });
 

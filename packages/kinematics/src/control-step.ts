@@ -19,9 +19,10 @@
  *     the null-space term (I − J⁺J)·qdot0, qdot0 = −k·∇H(q) with H Liégeois' joint-limit criterion
  *     (Liégeois 1977, IEEE Trans. SMC-7(12) — from memory) and J⁺ the same damped inverse.
  *  6. One scale factor s = min(joint-rate caps, TCP linear cap, TCP angular cap, joint-limit slow-down)
- *     applied to the whole qdot, so J·qdot keeps its direction (limits.ts capScaleInto,
- *     jointLimitScaleInto). With acceleration limits, the change of qdot per step is then limited by one
- *     factor f (limits.ts accelScaleInto) so the change keeps its direction; the joint-limit stand-offs
+ *     applied to the whole qdot, so J·qdot keeps its direction (limits.ts capScaleInto — written out in the
+ *     step's sweeps over the joints, bit-identical — and jointLimitScaleInto). With acceleration limits, the
+ *     change of qdot per step is then limited by one factor f (limits.ts accelScaleInto, written out the
+ *     same way) so the change keeps its direction; the joint-limit stand-offs
  *     (braking curve, limits.ts brakingSpeed/brakingFloorInto) and the speed caps win over it.
  *  7. Singularity guard "stop-before": when the motion, followed by a stop within the acceleration limits
  *     (the stopping horizon; none without limits), would end with σ_min below the threshold and lower than
@@ -45,7 +46,7 @@ import { dampingForSchemeInto, validateDampingScheme } from "./damping.ts";
 import { dlsFilteredFromGramInto, dlsFromGramBoxed, dlsSolveWithFactor, jtY6Into } from "./dls.ts";
 import { jacobianPoseGramInto } from "./jacobian.ts";
 import {
-  accelScaleInto, brakingFloorInto, capScaleInto, jointLimitScaleInto, stoppingHorizonInto, stopsBeforeStandOffs,
+  brakingFloorInto, jointLimitScaleInto, stoppingHorizonInto, stopsBeforeStandOffs,
 } from "./limits.ts";
 import { forwardPoseInto } from "./pose.ts";
 import type { SigmaTracker } from "./sigma-estimate.ts";
@@ -247,8 +248,6 @@ export interface ControlWorkspace {
   readonly bind: Int32Array;
   /** Scalars passed between hot-path functions without boxing (dt in, scale out). */
   readonly box: Float64Array;
-  /** J·v scratch (6) for the achieved-twist sums. */
-  readonly jv: Float64Array;
   readonly lambdaBox: Float64Array;
   /** Acceleration-limited rates (blendRates): τ, f, p and f's binding joint; J·ws.next. */
   readonly blend: Float64Array;
@@ -320,7 +319,6 @@ export function createControlWorkspace(arm: ArmModel): ControlWorkspace {
     zones: new Float64Array(n),
     bind: new Int32Array(1),
     box: new Float64Array(1),
-    jv: new Float64Array(6),
     lambdaBox: new Float64Array(1),
     blend: new Float64Array(4),
     blendTwist: new Float64Array(6),
@@ -562,29 +560,6 @@ function estimateSigma(ws: ControlWorkspace, report: ControlStepReport, rhs: Flo
   report.sigmaFullDecomposition = tracker.usedFullDecomposition;
 }
 
-/** Copies the per-joint margins, zones and caps of params into the workspace (read every step). */
-function loadJointLimits(ws: ControlWorkspace, params: ControlParams): void {
-  const n = ws.n;
-  const caps = ws.caps, margins = ws.margins, zones = ws.zones, maxSpeed = ws.kernel.maxSpeed;
-  const userCaps = params.jointRateCaps;
-  const margin = params.jointLimitMargin;
-  const zone = params.jointLimitSlowZone;
-  for (let i = 0; i < n; i++) {
-    const ms = maxSpeed[i]!;
-    let cap = ms;
-    if (userCaps) {
-      const c = userCaps[i]!;
-      cap = c < ms ? c : ms;
-    }
-    caps[i] = cap;
-  }
-  // Written out, not TypedArray.fill: passing the number to a builtin would box it (an allocation).
-  if (typeof margin === "number") for (let i = 0; i < n; i++) margins[i] = margin;
-  else for (let i = 0; i < n; i++) margins[i] = margin[i]!;
-  if (typeof zone === "number") for (let i = 0; i < n; i++) zones[i] = zone;
-  else for (let i = 0; i < n; i++) zones[i] = zone[i]!;
-}
-
 /**
  * ws.next = the joint rates of one step toward τ·target from state.qdot (τ = ws.blend[0]) within the
  * acceleration limits: Δ = τ·target − qdot, f from accelScaleInto (one factor, direction of the change
@@ -592,27 +567,64 @@ function loadJointLimits(ws: ControlWorkspace, params: ControlParams): void {
  * caps (the speed caps win over the acceleration limit; p < 1 only when J or the params changed since the
  * last step). Writes f, p, f's binding joint into ws.blend[1], [2], [3] and J·next into ws.blendTwist.
  * Numbers pass through ws.blend, not arguments: a computed number passed to a call V8 does not inline
- * is boxed.
+ * is boxed. accelScaleInto and capScaleInto are written out here (the same operations in the same order,
+ * so bit-identical), which lets two sweeps over the joints do the work of five.
  */
 function blendRates(ws: ControlWorkspace, state: ControlState, params: ControlParams, dt: number): void {
   const n = ws.n;
   const prev = state.qdot, target = ws.target, scaled = ws.scaled, next = ws.next;
+  const accel = ws.accel, caps = ws.caps, J = ws.J;
   const blend = ws.blend;
   const tau = blend[0]!;
-  for (let i = 0; i < n; i++) scaled[i] = tau * target[i]!;
-  const box = ws.box, bind = ws.bind;
-  box[0] = dt;
-  accelScaleInto(prev, scaled, ws.accel, n, box, bind);
-  const f = box[0]!;
+  // Pass 1: scaled = τ·target and f of accelScaleInto (limits.ts), written out with its operations in its
+  // order (NaN change: f = 0 and the rest skipped, as its `break`), so f and its joint are bit-identical.
+  let f = 1;
+  let fBind = -1;
+  let fDone = false;
   for (let i = 0; i < n; i++) {
-    const p = prev[i]!;
-    next[i] = p + f * (scaled[i]! - p);
+    const sc = tau * target[i]!;
+    scaled[i] = sc;
+    if (fDone) continue;
+    const d = Math.abs(sc - prev[i]!);
+    if (Number.isNaN(d)) {
+      f = 0;
+      fBind = i;
+      fDone = true;
+      continue;
+    }
+    const step = accel[i]! * dt;
+    if (d * f > step) {
+      f = step / d;
+      fBind = i;
+    }
   }
-  capScaleInto(next, ws.caps, n, box, null);
-  let pScale = box[0]!;
-  const jv = ws.jv;
-  jacobianTimesInto(ws.J, n, next, jv);
-  const a0 = jv[0]!, a1 = jv[1]!, a2 = jv[2]!, a3 = jv[3]!, a4 = jv[4]!, a5 = jv[5]!;
+  // Pass 2: next = qdot + f·(scaled − qdot), its cap factor (capScaleInto's operations, NaN: 0) and J·next
+  // (each row sum over the columns in order, as row by row), in one sweep over the joints.
+  let pScale = 1;
+  let pDone = false;
+  let a0 = 0, a1 = 0, a2 = 0, a3 = 0, a4 = 0, a5 = 0;
+  const n2 = 2 * n, n3 = 3 * n, n4 = 4 * n, n5 = 5 * n;
+  for (let c = 0; c < n; c++) {
+    const p = prev[c]!;
+    const x = p + f * (scaled[c]! - p);
+    next[c] = x;
+    if (!pDone) {
+      const v = Math.abs(x);
+      const cap = caps[c]!;
+      if (Number.isNaN(v)) {
+        pScale = 0;
+        pDone = true;
+      } else if (v * pScale > cap) {
+        pScale = cap / v;
+      }
+    }
+    a0 += J[c]! * x; a1 += J[n + c]! * x; a2 += J[n2 + c]! * x;
+    a3 += J[n3 + c]! * x; a4 += J[n4 + c]! * x; a5 += J[n5 + c]! * x;
+  }
+  // The scratch cells as the separate calls left them (f's joint, the cap factor); nothing reads them
+  // before writing, but the workspace stays the same either way.
+  ws.bind[0] = fBind;
+  ws.box[0] = pScale;
   const lin = Math.sqrt(a0 * a0 + a1 * a1 + a2 * a2);
   const ang = Math.sqrt(a3 * a3 + a4 * a4 + a5 * a5);
   if (lin * pScale > params.tcpLinearCap) pScale = params.tcpLinearCap / lin;
@@ -622,7 +634,7 @@ function blendRates(ws: ControlWorkspace, state: ControlState, params: ControlPa
   t[0] = a0 * pScale; t[1] = a1 * pScale; t[2] = a2 * pScale; t[3] = a3 * pScale; t[4] = a4 * pScale; t[5] = a5 * pScale;
   blend[1] = f;
   blend[2] = pScale;
-  blend[3] = bind[0]!;
+  blend[3] = fBind;
 }
 
 /**
@@ -730,33 +742,63 @@ function limitAndIntegrate(
   const q = state.q;
   const J = ws.J;
   const qMin = k.min, qMax = k.max;
-  loadJointLimits(ws, params);
   const accelLimits = params.jointAccelLimits;
   const isAccel = accelLimits !== null && accelLimits !== undefined;
-  if (isAccel) {
-    const rated = k.maxAccel, accel = ws.accel;
-    for (let i = 0; i < n; i++) {
+  // One sweep over the joints: this step's caps, margins, zones and acceleration limits (loadJointLimits,
+  // written out), the joint-rate cap factor of the solve's rates (limits.ts capScaleInto's operations in
+  // its order; NaN: 0 and the rest skipped, as its `break`), whether anything moves and J·target
+  // (each row sum over the columns in order) — the same numbers as the separate passes, bit for bit.
+  const caps = ws.caps, margins = ws.margins, zones = ws.zones, accel = ws.accel;
+  const maxSpeed = k.maxSpeed, rated = k.maxAccel;
+  const userCaps = params.jointRateCaps;
+  const margin = params.jointLimitMargin, zone = params.jointLimitSlowZone;
+  const isMarginNumber = typeof margin === "number", isZoneNumber = typeof zone === "number";
+  let sJoint = 1;
+  let jointBind = -1;
+  let capDone = false;
+  // NaN in the target (never from the solve, whose result is checked finite) counts as moving.
+  let moving = false;
+  let a0 = 0, a1 = 0, a2 = 0, a3 = 0, a4 = 0, a5 = 0;
+  const n2 = 2 * n, n3 = 3 * n, n4 = 4 * n, n5 = 5 * n;
+  for (let i = 0; i < n; i++) {
+    const ms = maxSpeed[i]!;
+    let cap = ms;
+    if (userCaps) {
+      const c = userCaps[i]!;
+      cap = c < ms ? c : ms;
+    }
+    caps[i] = cap;
+    // Written out, not TypedArray.fill: passing the number to a builtin would box it (an allocation).
+    margins[i] = isMarginNumber ? margin : (margin as ArrayLike<number>)[i]!;
+    zones[i] = isZoneNumber ? zone : (zone as ArrayLike<number>)[i]!;
+    if (isAccel) {
       const a = accelLimits[i]!;
       const r = rated[i]!;
       accel[i] = a < r ? a : r;
     }
+    const x = target[i]!;
+    if (x !== 0) moving = true;
+    if (!capDone) {
+      const v = Math.abs(x);
+      if (Number.isNaN(v)) {
+        sJoint = 0;
+        jointBind = i;
+        capDone = true;
+      } else if (v * sJoint > cap) {
+        sJoint = cap / v;
+        jointBind = i;
+      }
+    }
+    a0 += J[i]! * x; a1 += J[n + i]! * x; a2 += J[n2 + i]! * x;
+    a3 += J[n3 + i]! * x; a4 += J[n4 + i]! * x; a5 += J[n5 + i]! * x;
   }
-  // Joint-rate caps (limits.ts capScaleInto) and joint-limit slow-down (limits.ts jointLimitScaleInto).
+  // Joint-limit slow-down (limits.ts jointLimitScaleInto).
   const box = ws.box, bind = ws.bind;
-  capScaleInto(target, ws.caps, n, box, bind);
-  const sJoint = box[0]!;
-  const jointBind = bind[0]!;
   box[0] = dt;
-  jointLimitScaleInto(q, target, qMin, qMax, ws.caps, n, ws.margins, ws.zones, box, bind, isAccel ? ws.accel : null);
+  jointLimitScaleInto(q, target, qMin, qMax, caps, n, margins, zones, box, bind, isAccel ? accel : null);
   const sLimit = box[0]!;
   const limitBind = bind[0]!;
-  // NaN in the target (never from the solve, whose result is checked finite) counts as moving.
-  let moving = false;
-  for (let i = 0; i < n; i++) if (target[i] !== 0) { moving = true; break; }
   // Achieved twist with the unscaled target; it scales linearly with s.
-  const jv = ws.jv;
-  jacobianTimesInto(J, n, target, jv);
-  const a0 = jv[0]!, a1 = jv[1]!, a2 = jv[2]!, a3 = jv[3]!, a4 = jv[4]!, a5 = jv[5]!;
   const lin = Math.sqrt(a0 * a0 + a1 * a1 + a2 * a2);
   const ang = Math.sqrt(a3 * a3 + a4 * a4 + a5 * a5);
   const linCap = params.tcpLinearCap, angCap = params.tcpAngularCap;
@@ -992,11 +1034,9 @@ export function controlStep(
   // Drift correction: v = v_cmd + c, c = K·e capped by the TCP caps (CLIK).
   const v = ws.solve;
   const ct = report.commandedTwist;
-  for (let i = 0; i < 6; i++) {
-    const c = cmd[i]!;
-    ct[i] = c;
-    v[i] = c;
-  }
+  const c0 = cmd[0]!, c1 = cmd[1]!, c2 = cmd[2]!, c3 = cmd[3]!, c4 = cmd[4]!, c5 = cmd[5]!;
+  ct[0] = c0; ct[1] = c1; ct[2] = c2; ct[3] = c3; ct[4] = c4; ct[5] = c5;
+  v[0] = c0; v[1] = c1; v[2] = c2; v[3] = c3; v[4] = c4; v[5] = c5;
   const drift = params.driftCorrection;
   const ref = state.referencePose;
   const isDrift = drift !== null && drift !== undefined && drift.gain > 0;
@@ -1139,19 +1179,4 @@ export function jointJogStep(
   limitAndIntegrate(ws, state, params, dt, report, false, false);
   forwardPoseInto(ws.kernel, state.q, state.referencePose);
   return report;
-}
-
-/**
- * out = J·v for the 6×n row-major J: one pass over the columns with the six row sums in locals (the same
- * summation order as row by row, so bit-identical to it). Allocation-free.
- */
-function jacobianTimesInto(J: Float64Array, n: number, v: ArrayLike<number>, out: Float64Array): void {
-  let a0 = 0, a1 = 0, a2 = 0, a3 = 0, a4 = 0, a5 = 0;
-  const n2 = 2 * n, n3 = 3 * n, n4 = 4 * n, n5 = 5 * n;
-  for (let c = 0; c < n; c++) {
-    const x = v[c]!;
-    a0 += J[c]! * x; a1 += J[n + c]! * x; a2 += J[n2 + c]! * x;
-    a3 += J[n3 + c]! * x; a4 += J[n4 + c]! * x; a5 += J[n5 + c]! * x;
-  }
-  out[0] = a0; out[1] = a1; out[2] = a2; out[3] = a3; out[4] = a4; out[5] = a5;
 }

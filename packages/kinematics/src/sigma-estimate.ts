@@ -418,8 +418,12 @@ function estimate6(t: SigmaTracker, G: ArrayLike<number>, b: Float64Array | null
 
 /** Copies the warm-start state of `from` into `to` (same k). Allocation-free. */
 export function copySigmaTracker(from: SigmaTracker, to: SigmaTracker): void {
-  to.x1.set(from.x1);
-  to.x2.set(from.x2);
+  // Element by element: for six numbers a TypedArray.set call costs more than the copy.
+  const k = from.k, x1 = from.x1, x2 = from.x2, y1 = to.x1, y2 = to.x2;
+  for (let i = 0; i < k; i++) {
+    y1[i] = x1[i]!;
+    y2[i] = x2[i]!;
+  }
   to.sigmaMin = from.sigmaMin;
   to.sigmaSecond = from.sigmaSecond;
   to.manipulability = from.manipulability;
