@@ -227,6 +227,9 @@ test("an engineer moves a profile to the arm's revision 2 and another tool by sa
   expect(created.status(), await created.text()).toBe(201);
   const { arm } = (await created.json()) as { arm: typeof demo & { latestRevisionId: number } };
   const profile = await setup.profile({ name: `E2E moving on ${arm.name}`, operator, arm });
+  // v1 approved: the review of a version that moves away from it says so.
+  await setup.submit(profile.latestVersion);
+  await setup.approve(profile.latestVersion);
   // The arm's revision 2 (same kinematics, a new definition) with a second tool of its own.
   const edited = await emeka.put(`/api/arms/${arm.id}`, { data: { parentRevisionId: arm.latestRevisionId, model: demo.model, note: "Re-measured base" } });
   expect(edited.status(), await edited.text()).toBe(200);
@@ -271,4 +274,18 @@ test("an engineer moves a profile to the arm's revision 2 and another tool by sa
   await expect(page.getByTestId("arm-move")).toHaveCount(0);
   await page.getByTestId("version-history").scrollIntoViewIfNeeded();
   await keepScreenshot(page, testInfo, "version-list-revisions");
+
+  // A safety officer reviewing v2 reads that it moves the profile away from the approved v1's revision and tool.
+  const { versions } = (await (await emeka.get(`/api/profiles/${profile.id}`)).json()) as { versions: { id: number; number: number }[] };
+  const v2 = versions.find((v) => v.number === 2)!;
+  const context = await page.context().browser()!.newContext({ baseURL: testInfo.project.use.baseURL, viewport: { width: 1440, height: 900 } });
+  try {
+    const officer = await context.newPage();
+    await signIn(officer, "", "sigrid", `/reviews/${v2.id}`);
+    await expect(officer.getByText("This version moves the profile to another arm revision or tool")).toBeVisible();
+    await expect(officer.getByText('v2 drives revision 2 with tool "Long gripper"; the approved v1 drives revision 1 with tool "Flange tool".', { exact: false })).toBeVisible();
+    await keepScreenshot(officer, testInfo, "review-moves-revision");
+  } finally {
+    await context.close();
+  }
 });

@@ -4,7 +4,7 @@ import { demoArms } from "@jogwright/kinematics";
 import { randomUUID } from "node:crypto";
 import { armDetailSchema, armUploadPreviewSchema, profileDetailResponseSchema, recordingSchema, toolTransform, versionResponseSchema, type Arm, type ArmModel } from "@jogwright/shared";
 import { call, createHarness, type Harness } from "../../test/harness.ts";
-import { compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, uniqueName, type Team } from "../../test/profiles-fixture.ts";
+import { approveWithSql, compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, uniqueName, type Team } from "../../test/profiles-fixture.ts";
 import { loadVersionForDriving } from "../driving/service.ts";
 import { insertRecording } from "../recordings/service.ts";
 import type { ArmOfVersion } from "./service.ts";
@@ -191,7 +191,7 @@ describe("revisions: an arm that profiles use is never changed in place", () => 
 });
 
 describe("the API names the arm revision and tool each version drives", () => {
-  it("in the profile's version list, in the save's answer and in a recording of each version", async () => {
+  it("in the profile's version list, in the save's answer, in the review read and in a recording of each version", async () => {
     const created = await call(h, "post", "/api/arms", team.engineer.cookie).send({ name: uniqueName("Named arm"), model: (await upload("/api/arms/upload", SMALL_CSV)).body.preview.model });
     const arm = created.body.arm as Arm & { latestRevisionId: number };
     const rev1 = arm.latestRevisionId;
@@ -221,6 +221,13 @@ describe("the API names the arm revision and tool each version drives", () => {
       [2, rev2.id, 2, "Long gripper"],
       [1, rev1, 1, "Flange tool"],
     ]);
+
+    // The review read names both: the version's, and the approved version's it would replace.
+    await approveWithSql(h, v1, team.officer.id);
+    const review = await call(h, "get", `/api/versions/${v2.id}`, team.officer.cookie);
+    expect(review.status).toBe(200);
+    expect(review.body.version).toMatchObject({ armRevisionId: rev2.id, armRevision: 2, toolName: "Long gripper" });
+    expect(review.body.approvedVersion).toMatchObject({ id: v1, armRevisionId: rev1, armRevision: 1, toolName: "Flange tool" });
 
     // A recording names the revision and tool of the version driven, not the arm's latest.
     for (const [versionId, want] of [[v1, { armRevisionId: rev1, armRevision: 1, toolName: "Flange tool" }], [v2.id, { armRevisionId: rev2.id, armRevision: 2, toolName: "Long gripper" }]] as const) {

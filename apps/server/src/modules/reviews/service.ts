@@ -3,6 +3,7 @@ import { checkCeilings, type CeilingEvent, type CeilingViolation, type ProfileSu
 import type { z } from "zod";
 import type { approveVersionSchema, MailKind, rejectVersionSchema } from "@jogwright/shared";
 import { AppError } from "../../errors.ts";
+import { listVersionArmRefs } from "../arms/service.ts";
 import { modelsOf } from "../../db/models.ts";
 import { recordAudit } from "../audit/service.ts";
 import { findCeilingsInForce, ratedJointSpeeds } from "../ceilings/service.ts";
@@ -95,11 +96,13 @@ export async function getVersionDetail(
     evidenceOf(db, id),
     listCeilingEvents(db, [id]),
   ]);
+  // The arm revision and tool each drives: a reviewer sees when a version moves the profile to another.
+  const armRefs = await listVersionArmRefs(db, approvedVersion ? [id, approvedVersion.id] : [id]);
   return {
-    version,
+    version: { ...version, ...armRefs.get(id) },
     profile,
     violations: checkCeilings(version.params, ceilings.ceilings, ratedJointSpeeds(arm)),
-    approvedVersion,
+    approvedVersion: approvedVersion ? { ...approvedVersion, ...armRefs.get(approvedVersion.id) } : null,
     approval: approval ? { approverName: approval.approverName, approvedAt: approval.approvedAt, comment: approval.comment, paramsSha256: approval.paramsSha256 } : null,
     evidence,
     ceilingEvents,

@@ -1,7 +1,8 @@
 import type { ArmDetail } from "@jogwright/shared";
 import { SelectField } from "../../../components/ui/select-field.tsx";
 import { formatFixed } from "../../../lib/format.ts";
-import { defaultToolOn, pickableTools, type ArmChoice } from "../forms/arm-choice.ts";
+import { defaultToolOn, pickableTools } from "../forms/arm-choice.ts";
+import type { ArmChoice } from "../../../lib/version-arm.ts";
 
 /** A TCP position in mm, e.g. "(0, 0, 160) mm". */
 const toolText = (positionM: readonly number[]) => `(${positionM.map((m) => formatFixed(m * 1000, 1)).join(", ")}) mm`;

@@ -6,7 +6,7 @@ import { cn } from "../../../lib/cn.ts";
 import { TableFrame, TableHead } from "../../../components/ui/table-frame.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
 import { FlaggedBadge, shortHash, VersionStateBadge } from "../../../components/profiles/version-state-badge.tsx";
-import { movesArm, versionArmText } from "../forms/arm-choice.ts";
+import { movesArm, versionArmText } from "../../../lib/version-arm.ts";
 import { versionExportPath } from "../forms/version-file.ts";
 
 interface VersionHistoryTableProps {

@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import type { Arm, ArmRevision, ProfileParams, Tool } from "@jogwright/shared";
-import { armChoiceFields, armChoiceOf, defaultToolOn, describeArmMove, fitParamsToJoints, movesArm, pickableTools, versionArmText } from "./arm-choice.ts";
+import { armChoiceFields, defaultToolOn, describeArmMove, fitParamsToJoints, pickableTools } from "./arm-choice.ts";
+import { armChoiceOf, movesArm, versionArmText } from "../../../lib/version-arm.ts";
 
 const tool = (id: number, revisionId: number, name: string, retiredAt: string | null = null): Tool => ({
   id, armRevisionId: revisionId, name, positionM: [0, 0, 0.16], rpyRad: [0, 0, 0], massKg: 0, note: "", retiredAt, createdAt: "",

@@ -1,23 +1,11 @@
-import { defaultProfileParams, type Arm, type ArmRevision, type ProfileParams, type ProfileVersion, type Tool } from "@jogwright/shared";
+import { defaultProfileParams, type Arm, type ArmRevision, type ProfileParams, type Tool } from "@jogwright/shared";
+import { drivesText, isSameChoice, type ArmChoice } from "../../../lib/version-arm.ts";
 
 /**
  * The arm revision and tool a profile version is saved on (issue 12): what the new-profile and new-version
  * forms pick, what a save sends, and how the pages name them. A profile moves to another revision or tool
  * only by saving a new version, which goes through review again like any other.
  */
-export interface ArmChoice {
-  revisionId: number;
-  /** null: no tool record (the revision's own tool transform). */
-  toolId: number | null;
-}
-
-/** What a version drives, as the API names it (`versionArmRefShape`). */
-export type VersionArmRef = Pick<ProfileVersion, "armRevisionId" | "armRevision" | "toolId" | "toolName">;
-
-/** The choice a version was saved on, or null where the API did not name it. */
-export function armChoiceOf(version: VersionArmRef): ArmChoice | null {
-  return version.armRevisionId == null ? null : { revisionId: version.armRevisionId, toolId: version.toolId ?? null };
-}
 
 /**
  * The tools offered on a revision: those in service, and the base's own tool on its own revision even if
@@ -34,8 +22,6 @@ export function defaultToolOn(revision: ArmRevision, base: ArmChoice | null): nu
   return revision.tools.find((t) => !t.retiredAt)?.id ?? null;
 }
 
-export const isSameChoice = (a: ArmChoice | null, b: ArmChoice | null) => a?.revisionId === b?.revisionId && a?.toolId === b?.toolId;
-
 /**
  * The save's `armRevisionId`/`toolId`: nothing while the choice is the base version's (the server then keeps
  * the parent's revision and tool, a retired tool included), else both.
@@ -43,23 +29,6 @@ export const isSameChoice = (a: ArmChoice | null, b: ArmChoice | null) => a?.rev
 export function armChoiceFields(base: ArmChoice | null, chosen: ArmChoice | null): { armRevisionId?: number; toolId?: number | null } {
   if (!chosen || isSameChoice(base, chosen)) return {};
   return { armRevisionId: chosen.revisionId, toolId: chosen.toolId };
-}
-
-/** `revision 2 with tool "Long gripper"` (or `with the model's own tool transform` when it names no tool). */
-export function drivesText(revision: number, toolName: string | null): string {
-  return `revision ${revision} ${toolName === null ? "with the model's own tool transform" : `with tool "${toolName}"`}`;
-}
-
-/** A version that drives another revision or tool than its parent: it moved the profile there. */
-export function movesArm(version: VersionArmRef, parent: VersionArmRef): boolean {
-  const [from, to] = [armChoiceOf(parent), armChoiceOf(version)];
-  return from !== null && to !== null && !isSameChoice(from, to);
-}
-
-/** How the version list names what a version drives: `Revision 2 · Long gripper`, or null when not known. */
-export function versionArmText(version: VersionArmRef): string | null {
-  if (version.armRevision == null) return null;
-  return `Revision ${version.armRevision} · ${version.toolName ?? "the model's own tool"}`;
 }
 
 /**

@@ -15,6 +15,7 @@ import { Fact, ProfileFacts } from "../../../components/profiles/profile-facts.t
 import { VersionLabel } from "../../../components/profiles/version-state-badge.tsx";
 import { EvidenceTable } from "../../../components/bench/evidence-table.tsx";
 import { useVersionDetail } from "../../../lib/queries/profiles.ts";
+import { drivesText, movesArm, versionArmText } from "../../../lib/version-arm.ts";
 import type { Decision } from "../api/reviews-api.ts";
 import { DecisionDialog } from "./decision-dialog.tsx";
 import { ReconfirmDialog } from "./reconfirm-dialog.tsx";
@@ -67,6 +68,7 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
           <span className="flex flex-wrap items-center gap-x-4 gap-y-1 text-sm">
             <VersionLabel version={version} />
             <ProfileFacts profile={profile} />
+            {versionArmText(version) ? <Fact label="Drives">{versionArmText(version)}</Fact> : null}
             <Fact label="Author">{version.authorName}</Fact>
             {version.submittedAt ? <span className="num">Submitted {formatDateTime(version.submittedAt)}</span> : null}
           </span>
@@ -79,6 +81,13 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
       />
       <div className="flex flex-col gap-6">
         {notice ? <Message tone="ok">{notice}</Message> : null}
+        {approvedVersion && approvedVersion.id !== version.id && movesArm(version, approvedVersion) ? (
+          <Message tone="warn" title="This version moves the profile to another arm revision or tool">
+            v{version.number} drives {drivesText(version.armRevision!, version.toolName ?? null)}; the approved v{approvedVersion.number} drives{" "}
+            {drivesText(approvedVersion.armRevision!, approvedVersion.toolName ?? null)}. The singularity thresholds and the ceilings check depend on
+            the arm and the tool length: read the evidence as runs on the new one.
+          </Message>
+        ) : null}
         {version.note ? (
           <Message tone="info" title="Author's note">
             {version.note}
