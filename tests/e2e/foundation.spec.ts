@@ -62,7 +62,8 @@ test.describe("console foundation", () => {
     await page.waitForURL(/\/arms$/);
     await expect(page.getByRole("heading", { level: 1, name: "Arms" })).toBeVisible();
     const arms = page.getByTestId("arms-table").getByRole("link");
-    expect(await arms.count()).toBeGreaterThanOrEqual(2); // the two demo arms (seed)
+    // Waited for: the heading shows before the list has loaded.
+    await expect.poll(() => arms.count()).toBeGreaterThanOrEqual(2); // the two demo arms (seed)
     await saveScreenshot(page, "arms");
     await arms.first().click();
     await page.waitForURL(/\/arms\/\d+$/);
