@@ -32,6 +32,7 @@ export async function claimSlot(migrationUrl: string, base: string, waitMs = 120
   const deadline = Date.now() + waitMs;
   for (;;) {
     for (let n = 1; n <= TEST_DATABASE_SLOTS; n++) {
+      // Raw SQL: a named lock is a server function no model can say (and this runs before any model exists).
       const [row] = (await connection.query("SELECT GET_LOCK(?, 0) AS got", [`${base}_slot_${n}`])) as { got: number | bigint | null }[];
       if (Number(row?.got) === 1) return { slot: String(n), release: () => connection.end() };
     }

@@ -30,15 +30,20 @@ export class TrialInvalidError extends Error {
  * trial pool that never meets an expression do without it. Synchronous (require of its CommonJS build), so
  * checking and compiling stay synchronous.
  */
-let mathInstance: MathJsInstance | null = null;
-let units: { LINEAR: Unit; ANGULAR: Unit; PER_SECOND: Unit } | null = null;
-function mathjs(): MathJsInstance {
-  if (!mathInstance) {
+interface Mathjs {
+  math: MathJsInstance;
+  LINEAR: Unit;
+  ANGULAR: Unit;
+  PER_SECOND: Unit;
+}
+let loaded: Mathjs | null = null;
+function mathjs(): Mathjs {
+  if (!loaded) {
     const { all, create } = createRequire(import.meta.url)("mathjs") as typeof import("mathjs");
-    mathInstance = create(all!);
-    units = { LINEAR: mathInstance.unit("m/s"), ANGULAR: mathInstance.unit("rad/s"), PER_SECOND: mathInstance.unit("1/s") };
+    const math = create(all!);
+    loaded = { math, LINEAR: math.unit("m/s"), ANGULAR: math.unit("rad/s"), PER_SECOND: math.unit("1/s") };
   }
-  return mathInstance;
+  return loaded;
 }
 const ALLOWED_FUNCTIONS = new Set([
   "sin", "cos", "tan", "asin", "acos", "atan", "atan2", "sinh", "cosh", "tanh", "sqrt", "abs", "exp", "log",
@@ -59,7 +64,7 @@ interface ParsedExpression {
 
 /** Parses one expression and checks its symbols and functions; throws a sentence. */
 function parseExpression(text: string): ParsedExpression {
-  const math = mathjs();
+  const { math } = mathjs();
   let node: MathNode;
   try {
     node = math.parse(text);
@@ -86,8 +91,7 @@ function parseExpression(text: string): ParsedExpression {
 
 /** Evaluates at time t [s] into SI (m/s or rad/s); throws a sentence. */
 function evaluateSI(p: ParsedExpression, t: number, part: "linear" | "angular"): number {
-  const math = mathjs();
-  const { LINEAR, ANGULAR, PER_SECOND } = units!;
+  const { math, LINEAR, ANGULAR, PER_SECOND } = mathjs();
   let value: unknown;
   try {
     value = p.compiled.evaluate({ t: math.unit(t, "s") });
