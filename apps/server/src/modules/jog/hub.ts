@@ -348,7 +348,8 @@ export class JogHub {
     this.startLimiter = rateLimiter(ctx.scale, { keyPrefix: "jog-start", points: limits.startsPerWindow, duration: limits.startWindowS });
     this.directory = ctx.scale ? new LiveDirectory(ctx.scale) : null;
     this.directory?.handleControl((msg) => void this.onControl(msg));
-    this.writer = new RecordingWriter(ctx.db);
+    // Chunks are encoded off the main thread, whose turns carry the live inputs and frames.
+    this.writer = new RecordingWriter(ctx.db, undefined, undefined, { encodeOffThread: true });
     this.retention = new RecordingRetentionJob(ctx.db, ctx.config.recordingRetention, (id) => this.isRecordingLive(id));
     this.retention.start();
     this.thread = new SimulationThread((msg) => this.onWorkerMessage(msg), (error) => this.onWorkerFailure(error));

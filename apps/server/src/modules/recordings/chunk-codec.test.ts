@@ -1,9 +1,10 @@
-import { describe, expect, it } from "vitest";
+import { describe, expect, it, vi } from "vitest";
 import { deflateSync, inflateSync } from "node:zlib";
 import { demoArms } from "@jogwright/kinematics";
 import { defaultProfileParams, recordedFrameSchema, type RecordedFrame } from "@jogwright/shared";
 import { JogSimulation } from "../jog/simulation.ts";
 import { ChunkFormatError, decodeChunk, decodeChunkSync, encodeChunk } from "./chunk-codec.ts";
+import { ChunkEncoderThread } from "./encode-thread.ts";
 
 /**
  * The recording chunk codec (issue 11, item 8) on frames of the real simulation: the six-axis demo arm
@@ -136,5 +137,42 @@ describe("chunks that are not state frames", () => {
     expect(() => decodeChunkSync("columns-v1", deflateSync(raw.subarray(0, raw.length - 3)))).toThrow(ChunkFormatError);
     expect(() => decodeChunkSync("columns-v1", deflateSync(Buffer.concat([raw, Buffer.from([0])])))).toThrow(ChunkFormatError);
     await expect(decodeChunk("columns-v9", null, encoded.data)).rejects.toThrow(ChunkFormatError);
+  });
+});
+
+describe("the recording encoder thread (the live writer's, off the main thread)", () => {
+  it("stores exactly the bytes the codec makes on the calling thread, as a Buffer", async () => {
+    const encoder = new ChunkEncoderThread();
+    try {
+      for (const texts of [frameTexts.slice(0, 60), frameTexts.slice(60, 200), [JSON.stringify({ t: 1 })]]) {
+        const onThread = await encoder.encode(texts);
+        const here = await encodeChunk(texts);
+        expect(onThread.encoding).toBe(here.encoding);
+        expect(Buffer.isBuffer(onThread.data)).toBe(true);
+        expect(onThread.data.equals(here.data)).toBe(true);
+      }
+      expect(encoder.encodedOnThread).toBe(3);
+    } finally {
+      await encoder.close();
+    }
+  });
+
+  it("a thread that cannot start costs no chunk: the codec runs on the calling thread instead", async () => {
+    const encoder = new ChunkEncoderThread(new URL("./no-such-encoder.mjs", import.meta.url));
+    const logged = vi.spyOn(console, "error").mockImplementation(() => {});
+    try {
+      const texts = frameTexts.slice(0, 60);
+      const here = await encodeChunk(texts);
+      for (let i = 0; i < 2; i++) {
+        const encoded = await encoder.encode(texts);
+        expect(encoded.encoding).toBe("columns-v1");
+        expect(encoded.data.equals(here.data)).toBe(true);
+      }
+      expect(encoder.encodedOnThread).toBe(0);
+      expect(logged).toHaveBeenCalledTimes(1); // said once, not per chunk
+    } finally {
+      logged.mockRestore();
+      await encoder.close();
+    }
   });
 });

@@ -1,11 +1,12 @@
 import type { Sequelize } from "sequelize";
 import { encodeChunk, type EncodedChunk } from "./chunk-codec.ts";
+import { ChunkEncoderThread } from "./encode-thread.ts";
 import { finishRecording, insertChunk } from "./service.ts";
 
 /**
  * Buffered recording writer: the simulation hands over each frame's JSON (a string, built anyway for the
  * socket) and never waits; a flush every ~1 s encodes (chunk-codec.ts: columns, zlib on libuv's thread
- * pool) and writes one chunk per recording. When the database is slow
+ * pool; with `encodeOffThread`, on a thread of its own, encode-thread.ts) and writes one chunk per recording. When the database is slow
  * or down, frames stay queued and go out with a later flush (a failed chunk is retried, kept in order);
  * nothing here throws into the tick path. A recording's end (summary) is written after its last chunk.
  */
@@ -42,11 +43,17 @@ export class RecordingWriter {
   /** Frames dropped over all recordings because the database fell behind (each also in its summary). */
   droppedFrames = 0;
 
+  /** Null: chunks are encoded on this thread. */
+  private readonly encoder: ChunkEncoderThread | null;
+
   constructor(
     private readonly db: Sequelize,
     private readonly flushIntervalMs = FLUSH_INTERVAL_MS,
     private readonly maxQueuedFrames = MAX_QUEUED_FRAMES,
-  ) {}
+    options: { encodeOffThread?: boolean } = {},
+  ) {
+    this.encoder = options.encodeOffThread ? new ChunkEncoderThread() : null;
+  }
 
   private entry(recordingId: number): Pending {
     let p = this.pending.get(recordingId);
@@ -106,7 +113,7 @@ export class RecordingWriter {
             p.frames = [];
           }
           const batch = p.batch;
-          p.encoded ??= await encodeChunk(batch);
+          p.encoded ??= await (this.encoder ? this.encoder.encode(batch) : encodeChunk(batch));
           await insertChunk(this.db, p.recordingId, p.nextChunk, batch.length, p.encoded);
           p.batch = null;
           p.encoded = null;
@@ -140,5 +147,6 @@ export class RecordingWriter {
     await this.drain();
     if (this.timer) clearInterval(this.timer);
     this.timer = null;
+    await this.encoder?.close();
   }
 }
