@@ -1,4 +1,4 @@
-import type { Sequelize } from "sequelize";
+import type { Sequelize, Transaction } from "sequelize";
 import { recordedFrameSchema, type RecordedFrame, type Recording } from "@jogwright/shared";
 import { modelsOf } from "../../db/models.ts";
 import { listVersionArmRefs } from "../arms/service.ts";
@@ -42,6 +42,17 @@ export async function listRecordings(db: Sequelize, driverId: string | null, lim
     .Recording.scope("withNames")
     .findAll({ where: driverId ? { driverId } : {}, order: [["startedAt", "DESC"], ["id", "DESC"]], limit });
   return recordings.map((r) => r.toApi());
+}
+
+/**
+ * Of `ids`, the recordings that still exist, each held with a shared lock until `transaction` ends: a row
+ * that refers to them (a bench run's replay) can then be written, and the retention pass, which locks a
+ * recording before it deletes it and checks again for references, waits and then keeps them.
+ */
+export async function holdRecordings(db: Sequelize, transaction: Transaction, ids: readonly number[]): Promise<number[]> {
+  if (ids.length === 0) return [];
+  const rows = await modelsOf(db).Recording.findAll({ attributes: ["id"], where: { id: [...ids] }, lock: transaction.LOCK.SHARE, transaction });
+  return rows.map((r) => r.id);
 }
 
 /** One recording, naming the arm revision and tool its version drove (the replay draws that revision). */

@@ -5,7 +5,11 @@ import { listArms } from "../arms/service.ts";
 import { createProfile } from "../versions/service.ts";
 import { JogTestClient, sleep } from "../jog/jog-test-client.ts";
 import { replayInputOf, replayInputs, ReplayFormatError } from "./replay.ts";
-import { closeTrialPool } from "./trial-pool.ts";
+import { modelsOf } from "../../db/models.ts";
+import { pruneRecordings } from "../recordings/retention.ts";
+import { runTrials } from "./service.ts";
+import { closeTrialPool, runInPool } from "./trial-pool.ts";
+
 
 /**
  * Replay of real operator input (issue 10): a live session over the real WebSocket, with a stick pushed
@@ -122,5 +126,47 @@ describe("replay of a live session's input", () => {
       .expect(201);
     expect(res.body.runs[0]).toMatchObject({ trialKind: "replay", recordingId, versionId, profileId });
     expect(res.body.runs[0].trialName).toMatch(/^Replay of /);
+  });
+
+  it("a recording pruned by retention while its replay is computed: 409 in words, no run stored, the prune audited", async () => {
+    // A second, short session, referenced by nothing (the one above is referenced by its stored run).
+    const c = await JogTestClient.connect(net.wsUrl, { Cookie: engineer.cookie, Origin: net.baseUrl });
+    c.send({ type: "start", versionId });
+    await c.next((m) => m.type === "session");
+    c.input = { ...c.input, enabling: false, mode: "cartesian", axes: [0, 0, 0, 0, 0, 0] };
+    c.sendInput(); // released first: the enabling control must be pressed anew
+    await sleep(20);
+    c.input = { ...c.input, enabling: true, axes: [0.5, 0, 0, 0, 0, 0] };
+    c.stream(INPUT_PERIOD_MS);
+    await c.nextState((s) => s.qdot.some((v) => v !== 0), 3000);
+    c.stopStream();
+    c.send({ type: "stop" });
+    const ended = await c.next((m) => m.type === "ended");
+    const shortId = ended.type === "ended" ? ended.recordingId! : 0;
+    await c.close();
+    await net.jog.hub.writer.drain();
+
+    const { TrialRun, AuditEntry } = modelsOf(h.db);
+    const runsBefore = await TrialRun.count();
+    // Retention as a pass ten days from now with a 1-day age limit (every unreferenced recording goes),
+    // once the trials are resolved (the replay's frames read) and before their runs are computed.
+    let prunedIds: number[] = [];
+    const pruneFirst: typeof runInPool = async (job, signal) => {
+      if (prunedIds.length === 0) {
+        prunedIds = [-1];
+        prunedIds = (await pruneRecordings(h.db, { maxAgeDays: 1, maxBytes: null }, { now: new Date(Date.now() + 10 * 86_400_000) })).pruned.map((p) => p.id);
+      }
+      return runInPool(job, signal);
+    };
+    const request = { source: { kind: "version" as const, versionId }, trials: [{ kind: "builtin" as const, builtin: "wrist-line" as const }, { kind: "replay" as const, recordingId: shortId }] };
+    await expect(runTrials(h.db, engineer.user, request, undefined, pruneFirst)).rejects.toMatchObject({
+      status: 409,
+      code: "conflict",
+      message: `Recording ${shortId} was removed by the recording retention setting while the runs were computed, so nothing was stored. Run the trials again without it.`,
+    });
+    expect(prunedIds).toContain(shortId);
+    expect(prunedIds).not.toContain(recordingId); // referenced by the run stored above
+    expect(await TrialRun.count()).toBe(runsBefore);
+    expect(await AuditEntry.count({ where: { entity: "recording", entityId: String(shortId), action: "prune" } })).toBe(1);
   });
 });

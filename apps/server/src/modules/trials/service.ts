@@ -8,7 +8,7 @@ import { modelsOf } from "../../db/models.ts";
 import { AppError } from "../../errors.ts";
 import { recordAudit } from "../audit/service.ts";
 import { findArm, findArmForVersion } from "../arms/service.ts";
-import { findRecording, readFrames } from "../recordings/service.ts";
+import { findRecording, holdRecordings, readFrames } from "../recordings/service.ts";
 import { visibleProfile } from "../profiles/service.ts";
 import { checkParamsFitArm, findVersion } from "../versions/service.ts";
 import { builtinTrials, type BuiltinTrial, type BuiltinTrials } from "./builtin.ts";
@@ -199,16 +199,21 @@ async function resolveTrials(db: Sequelize, arm: Arm, refs: readonly TrialRef[])
  * stores every run with its series and metrics. All trials are resolved before anything runs; a run that
  * fails stores nothing of the request (the runs are written in one transaction at the end).
  */
-export async function runTrials(db: Sequelize, actor: User, request: RunRequest, signal?: AbortSignal): Promise<TrialRun[]> {
+export async function runTrials(
+  db: Sequelize, actor: User, request: RunRequest, signal?: AbortSignal, run: typeof runInPool = runInPool,
+): Promise<TrialRun[]> {
   const source = await resolveSource(db, actor, request.source);
-  return runResolved(db, actor, source, await resolveTrials(db, source.arm, request.trials), signal);
+  return runResolved(db, actor, source, await resolveTrials(db, source.arm, request.trials), signal, run);
 }
 
-async function runResolved(db: Sequelize, actor: User, source: ResolvedSource, trials: ResolvedTrial[], signal?: AbortSignal): Promise<TrialRun[]> {
+/** `run`: where each run is computed (the pool; a test puts a retention pass before it). */
+async function runResolved(
+  db: Sequelize, actor: User, source: ResolvedSource, trials: ResolvedTrial[], signal?: AbortSignal, run: typeof runInPool = runInPool,
+): Promise<TrialRun[]> {
   const results = await Promise.all(
     trials.map((t) => {
       const common = { arm: source.arm.model, params: source.params, withSeries: true };
-      return runInPool(t.replay ? { ...common, replay: t.replay } : { ...common, trial: t.definition! }, signal);
+      return run(t.replay ? { ...common, replay: t.replay } : { ...common, trial: t.definition! }, signal);
     }),
   );
   const ids = await db.transaction((transaction) => storeRuns(db, transaction, source, trials, results, actor.id));
@@ -218,6 +223,15 @@ async function runResolved(db: Sequelize, actor: User, source: ResolvedSource, t
 /** Stores finished runs (series compressed, hashed) in `transaction`; their ids in order. */
 async function storeRuns(db: Sequelize, transaction: Transaction, source: ResolvedSource, trials: ResolvedTrial[], results: RunJobResult[], actorId: string): Promise<number[]> {
   const { TrialRun } = modelsOf(db);
+  // A replayed recording may have been pruned by the retention setting while its run was computed (it was
+  // read, unreferenced, before the run): then nothing is stored, and the engineer is told why.
+  const replayed = [...new Set(trials.flatMap((t) => (t.recordingId === null ? [] : [t.recordingId])))];
+  const held = await holdRecordings(db, transaction, replayed);
+  const gone = replayed.filter((id) => !held.includes(id));
+  if (gone.length > 0) {
+    const which = gone.length === 1 ? `Recording ${gone[0]} was` : `Recordings ${gone.join(", ")} were`;
+    throw new AppError(409, "conflict", `${which} removed by the recording retention setting while the runs were computed, so nothing was stored. Run the trials again without it.`);
+  }
   const out: number[] = [];
   for (const [i, t] of trials.entries()) {
     const r = results[i]!;
