@@ -2,7 +2,6 @@ import { useMemo, useRef, useState, type ReactNode } from "react";
 import { Link } from "react-router";
 import { ArrowLeft, Save } from "lucide-react";
 import {
-  checkCeilings,
   labelForProfilePath,
   VERSION_STATE_LABELS,
   type Arm,
@@ -25,11 +24,11 @@ import { useCeilings } from "../../../lib/queries/ceilings.ts";
 import type { ProfileDetail } from "@jogwright/shared";
 import { useProfile, useSaveVersion, useSubmitVersion } from "../hooks/use-profiles.ts";
 import { WithdrawDialog } from "./withdraw-dialog.tsx";
-import { armChoiceFields, describeArmMove, fitParamsToJoints } from "../forms/arm-choice.ts";
+import { armChoiceFields, describeArmMove, draftSubmitBlockers, fitParamsToJoints } from "../forms/arm-choice.ts";
 import { armChoiceOf, isSameChoice, type ArmChoice } from "../../../lib/version-arm.ts";
 import { ArmRevisionFields } from "./arm-revision-fields.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
-import { jointKindsOf, ratedSpeedsOf } from "../../../lib/arm-joints.ts";
+import { jointKindsOf } from "../../../lib/arm-joints.ts";
 import { CompareVersions, type ComparePair } from "./compare-versions.tsx";
 import { ParamsDiffTable, ParamsTable } from "../../../components/profiles/params-table.tsx";
 import { ProfileParamsForm } from "./profile-params-form.tsx";
@@ -89,16 +88,12 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
   });
   const importedId = versionFile.outcome?.kind === "imported" ? versionFile.outcome.version.id : null;
 
-  const submitBlockers = useMemo(() => {
-    const out = new Map<number, string>();
-    if (!ceilings) return out;
-    for (const v of versions) {
-      if (v.state !== "draft") continue;
-      const violations = checkCeilings(v.params, ceilings, ratedSpeedsOf(arm));
-      if (violations.length > 0) out.set(v.id, `Above the site ceilings: ${violations.map((x) => x.message).join("; ")}`);
-    }
-    return out;
-  }, [versions, ceilings, arm]);
+  // Each draft is checked against the arm revision and tool it drives, as the server checks it on submit.
+  const armDetail = useArmDetail(arm.id);
+  const submitBlockers = useMemo(
+    () => (ceilings ? draftSubmitBlockers(versions, ceilings, arm, armDetail.data) : new Map<number, string>()),
+    [versions, ceilings, arm, armDetail.data],
+  );
 
   const onSubmit = (version: ProfileVersion, origin: "history" | "form" = "history") => {
     setSubmitOrigin(origin);

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
-import type { Arm, ArmRevision, ProfileParams, Tool } from "@jogwright/shared";
-import { armChoiceFields, defaultToolOn, describeArmMove, fitParamsToJoints, pickableTools } from "./arm-choice.ts";
+import { DEFAULT_CEILINGS, defaultProfileParams, type Arm, type ArmDetail, type ArmRevision, type ProfileParams, type ProfileVersion, type Tool } from "@jogwright/shared";
+import { armChoiceFields, defaultToolOn, describeArmMove, draftSubmitBlockers, fitParamsToJoints, pickableTools } from "./arm-choice.ts";
 import { armChoiceOf, movesArm, versionArmText } from "../../../lib/version-arm.ts";
 
 const tool = (id: number, revisionId: number, name: string, retiredAt: string | null = null): Tool => ({
@@ -78,3 +78,31 @@ describe("parameters on another revision's joints", () => {
     expect(fitParamsToJoints(params, armWith([2, 2])).jointRateCapsRadPerS).toEqual([0.5, 0.6]);
   });
 });
+
+describe("which drafts the profile page says cannot be submitted", () => {
+  // One revolute joint rated 2 rad/s on revision 1, 4 rad/s on revision 2 (the arm as listed: revision 2).
+  const joint = (maxSpeed: number) => ({ type: "revolute" as const, a: 0, alpha: 0, d: 0.1, theta: 0, min: -3, max: 3, maxSpeed });
+  const model = (maxSpeed: number) => ({ convention: "standard" as const, joints: [joint(maxSpeed)] });
+  const r1: ArmRevision = { ...revision(11, 1, []), model: model(2) };
+  const r2: ArmRevision = { ...revision(12, 2, []), model: model(4) };
+  const arm = { id: 7, slug: "one-joint", name: "One joint", model: model(4), readyPose: [0] } as unknown as Arm;
+  const detail = { arm: { ...arm, latestRevisionId: 12, revision: 2 }, revisions: [r2, r1] } as unknown as ArmDetail;
+  // A joint cap of 2.5 rad/s: above 75 % of 2 rad/s (1.5), within 75 % of 4 rad/s (3).
+  const params: ProfileParams = { ...defaultProfileParams([2]), jointRateCapsRadPerS: [2.5] };
+  const draft = (id: number, armRevisionId: number): ProfileVersion => ({
+    id, profileId: 1, number: id, parentVersionId: null, state: "draft", params, paramsSha256: "", note: "", authorId: "a", authorName: "A",
+    createdAt: "", submittedAt: null, decidedById: null, decidedByName: null, decidedAt: null, decisionComment: null, exceedsCeilings: false,
+    armRevisionId, toolId: null,
+  });
+
+  it("checks each draft against the revision it drives, as the server does on submit, not the arm's latest", () => {
+    const blockers = draftSubmitBlockers([draft(1, 11), draft(2, 12)], DEFAULT_CEILINGS, arm, detail);
+    expect(blockers.get(1)).toMatch(/^Above the site ceilings: joint 1 cap 143\.2 deg\/s exceeds 75 % of its rated 114\.6 deg\/s/);
+    expect(blockers.has(2)).toBe(false);
+  });
+
+  it("before the revisions load, checks against the arm as listed", () => {
+    expect(draftSubmitBlockers([draft(1, 11)], DEFAULT_CEILINGS, arm, undefined).size).toBe(0);
+  });
+});
+

@@ -1,4 +1,6 @@
-import { defaultProfileParams, type Arm, type ArmRevision, type ProfileParams, type Tool } from "@jogwright/shared";
+import { checkCeilings, defaultProfileParams, type Arm, type ArmDetail, type ArmRevision, type Ceilings, type ProfileParams, type ProfileVersion, type Tool } from "@jogwright/shared";
+import { armAtRevision } from "../../../lib/arm-revision.ts";
+import { ratedSpeedsOf } from "../../../lib/arm-joints.ts";
 import { drivesText, isSameChoice, type ArmChoice } from "../../../lib/version-arm.ts";
 
 /**
@@ -56,3 +58,20 @@ export function fitParamsToJoints(params: ProfileParams, arm: Arm): ProfileParam
   const defaults = defaultProfileParams(joints.map((j) => j.maxSpeed ?? 1)).jointRateCapsRadPerS;
   return { ...params, jointRateCapsRadPerS: joints.map((_, i) => params.jointRateCapsRadPerS[i] ?? defaults[i]!) };
 }
+
+/**
+ * Why each draft cannot be submitted (id → sentence), checked as the server checks a submission: against
+ * the rated speeds of the arm revision and tool the draft drives, not the arm's latest revision. `detail`
+ * undefined (not loaded yet): the arm as listed.
+ */
+export function draftSubmitBlockers(versions: readonly ProfileVersion[], ceilings: Ceilings, arm: Arm, detail: ArmDetail | undefined): Map<number, string> {
+  const out = new Map<number, string>();
+  for (const v of versions) {
+    if (v.state !== "draft") continue;
+    const driven = armAtRevision(arm, detail, v.armRevisionId, v.toolId);
+    const violations = checkCeilings(v.params, ceilings, ratedSpeedsOf(driven));
+    if (violations.length > 0) out.set(v.id, `Above the site ceilings: ${violations.map((x) => x.message).join("; ")}`);
+  }
+  return out;
+}
+
