@@ -88,9 +88,13 @@ export class RecordingWriter {
     return this.pending.has(recordingId);
   }
 
-  /** Marks the recording ended; written after its remaining frames, by the next flush (or flushNow). */
+  /**
+   * Marks the recording ended and flushes at once: its last frames and its end are written now, not up to
+   * a flush interval later, so a replay opened right after the session sees it whole and ended.
+   */
   end(recordingId: number, endedAt: Date, reason: string, summary: object): void {
     this.entry(recordingId).end = { endedAt, reason, summary };
+    void this.flush();
   }
 
   /** One flush at a time; a call during a flush waits for it and then flushes again. */

@@ -2,7 +2,7 @@ import { useMemo } from "react";
 import { useSearchParams } from "react-router";
 import { useQuery } from "@tanstack/react-query";
 import type { ColumnDef } from "@tanstack/react-table";
-import { ArrowLeft, Play } from "lucide-react";
+import { ArrowLeft, Play, RefreshCw } from "lucide-react";
 import { DEG_PER_RAD, label, type Arm, type Recording, type RecordingSummary } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
@@ -163,7 +163,7 @@ function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () =
                   revision <span className="num">{recording.armRevision}</span> with {recording.toolName ?? "the model's own tool"}
                 </span>
               ) : null}
-              , {recording.endedAt ? `${durationText(recording)} long` : "still being recorded"}. Scrub the timeline, click a mark to go to that stop, guard or limit, or
+              , {recording.endedAt ? `${durationText(recording)} long` : "still being recorded: these are its frames up to when you opened it"}. Scrub the timeline, click a mark to go to that stop, guard or limit, or
               play it at a chosen speed.
             </>
           ) : undefined
@@ -171,6 +171,11 @@ function ReplayView({ recordingId, onBack }: { recordingId: number; onBack: () =
         actions={
           <>
             <ExportLinks base={`/api/recordings/${recordingId}`} what={`recording ${recordingId}`} />
+            {recording && !recording.endedAt ? (
+              <Button variant="secondary" onClick={() => void detail.refetch()} disabled={detail.isFetching}>
+                <RefreshCw aria-hidden className="size-4" /> Load the latest frames
+              </Button>
+            ) : null}
             <Button variant="ghost" onClick={onBack}>
               <ArrowLeft aria-hidden className="size-4" /> All recordings
             </Button>
