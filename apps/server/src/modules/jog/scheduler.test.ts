@@ -1,11 +1,11 @@
 import { performance } from "node:perf_hooks";
 import { afterEach, describe, expect, it, vi } from "vitest";
-import { MIN_FRAME_GAP_MS, TickScheduler, type ScheduledClient } from "./scheduler.ts";
+import { FRAME_BURST, MAX_FRAMES_PER_S, TickScheduler, type ScheduledClient } from "./scheduler.ts";
 
 /**
  * Issue 11, "Input that feels instant": a tick that applies an input which changes the commanded motion
- * gets its frame at the same wake, not at the next slot of the 60 Hz frame grid; never more than 120
- * frames/s. The scheduler's clock is stubbed, so these are exact and do not depend on the machine's load.
+ * gets its frame at the same wake, not at the next slot of the 60 Hz frame grid nor after a gap since the
+ * last frame; never more than 120 frames/s (a burst of FRAME_BURST on top, spread evenly under a flood). The scheduler's clock is stubbed, so these are exact and do not depend on the machine's load.
  */
 let clock = 0;
 afterEach(() => vi.restoreAllMocks());
@@ -52,14 +52,37 @@ describe("frames after a changed input", () => {
     expect(client.frames.at(-1)).toBe(clock);
   });
 
-  it("a change soon after a frame waits only for the 8.33 ms gap, not for the grid", () => {
+  it("a change soon after a frame gets its frame at once too, and the grid then runs from that frame", () => {
     clock = 1000;
     vi.spyOn(performance, "now").mockImplementation(() => clock);
     const scheduler = new TickScheduler();
     const client = fakeClient(new Set([37])); // 3 ms after the grid frame at 1034
     scheduler.add(client);
-    runFor(scheduler, 45);
-    expect(client.frames).toContain(1043); // the first wake ≥ 1034 + 8.33, not the grid's 1051
+    runFor(scheduler, 80);
+    const at = client.frames.indexOf(1037);
+    expect(at).toBeGreaterThan(0);
+    expect(client.frames[at - 1]).toBe(1034);
+    // The next frames come a frame period after the input's frame (1053.7 → the wake at 1054), not at 1051.
+    expect(client.frames[at + 1]).toBe(1054);
+    expect(client.frames).not.toContain(1051);
+  });
+
+  it("inputs at 60 to 120 Hz get their frame at once, with no grid frame between them", () => {
+    for (const hz of [60, 90, 120]) {
+      clock = 1000;
+      vi.spyOn(performance, "now").mockImplementation(() => clock);
+      const scheduler = new TickScheduler();
+      const changes = new Set(Array.from({ length: hz }, (_, i) => 1 + Math.round((i * 1000) / hz)));
+      const client = fakeClient(changes);
+      scheduler.add(client);
+      runFor(scheduler, 1000);
+      const changeTimes = [...changes].map((tick) => 1000 + tick);
+      // Each input's frame at its own wake.
+      for (const t of changeTimes) expect(client.frames).toContain(t);
+      // Between two inputs (at most 16.7 ms apart) the grid sends nothing; before the first, it may.
+      expect(client.frames.filter((t) => t > changeTimes[0]!).length).toBe(changeTimes.length - 1);
+      vi.restoreAllMocks();
+    }
   });
 
   it("without a change, frames follow the 60 Hz grid only", () => {
@@ -73,16 +96,22 @@ describe("frames after a changed input", () => {
     expect(client.frames.length).toBeLessThanOrEqual(60);
   });
 
-  it("a change at every tick still gives at most 120 frames per second, never two within 8.33 ms", () => {
+  it("a change at every tick still gives at most 120 frames/s, spread evenly", () => {
     clock = 1000;
     vi.spyOn(performance, "now").mockImplementation(() => clock);
     const scheduler = new TickScheduler();
-    const client = fakeClient(new Set(Array.from({ length: 2000 }, (_, i) => i + 1)));
+    const client = fakeClient(new Set(Array.from({ length: 3000 }, (_, i) => i + 1)));
     scheduler.add(client);
-    runFor(scheduler, 1000);
-    expect(client.frames.length).toBeLessThanOrEqual(120);
-    expect(client.frames.length).toBeGreaterThan(100);
-    const gaps = client.frames.slice(1).map((t, i) => t - client.frames[i]!);
-    expect(Math.min(...gaps)).toBeGreaterThanOrEqual(MIN_FRAME_GAP_MS);
+    runFor(scheduler, 2500);
+    // Every window of one second, starting at any frame, holds at most 120 frames plus the burst; a second
+    // after the first holds 120 at most.
+    const f = client.frames;
+    for (let i = 0; i < f.length; i++) expect(f.filter((t) => t >= f[i]! && t < f[i]! + 1000).length).toBeLessThanOrEqual(MAX_FRAMES_PER_S + FRAME_BURST);
+    expect(f.filter((t) => t >= 2000 && t < 3000).length).toBeLessThanOrEqual(MAX_FRAMES_PER_S);
+    expect(f.filter((t) => t >= 2000 && t < 3000).length).toBeGreaterThanOrEqual(MAX_FRAMES_PER_S - 1);
+    // Spread evenly, not spent at the start of a second: after the first burst, no gap longer than the
+    // refill period rounded up to the next tick wake.
+    const gaps = f.slice(FRAME_BURST + 1).map((t, i) => t - f[i + FRAME_BURST]!);
+    expect(Math.max(...gaps)).toBeLessThanOrEqual(Math.ceil(1000 / MAX_FRAMES_PER_S));
   });
 });

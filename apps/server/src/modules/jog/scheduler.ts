@@ -41,15 +41,20 @@ interface ClientSchedule {
   f0: number;
   frameIndex: number;
   nextFrameMs: number;
-  /** When the last frame was built (−Infinity before the first). */
-  lastFrameMs: number;
+  /** Frames the client may still get at once (a token bucket: FRAME_BURST at most, refilled at MAX_FRAMES_PER_S). */
+  frameTokens: number;
+  tokensAtMs: number;
 }
 
 /**
- * Shortest gap between two frames of one client [ms]: at most 120 frames/s, whether from the frame grid or
- * sent at once after an input that changed the commanded motion (issue 11).
+ * Frames per second one client gets at most (issue 11: "at most 120 frames/s per client"), whether from the
+ * frame grid or sent at once after an input that changed the commanded motion: a token bucket refilled at
+ * this rate, holding FRAME_BURST frames, so a flood is spread evenly rather than spent at the start of a
+ * second, and two inputs that come close together (a 120 Hz stream's jitter) both get their frame at once.
+ * Any one second holds at most MAX_FRAMES_PER_S + FRAME_BURST frames.
  */
-export const MIN_FRAME_GAP_MS = 1000 / 120;
+export const MAX_FRAMES_PER_S = 120;
+export const FRAME_BURST = 2;
 
 /** Lateness histogram: 10 µs buckets up to 100 ms, the last bucket catches everything later. */
 export class LatenessHistogram {
@@ -116,7 +121,8 @@ export class TickScheduler {
     const f0 = now + ((this.added++ * 0.6180339887) % 1) * client.framePeriodMs;
     client.schedule = {
       t0, tickIndex: 1, nextTickMs: t0 + client.tickPeriodMs,
-      f0, frameIndex: 1, nextFrameMs: f0 + client.framePeriodMs, lastFrameMs: -Infinity,
+      f0, frameIndex: 1, nextFrameMs: f0 + client.framePeriodMs,
+      frameTokens: FRAME_BURST, tokensAtMs: now,
     };
     this.clients.push(client);
   }
@@ -171,20 +177,29 @@ export class TickScheduler {
       const client = this.clients[c]!;
       const s = client.schedule!;
       const now = performance.now();
-      // A frame is due on the grid, or at once after a tick that applied a changed command; either way never
-      // within MIN_FRAME_GAP_MS of the last one (a due frame then waits for a later tick wake).
+      // A frame is due on the grid, or at once after a tick that applied a changed command; either way only
+      // with a token in the client's bucket (else it waits for a later tick wake). A frame sent at once
+      // re-phases the grid to itself, so a stream of inputs gets a frame per input and no grid frames in
+      // between: an input never waits for a grid slot.
       const isDue = s.nextFrameMs <= now;
-      if ((isDue || client.isFrameWanted === true) && now - s.lastFrameMs >= MIN_FRAME_GAP_MS) {
+      const tokens = s.frameTokens + ((now - s.tokensAtMs) * MAX_FRAMES_PER_S) / 1000;
+      s.frameTokens = tokens < FRAME_BURST ? tokens : FRAME_BURST;
+      s.tokensAtMs = now;
+      if ((isDue || client.isFrameWanted === true) && s.frameTokens >= 1) {
         try {
           client.runFrame();
         } catch (error) {
           console.error("[jogwright] jog frame failed:", error);
         }
-        s.lastFrameMs = now;
-      }
-      if (isDue && s.lastFrameMs === now) {
-        s.frameIndex++;
-        s.nextFrameMs = s.f0 + s.frameIndex * client.framePeriodMs;
+        s.frameTokens -= 1;
+        if (isDue) {
+          s.frameIndex++;
+          s.nextFrameMs = s.f0 + s.frameIndex * client.framePeriodMs;
+        } else {
+          s.f0 = now;
+          s.frameIndex = 1;
+          s.nextFrameMs = now + client.framePeriodMs;
+        }
         if (s.nextFrameMs <= now) {
           // More than a frame behind: drop the missed frames rather than burst them.
           s.frameIndex += Math.floor((now - s.nextFrameMs) / client.framePeriodMs) + 1;
