@@ -55,17 +55,17 @@ for (let i = 0; i < CLIENTS; i++) {
   const idx = i;
   frameCounts.push(0);
   let matched = -1;
-  c.onMessage = (msg, at) => {
-    if (msg.type !== "state") return;
+  // Lean: state frames are not parsed, only their lastInputSeq read (jog-test-client.ts says why).
+  c.onStateSeq = (lastInputSeq, at) => {
     if (measuring) frameCounts[idx]!++;
-    for (let s = matched + 1; s <= msg.lastInputSeq; s++) {
+    for (let s = matched + 1; s <= lastInputSeq; s++) {
       const sent = c.sentAt.get(s);
       if (sent !== undefined) {
         if (measuring) latencies.push(at - sent);
         c.sentAt.delete(s);
       }
     }
-    if (msg.lastInputSeq > matched) matched = msg.lastInputSeq;
+    if (lastInputSeq > matched) matched = lastInputSeq;
   };
   c.send({ type: "start", versionId: ready.versionId });
   await c.next((m) => m.type === "session" || m.type === "error");

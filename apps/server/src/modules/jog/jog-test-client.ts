@@ -24,9 +24,25 @@ export class JogTestClient {
   /** Send times of input seqs (client clock, ms). */
   readonly sentAt = new Map<number, number>();
 
+  /**
+   * Lean mode (the load benchmark): a state frame is neither parsed nor checked nor kept; only its
+   * lastInputSeq (the frame's last fields, as the server writes them) goes to onStateSeq. Parsing and
+   * checking every frame of 50 sessions took a third of a core in the client process, CPU the server then
+   * lacked on the 2-core machine and queueing that counted as latency.
+   */
+  onStateSeq: ((lastInputSeq: number, at: number) => void) | null = null;
+
   private constructor(readonly ws: WebSocket) {
     ws.on("message", (data) => {
       const at = performance.now();
+      if (this.onStateSeq) {
+        const text = data.toString();
+        if (text.startsWith('{"type":"state"')) {
+          const i = text.lastIndexOf('"lastInputSeq":');
+          this.onStateSeq(i < 0 ? -1 : Number.parseInt(text.slice(i + 15), 10), at);
+          return;
+        }
+      }
       let raw: unknown;
       try {
         raw = JSON.parse(data.toString());
