@@ -1,4 +1,4 @@
-import { useState } from "react";
+import { useMemo, useState } from "react";
 import { Link, useNavigate } from "react-router";
 import { ArrowLeft, Plus } from "lucide-react";
 import { createProfileSchema, defaultProfileParams, type Arm, type ProfileParams } from "@jogwright/shared";
@@ -43,9 +43,12 @@ export function NewProfilePage() {
   const revision = revisions.find((r) => r.id === pickedHere?.revisionId) ?? revisions[0];
   const toolsInService = pickableTools(revision, null);
   const tool = pickedHere && pickedHere.revisionId === revision?.id ? toolsInService.find((t) => t.id === pickedHere.toolId) : toolsInService[0];
-  const arm = listedArm ? armAtRevision(listedArm, armDetail.data, revision?.id, tool?.id) : undefined;
-  // No useMemo: the React Compiler memoizes this component (ProfileParamsForm reads its defaults once anyway).
-  const initialParams = arm ? defaultsFor(arm) : null;
+  // Memoized: the form's checks follow the arm object, and its defaults are read from the arm once.
+  const arm = useMemo(
+    () => (listedArm ? armAtRevision(listedArm, armDetail.data, revision?.id, tool?.id) : undefined),
+    [listedArm, armDetail.data, revision?.id, tool?.id],
+  );
+  const initialParams = useMemo(() => (arm ? defaultsFor(arm) : null), [arm]);
   const head = headSchema.safeParse({ name, operatorId });
   const headErrors: Record<string, string> = {};
   if (!head.success) for (const issue of head.error.issues) headErrors[String(issue.path[0])] ??= issue.message;
