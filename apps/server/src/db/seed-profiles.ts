@@ -6,8 +6,8 @@ import { findCeilingsInForce, ratedJointSpeeds } from "../modules/ceilings/servi
 import { findProfileByName, insertProfile } from "../modules/profiles/service.ts";
 import { insertApproval } from "../modules/reviews/service.ts";
 import { attachBuiltinEvidence } from "../modules/trials/service.ts";
-import { findUserIdByUsername } from "../modules/users/service.ts";
-import { insertVersion, paramsSha256, setStatus } from "../modules/versions/service.ts";
+import { findUserById, findUserIdByUsername } from "../modules/users/service.ts";
+import { findVersion, flagAboveCeilings, insertVersion, paramsSha256, setStatus } from "../modules/versions/service.ts";
 
 /**
  * The demo's profiles (idempotent; a profile that exists is left alone, so locked rows are never
@@ -54,7 +54,8 @@ export async function seedDemoProfiles(db: Sequelize, cast: DemoProfileCast = DE
   if (!olena || !tomas || !emeka || !sigrid || !arm6Id || !arm7Id) return;
   const arm6 = (await findArm(db, arm6Id))!;
   const arm7 = (await findArm(db, arm7Id))!;
-  const ceilings = (await findCeilingsInForce(db)).ceilings;
+  const inForce = await findCeilingsInForce(db);
+  const ceilings = inForce.ceilings;
 
   const olenaName = cast.packProfileName;
   if (!(await findProfileByName(db, olenaName, olena))) {
@@ -85,7 +86,14 @@ export async function seedDemoProfiles(db: Sequelize, cast: DemoProfileCast = DE
       const comment = "Test-driven live through the wrist region; damping and caps are within the site ceilings.";
       // The approvals row approves and locks v1 (its triggers, migration 0014).
       const approvalId = await insertApproval(db, t, { versionId: v1Id, approverId: sigrid, comment, paramsSha256: paramsSha256(v1) });
-      if (checkCeilings(v1, ceilings, ratedJointSpeeds(arm6)).length > 0) await setStatus(db, t, v1Id, { exceedsCeilings: true });
+      const violations = checkCeilings(v1, ceilings, ratedJointSpeeds(arm6));
+      if (violations.length > 0) {
+        // Flagged as a ceilings change flags an approved version: the flag, a row in its flag history and an
+        // audit entry (the safety officer's, as the approver who would re-confirm it).
+        const officer = (await findUserById(db, sigrid, t))!;
+        const summary = `"${olenaName}" v1 is above the site ceilings in force (revision ${inForce.revision}) when seeded: ${violations.map((v) => v.message).join("; ")}`;
+        await flagAboveCeilings(db, t, officer, (await findVersion(db, v1Id, t))!, inForce.revision, summary);
+      }
       await recordAudit(db, t, { actorId: emeka, entity: "version", entityId: v1Id, action: "save", summary: `saved "${olenaName}" v1 (demo seed)`, after: { id: v1Id, paramsSha256: paramsSha256(v1) } });
       await recordAudit(db, t, { actorId: sigrid, entity: "approval", entityId: approvalId, action: "create", summary: `approved "${olenaName}" v1 (demo seed): ${comment}`, after: { versionId: v1Id, paramsSha256: paramsSha256(v1) } });
       const v2Id = await insertVersion(db, t, { profileId, number: 2, parentVersionId: v1Id, params: v2, note: "More damping near the wrist singularity; slower tool for cover bolts.", authorId: emeka });

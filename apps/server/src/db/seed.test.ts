@@ -3,7 +3,8 @@ import { QueryTypes } from "sequelize";
 import { BUILTIN_TRIAL_KINDS, checkCeilings, type ProfileParams } from "@jogwright/shared";
 import { call, createHarness, freshUser, signIn, type Harness } from "../test/harness.ts";
 import { findArm } from "../modules/arms/service.ts";
-import { findCeilingsInForce, ratedJointSpeeds } from "../modules/ceilings/service.ts";
+import { findCeilingsInForce, ratedJointSpeeds, updateCeilings } from "../modules/ceilings/service.ts";
+import { modelsOf } from "./models.ts";
 import { paramsSha256 } from "../modules/versions/service.ts";
 import { seedDemo } from "./seed.ts";
 import { DEMO_PROFILE_CAST, seedDemoProfiles, type DemoProfileCast } from "./seed-profiles.ts";
@@ -49,6 +50,27 @@ async function versionRows(profileName: string, operatorUsername: string): Promi
 
 const paramsOf = (row: VersionRow): ProfileParams => (typeof row.params === "string" ? JSON.parse(row.params) : row.params);
 
+/** New accounts and profile names for the demo's profiles, seeded: what it checks no other test can have moved on. */
+async function seedFreshCast() {
+  const people = {
+    packOperator: await freshUser(h, ["operator"]),
+    coverOperator: await freshUser(h, ["operator"]),
+    engineer: await freshUser(h, ["engineer"]),
+    safetyOfficer: await freshUser(h, ["safety_officer"]),
+  };
+  const suffix = people.packOperator.username;
+  const cast: DemoProfileCast = {
+    packOperator: people.packOperator.username,
+    coverOperator: people.coverOperator.username,
+    engineer: people.engineer.username,
+    safetyOfficer: people.safetyOfficer.username,
+    packProfileName: `Pack opening ${suffix}`,
+    coverProfileName: `Cover plates ${suffix}`,
+  };
+  await seedDemoProfiles(h.db, cast);
+  return { cast, people };
+}
+
 describe("the demo seed", () => {
   it("runs again without error and without duplicating anything; the demo's approved version stays locked with its approval", async () => {
     const count = async () =>
@@ -77,22 +99,7 @@ describe("the demo seed", () => {
     let cast: DemoProfileCast;
     let people: Record<"packOperator" | "coverOperator" | "engineer" | "safetyOfficer", Awaited<ReturnType<typeof freshUser>>>;
     beforeAll(async () => {
-      people = {
-        packOperator: await freshUser(h, ["operator"]),
-        coverOperator: await freshUser(h, ["operator"]),
-        engineer: await freshUser(h, ["engineer"]),
-        safetyOfficer: await freshUser(h, ["safety_officer"]),
-      };
-      const suffix = people.packOperator.username;
-      cast = {
-        packOperator: people.packOperator.username,
-        coverOperator: people.coverOperator.username,
-        engineer: people.engineer.username,
-        safetyOfficer: people.safetyOfficer.username,
-        packProfileName: `Pack opening ${suffix}`,
-        coverProfileName: `Cover plates ${suffix}`,
-      };
-      await seedDemoProfiles(h.db, cast);
+      ({ cast, people } = await seedFreshCast());
     });
 
     it("version 1 is locked: locked_at set to its approval's time, one approvals row by the safety officer, and every hash equals the SHA-256 of the stored parameters", async () => {
@@ -153,6 +160,23 @@ describe("the demo seed", () => {
       await seedDemoProfiles(h.db, cast);
       const after = [...(await versionRows(cast.packProfileName, cast.packOperator)), ...(await versionRows(cast.coverProfileName, cast.coverOperator))];
       expect(after).toEqual(before);
+    });
+  });
+
+  // Last: it lowers the ceilings of this file's database.
+  describe("for a fresh cast seeded under ceilings its version 1 exceeds", () => {
+    it("flags version 1 as a ceilings change would: the flag, a row in its flag history and an audit entry", async () => {
+      const officer = await freshUser(h, ["safety_officer"]);
+      const current = await findCeilingsInForce(h.db);
+      await updateCeilings(h.ctx, officer.user, { revision: current.revision, ceilings: { ...current.ceilings, tcpLinearMaxMPerS: 0.2 }, note: "seed test: lowered" });
+      const { cast } = await seedFreshCast();
+      const [v1] = await versionRows(cast.packProfileName, cast.packOperator);
+      expect(v1).toMatchObject({ state: "approved", exceeds_ceilings: 1 });
+      const { CeilingEvent, AuditEntry } = modelsOf(h.db);
+      const events = await CeilingEvent.findAll({ where: { versionId: v1!.id } });
+      expect(events.map((e) => [e.kind, e.ceilingsRevision])).toEqual([["flag", current.revision + 1]]);
+      expect(events[0]!.comment).toContain("TCP linear cap 250 mm/s exceeds the site ceiling of 200 mm/s");
+      expect(await AuditEntry.count({ where: { entity: "version", entityId: String(v1!.id), action: "flag" } })).toBe(1);
     });
   });
 });
