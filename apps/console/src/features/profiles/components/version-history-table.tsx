@@ -61,7 +61,8 @@ export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canRe
                 ) : (
                   <>
                     <span className="whitespace-nowrap">Revision {v.armRevision}</span>{" "}
-                    <span className="block text-xs whitespace-nowrap text-ink-300">{v.toolName ?? "the model's own tool"}</span>
+                    {/* Long tool names wrap (the table fits 1440 px instead of scrolling sideways). */}
+                    <span className="block max-w-40 text-xs break-words text-ink-300">{v.toolName ?? "the model's own tool"}</span>
                     {parent && movesArm(v, parent) ? (
                       <>
                         {" "}
@@ -71,7 +72,7 @@ export function VersionHistoryTable({ versions, submitBlockers, canSubmit, canRe
                   </>
                 )}
               </td>
-              <td className="px-3 py-2 whitespace-nowrap">{v.authorName}</td>
+              <td className="max-w-40 min-w-24 px-3 py-2 break-words">{v.authorName}</td>
               <td className="num px-3 py-2 whitespace-nowrap text-ink-300">{formatDateTime(v.createdAt)}</td>
               <td className="max-w-72 min-w-32 px-3 py-2 text-ink-300">{v.note || <span className="text-ink-400">—</span>}</td>
               <td className="px-3 py-2">
