@@ -13,6 +13,7 @@ import { AppError } from "../../errors.ts";
 import { drivingFacts, loadVersionForDriving } from "../driving/service.ts";
 import { accountChangesFor, type AccountChange, type AccountChanges } from "../users/account-changes.ts";
 import { findUserById } from "../users/service.ts";
+import { RecheckRota } from "./recheck-rota.ts";
 import {
   END_MESSAGES, jogHubFor, type EndReason, type FrameSink, type JogHub, type LiveJogSession, type StartAdmission,
 } from "./hub.ts";
@@ -56,6 +57,8 @@ const MAX_BUFFERED_BYTES = 512 * 1024;
  * is still driveable. Changes made through the API reach it at once instead.
  */
 export const REVALIDATE_INTERVAL_MS = 10_000;
+/** The interval's turns: one every 100 ms, so 50 connections' re-checks come one at a time (recheck-rota.ts). */
+const RECHECK_TURNS = 100;
 /** Longest wait for a session's end (its controlled stop and `ended` frame) before the socket closes anyway. */
 const END_BEFORE_CLOSE_MAX_MS = 3000;
 /** Who may watch live sessions; of them, safety officers may also stop the session they watch. */
@@ -590,6 +593,8 @@ export function attachJogSockets(server: Server, ctx: AppContext): JogSockets {
   const connections = new Set<JogConnection>();
   const accounts = accountChangesFor(ctx);
   const wss = new WebSocketServer({ noServer: true, maxPayload: HARD_MAX_PAYLOAD_BYTES, perMessageDeflate: false });
+  // Each connection is re-checked once every REVALIDATE_INTERVAL_MS, at its own turn (recheck-rota.ts).
+  const rota = new RecheckRota<JogConnection>(RECHECK_TURNS);
 
   const onUpgrade = (req: IncomingMessage, socket: Duplex, head: Buffer) => {
     const path = (req.url ?? "").split("?")[0];
@@ -616,7 +621,7 @@ export function attachJogSockets(server: Server, ctx: AppContext): JogSockets {
         const user = resolved.account;
         const sessionId = readSessionId(req.headers.cookie)!;
         wss.handleUpgrade(req, socket, head, (ws) => {
-          new JogConnection(hub, ws, user, sessionId, accounts, serialBeforeRead, connections);
+          rota.add(new JogConnection(hub, ws, user, sessionId, accounts, serialBeforeRead, connections));
         });
       },
       (error: unknown) => {
@@ -638,11 +643,14 @@ export function attachJogSockets(server: Server, ctx: AppContext): JogSockets {
     for (const c of [...connections]) c.onAccountChange(change);
   });
 
-  const recheck = () =>
-    Promise.all(
-      [...connections].map((c) => c.recheck().catch((error: unknown) => console.error("[jogwright] jog re-check failed:", (error as Error).message))),
-    ).then(() => undefined);
-  const revalidateTimer = setInterval(() => void recheck(), REVALIDATE_INTERVAL_MS);
+  const recheckOne = (c: JogConnection) => c.recheck().catch((error: unknown) => console.error("[jogwright] jog re-check failed:", (error as Error).message));
+  const recheck = () => Promise.all([...connections].map(recheckOne)).then(() => undefined);
+  const revalidateTimer = setInterval(() => {
+    for (const c of rota.next()) {
+      if (connections.has(c)) void recheckOne(c);
+      else rota.delete(c); // closed since
+    }
+  }, REVALIDATE_INTERVAL_MS / RECHECK_TURNS);
   revalidateTimer.unref();
 
   return {
