@@ -106,8 +106,33 @@ export class RecordingWriter {
     return this.flushing;
   }
 
+  private encode(batch: readonly string[]): Promise<EncodedChunk> {
+    return this.encoder ? this.encoder.encode(batch) : encodeChunk(batch);
+  }
+
   private async flushOnce(): Promise<void> {
-    for (const p of [...this.pending.values()]) {
+    const entries = [...this.pending.values()];
+    // Every recording's next chunk is encoded first, all at once: on the encoder thread they run back to
+    // back, not one round trip per recording between the database writes (50 live sessions: one at a time,
+    // a flush took longer than the flush interval and the queues grew). A failed encoding is left for the
+    // write loop below, which tries again and counts the failure.
+    for (const p of entries) {
+      if (!p.batch && p.frames.length > 0) {
+        p.batch = p.frames;
+        p.frames = [];
+      }
+    }
+    await Promise.all(
+      entries.map(async (p) => {
+        if (!p.batch || p.encoded) return;
+        try {
+          p.encoded = await this.encode(p.batch);
+        } catch {
+          // retried below
+        }
+      }),
+    );
+    for (const p of entries) {
       try {
         while (p.batch || p.frames.length > 0) {
           // A failed batch first, exactly as it was; else everything queued now. Frames pushed during the
@@ -117,7 +142,7 @@ export class RecordingWriter {
             p.frames = [];
           }
           const batch = p.batch;
-          p.encoded ??= await (this.encoder ? this.encoder.encode(batch) : encodeChunk(batch));
+          p.encoded ??= await this.encode(batch);
           await insertChunk(this.db, p.recordingId, p.nextChunk, batch.length, p.encoded);
           p.batch = null;
           p.encoded = null;
