@@ -1,6 +1,6 @@
 import type { MigrationFn } from "umzug";
 import { DataTypes, type Sequelize } from "sequelize";
-import { addForeignKey, NOW, NOW_ON_UPDATE } from "./columns.ts";
+import { addForeignKey, NOW, NOW_ON_UPDATE, refuseRowsWhen } from "./columns.ts";
 
 /**
  * Rate profiles and their versions. A version's content is immutable from the moment it is written:
@@ -54,13 +54,7 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
         SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'profile versions are immutable: save a new version instead';
       END IF;
     END`);
-  await db.query(`
-    CREATE TRIGGER profile_versions_before_delete BEFORE DELETE ON profile_versions FOR EACH ROW
-    BEGIN
-      IF OLD.locked_at IS NOT NULL THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'profile version is locked (approved): it cannot be deleted';
-      END IF;
-    END`);
+  await refuseRowsWhen(qi, "profile_versions_before_delete", "BEFORE DELETE", "profile_versions", "OLD.locked_at IS NOT NULL", "profile version is locked (approved): it cannot be deleted");
 
   await qi.createTable("version_status", {
     version_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, primaryKey: true },

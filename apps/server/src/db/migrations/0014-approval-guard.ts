@@ -1,5 +1,6 @@
 import type { MigrationFn } from "umzug";
 import type { Sequelize } from "sequelize";
+import { refuseRowsWhen } from "./columns.ts";
 
 /**
  * An approval cannot be forged with raw SQL (issue 11, item 3).
@@ -30,6 +31,7 @@ import type { Sequelize } from "sequelize";
  * createTrigger and dropTrigger exist for PostgreSQL only.
  */
 export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
+  const qi = db.getQueryInterface();
   await db.query(`
     CREATE TRIGGER approvals_before_insert BEFORE INSERT ON approvals FOR EACH ROW
     BEGIN
@@ -58,14 +60,15 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
         SET state = 'approved', decided_by = NEW.approver_id, decided_at = NEW.approved_at, decision_comment = NEW.comment
         WHERE version_id = NEW.version_id;
     END`);
-  await db.query(`
-    CREATE TRIGGER version_status_before_insert BEFORE INSERT ON version_status FOR EACH ROW
-    BEGIN
-      IF NEW.state <> 'draft' OR NEW.submitted_at IS NOT NULL OR NEW.decided_by IS NOT NULL
-         OR NEW.decided_at IS NOT NULL OR NEW.decision_comment IS NOT NULL OR NEW.exceeds_ceilings <> 0 THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a version starts as a draft without a decision';
-      END IF;
-    END`);
+  await refuseRowsWhen(
+    qi,
+    "version_status_before_insert",
+    "BEFORE INSERT",
+    "version_status",
+    `NEW.state <> 'draft' OR NEW.submitted_at IS NOT NULL OR NEW.decided_by IS NOT NULL
+         OR NEW.decided_at IS NOT NULL OR NEW.decision_comment IS NOT NULL OR NEW.exceeds_ceilings <> 0`,
+    "a version starts as a draft without a decision",
+  );
   await db.query(`
     CREATE TRIGGER version_status_approval_guard BEFORE UPDATE ON version_status FOR EACH ROW
     BEGIN
@@ -90,14 +93,15 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
         END IF;
       END IF;
     END`);
-  await db.query(`
-    CREATE TRIGGER profile_versions_lock_guard BEFORE UPDATE ON profile_versions FOR EACH ROW
-    BEGIN
-      IF OLD.locked_at IS NULL AND NEW.locked_at IS NOT NULL
-         AND NOT EXISTS (SELECT 1 FROM approvals WHERE version_id = NEW.id) THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a version is locked only by its approval (INSERT INTO approvals)';
-      END IF;
-    END`);
+  await refuseRowsWhen(
+    qi,
+    "profile_versions_lock_guard",
+    "BEFORE UPDATE",
+    "profile_versions",
+    `OLD.locked_at IS NULL AND NEW.locked_at IS NOT NULL
+         AND NOT EXISTS (SELECT 1 FROM approvals WHERE version_id = NEW.id)`,
+    "a version is locked only by its approval (INSERT INTO approvals)",
+  );
 };
 
 export const down: MigrationFn<Sequelize> = async ({ context: db }) => {

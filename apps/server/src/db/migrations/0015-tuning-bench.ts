@@ -1,6 +1,6 @@
 import type { MigrationFn } from "umzug";
 import { DataTypes, type Sequelize } from "sequelize";
-import { addForeignKey, NOW, NOW_ON_UPDATE, refuseEveryRow } from "./columns.ts";
+import { addForeignKey, NOW, NOW_ON_UPDATE, refuseEveryRow, refuseRowsWhen } from "./columns.ts";
 
 /**
  * The tuning bench (issue 10):
@@ -86,13 +86,14 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
         SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'evidence must be a run of the same version';
       END IF;
     END`);
-  await db.query(`
-    CREATE TRIGGER version_evidence_before_delete BEFORE DELETE ON version_evidence FOR EACH ROW
-    BEGIN
-      IF (SELECT state FROM version_status WHERE version_id = OLD.version_id) <> 'draft' THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'the evidence of a submitted version never changes';
-      END IF;
-    END`);
+  await refuseRowsWhen(
+    qi,
+    "version_evidence_before_delete",
+    "BEFORE DELETE",
+    "version_evidence",
+    "(SELECT state FROM version_status WHERE version_id = OLD.version_id) <> 'draft'",
+    "the evidence of a submitted version never changes",
+  );
   await refuseEveryRow(qi, "version_evidence_before_update", "BEFORE UPDATE", "version_evidence", "evidence rows are never changed");
 };
 

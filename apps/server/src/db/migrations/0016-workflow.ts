@@ -1,6 +1,7 @@
 import type { MigrationFn } from "umzug";
 import { DataTypes, QueryTypes, type Sequelize } from "sequelize";
-import { addForeignKey, NOW, refuseEveryRow } from "./columns.ts";
+import { addForeignKey, NOW, refuseEveryRow, refuseRowsWhen } from "./columns.ts";
+import { VERSION_STATUS_BEFORE_UPDATE_BODY } from "./0008-version-status-guard.ts";
 
 /**
  * The workflow pass (issue 13, items 3 and 4):
@@ -136,13 +137,7 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
         SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a ceiling flag stays until a compliant version is approved or a safety officer re-confirms it (INSERT INTO version_ceiling_events)';
       END IF;
     END`);
-  await db.query(`
-    CREATE TRIGGER version_status_reconfirmation_insert_guard BEFORE INSERT ON version_status FOR EACH ROW
-    BEGIN
-      IF NEW.reconfirmation_id IS NOT NULL THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a version starts as a draft without a decision';
-      END IF;
-    END`);
+  await refuseRowsWhen(qi, "version_status_reconfirmation_insert_guard", "BEFORE INSERT", "version_status", "NEW.reconfirmation_id IS NOT NULL", "a version starts as a draft without a decision");
 };
 
 export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
@@ -152,21 +147,7 @@ export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
   await db.query("DROP TRIGGER IF EXISTS version_status_before_update");
   // 0008's trigger as it was.
   await db.query(`
-    CREATE TRIGGER version_status_before_update BEFORE UPDATE ON version_status FOR EACH ROW PRECEDES version_status_approval_guard
-    BEGIN
-      IF OLD.state = 'approved' AND NEW.state NOT IN ('approved', 'superseded', 'retired') THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'an approved version can only be superseded or retired';
-      END IF;
-      IF OLD.state = 'retired' AND NEW.state <> 'retired' THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a retired version stays retired';
-      END IF;
-      IF OLD.state IN ('superseded', 'rejected') AND NEW.state NOT IN (OLD.state, 'retired') THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a superseded or rejected version can only be retired';
-      END IF;
-      IF OLD.exceeds_ceilings = 1 AND NEW.exceeds_ceilings = 0 THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a ceiling flag stays until a compliant version is approved';
-      END IF;
-    END`);
+    CREATE TRIGGER version_status_before_update BEFORE UPDATE ON version_status FOR EACH ROW PRECEDES version_status_approval_guard${VERSION_STATUS_BEFORE_UPDATE_BODY}`);
   await db.query("DROP TRIGGER IF EXISTS version_ceiling_events_after_insert");
   await db.query("DROP TRIGGER IF EXISTS version_ceiling_events_before_insert");
   await db.query("DROP TRIGGER IF EXISTS version_ceiling_events_before_delete");

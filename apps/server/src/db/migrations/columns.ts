@@ -56,3 +56,26 @@ export async function refuseEveryRow(
     CREATE TRIGGER ${name} ${event} ON ${table} FOR EACH ROW
       SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = '${message.replaceAll("'", "''")}'`);
 }
+
+/**
+ * A trigger that refuses a row of one event on a table when `condition` holds (SQLSTATE 45000 and
+ * `message`): one IF in a BEGIN … END block. For a rule on one row that needs no variables; a trigger
+ * with more than one rule stays written out in its migration. A condition over several lines carries the
+ * indentation its continuation lines are stored with. Raw SQL: queryInterface cannot create triggers.
+ */
+export async function refuseRowsWhen(
+  queryInterface: QueryInterface,
+  name: string,
+  event: "BEFORE INSERT" | "BEFORE UPDATE" | "BEFORE DELETE",
+  table: string,
+  condition: string,
+  message: string,
+): Promise<void> {
+  await queryInterface.sequelize.query(`
+    CREATE TRIGGER ${name} ${event} ON ${table} FOR EACH ROW
+    BEGIN
+      IF ${condition} THEN
+        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = '${message.replaceAll("'", "''")}';
+      END IF;
+    END`);
+}
