@@ -1,6 +1,7 @@
 import { approveVersionSchema, numericIdParamSchema, rejectVersionSchema, submitVersionSchema } from "@jogwright/shared";
 import { ApiRouter, requireAccount } from "../../http/api-router.ts";
-import { parseBody, parseParams } from "../../http/validate.ts";
+import { parseParams } from "../../http/validate.ts";
+import { versionMove } from "../../http/version-move.ts";
 import type { AppContext } from "../../context.ts";
 import * as service from "./service.ts";
 
@@ -11,22 +12,10 @@ export function reviewsRouters(ctx: AppContext): ApiRouter[] {
       const { id } = parseParams(req, numericIdParamSchema);
       res.json(await service.getVersionDetail(ctx.db, requireAccount(res), id));
     })
-    .add("post", "/:id/submit", ["engineer"], async (req, res) => {
-      const { id } = parseParams(req, numericIdParamSchema);
-      // The body is optional: no body submits with the evidence the site's rule asks for.
-      const input = req.body === undefined ? submitVersionSchema.parse({}) : parseBody(req, submitVersionSchema);
-      res.json({ version: await service.submitVersion(ctx, requireAccount(res), id, input) });
-    })
-    .add("post", "/:id/approve", ["safety_officer"], async (req, res) => {
-      const { id } = parseParams(req, numericIdParamSchema);
-      const input = parseBody(req, approveVersionSchema);
-      res.json({ version: await service.approveVersion(ctx, requireAccount(res), id, input) });
-    })
-    .add("post", "/:id/reject", ["safety_officer"], async (req, res) => {
-      const { id } = parseParams(req, numericIdParamSchema);
-      const input = parseBody(req, rejectVersionSchema);
-      res.json({ version: await service.rejectVersion(ctx, requireAccount(res), id, input) });
-    });
+    // The body is optional: no body submits with the evidence the site's rule asks for.
+    .add("post", "/:id/submit", ["engineer"], versionMove(ctx, submitVersionSchema, service.submitVersion, { isBodyOptional: true }))
+    .add("post", "/:id/approve", ["safety_officer"], versionMove(ctx, approveVersionSchema, service.approveVersion))
+    .add("post", "/:id/reject", ["safety_officer"], versionMove(ctx, rejectVersionSchema, service.rejectVersion));
   const queue = new ApiRouter("/api/reviews").add("get", "/", ["safety_officer"], async (_req, res) => {
     res.json({ versions: await service.listReviewQueue(ctx.db) });
   });

@@ -1,8 +1,10 @@
 import { createProfileSchema, numericIdParamSchema, retireVersionSchema, saveVersionSchema, withdrawVersionSchema } from "@jogwright/shared";
 import { ApiRouter, requireAccount } from "../../http/api-router.ts";
 import { parseBody, parseParams } from "../../http/validate.ts";
+import { versionMove } from "../../http/version-move.ts";
 import type { AppContext } from "../../context.ts";
 import * as service from "./service.ts";
+
 
 /**
  * Saving: a new profile with its version 1, a new version of a profile; retiring a version; the author
@@ -21,16 +23,8 @@ export function versionsRouters(ctx: AppContext): ApiRouter[] {
       res.status(201).json({ version: await service.saveVersion(ctx, requireAccount(res), id, input) });
     });
   const retire = new ApiRouter("/api/versions")
-    .add("post", "/:id/retire", ["safety_officer"], async (req, res) => {
-      const { id } = parseParams(req, numericIdParamSchema);
-      const input = parseBody(req, retireVersionSchema);
-      res.json({ version: await service.retireVersion(ctx, requireAccount(res), id, input) });
-    })
+    .add("post", "/:id/retire", ["safety_officer"], versionMove(ctx, retireVersionSchema, service.retireVersion))
     // The author takes a submission back (the service refuses anyone else: 403).
-    .add("post", "/:id/withdraw", ["engineer"], async (req, res) => {
-      const { id } = parseParams(req, numericIdParamSchema);
-      const input = req.body === undefined ? withdrawVersionSchema.parse({}) : parseBody(req, withdrawVersionSchema);
-      res.json({ version: await service.withdrawVersion(ctx, requireAccount(res), id, input) });
-    });
+    .add("post", "/:id/withdraw", ["engineer"], versionMove(ctx, withdrawVersionSchema, service.withdrawVersion, { isBodyOptional: true }));
   return [saves, retire];
 }
