@@ -5,6 +5,7 @@ import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import WebSocket from "ws";
 import { apiErrorSchema, driveVersionsResponseSchema, healthSchema, JOG_CLOSE_CODES } from "@jogwright/shared";
+import { freePort } from "../test/free-port.ts";
 import { call, createHarness, DEMO_BY_ROLE, listenHarness, signIn, type Harness } from "../test/harness.ts";
 import { JogTestClient, sleep } from "../modules/jog/jog-test-client.ts";
 import { isDatabaseUnavailable } from "./connection.ts";
@@ -36,15 +37,6 @@ async function startSilentServer(): Promise<{ port: number; close(): Promise<voi
       await new Promise((r) => server.close(r));
     },
   };
-}
-
-/** A loopback port nothing listens on: bound, read, released (connections to it are refused). */
-async function closedPort(): Promise<number> {
-  const server = net.createServer();
-  await new Promise<void>((resolve) => server.listen(0, "127.0.0.1", resolve));
-  const { port } = server.address() as AddressInfo;
-  await new Promise((r) => server.close(r));
-  return port;
 }
 
 /**
@@ -138,7 +130,7 @@ function upgradeOutcome(wsUrl: string, headers: Record<string, string>): Promise
 
 const outages = [
   { name: "hangs (accepts connections, never answers)", start: startSilentServer },
-  { name: "refuses connections (nothing listens)", start: async () => ({ port: await closedPort(), close: async () => undefined }) },
+  { name: "refuses connections (nothing listens)", start: async () => ({ port: await freePort(), close: async () => undefined }) },
 ];
 
 describe.each(outages)("when the database $name", ({ start }) => {

@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { SINGLE_LINE_MESSAGE, type Arm } from "@jogwright/shared";
 import { call, createHarness, DEMO_BY_ROLE, freshUser, signIn, type Harness } from "../test/harness.ts";
-import { compliantParams, freshTeam, sixAxisArm, type Team } from "../test/profiles-fixture.ts";
+import { closeWithTeam, compliantParams, withTeam, type Team } from "../test/profiles-fixture.ts";
 
 /**
  * Names are shown on one line in lists, the audit log and mail subjects: a CR/LF (or any control
@@ -13,14 +13,10 @@ let team: Team;
 let arm: Arm;
 let admin: string;
 beforeAll(async () => {
-  h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
-  team = await freshTeam(h);
-  arm = await sixAxisArm(h);
+  ({ h, team, arm } = await withTeam(createHarness({ SIGN_IN_MAX_FAILURES: "1000" })));
   admin = await signIn(h, DEMO_BY_ROLE.admin);
 });
-afterAll(async () => {
-  await h.close();
-});
+afterAll(() => closeWithTeam(h, team));
 
 const countRows = async (sql: string, replacements: unknown[]) =>
   ((await h.db.query<{ n: number }>(sql, { replacements, type: QueryTypes.SELECT }))[0]!.n as number);

@@ -6,7 +6,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { freePort } from "../test/free-port.ts";
 import { mailMessageSchema, type Arm } from "@jogwright/shared";
 import { call, createHarness, createMailHarness, DEMO_BY_ROLE, signIn, type Harness } from "../test/harness.ts";
-import { createProfile, freshTeam, sixAxisArm, type Team } from "../test/profiles-fixture.ts";
+import { closeWithTeam, createProfile, withTeam, type Team } from "../test/profiles-fixture.ts";
 import { startFakeSmtp, type FakeSmtp } from "./fake-smtp.ts";
 import { listActiveWithRole } from "../modules/users/service.ts";
 
@@ -15,14 +15,10 @@ let team: Team;
 let arm: Arm;
 let admin: string;
 beforeAll(async () => {
-  h = await createMailHarness();
-  team = await freshTeam(h);
-  arm = await sixAxisArm(h);
+  ({ h, team, arm } = await withTeam(await createMailHarness()));
   admin = await signIn(h, DEMO_BY_ROLE.admin);
 });
-afterAll(async () => {
-  await h.close();
-});
+afterAll(() => closeWithTeam(h, team));
 
 const mailAbout = (smtp: FakeSmtp, name: string, subject: string) => smtp.messages.filter((m) => m.subject.includes(name) && m.subject.includes(subject));
 

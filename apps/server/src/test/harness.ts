@@ -76,6 +76,12 @@ export async function signIn(h: Harness, username: string, password = DEMO_PASSW
   return cookie.split(";")[0]!;
 }
 
+/** A harness for a file that signs in often (sign-in failures relaxed) and a session of the demo account `username`. */
+export async function harnessSignedInAs(username: string): Promise<{ h: Harness; cookie: string }> {
+  const h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
+  return { h, cookie: await signIn(h, username) };
+}
+
 let counter = 0;
 /** A fresh account for a test, so tests never depend on each other's changes to the demo accounts. */
 export async function freshUser(h: Harness, roles: Role[], password = "fresh-password-1") {

@@ -1,4 +1,4 @@
-import { QueryTypes } from "sequelize";
+import { QueryTypes, type Sequelize } from "sequelize";
 import { defaultProfileParams, type Arm, type ProfileParams, type Role } from "@jogwright/shared";
 import { call, freshUser, signIn, type Harness } from "./harness.ts";
 
@@ -39,6 +39,22 @@ let cachedCookie: string | null = null;
 async function adminlessCookie(h: Harness): Promise<string> {
   cachedCookie ??= await signIn(h, "olena");
   return cachedCookie;
+}
+
+/**
+ * The cast most API test files start with, on the harness they made (createHarness, createMailHarness):
+ * a fresh team and the demo six-axis arm. `closeWithTeam` ends such a file.
+ */
+export async function withTeam<H extends Harness>(h: H): Promise<{ h: H; team: Team; arm: Arm }> {
+  const team = await freshTeam(h);
+  return { h, team, arm: await sixAxisArm(h) };
+}
+
+/** The end of a file set up by `withTeam`: its team retired, then the owner connection (if it opened one) and the harness closed. */
+export async function closeWithTeam(h: Harness | undefined, team: Team | undefined, owner?: Sequelize): Promise<void> {
+  if (h) await retireTeam(h, team);
+  await owner?.close();
+  await h?.close();
 }
 
 /** Parameters within the default ceilings (half of each rated joint speed, 250 mm/s TCP). */

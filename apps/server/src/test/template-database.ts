@@ -56,6 +56,17 @@ function asMigrationAccount<T>(migrationBase: string, work: (c: Connection) => P
   return withConnection(migrationBase, false, work);
 }
 
+/** The template's tables or triggers that `namesSql` lists (by `name`, in its order), each with its SHOW CREATE row. */
+async function showCreateEach(c: Connection, template: string, kind: "TABLE" | "TRIGGER", namesSql: string): Promise<{ name: string; row: Record<string, string> }[]> {
+  const names = (await c.query(namesSql, [template])) as { name: string }[];
+  const described = [];
+  for (const { name } of names) {
+    const [row] = (await c.query(`SHOW CREATE ${kind} ${q(template)}.${q(name)}`)) as Record<string, string>[];
+    described.push({ name, row: row! });
+  }
+  return described;
+}
+
 /** Makes `target` a copy of the template: tables, rows, triggers, then the runtime account's grants. */
 export async function cloneTemplate(baseUrl: string, migrationBase: string, target: string): Promise<void> {
   const template = templateDatabase(baseUrl);
@@ -63,25 +74,27 @@ export async function cloneTemplate(baseUrl: string, migrationBase: string, targ
   await asMigrationAccount(migrationBase, async (c) => {
     await c.query(`USE ${q(target)}`);
     await c.query("SET SESSION foreign_key_checks = 0");
-    const tables = (await c.query(
+    const tables = await showCreateEach(
+      c,
+      template,
+      "TABLE",
       "SELECT table_name AS name FROM information_schema.tables WHERE table_schema = ? AND table_type = 'BASE TABLE' ORDER BY table_name",
-      [template],
-    )) as { name: string }[];
-    for (const { name } of tables) {
-      const [row] = (await c.query(`SHOW CREATE TABLE ${q(template)}.${q(name)}`)) as Record<string, string>[];
-      await c.query(row!["Create Table"]!);
+    );
+    for (const { name, row } of tables) {
+      await c.query(row["Create Table"]!);
       await c.query(`INSERT INTO ${q(name)} SELECT * FROM ${q(template)}.${q(name)}`);
     }
     // Triggers last (the rows above must not fire them), in their firing order per table, timing and event,
     // so that created one after another they keep it without their PRECEDES/FOLLOWS clauses.
-    const triggers = (await c.query(
+    const triggers = await showCreateEach(
+      c,
+      template,
+      "TRIGGER",
       "SELECT trigger_name AS name FROM information_schema.triggers WHERE trigger_schema = ? ORDER BY event_object_table, action_timing, event_manipulation, action_order",
-      [template],
-    )) as { name: string }[];
-    for (const { name } of triggers) {
-      const [row] = (await c.query(`SHOW CREATE TRIGGER ${q(template)}.${q(name)}`)) as Record<string, string>[];
-      await c.query("SET SESSION sql_mode = ?", [row!["sql_mode"] ?? ""]);
-      const statement = row!["SQL Original Statement"]!.replace(/\s(PRECEDES|FOLLOWS)\s+`?\w+`?/i, "");
+    );
+    for (const { row } of triggers) {
+      await c.query("SET SESSION sql_mode = ?", [row["sql_mode"] ?? ""]);
+      const statement = row["SQL Original Statement"]!.replace(/\s(PRECEDES|FOLLOWS)\s+`?\w+`?/i, "");
       await c.query(statement);
     }
     await c.query("SET SESSION foreign_key_checks = 1");

@@ -4,21 +4,15 @@ import { demoArms } from "@jogwright/kinematics";
 import { randomUUID } from "node:crypto";
 import { armDetailSchema, armUploadPreviewSchema, profileDetailResponseSchema, recordingSchema, toolTransform, versionResponseSchema, type Arm, type ArmModel } from "@jogwright/shared";
 import { call, createHarness, type Harness } from "../../test/harness.ts";
-import { approveWithSql, compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, uniqueName, type Team } from "../../test/profiles-fixture.ts";
+import { approveWithSql, compliantParams, createProfile, sixAxisArm, uniqueName, withTeam, closeWithTeam, type Team } from "../../test/profiles-fixture.ts";
 import { loadVersionForDriving } from "../driving/service.ts";
 import { insertRecording } from "../recordings/service.ts";
 import type { ArmOfVersion } from "./service.ts";
 
 let h: Harness;
 let team: Team;
-beforeAll(async () => {
-  h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
-  team = await freshTeam(h);
-});
-afterAll(async () => {
-  await retireTeam(h, team);
-  await h.close();
-});
+beforeAll(async () => ({ h, team } = await withTeam(createHarness({ SIGN_IN_MAX_FAILURES: "1000" }))));
+afterAll(() => closeWithTeam(h, team));
 
 const count = async (table: string) =>
   Number((await h.db.query<{ n: number }>(`SELECT COUNT(*) AS n FROM ${table}`, { type: QueryTypes.SELECT }))[0]!.n);

@@ -1,13 +1,10 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { armSchema } from "@jogwright/shared";
-import { call, createHarness, DEMO_BY_ROLE, signIn, type Harness } from "../../test/harness.ts";
+import { call, DEMO_BY_ROLE, harnessSignedInAs, type Harness } from "../../test/harness.ts";
 
 let h: Harness;
 let operator: string;
-beforeAll(async () => {
-  h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
-  operator = await signIn(h, DEMO_BY_ROLE.operator);
-});
+beforeAll(async () => ({ h, cookie: operator } = await harnessSignedInAs(DEMO_BY_ROLE.operator)));
 afterAll(() => h.close());
 
 describe("demo arms", () => {

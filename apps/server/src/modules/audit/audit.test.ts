@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { auditEntrySchema, type Arm } from "@jogwright/shared";
 import { call, createMailHarness, DEMO_BY_ROLE, signIn, type Harness } from "../../test/harness.ts";
-import { approvedProfile, freshTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
+import { approvedProfile, closeWithTeam, withTeam, type Team } from "../../test/profiles-fixture.ts";
 import { createUser } from "../users/service.ts";
 import { csvCell } from "./service.ts";
 import { createOwnerDb } from "../../test/owner-db.ts";
@@ -12,15 +12,11 @@ let arm: Arm;
 let admin: string;
 let officer: string;
 beforeAll(async () => {
-  h = await createMailHarness();
-  team = await freshTeam(h);
-  arm = await sixAxisArm(h);
+  ({ h, team, arm } = await withTeam(await createMailHarness()));
   admin = await signIn(h, DEMO_BY_ROLE.admin);
   officer = await signIn(h, DEMO_BY_ROLE.safety_officer);
 });
-afterAll(async () => {
-  await h.close();
-});
+afterAll(() => closeWithTeam(h, team));
 
 const HEX64 = /^[0-9a-f]{64}$/;
 

@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { ceilingsRecordSchema, type Arm, type Ceilings } from "@jogwright/shared";
 import { call, createMailHarness, signIn, type Harness } from "../../test/harness.ts";
-import { approvedProfile, compliantParams, createProfile, freshTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
+import { approvedProfile, compliantParams, closeWithTeam, createProfile, withTeam, type Team } from "../../test/profiles-fixture.ts";
 import type { FakeSmtp } from "../../mail/fake-smtp.ts";
 import { findUserById } from "../users/service.ts";
 import { loadVersionForDriving } from "../driving/service.ts";
@@ -11,14 +11,10 @@ let team: Team;
 let arm: Arm;
 let original: Ceilings;
 beforeAll(async () => {
-  h = await createMailHarness();
-  team = await freshTeam(h);
-  arm = await sixAxisArm(h);
+  ({ h, team, arm } = await withTeam(await createMailHarness()));
   original = (await call(h, "get", "/api/ceilings", team.operator.cookie)).body.ceilings;
 });
-afterAll(async () => {
-  await h.close();
-});
+afterAll(() => closeWithTeam(h, team));
 
 async function setCeilings(ceilings: Ceilings, note = "test") {
   const current = (await call(h, "get", "/api/ceilings", team.officer.cookie)).body;

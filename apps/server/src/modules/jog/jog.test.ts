@@ -53,6 +53,24 @@ async function holdEnabling(c: JogTestClient, axes: number[], mode: "cartesian" 
   c.stream(INPUT_PERIOD_MS);
 }
 
+/** The engineer driving the draft along +z (world frame), the enabling control held for `holdMs` (the ramp to speed takes 0.1 s). */
+async function drivingAlongZ(holdMs: number): Promise<JogTestClient> {
+  const c = await startDriving(engineer.cookie, draftVersionId);
+  await holdEnabling(c, [0, 0, 1, 0, 0, 0]);
+  await sleep(holdMs);
+  return c;
+}
+
+/** Releases the enabling control, waits until the arm is at rest and stops the session: the answer that it ended. */
+async function releaseAndStop(c: JogTestClient) {
+  c.stopStream();
+  c.input = { ...c.input, enabling: false, axes: [0, 0, 0, 0, 0, 0] };
+  c.sendInput();
+  await c.nextState(isAtRest, 2000);
+  c.send({ type: "stop" });
+  return c.next((m) => m.type === "ended");
+}
+
 /** A release and a fresh press of the enabling control (held +z) moves the arm again; then the session closes. */
 async function expectMovesAfterReleaseAndPress(c: JogTestClient) {
   c.stopStream();
@@ -216,9 +234,7 @@ describe("jogging", () => {
   });
 
   it("releasing the enabling control stops within the ramp time the frames predicted", async () => {
-    const c = await startDriving(engineer.cookie, draftVersionId);
-    await holdEnabling(c, [0, 0, 1, 0, 0, 0]);
-    await sleep(400);
+    const c = await drivingAlongZ(400);
     // While moving at 0.1 m/s the frames predict the stop on release: T = v/a = 0.1 s, v·T/2 = 5 mm (the
     // TCP deceleration binds: the joint rates are far below a_i·T; derived).
     const moving = await c.nextState();
@@ -245,9 +261,7 @@ describe("jogging", () => {
   });
 
   it("silence stops the arm within the watchdog time, with the reason shown", async () => {
-    const c = await startDriving(engineer.cookie, draftVersionId);
-    await holdEnabling(c, [0, 0, 1, 0, 0, 0]);
-    await sleep(400);
+    const c = await drivingAlongZ(400);
     c.stopStream();
     const lastSentAt = performance.now();
     const tripped = await c.nextState((s) => s.stopReason === "watchdog", 2000);
@@ -264,9 +278,7 @@ describe("jogging", () => {
   });
 
   it("a stall of the server process longer than the watchdog is not taken for a silent client", async () => {
-    const c = await startDriving(engineer.cookie, draftVersionId);
-    await holdEnabling(c, [0, 0, 1, 0, 0, 0]);
-    await sleep(300);
+    const c = await drivingAlongZ(300);
     const from = c.messages.length;
     // Block this process (server and client share it) for 1.5× the 200 ms watchdog, as a long GC pause
     // or a busy machine would. The client keeps its stream going; its queued inputs are read only after.
@@ -286,9 +298,7 @@ describe("jogging", () => {
   });
 
   it("an emergency stop zeroes the joint rates at once and latches; the reset does not move the arm", async () => {
-    const c = await startDriving(engineer.cookie, draftVersionId);
-    await holdEnabling(c, [0, 0, 1, 0, 0, 0]);
-    await sleep(400);
+    const c = await drivingAlongZ(400);
     const moving = await c.nextState();
     expect(moving.qdot.some((v) => v !== 0)).toBe(true);
     c.send({ type: "estop" });
@@ -376,12 +386,7 @@ describe("jogging", () => {
     c.input = { ...c.input, mode: "cartesian", frame: "world", overridePercent: 100 };
     await holdEnabling(c, [0, 0.4, -0.4, 0, 0, 0]);
     await c.nextState((s) => s.q[4]! < -10 * DEG, 8000);
-    c.stopStream();
-    c.input = { ...c.input, enabling: false, axes: [0, 0, 0, 0, 0, 0] };
-    c.sendInput();
-    await c.nextState(isAtRest, 2000);
-    c.send({ type: "stop" });
-    const ended = await c.next((m) => m.type === "ended");
+    const ended = await releaseAndStop(c);
     const recordingId = ended.type === "ended" ? ended.recordingId! : 0;
     await net.jog.hub.writer.drain();
     // Every frame the simulation built (the recording skips none, the socket may), in time order.
@@ -507,15 +512,8 @@ describe("watching and the REST routes around live jogging", () => {
   });
 
   it("every session is recorded with its frames and summary", async () => {
-    const c = await startDriving(engineer.cookie, draftVersionId);
-    await holdEnabling(c, [0, 0, 1, 0, 0, 0]);
-    await sleep(500);
-    c.stopStream();
-    c.input = { ...c.input, enabling: false, axes: [0, 0, 0, 0, 0, 0] };
-    c.sendInput();
-    await c.nextState(isAtRest, 2000);
-    c.send({ type: "stop" });
-    const ended = await c.next((m) => m.type === "ended");
+    const c = await drivingAlongZ(500);
+    const ended = await releaseAndStop(c);
     expect(ended).toMatchObject({ type: "ended", reason: "stopped" });
     const recordingId = ended.type === "ended" ? ended.recordingId! : 0;
     await net.jog.hub.writer.drain();

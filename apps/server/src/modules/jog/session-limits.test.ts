@@ -1,9 +1,8 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
-import { defaultProfileParams, type JogServerMessage } from "@jogwright/shared";
-import { findArm, listArms } from "../arms/service.ts";
-import { createProfile } from "../versions/service.ts";
+import type { JogServerMessage } from "@jogwright/shared";
 import { createHarness, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
+import { closeJogServer, connectJog, draftVersion, openJogServer, type Listener } from "../../test/jog-fixture.ts";
 import { JogTestClient, sleep } from "./jog-test-client.ts";
 
 /**
@@ -14,9 +13,8 @@ import { JogTestClient, sleep } from "./jog-test-client.ts";
  */
 const DEFAULTS = { JOG_MAX_SESSIONS_PER_ACCOUNT: "3", JOG_MAX_SESSIONS: "200", JOG_STARTS_PER_WINDOW: "5", JOG_START_WINDOW_S: "10" };
 
-type Net = Awaited<ReturnType<typeof listenHarness>>;
 let h: Harness;
-let net: Net;
+let net: Listener;
 let arm6Id: number;
 let operatorId: string;
 
@@ -30,15 +28,10 @@ interface Engineer {
 async function newEngineer(harness = h): Promise<Engineer> {
   const e = await freshUser(harness, ["engineer"]);
   const cookie = await signIn(harness, e.username, e.password);
-  const arm = (await findArm(harness.db, arm6Id))!;
-  const params = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
-  const p = await createProfile(harness.ctx, e.user, { name: `limits ${e.username}`, operatorId, armId: arm6Id, params, note: "" });
-  return { userId: e.user.id, cookie, versionId: p.latestVersion.id };
+  return { userId: e.user.id, cookie, versionId: await draftVersion(harness, e.user, arm6Id, operatorId, `limits ${e.username}`) };
 }
 
-function connect(e: Engineer, server = net): Promise<JogTestClient> {
-  return JogTestClient.connect(server.wsUrl, { Cookie: e.cookie, Origin: server.baseUrl });
-}
+const connect = (e: Engineer, server = net) => connectJog(server, e.cookie);
 
 /** Sends start; resolves with the session frame or the error frame that answered it. */
 async function start(c: JogTestClient, versionId: number): Promise<JogServerMessage> {
@@ -54,17 +47,8 @@ async function recordingsOf(userId: string, harness = h): Promise<number> {
   return Number(row!.n);
 }
 
-beforeAll(async () => {
-  h = createHarness({ SIGN_IN_MAX_FAILURES: "1000", ...DEFAULTS });
-  net = await listenHarness(h);
-  arm6Id = (await listArms(h.db)).find((a) => a.model.joints.length === 6)!.id;
-  operatorId = (await freshUser(h, ["operator"])).user.id;
-});
-
-afterAll(async () => {
-  await net?.close();
-  await h?.close();
-});
+beforeAll(async () => ({ h, net, arm6Id, operatorId } = await openJogServer(DEFAULTS)));
+afterAll(() => closeJogServer(net, h));
 
 describe("the cap on live sessions per account", () => {
   it("a 4th concurrent session of one account is refused with a sentence to act on and no recording, while other accounts still start", async () => {

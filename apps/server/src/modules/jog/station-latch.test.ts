@@ -1,9 +1,8 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
-import { defaultProfileParams, type JogState, type User } from "@jogwright/shared";
-import { findArm, listArms } from "../arms/service.ts";
-import { createProfile } from "../versions/service.ts";
+import type { JogState, User } from "@jogwright/shared";
 import { createHarness, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
+import { closeJogServer, connectJog, draftVersion, openJogServer, type Listener } from "../../test/jog-fixture.ts";
 import { JogTestClient, sleep } from "./jog-test-client.ts";
 import type { StationLatchStore } from "./station-latches.ts";
 
@@ -13,7 +12,7 @@ import type { StationLatchStore } from "./station-latches.ts";
  * Each test uses its own person, so each has its own stations.
  */
 let h: Harness;
-let net: Awaited<ReturnType<typeof listenHarness>>;
+let net: Listener;
 let arm6Id: number;
 let arm7Id: number;
 let operatorId: string;
@@ -33,18 +32,11 @@ interface Station {
 async function newStation(): Promise<Station> {
   const e = await freshUser(h, ["engineer"]);
   const cookie = await signIn(h, e.username, e.password);
-  const draft = async (armId: number) => {
-    const arm = (await findArm(h.db, armId))!;
-    const params = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
-    const p = await createProfile(h.ctx, e.user, { name: `latch ${e.username} ${armId} ${Math.random().toString(36).slice(2, 7)}`, operatorId, armId, params, note: "" });
-    return p.latestVersion.id;
-  };
+  const draft = (armId: number) => draftVersion(h, e.user, armId, operatorId, `latch ${e.username} ${armId} ${Math.random().toString(36).slice(2, 7)}`);
   return { user: e.user, cookie, versionA: await draft(arm6Id), versionB: await draft(arm6Id), versionOtherArm: await draft(arm7Id) };
 }
 
-async function connect(cookie: string, server = net): Promise<JogTestClient> {
-  return JogTestClient.connect(server.wsUrl, { Cookie: cookie, Origin: server.baseUrl });
-}
+const connect = (cookie: string, server = net) => connectJog(server, cookie);
 
 /** Sends start and waits for the session and its first state frame. */
 async function start(c: JogTestClient, versionId: number): Promise<JogState> {
@@ -79,6 +71,14 @@ async function moveThenEstop(c: JogTestClient): Promise<JogState> {
   return c.nextState((s) => s.estopLatched && s.qdot.every((v) => v === 0), 3000);
 }
 
+/** A fresh station driving version A on one socket, moved and then STOPped: the station, its socket and the latched frame. */
+async function latchedStation(): Promise<{ st: Station; c: JogTestClient; latched: JogState }> {
+  const st = await newStation();
+  const c = await connect(st.cookie);
+  await start(c, st.versionA);
+  return { st, c, latched: await moveThenEstop(c) };
+}
+
 /** Holds the enabling control (after a fresh press) for holdMs and returns the frames of that time. */
 async function pressAndWatch(c: JogTestClient, holdMs = 400): Promise<JogState[]> {
   const from = c.messages.length;
@@ -87,26 +87,12 @@ async function pressAndWatch(c: JogTestClient, holdMs = 400): Promise<JogState[]
   return c.statesSince(from).map((f) => f.state);
 }
 
-beforeAll(async () => {
-  h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
-  net = await listenHarness(h);
-  const arms = await listArms(h.db);
-  arm6Id = arms.find((a) => a.model.joints.length === 6)!.id;
-  arm7Id = arms.find((a) => a.model.joints.length === 7)!.id;
-  operatorId = (await freshUser(h, ["operator"])).user.id;
-});
-
-afterAll(async () => {
-  await net?.close();
-  await h?.close();
-});
+beforeAll(async () => ({ h, net, arm6Id, arm7Id, operatorId } = await openJogServer()));
+afterAll(() => closeJogServer(net, h));
 
 describe("the emergency-stop latch of an operator station", () => {
   it("after STOP, a start of the same version on the same socket begins latched, and a fresh press does not move the arm", async () => {
-    const st = await newStation();
-    const c = await connect(st.cookie);
-    await start(c, st.versionA);
-    const latched = await moveThenEstop(c);
+    const { st, c, latched } = await latchedStation();
     const first = await start(c, st.versionA);
     expect(first.estopLatched).toBe(true);
     const frames = await pressAndWatch(c);
@@ -122,10 +108,7 @@ describe("the emergency-stop latch of an operator station", () => {
   });
 
   it("a version switch on the same arm, a new socket and a page reload all find the station latched", async () => {
-    const st = await newStation();
-    const c = await connect(st.cookie);
-    await start(c, st.versionA);
-    await moveThenEstop(c);
+    const { st, c } = await latchedStation();
     // Version switch.
     expect((await start(c, st.versionB)).estopLatched).toBe(true);
     expect((await pressAndWatch(c, 250)).every((f) => f.estopLatched && !isMoving(f))).toBe(true);
@@ -140,10 +123,7 @@ describe("the emergency-stop latch of an operator station", () => {
   });
 
   it("reset clears the latch without moving: the arm stays until the enabling control is released and pressed again", async () => {
-    const st = await newStation();
-    const c = await connect(st.cookie);
-    await start(c, st.versionA);
-    await moveThenEstop(c);
+    const { st, c } = await latchedStation();
     await start(c, st.versionA); // a new session, latched from the station
     // Hold the enabling control with the stick deflected, then reset while it is held.
     await freshPress(c);
@@ -185,10 +165,7 @@ describe("the emergency-stop latch of an operator station", () => {
   });
 
   it("the latch and the reset are audited against the station, by the person who pressed them", async () => {
-    const st = await newStation();
-    const c = await connect(st.cookie);
-    await start(c, st.versionA);
-    await moveThenEstop(c);
+    const { st, c } = await latchedStation();
     c.stopStream();
     c.send({ type: "reset-estop" });
     await c.nextState((s) => !s.estopLatched, 3000);
@@ -205,10 +182,7 @@ describe("the emergency-stop latch of an operator station", () => {
   });
 
   it("the latch survives a server restart: a new server on the same database starts the station latched", async () => {
-    const st = await newStation();
-    const c = await connect(st.cookie);
-    await start(c, st.versionA);
-    await moveThenEstop(c);
+    const { st, c } = await latchedStation();
     c.stopStream();
     await c.close();
     await net.jog.hub.stations.settled();

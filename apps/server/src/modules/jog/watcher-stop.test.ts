@@ -1,9 +1,8 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
-import { defaultProfileParams, type JogState, type Role, type User } from "@jogwright/shared";
-import { findArm, listArms } from "../arms/service.ts";
-import { createProfile } from "../versions/service.ts";
-import { call, createHarness, DEMO_BY_ROLE, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
+import type { JogState, Role, User } from "@jogwright/shared";
+import { call, DEMO_BY_ROLE, freshUser, signIn, type Harness } from "../../test/harness.ts";
+import { closeJogServer, connectJog, draftVersion, openJogServer, type Listener } from "../../test/jog-fixture.ts";
 import { JogTestClient, sleep } from "./jog-test-client.ts";
 
 /**
@@ -13,7 +12,7 @@ import { JogTestClient, sleep } from "./jog-test-client.ts";
  * MariaDB; every test has its own people, so its own stations.
  */
 let h: Harness;
-let net: Awaited<ReturnType<typeof listenHarness>>;
+let net: Listener;
 let admin: string;
 let operatorId: string;
 let arm6Id: number;
@@ -30,17 +29,12 @@ async function person(roles: Role[]): Promise<Person> {
   return { user: u.user, cookie: await signIn(h, u.username, u.password) };
 }
 
-async function connect(cookie: string): Promise<JogTestClient> {
-  return JogTestClient.connect(net.wsUrl, { Cookie: cookie, Origin: net.baseUrl });
-}
+const connect = (cookie: string) => connectJog(net, cookie);
 
 /** An engineer driving a fresh draft on the six-axis arm, moving along +z after a fresh press. */
 async function drivingAndMoving(): Promise<{ driver: Person; c: JogTestClient; sessionId: string; versionId: number }> {
   const driver = await person(["engineer"]);
-  const arm = (await findArm(h.db, arm6Id))!;
-  const params = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
-  const profile = await createProfile(h.ctx, driver.user, { name: `watched ${driver.user.username}`, operatorId, armId: arm6Id, params, note: "" });
-  const versionId = profile.latestVersion.id;
+  const versionId = await draftVersion(h, driver.user, arm6Id, operatorId, `watched ${driver.user.username}`);
   const c = await connect(driver.cookie);
   c.send({ type: "start", versionId });
   const m = await c.next((x) => x.type === "session" || x.type === "error");
@@ -64,17 +58,10 @@ async function watch(cookie: string, sessionId: string): Promise<JogTestClient> 
 const isHalted = (s: JogState) => s.estopLatched && s.qdot.every((v) => v === 0);
 
 beforeAll(async () => {
-  h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
-  net = await listenHarness(h);
+  ({ h, net, arm6Id, operatorId } = await openJogServer());
   admin = await signIn(h, DEMO_BY_ROLE.admin);
-  operatorId = (await freshUser(h, ["operator"])).user.id;
-  arm6Id = (await listArms(h.db)).find((a) => a.model.joints.length === 6)!.id;
 });
-
-afterAll(async () => {
-  await net?.close();
-  await h?.close();
-});
+afterAll(() => closeJogServer(net, h));
 
 describe("a safety officer's STOP on a watched session", () => {
   it("halts the driver's arm at once and latches the driver's station; the watcher sees it too", async () => {

@@ -3,7 +3,7 @@ import { canonicalJson, profileSummarySchema, profileVersionSchema, type Arm } f
 import { createHash } from "node:crypto";
 import { QueryTypes, type Sequelize } from "sequelize";
 import { call, createMailHarness, DEMO_BY_ROLE, signIn, type Harness } from "../../test/harness.ts";
-import { approvedProfile, compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
+import { approvedProfile, compliantParams, closeWithTeam, createProfile, freshTeam, retireTeam, withTeam, type Team } from "../../test/profiles-fixture.ts";
 import type { FakeSmtp } from "../../mail/fake-smtp.ts";
 import { createOwnerDb } from "../../test/owner-db.ts";
 import { driveableVersionsFor, loadVersionForDriving } from "../driving/service.ts";
@@ -15,15 +15,10 @@ let owner: Sequelize;
 let team: Team;
 let arm: Arm;
 beforeAll(async () => {
-  h = await createMailHarness();
   owner = createOwnerDb();
-  team = await freshTeam(h);
-  arm = await sixAxisArm(h);
+  ({ h, team, arm } = await withTeam(await createMailHarness()));
 });
-afterAll(async () => {
-  await owner?.close();
-  await h.close();
-});
+afterAll(() => closeWithTeam(h, team, owner));
 
 const sha256 = (v: unknown) => createHash("sha256").update(canonicalJson(v)).digest("hex");
 

@@ -5,6 +5,7 @@ import { QueryTypes } from "sequelize";
 import { parse } from "csv-parse/sync";
 import { recordedFrameSchema, toolPoseOf, toolTransform, type RecordedFrame } from "@jogwright/shared";
 import { call, createHarness, DEMO_BY_ROLE, signIn, type Harness } from "../../test/harness.ts";
+import { seededRecordingSubject, type RecordingSubject } from "../../test/recordings-fixture.ts";
 import { encodeChunk } from "./chunk-codec.ts";
 import { streamRecordingCsv } from "./export.ts";
 import { findRecording, insertChunk, insertRecording, readFrames } from "./service.ts";
@@ -15,16 +16,12 @@ import { findRecording, insertChunk, insertRecording, readFrames } from "./servi
  * chunk a second (writer.ts).
  */
 let h: Harness;
-let target: { driverId: string; armId: number; profileId: number; versionId: number };
+let target: RecordingSubject;
 
 beforeAll(async () => {
   h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
   // The seeded six-axis profile's first version (the demo seed) and its operator.
-  const [row] = await h.db.query<{ profile_id: number; version_id: number; arm_id: number; operator_id: string }>(
-    "SELECT v.profile_id, v.id AS version_id, p.arm_id, p.operator_id FROM profile_versions v JOIN profiles p ON p.id = v.profile_id JOIN arms a ON a.id = p.arm_id WHERE a.slug = 'cell-arm-6' ORDER BY v.id LIMIT 1",
-    { type: QueryTypes.SELECT },
-  );
-  target = { driverId: row!.operator_id, armId: row!.arm_id, profileId: row!.profile_id, versionId: row!.version_id };
+  target = await seededRecordingSubject(h, "cell-arm-6");
 });
 afterAll(() => h?.close());
 

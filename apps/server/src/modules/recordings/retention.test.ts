@@ -1,7 +1,8 @@
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from "vitest";
-import { Op, QueryTypes } from "sequelize";
+import { Op } from "sequelize";
 import { modelsOf } from "../../db/models.ts";
 import { createHarness, type Harness } from "../../test/harness.ts";
+import { seededRecordingSubject, type RecordingSubject } from "../../test/recordings-fixture.ts";
 import { jogHubFor, forgetJogHub } from "../jog/hub.ts";
 import { encodeChunk } from "./chunk-codec.ts";
 import { pruneRecordings } from "./retention.ts";
@@ -13,18 +14,14 @@ import { finishRecording, insertChunk, insertRecording } from "./service.ts";
  * per pruned recording. Recordings are made here with known start times and chunk sizes.
  */
 let h: Harness;
-let subject: { driverId: string; armId: number; profileId: number; versionId: number };
+let subject: RecordingSubject;
 const NOW = new Date("2026-12-03T08:00:00Z");
 const DAY = 86_400_000;
 let made = 0;
 
 beforeAll(async () => {
   h = createHarness();
-  const [row] = await h.db.query<{ profile_id: number; version_id: number; arm_id: number; operator_id: string }>(
-    `SELECT v.profile_id, v.id AS version_id, p.arm_id, p.operator_id FROM profile_versions v JOIN profiles p ON p.id = v.profile_id ORDER BY v.id LIMIT 1`,
-    { type: QueryTypes.SELECT },
-  );
-  subject = { driverId: row!.operator_id, armId: row!.arm_id, profileId: row!.profile_id, versionId: row!.version_id };
+  subject = await seededRecordingSubject(h);
 });
 
 afterAll(async () => {

@@ -1,7 +1,7 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { QueryTypes } from "sequelize";
+import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { modelsOf } from "../../db/models.ts";
 import { createHarness, type Harness } from "../../test/harness.ts";
+import { seededRecordingSubject, type RecordingSubject } from "../../test/recordings-fixture.ts";
 import { findRecording, insertRecording, readChunks } from "./service.ts";
 import { RecordingWriter } from "./writer.ts";
 
@@ -11,16 +11,12 @@ import { RecordingWriter } from "./writer.ts";
  * the simulation keeps pushing frames past the writer's cap.
  */
 let h: Harness;
-let recordingTarget: { driverId: string; armId: number; profileId: number; versionId: number };
+let recordingTarget: RecordingSubject;
 
 beforeAll(async () => {
   h = createHarness();
-  // Any seeded version will do as the recording's subject (the test set-up seeds the demo scenario).
-  const [row] = await h.db.query<{ profile_id: number; version_id: number; arm_id: number; operator_id: string }>(
-    `SELECT v.profile_id, v.id AS version_id, p.arm_id, p.operator_id FROM profile_versions v JOIN profiles p ON p.id = v.profile_id ORDER BY v.id LIMIT 1`,
-    { type: QueryTypes.SELECT },
-  );
-  recordingTarget = { driverId: row!.operator_id, armId: row!.arm_id, profileId: row!.profile_id, versionId: row!.version_id };
+  // Any seeded version will do as the recording's subject.
+  recordingTarget = await seededRecordingSubject(h);
 });
 
 afterAll(async () => {
@@ -71,4 +67,19 @@ describe("the recording writer", () => {
     expect(await storedTimes(id)).toEqual([0, 1, 2, 3, 4, 5, 6, 7]);
     expect((await findRecording(h.db, id))!.summary!.droppedFrames).toBe(0);
   });
+
+  it("an ended recording is written whole at once, not a flush interval later (a replay opened right after sees it ended)", async () => {
+    const id = await insertRecording(h.db, { sessionId: `writer-test-end-${Date.now()}`, ...recordingTarget, startedAt: new Date() });
+    const writer = new RecordingWriter(h.db, 60_000, 100); // the timer alone would not flush for a minute
+    try {
+      for (let i = 0; i < 5; i++) writer.push(id, frame(i));
+      writer.end(id, new Date(), "stopped", { durationS: 0.01, frames: 5, maxTcpSpeedMPerS: 0, minSigma: 0.1, maxJointRateFraction: 0, stops: {} });
+      await vi.waitFor(async () => expect((await findRecording(h.db, id))!.endedAt).not.toBeNull(), { timeout: 5000, interval: 50 });
+      expect(await storedTimes(id)).toEqual([0, 1, 2, 3, 4]);
+      expect(writer.isPending(id)).toBe(false);
+    } finally {
+      await writer.close();
+    }
+  });
 });
+

@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes, type Sequelize } from "sequelize";
 import { BUILTIN_TRIAL_KINDS, versionDetailResponseSchema, type Arm, type Ceilings } from "@jogwright/shared";
 import { call, createHarness, type Harness } from "../../test/harness.ts";
-import { compliantParams, createProfile, freshTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
+import { closeWithTeam, compliantParams, createProfile, withTeam, type Team } from "../../test/profiles-fixture.ts";
 import { createOwnerDb } from "../../test/owner-db.ts";
 import { closeTrialPool } from "../trials/trial-pool.ts";
 
@@ -20,18 +20,15 @@ let original: Ceilings;
 let revision: number;
 
 beforeAll(async () => {
-  h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
   owner = createOwnerDb();
-  team = await freshTeam(h);
-  arm = await sixAxisArm(h);
+  ({ h, team, arm } = await withTeam(createHarness({ SIGN_IN_MAX_FAILURES: "1000" })));
   const current = await call(h, "get", "/api/ceilings", team.officer.cookie).expect(200);
   original = current.body.ceilings;
   revision = current.body.revision;
 });
 afterAll(async () => {
   await closeTrialPool();
-  await owner?.close();
-  await h.close();
+  await closeWithTeam(h, team, owner);
 });
 
 async function setCeilings(ceilings: Ceilings, note: string): Promise<void> {

@@ -4,7 +4,7 @@ import {
   armTrialsSchema, mapResponseSchema, runDetailSchema, sweepResultSchema, takeStreamEvents, trialRunSchema, type Arm, type TrialDefinition,
 } from "@jogwright/shared";
 import { call, createHarness, listenHarness, type Harness } from "../../test/harness.ts";
-import { compliantParams, createProfile, freshTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
+import { closeWithTeam, compliantParams, createProfile, withTeam, type Team } from "../../test/profiles-fixture.ts";
 import { createOwnerDb } from "../../test/owner-db.ts";
 import { computeTrialMetrics } from "./metrics.ts";
 import { effectiveJointCaps } from "./run-job.ts";
@@ -24,18 +24,15 @@ let arm: Arm;
 let versionId: number;
 let profileId: number;
 beforeAll(async () => {
-  h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
   owner = createOwnerDb();
-  team = await freshTeam(h);
-  arm = await sixAxisArm(h);
+  ({ h, team, arm } = await withTeam(createHarness({ SIGN_IN_MAX_FAILURES: "1000" })));
   const profile = await createProfile(h, team, arm);
   profileId = profile.id;
   versionId = profile.latestVersion.id;
 });
 afterAll(async () => {
   await closeTrialPool();
-  await owner?.close();
-  await h.close();
+  await closeWithTeam(h, team, owner);
 });
 
 const customTrial = (name: string, linear: [string, string, string]): TrialDefinition => ({

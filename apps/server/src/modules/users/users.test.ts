@@ -1,12 +1,9 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { call, createHarness, DEMO_BY_ROLE, freshUser, signIn, type Harness } from "../../test/harness.ts";
+import { call, DEMO_BY_ROLE, freshUser, harnessSignedInAs, signIn, type Harness } from "../../test/harness.ts";
 
 let h: Harness;
 let admin: string;
-beforeAll(async () => {
-  h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
-  admin = await signIn(h, DEMO_BY_ROLE.admin);
-});
+beforeAll(async () => ({ h, cookie: admin } = await harnessSignedInAs(DEMO_BY_ROLE.admin)));
 afterAll(() => h.close());
 
 const newUser = (username: string) => ({

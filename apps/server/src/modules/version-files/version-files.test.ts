@@ -3,18 +3,12 @@ import { QueryTypes } from "sequelize";
 import { versionFileSchema, type VersionFile } from "@jogwright/shared";
 import { sha256OfCanonical } from "../../hashing.ts";
 import { call, createHarness, type Harness } from "../../test/harness.ts";
-import { compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
+import { closeWithTeam, compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, withTeam, type Team } from "../../test/profiles-fixture.ts";
 
 let h: Harness;
 let team: Team;
-beforeAll(async () => {
-  h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
-  team = await freshTeam(h);
-});
-afterAll(async () => {
-  await retireTeam(h, team);
-  await h.close();
-});
+beforeAll(async () => ({ h, team } = await withTeam(createHarness({ SIGN_IN_MAX_FAILURES: "1000" }))));
+afterAll(() => closeWithTeam(h, team));
 
 const versionCount = async () =>
   Number((await h.db.query<{ n: number }>("SELECT COUNT(*) AS n FROM profile_versions", { type: QueryTypes.SELECT }))[0]!.n);

@@ -1,0 +1,41 @@
+import { defaultProfileParams, type User } from "@jogwright/shared";
+import { findArm, listArms } from "../modules/arms/service.ts";
+import { JogTestClient } from "../modules/jog/jog-test-client.ts";
+import { createProfile } from "../modules/versions/service.ts";
+import { createHarness, freshUser, listenHarness, type Harness } from "./harness.ts";
+
+/** A harness's app listening with the live-jogging socket attached (listenHarness). */
+export type Listener = Awaited<ReturnType<typeof listenHarness>>;
+
+/**
+ * A live-jogging test file's server: a harness (`env` as for createHarness, sign-in failures relaxed)
+ * listening with the jog socket, the demo arms' ids by joint count, and a fresh operator to assign the
+ * file's drafts to. `closeJogServer` ends it.
+ */
+export async function openJogServer(env: Record<string, string> = {}) {
+  const h = createHarness({ SIGN_IN_MAX_FAILURES: "1000", ...env });
+  const net = await listenHarness(h);
+  const arms = await listArms(h.db);
+  const armWith = (joints: number) => arms.find((a) => a.model.joints.length === joints)!.id;
+  const operatorId = (await freshUser(h, ["operator"])).user.id;
+  return { h, net, arm6Id: armWith(6), arm7Id: armWith(7), operatorId };
+}
+
+/** Ends what openJogServer opened: live sessions and the listener first (flushing recordings), then the harness. */
+export async function closeJogServer(net: Listener | undefined, h: Harness | undefined): Promise<void> {
+  await net?.close();
+  await h?.close();
+}
+
+/** A jog socket as the console opens one: with `cookie`'s session, from the listener's own origin. */
+export function connectJog(net: Listener, cookie: string): Promise<JogTestClient> {
+  return JogTestClient.connect(net.wsUrl, { Cookie: cookie, Origin: net.baseUrl });
+}
+
+/** A draft by `author` on an arm with the arm's default parameters, for `operatorId`; its version id (engineers may drive drafts). */
+export async function draftVersion(h: Harness, author: User, armId: number, operatorId: string, name: string): Promise<number> {
+  const arm = (await findArm(h.db, armId))!;
+  const params = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
+  const profile = await createProfile(h.ctx, author, { name, operatorId, armId, params, note: "" });
+  return profile.latestVersion.id;
+}
