@@ -3,7 +3,7 @@ import { join } from "node:path";
 import type { Locator, Page, TestInfo } from "@playwright/test";
 import { STOP_KIND_LABELS, type StopKind } from "@jogwright/shared";
 import { ARTIFACTS_DIR, signIn } from "../support/browser.ts";
-import { fakeGamepadScript, recordStateFrames, setGamepad } from "../support/drive.ts";
+import { fakeGamepadScript, recordStateFrames, setGamepad, startDriving } from "../support/drive.ts";
 import { expect, test } from "../support/fixtures.ts";
 
 // The drive workspace on a 1440×900 screen (issue 13, items 11 and 13): what driving needs fits the first
@@ -28,16 +28,6 @@ async function shot(page: Page, testInfo: TestInfo, name: string): Promise<void>
   const path = join(ARTIFACTS_DIR, `layout-${name}.png`);
   await page.screenshot({ path });
   await testInfo.attach(name, { path, contentType: "image/png" });
-}
-
-async function startDriving(page: Page, profileName: string): Promise<void> {
-  await expect(page.getByRole("heading", { level: 1, name: "Drive" })).toBeVisible();
-  const profileSelect = page.getByLabel("Profile", { exact: true });
-  await profileSelect.selectOption((await profileSelect.locator("option", { hasText: profileName }).first().getAttribute("value"))!);
-  await expect(page.locator("[data-testid=connection-state][data-connection=open]")).toBeVisible();
-  await page.getByRole("button", { name: /Start driving/ }).click();
-  await expect(page.getByTestId("session-info")).toBeVisible();
-  await expect(page.getByTestId("tcp-x")).toHaveText(/^\s*-?\d/);
 }
 
 /** The element lies wholly inside the 1440×900 viewport, the page not scrolled. */

@@ -1,7 +1,7 @@
 import type { Page, TestInfo } from "@playwright/test";
 import type { ProfileParams } from "@jogwright/shared";
 import { saveScreenshot, signIn } from "../support/browser.ts";
-import { fakeGamepadScript, recordStateFrames, setGamepad } from "../support/drive.ts";
+import { fakeGamepadScript, recordStateFrames, setGamepad, startDriving } from "../support/drive.ts";
 import { expect, test, uniqueTag, type Person, type ProfileRef, type Setup } from "../support/fixtures.ts";
 
 // The drive session's edges (issue 13, items 1, 2, 6, 7, 9): what the drive page does when an input device
@@ -73,18 +73,6 @@ async function setPadConnected(page: Page, isConnected: boolean): Promise<void> 
 async function keepScreenshot(page: Page, testInfo: TestInfo, name: string): Promise<void> {
   const path = await saveScreenshot(page, `drive-session-${name}`);
   await testInfo.attach(name, { path, contentType: "image/png" });
-}
-
-async function startDriving(page: Page, profileName?: string): Promise<void> {
-  await expect(page.getByRole("heading", { level: 1, name: "Drive" })).toBeVisible();
-  if (profileName) {
-    const profileSelect = page.getByLabel("Profile", { exact: true });
-    await profileSelect.selectOption((await profileSelect.locator("option", { hasText: profileName }).first().getAttribute("value"))!);
-  }
-  await expect(page.locator("[data-testid=connection-state][data-connection=open]")).toBeVisible();
-  await page.getByRole("button", { name: /Start driving/ }).click();
-  await expect(page.getByTestId("session-info")).toBeVisible();
-  await expect(page.getByTestId("tcp-x")).toHaveText(/^\s*-?\d/);
 }
 
 const motion = (page: Page) => page.getByTestId("motion-state");

@@ -9,6 +9,7 @@ import {
   readTcpMm,
   recordStateFrames,
   setGamepad,
+  startDriving,
 } from "../support/drive.ts";
 import { expect, test, uniqueTag } from "../support/fixtures.ts";
 
@@ -29,23 +30,6 @@ test.use({ viewport: { width: 1400, height: 1000 } });
 test.beforeEach(async ({ context }) => {
   await context.addInitScript(fakeGamepadScript());
 });
-
-async function startDriving(page: Page, profileName: string, version?: RegExp): Promise<void> {
-  await expect(page.getByRole("heading", { level: 1, name: "Drive" })).toBeVisible();
-  const profileSelect = page.getByLabel("Profile", { exact: true });
-  await profileSelect.selectOption((await profileSelect.locator("option", { hasText: profileName }).first().getAttribute("value"))!);
-  const versionSelect = page.getByLabel("Version", { exact: true });
-  if (version) {
-    const v = versionSelect.locator("option", { hasText: version }).first();
-    await expect(v).toBeAttached();
-    await versionSelect.selectOption((await v.getAttribute("value"))!);
-  }
-  await expect(page.locator("[data-testid=connection-state][data-connection=open]")).toBeVisible();
-  await page.getByRole("button", { name: /Start driving/ }).click();
-  await expect(page.getByTestId("session-info")).toBeVisible();
-  // The first state frames have arrived when the TCP readout shows numbers.
-  await expect(page.getByTestId("tcp-x")).toHaveText(/^\s*-?\d/);
-}
 
 /** The motion state line as shown (e.g. "Moving", "Stopped — …"). */
 async function expectMotion(page: Page, state: string | RegExp, options: { timeout?: number; not?: boolean } = {}): Promise<void> {

@@ -27,6 +27,23 @@ async function expectInViewport(page: Page, locator: Locator): Promise<void> {
 const focusedTestId = (page: Page) =>
   page.evaluate(() => (document.activeElement?.closest("[data-testid]") as HTMLElement | null)?.dataset.testid ?? null);
 
+/** The answer beside a form's button (form-feedback) says `text`, lies inside the window and holds the focus. */
+async function expectFeedbackInView(page: Page, text: string, timeout?: number): Promise<Locator> {
+  const feedback = page.getByTestId("form-feedback");
+  await expect(feedback).toContainText(text, timeout === undefined ? {} : { timeout });
+  await expectInViewport(page, feedback);
+  await expect.poll(() => focusedTestId(page)).toBe("form-feedback");
+  return feedback;
+}
+
+/** Scrolls the form down to its button `name` and presses it; the answer beside it says `text`, in view and focused. */
+async function pressAndExpectFeedback(page: Page, form: Locator, name: string, text: string): Promise<Locator> {
+  const button = form.getByRole("button", { name });
+  await button.scrollIntoViewIfNeeded();
+  await button.click();
+  return expectFeedbackInView(page, text);
+}
+
 /** A profile of a new operator on the six-joint arm, v1 a draft written by emeka. */
 async function draftProfile(setup: Setup) {
   const operator = await setup.person(["operator"]);
@@ -85,21 +102,13 @@ test.describe("words, units and feedback", () => {
     const { path } = await draftProfile(setup);
     await signIn(page, "", "emeka", path);
     const form = page.getByRole("form", { name: "Profile parameters" });
-    const save = form.getByRole("button", { name: "Save new version" });
     await form.getByLabel("Note").fill("Saved from the bottom of the form.");
-    await save.scrollIntoViewIfNeeded();
-    await save.click();
-    const feedback = page.getByTestId("form-feedback");
-    await expect(feedback).toContainText("Saved as v2 (draft)");
-    await expectInViewport(page, feedback);
-    await expect.poll(() => focusedTestId(page)).toBe("form-feedback");
+    const feedback = await pressAndExpectFeedback(page, form, "Save new version", "Saved as v2 (draft)");
     await keepScreenshot(page, testInfo, "save-feedback-in-view");
 
     await feedback.getByRole("button", { name: "Submit v2 for review" }).click();
     // The submission runs the arm's built-in trials first (the evidence rule): slow on a busy machine.
-    await expect(feedback).toContainText("v2 is submitted for review", { timeout: 120_000 });
-    await expectInViewport(page, feedback);
-    await expect.poll(() => focusedTestId(page)).toBe("form-feedback");
+    await expectFeedbackInView(page, "v2 is submitted for review", 120_000);
     await keepScreenshot(page, testInfo, "submit-feedback-in-view");
   });
 
@@ -111,13 +120,7 @@ test.describe("words, units and feedback", () => {
     // Someone else saves v2 meanwhile.
     await setup.saveVersion(profile.id, profile.latestVersion, setup.defaults(arm), "meanwhile");
     await form.getByLabel("Expo").fill("0.5");
-    const save = form.getByRole("button", { name: "Save new version" });
-    await save.scrollIntoViewIfNeeded();
-    await save.click();
-    const feedback = page.getByTestId("form-feedback");
-    await expect(feedback).toContainText("Not saved: a newer version exists (v2)");
-    await expectInViewport(page, feedback);
-    await expect.poll(() => focusedTestId(page)).toBe("form-feedback");
+    await pressAndExpectFeedback(page, form, "Save new version", "Not saved: a newer version exists (v2)");
     await expect(form.getByLabel("Expo")).toHaveValue("0.5");
     await keepScreenshot(page, testInfo, "conflict-feedback-in-view");
   });
@@ -159,13 +162,7 @@ test.describe("words, units and feedback", () => {
     const form = page.getByRole("form", { name: "Site ceilings" });
     // The same values again: a new revision, nothing flagged.
     await form.getByLabel("Note").fill("Browser test: same values.");
-    const save = form.getByRole("button", { name: "Save ceilings" });
-    await save.scrollIntoViewIfNeeded();
-    await save.click();
-    const feedback = page.getByTestId("form-feedback");
-    await expect(feedback).toContainText("Ceilings saved");
-    await expectInViewport(page, feedback);
-    await expect.poll(() => focusedTestId(page)).toBe("form-feedback");
+    await pressAndExpectFeedback(page, form, "Save ceilings", "Ceilings saved");
     await keepScreenshot(page, testInfo, "ceilings-feedback-in-view");
   });
 });

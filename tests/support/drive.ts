@@ -1,3 +1,4 @@
+import { expect } from "@playwright/test";
 import type { Page } from "playwright-core";
 
 /**
@@ -104,4 +105,25 @@ export async function chartPoints(page: Page, key: "jointRates" | "sigma" | "spe
 
 export async function drawnFrames(page: Page): Promise<number> {
   return Number(await page.getByTestId("arm-view").getAttribute("data-drawn-frames"));
+}
+
+/**
+ * On the drive page: picks the profile named `profileName` (and the version whose label matches `version`,
+ * else the picker's default), starts driving, and waits for the first state frames (the TCP readout shows
+ * numbers).
+ */
+export async function startDriving(page: Page, profileName: string, version?: RegExp): Promise<void> {
+  await expect(page.getByRole("heading", { level: 1, name: "Drive" })).toBeVisible();
+  const profileSelect = page.getByLabel("Profile", { exact: true });
+  await profileSelect.selectOption((await profileSelect.locator("option", { hasText: profileName }).first().getAttribute("value"))!);
+  if (version) {
+    const versionSelect = page.getByLabel("Version", { exact: true });
+    const v = versionSelect.locator("option", { hasText: version }).first();
+    await expect(v).toBeAttached();
+    await versionSelect.selectOption((await v.getAttribute("value"))!);
+  }
+  await expect(page.locator("[data-testid=connection-state][data-connection=open]")).toBeVisible();
+  await page.getByRole("button", { name: /Start driving/ }).click();
+  await expect(page.getByTestId("session-info")).toBeVisible();
+  await expect(page.getByTestId("tcp-x")).toHaveText(/^\s*-?\d/);
 }

@@ -14,6 +14,7 @@ import {
 } from "@jogwright/shared";
 import { FrameTrace, type FrameSource } from "./frame-trace.ts";
 import { reportDatabaseUnavailable } from "./database-status.ts";
+import { SnapshotStore } from "./snapshot-store.ts";
 
 /**
  * The one client of the live-jogging socket (/ws/jog, same origin; the browser sends the session cookie
@@ -55,42 +56,53 @@ export function jogErrorTitle(code: string): string {
 }
 
 /**
- * Close codes after which reconnecting cannot help (the cookie session is gone: signed out, expired,
- * password changed, never signed in; or the account deactivated); the client stays closed and says why.
- */
-export function isFinalClose(code: number): boolean {
-  return code === JOG_CLOSE_CODES.signedOut || code === JOG_CLOSE_CODES.accountDeactivated;
-}
-
-/**
  * What a close means for the person: whether the client reconnects, the end of a session that was live
  * (its reason code and sentence), and for a final close the error the page shows (`signed_out` sends the
  * person to sign in; `account_deactivated` stays and says why).
  */
-export function closeOutcome(code: number): { isFinal: boolean; endReason: string; endMessage: string; error: { code: string; message: string } | null } {
-  if (code === JOG_CLOSE_CODES.accountDeactivated) {
-    return {
+export interface CloseOutcome {
+  isFinal: boolean;
+  endReason: string;
+  endMessage: string;
+  error: { code: string; message: string } | null;
+}
+
+/**
+ * The closes after which reconnecting cannot help (the cookie session is gone: signed out, expired,
+ * password changed, never signed in; or the account deactivated): the client stays closed and says why.
+ */
+const FINAL_CLOSES = new Map<number, CloseOutcome>([
+  [
+    JOG_CLOSE_CODES.accountDeactivated,
+    {
       isFinal: true,
       endReason: "account-deactivated",
       endMessage: "An administrator deactivated your account: the arm made a controlled stop and the session ended.",
       error: { code: "account_deactivated", message: "Your account has been deactivated, so live jogging is closed. Ask an administrator if this is a mistake." },
-    };
-  }
-  if (code === JOG_CLOSE_CODES.signedOut) {
-    return {
+    },
+  ],
+  [
+    JOG_CLOSE_CODES.signedOut,
+    {
       isFinal: true,
       endReason: "signed-out",
       endMessage: "You were signed out, so the arm made a controlled stop and the session ended.",
       error: { code: "signed_out", message: "You are signed out (here or elsewhere, or the sign-in expired or the password was changed). Sign in again to drive." },
-    };
-  }
-  return {
-    isFinal: false,
-    endReason: "disconnected",
-    endMessage: "The connection to the server was lost, so the session ended. Start it again once connected.",
-    error: null,
-  };
-}
+    },
+  ],
+]);
+
+/** Any other close: the connection was lost, and the client reconnects. */
+const CONNECTION_LOST: CloseOutcome = {
+  isFinal: false,
+  endReason: "disconnected",
+  endMessage: "The connection to the server was lost, so the session ended. Start it again once connected.",
+  error: null,
+};
+
+export const isFinalClose = (code: number): boolean => FINAL_CLOSES.has(code);
+
+export const closeOutcome = (code: number): CloseOutcome => FINAL_CLOSES.get(code) ?? CONNECTION_LOST;
 
 /** Safety officers may stop the session they watch (it latches the driver's station); nobody else from a watch. */
 export function mayStopWatchedSession(roles: readonly string[], session: Pick<JogSessionInfo, "isWatching"> | null): boolean {
@@ -137,10 +149,8 @@ function socketUrl(): string {
   return `${scheme}://${window.location.host}/ws/jog`;
 }
 
-export class JogSocketClient implements FrameSource {
+export class JogSocketClient extends SnapshotStore<JogSnapshot> implements FrameSource {
   readonly trace = new FrameTrace();
-  private snapshot: JogSnapshot = INITIAL;
-  private listeners = new Set<() => void>();
   private socket: WebSocket | null = null;
   private wantOpen = false;
   private reconnectTimer: ReturnType<typeof setTimeout> | null = null;
@@ -156,18 +166,8 @@ export class JogSocketClient implements FrameSource {
   /** Messages asked for before the socket opened (start/watch), sent on open. */
   private pending: JogClientMessage[] = [];
 
-  // ---- store ---------------------------------------------------------------------------------------
-
-  subscribe = (listener: () => void): (() => void) => {
-    this.listeners.add(listener);
-    return () => this.listeners.delete(listener);
-  };
-
-  getSnapshot = (): JogSnapshot => this.snapshot;
-
-  private update(patch: Partial<JogSnapshot>): void {
-    this.snapshot = { ...this.snapshot, ...patch };
-    for (const listener of this.listeners) listener();
+  constructor() {
+    super(INITIAL);
   }
 
   // ---- FrameSource -----------------------------------------------------------------------------------
@@ -204,12 +204,12 @@ export class JogSocketClient implements FrameSource {
     this.socket = null;
     socket?.close(1000, "page closed");
     this.latest = null;
-    this.update({ ...INITIAL, connection: "closed" });
+    this.publish({ ...INITIAL, connection: "closed" });
   }
 
   private open(): void {
     const attempt = this.snapshot.reconnectAttempt;
-    this.update({ connection: attempt > 0 ? "reconnecting" : "connecting" });
+    this.publish({ connection: attempt > 0 ? "reconnecting" : "connecting" });
     let socket: WebSocket;
     try {
       socket = new WebSocket(socketUrl());
@@ -220,7 +220,7 @@ export class JogSocketClient implements FrameSource {
     this.socket = socket;
     socket.onopen = () => {
       if (this.socket !== socket) return;
-      this.update({ connection: "open", reconnectAttempt: 0, error: null });
+      this.publish({ connection: "open", reconnectAttempt: 0, error: null });
       this.startPing();
       const queued = this.pending;
       this.pending = [];
@@ -242,7 +242,7 @@ export class JogSocketClient implements FrameSource {
       if (event.code === JOG_CLOSE_CODES.databaseUnavailable) reportDatabaseUnavailable();
       // No session outlives its socket (the server ends it on close): nothing may keep showing its motion.
       this.clearLiveState();
-      this.update({
+      this.publish({
         connection: this.wantOpen ? "reconnecting" : "closed",
         session: null,
         state: null,
@@ -258,7 +258,7 @@ export class JogSocketClient implements FrameSource {
   private scheduleReconnect(): void {
     const attempt = this.snapshot.reconnectAttempt;
     const delay = BACKOFF_MS[Math.min(attempt, BACKOFF_MS.length - 1)]!;
-    this.update({ connection: "reconnecting", reconnectAttempt: attempt + 1 });
+    this.publish({ connection: "reconnecting", reconnectAttempt: attempt + 1 });
     this.reconnectTimer = setTimeout(() => {
       this.reconnectTimer = null;
       if (this.wantOpen) this.open();
@@ -295,13 +295,13 @@ export class JogSocketClient implements FrameSource {
 
   /** Start driving (or switch to) a profile version. */
   start(versionId: number): void {
-    this.update({ ended: null, error: null });
+    this.publish({ ended: null, error: null });
     this.sendOrQueue({ type: "start", versionId });
   }
 
   /** Watch somebody else's live session, read-only. */
   watch(sessionId: string): void {
-    this.update({ ended: null, error: null });
+    this.publish({ ended: null, error: null });
     this.sendOrQueue({ type: "watch", sessionId });
   }
 
@@ -330,12 +330,12 @@ export class JogSocketClient implements FrameSource {
     try {
       json = JSON.parse(raw);
     } catch {
-      this.update({ error: { code: "bad_frame", message: "The server sent a frame that is not JSON.", atMs: performance.now() } });
+      this.publish({ error: { code: "bad_frame", message: "The server sent a frame that is not JSON.", atMs: performance.now() } });
       return;
     }
     const parsed = jogServerMessageSchema.safeParse(json);
     if (!parsed.success) {
-      this.update({
+      this.publish({
         error: { code: "bad_frame", message: "The server sent a frame the console cannot read.", atMs: performance.now() },
       });
       return;
@@ -343,33 +343,33 @@ export class JogSocketClient implements FrameSource {
     const message = parsed.data;
     switch (message.type) {
       case "welcome":
-        this.update({ roles: message.roles });
+        this.publish({ roles: message.roles });
         break;
       case "session":
         this.latest = null;
         this.serial++;
         this.framesInSession = 0;
         this.inputToStateMs = null;
-        this.update({ session: message.session, state: null, frameCount: 0, ended: null, error: null });
+        this.publish({ session: message.session, state: null, frameCount: 0, ended: null, error: null });
         break;
       case "state":
         this.receiveState(message);
         break;
       case "pong":
-        this.update({ roundTripMs: performance.now() - message.clientTimeMs });
+        this.publish({ roundTripMs: performance.now() - message.clientTimeMs });
         break;
       case "ended":
         // The session is over: its last frame stays only in the 3D view (where the arm stands); the panels
         // and the motion line get no state, so nothing reads "Moving" or "latched" for a dead session.
         this.clearLiveState();
-        this.update({
+        this.publish({
           ended: { sessionId: message.sessionId, reason: message.reason, message: message.message, recordingId: message.recordingId },
           session: null,
           state: null,
         });
         break;
       case "error":
-        this.update({ error: { code: message.code, message: message.message, atMs: performance.now() } });
+        this.publish({ error: { code: message.code, message: message.message, atMs: performance.now() } });
         break;
     }
   }
@@ -418,7 +418,7 @@ export class JogSocketClient implements FrameSource {
     const state = this.latest;
     if (!state) return;
     this.lastSnapshotMs = performance.now();
-    this.update({ state, frameCount: this.framesInSession, inputToStateMs: this.inputToStateMs });
+    this.publish({ state, frameCount: this.framesInSession, inputToStateMs: this.inputToStateMs });
   }
 
   /** Tells the trace which joints slide (mm/s instead of deg/s); call once the arm is known. */

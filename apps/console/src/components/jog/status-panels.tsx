@@ -1,7 +1,7 @@
 import { ratedJointAccel } from "@jogwright/kinematics";
 import { DEG_PER_RAD, GUARD_STATE_LABELS, STOP_KIND_LABELS, STOP_KINDS } from "@jogwright/shared";
 import type { ReactNode } from "react";
-import type { Arm, ProfileParams, RecordedFrame, StopKind } from "@jogwright/shared";
+import type { Arm, ArmJoint, ProfileParams, RecordedFrame, StopKind } from "@jogwright/shared";
 import { cn } from "../../lib/cn.ts";
 import { formatFixed } from "../../lib/format.ts";
 import { bindingInWords, motionInWords, type MotionTone } from "./limit-words.ts";
@@ -212,23 +212,58 @@ export function StoppingPanel({ frame, params }: { frame: RecordedFrame | null; 
   );
 }
 
+/** A joint's values as the panels show them: degrees for a revolute joint, millimetres for a prismatic one (`k` from SI). */
+type JointScale = { k: number; unit: "deg" | "mm" };
+const jointScale = (joint: ArmJoint): JointScale =>
+  joint.type === "revolute" ? { k: DEG_PER_RAD, unit: "deg" } : { k: 1000, unit: "mm" };
+
+/**
+ * One row per joint of the arm — J1, J2, …, a bar and a reading — in a grid whose `columns` fit the reading.
+ * `row` draws the bar and the reading of joint `i` in its display scale.
+ */
+function JointRows({
+  arm,
+  testId,
+  columns,
+  row,
+}: {
+  arm: Arm;
+  testId: string;
+  columns: "grid-cols-[2rem_1fr_4.5rem]" | "grid-cols-[2rem_1fr_6.5rem]";
+  row: (joint: ArmJoint, i: number, scale: JointScale) => { bar: ReactNode; reading: ReactNode };
+}) {
+  return (
+    <ul className="flex flex-col gap-1.5" data-testid={testId}>
+      {arm.model.joints.map((joint, i) => {
+        const { bar, reading } = row(joint, i, jointScale(joint));
+        return (
+          <li key={i} className={cn("grid items-center gap-2 text-xs", columns)}>
+            <span className="text-ink-300">J{i + 1}</span>
+            {bar}
+            {reading}
+          </li>
+        );
+      })}
+    </ul>
+  );
+}
+
 export function JointPositionBars({ arm, frame }: { arm: Arm; frame: RecordedFrame | null }) {
   return (
     <Panel title="Joint positions">
-      <ul className="flex flex-col gap-1.5" data-testid="joint-positions">
-        {arm.model.joints.map((joint, i) => {
-          const isRevolute = joint.type === "revolute";
-          const k = isRevolute ? DEG_PER_RAD : 1000;
-          const unit = isRevolute ? "deg" : "mm";
+      <JointRows
+        arm={arm}
+        testId="joint-positions"
+        columns="grid-cols-[2rem_1fr_4.5rem]"
+        row={(joint, i, { k, unit }) => {
           const q = frame?.q[i];
           const min = joint.min ?? -Math.PI;
           const max = joint.max ?? Math.PI;
           const fraction = q === undefined ? null : (q - min) / (max - min);
           const isNearLimit = fraction !== null && (fraction < 0.05 || fraction > 0.95);
           const isBinding = frame?.binding === "joint-limit" && frame.bindingJoint === i;
-          return (
-            <li key={i} className="grid grid-cols-[2rem_1fr_4.5rem] items-center gap-2 text-xs">
-              <span className="text-ink-300">J{i + 1}</span>
+          return {
+            bar: (
               <div
                 className="relative h-2.5 rounded-sm bg-ink-800"
                 title={`range ${formatFixed(min * k, 0)} … ${formatFixed(max * k, 0)} ${unit}`}
@@ -242,14 +277,16 @@ export function JointPositionBars({ arm, frame }: { arm: Arm; frame: RecordedFra
                   />
                 ) : null}
               </div>
+            ),
+            reading: (
               <span className="num text-right text-ink-100" data-testid={`joint-${i + 1}-position`}>
                 {q === undefined ? "—" : formatFixed(q * k, 1)}
                 <span className="text-ink-400"> {unit === "deg" ? "°" : unit}</span>
               </span>
-            </li>
-          );
-        })}
-      </ul>
+            ),
+          };
+        }}
+      />
       <p className="text-xs text-ink-400">Bars span each joint's range; amber within 5 % of a limit.</p>
     </Panel>
   );
@@ -258,17 +295,17 @@ export function JointPositionBars({ arm, frame }: { arm: Arm; frame: RecordedFra
 export function JointRateBars({ arm, frame, params }: { arm: Arm; frame: RecordedFrame | null; params: ProfileParams | null }) {
   return (
     <Panel title="Joint rates">
-      <ul className="flex flex-col gap-1.5" data-testid="joint-rates">
-        {arm.model.joints.map((joint, i) => {
-          const isRevolute = joint.type === "revolute";
-          const k = isRevolute ? DEG_PER_RAD : 1000;
+      <JointRows
+        arm={arm}
+        testId="joint-rates"
+        columns="grid-cols-[2rem_1fr_6.5rem]"
+        row={(joint, i, { k }) => {
           const cap = params?.jointRateCapsRadPerS[i] ?? joint.maxSpeed ?? 1;
           const v = frame?.qdot[i] ?? 0;
           const fraction = Math.min(1, Math.abs(v) / cap);
           const isBinding = frame?.binding === "joint-rate" && frame.bindingJoint === i;
-          return (
-            <li key={i} className="grid grid-cols-[2rem_1fr_6.5rem] items-center gap-2 text-xs">
-              <span className="text-ink-300">J{i + 1}</span>
+          return {
+            bar: (
               <div className="relative h-2.5 rounded-sm bg-ink-800" aria-hidden>
                 <div className="absolute inset-y-0 left-1/2 w-px bg-ink-600" />
                 <div
@@ -276,14 +313,16 @@ export function JointRateBars({ arm, frame, params }: { arm: Arm; frame: Recorde
                   style={v >= 0 ? { left: "50%", width: `${fraction * 50}%` } : { right: "50%", width: `${fraction * 50}%` }}
                 />
               </div>
+            ),
+            reading: (
               <span className="num text-right text-ink-100">
                 {formatFixed(v * k, 0)}
                 <span className="text-ink-400"> / {formatFixed(cap * k, 0)}</span>
               </span>
-            </li>
-          );
-        })}
-      </ul>
+            ),
+          };
+        }}
+      />
       <p className="text-xs text-ink-400">{arm.model.joints.every((j) => j.type === "revolute") ? "deg/s" : "deg/s or mm/s"} against each joint's cap.</p>
       <PeakAcceleration arm={arm} frame={frame} params={params} />
     </Panel>

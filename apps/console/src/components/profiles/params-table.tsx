@@ -73,6 +73,21 @@ export function ParamsTable({ params, jointKinds, caption }: { params: ProfilePa
   );
 }
 
+/** The value before or after, with its unit; `changedClass` marks it on a changed row. */
+function valueColumn(side: "before" | "after", header: string, changedClass: string): ColumnDef<ProfileParamDiffRow> {
+  return {
+    id: side,
+    header,
+    cell: ({ row: { original: r } }) => (
+      <>
+        <span className={cn("num", r.changed ? changedClass : "text-ink-100")}>{formatDiffValue(r[side])}</span>
+        <Unit unit={r.uiUnit} />
+      </>
+    ),
+    meta: { className: "py-1.5 text-right whitespace-nowrap", headClassName: "text-right" },
+  };
+}
+
 function diffColumns(beforeLabel: string, afterLabel: string): ColumnDef<ProfileParamDiffRow>[] {
   return [
     {
@@ -81,28 +96,8 @@ function diffColumns(beforeLabel: string, afterLabel: string): ColumnDef<Profile
       cell: ({ row }) => <span className={row.original.changed ? "font-semibold text-ink-100" : "text-ink-300"}>{row.original.label}</span>,
       meta: { isRowHeader: true, className: "py-1.5 font-normal" },
     },
-    {
-      id: "before",
-      header: beforeLabel,
-      cell: ({ row: { original: r } }) => (
-        <>
-          <span className={cn("num", r.changed ? "text-ink-300" : "text-ink-100")}>{formatDiffValue(r.before)}</span>
-          <Unit unit={r.uiUnit} />
-        </>
-      ),
-      meta: { className: "py-1.5 text-right whitespace-nowrap", headClassName: "text-right" },
-    },
-    {
-      id: "after",
-      header: afterLabel,
-      cell: ({ row: { original: r } }) => (
-        <>
-          <span className={cn("num", r.changed ? "font-semibold text-iris-300" : "text-ink-100")}>{formatDiffValue(r.after)}</span>
-          <Unit unit={r.uiUnit} />
-        </>
-      ),
-      meta: { className: "py-1.5 text-right whitespace-nowrap", headClassName: "text-right" },
-    },
+    valueColumn("before", beforeLabel, "text-ink-300"),
+    valueColumn("after", afterLabel, "font-semibold text-iris-300"),
     {
       id: "changed",
       header: () => <span className="sr-only">Changed</span>,

@@ -1,4 +1,5 @@
 import { Fragment, useState, type ReactNode } from "react";
+import { Link } from "react-router";
 import {
   flexRender,
   getCoreRowModel,
@@ -149,6 +150,21 @@ export function createdAtColumn<Row extends { createdAt: string }>(): ColumnDef<
   };
 }
 
+/** The "Name" column of a list page: the row's name, linking to its page at `hrefOf(row)`; searched by the filter box. */
+export function nameLinkColumn<Row extends { name: string }>(hrefOf: (row: Row) => string, meta?: ColumnDef<Row>["meta"]): ColumnDef<Row> {
+  return {
+    id: "name",
+    accessorKey: "name",
+    header: "Name",
+    cell: (c) => (
+      <Link to={hrefOf(c.row.original)} className="font-semibold text-iris-300 hover:underline">
+        {c.row.original.name}
+      </Link>
+    ),
+    ...(meta ? { meta } : {}),
+  };
+}
+
 /** A plain table (no sorting or filtering): rows in the order given, identified by `getRowId` (stable keys keep inputs in cells focused). */
 export function useDataTable<Row>({ data, columns, getRowId }: { data: Row[]; columns: ColumnDef<Row>[]; getRowId?: (row: Row, index: number) => string }) {
   return useReactTable({ data, columns, getRowId, getCoreRowModel: getCoreRowModel() });
@@ -202,6 +218,41 @@ export function TableFilter<Row>({ table, label, placeholder, rowsNoun }: TableF
       <p className="text-sm text-ink-400" aria-live="polite">
         {shownCount === totalCount ? `${totalCount} ${rowsNoun}` : `${shownCount} of ${totalCount} ${rowsNoun}`}
       </p>
+    </div>
+  );
+}
+
+/**
+ * A list page's table: sorted by the column `sortBy` at first (any heading re-sorts it), with the filter
+ * box and count above it. `emptyMessage` gets the filter text: nothing matches it, or there are no rows.
+ */
+export function FilterableTable<Row>({
+  data,
+  columns,
+  sortBy,
+  caption,
+  filterLabel,
+  placeholder,
+  rowsNoun,
+  emptyMessage,
+  ...display
+}: {
+  data: Row[];
+  columns: ColumnDef<Row>[];
+  sortBy: string;
+  caption: ReactNode;
+  filterLabel: string;
+  placeholder: string;
+  rowsNoun: string;
+  emptyMessage: (filter: string) => ReactNode;
+  testId?: string;
+  verticalAlign?: keyof typeof ROW_CLASS;
+}) {
+  const { table, filter } = useSortableFilterableTable({ data, columns, initialSort: [{ id: sortBy, desc: false }] });
+  return (
+    <div className="flex flex-col gap-3">
+      <TableFilter table={table} label={filterLabel} placeholder={placeholder} rowsNoun={rowsNoun} />
+      <DataTable table={table} caption={caption} emptyMessage={emptyMessage(filter)} {...display} />
     </div>
   );
 }

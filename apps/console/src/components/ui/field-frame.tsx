@@ -22,6 +22,19 @@ export function fieldDescribedBy(id: string, { hint, error, warning }: FieldNote
   return [hint ? `${id}-hint` : null, error ? `${id}-error` : null, warning ? `${id}-warning` : null].filter(Boolean).join(" ") || undefined;
 }
 
+/**
+ * What a framed control carries: its id, aria-invalid and aria-describedby for the notes it shows, and its
+ * border (red with an error, amber with a warning). `look` is the rest of the control's classes.
+ */
+export function fieldControlProps(id: string, notes: FieldNotes, look: string) {
+  return {
+    id,
+    "aria-invalid": notes.error ? (true as const) : undefined,
+    "aria-describedby": fieldDescribedBy(id, notes),
+    className: cn(look, notes.error ? "border-stop-400" : notes.warning ? "border-warn-400" : "border-ink-600 hover:border-ink-400"),
+  };
+}
+
 interface FieldFrameProps extends FieldNotes {
   /** The control's id, which the label points at and the notes' ids start with. */
   id: string;

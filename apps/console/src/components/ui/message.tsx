@@ -1,5 +1,6 @@
 import type { ReactNode } from "react";
 import { CircleCheck, CircleExclamationPoint, Info, TriangleExclamationPoint } from "lucide-react";
+import { describeError } from "../../lib/api-client.ts";
 import { cn } from "../../lib/cn.ts";
 
 type Tone = "info" | "ok" | "warn" | "stop";
@@ -33,5 +34,15 @@ export function Message({ tone = "info", title, children, className }: {
         {children ? <div>{children}</div> : null}
       </div>
     </div>
+  );
+}
+
+/** A failed request's refusal in words (describeError) under `title`; nothing while there is no error. */
+export function FailureMessage({ error, title, className }: { error: unknown; title: string; className?: string }) {
+  if (!error) return null;
+  return (
+    <Message tone="stop" title={title} className={className}>
+      {describeError(error)}
+    </Message>
   );
 }

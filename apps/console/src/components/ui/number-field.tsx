@@ -1,7 +1,6 @@
 import { useId, useState, type ChangeEvent, type FocusEvent, type InputHTMLAttributes, type ReactNode, type Ref } from "react";
-import { cn } from "../../lib/cn.ts";
 import { normalizeDecimalText } from "../../lib/format.ts";
-import { FieldFrame, fieldDescribedBy } from "./field-frame.tsx";
+import { FieldFrame, fieldControlProps } from "./field-frame.tsx";
 
 export interface NumberFieldProps extends Omit<InputHTMLAttributes<HTMLInputElement>, "id" | "type"> {
   label: string;
@@ -63,15 +62,13 @@ export function NumberField({ label, unit, hint, error, warning, className, ref,
     >
       <div className="relative flex items-center">
         <input
-          id={id}
           ref={ref}
           {...(isControlled ? { type: "number", step: "any" } : { type: "text", autoComplete: "off", spellCheck: false })}
           inputMode="decimal"
-          aria-invalid={shownError ? true : undefined}
-          aria-describedby={fieldDescribedBy(id, { hint, error: shownError, warning })}
-          className={cn(
+          {...fieldControlProps(
+            id,
+            { hint, error: shownError, warning },
             "num h-10 w-full rounded-md border bg-ink-800 pr-16 pl-3 text-base text-ink-100 placeholder:text-ink-400 disabled:text-ink-300",
-            shownError ? "border-stop-400" : warning ? "border-warn-400" : "border-ink-600 hover:border-ink-400",
           )}
           {...input}
           {...(isControlled ? { onChange, onBlur } : { onChange: onTextChange, onBlur: onTextBlur })}

@@ -1,6 +1,5 @@
 import { useId, type ReactNode, type Ref, type SelectHTMLAttributes } from "react";
-import { cn } from "../../lib/cn.ts";
-import { FieldFrame, fieldDescribedBy } from "./field-frame.tsx";
+import { FieldFrame, fieldControlProps } from "./field-frame.tsx";
 
 export interface SelectFieldProps extends Omit<SelectHTMLAttributes<HTMLSelectElement>, "id"> {
   label: string;
@@ -16,19 +15,24 @@ export function SelectField({ label, hint, error, warning, className, ref, child
   const id = useId();
   return (
     <FieldFrame id={id} label={label} hint={hint} error={error} warning={warning} className={className}>
-      <select
-        id={id}
-        ref={ref}
-        aria-invalid={error ? true : undefined}
-        aria-describedby={fieldDescribedBy(id, { hint, error, warning })}
-        className={cn(
-          "h-10 rounded-md border bg-ink-800 px-3 text-base text-ink-100",
-          error ? "border-stop-400" : warning ? "border-warn-400" : "border-ink-600 hover:border-ink-400",
-        )}
-        {...select}
-      >
+      <select ref={ref} {...fieldControlProps(id, { hint, error, warning }, "h-10 rounded-md border bg-ink-800 px-3 text-base text-ink-100")} {...select}>
         {children}
       </select>
     </FieldFrame>
   );
+}
+
+/**
+ * One `<option>` per item, showing `labelOf(item)`. The value is `valueFor(item)`, or the item itself for a
+ * list of strings (a set's values: audit entities, sweep objectives).
+ */
+export function Options<T>({ items, labelOf, valueFor = String }: { items: readonly T[]; labelOf: (item: T) => ReactNode; valueFor?: (item: T) => string | number }) {
+  return items.map((item) => {
+    const value = valueFor(item);
+    return (
+      <option key={value} value={value}>
+        {labelOf(item)}
+      </option>
+    );
+  });
 }

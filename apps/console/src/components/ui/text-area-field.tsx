@@ -1,6 +1,5 @@
 import { useId, type ReactNode, type Ref, type TextareaHTMLAttributes } from "react";
-import { cn } from "../../lib/cn.ts";
-import { FieldFrame, fieldDescribedBy } from "./field-frame.tsx";
+import { FieldFrame, fieldControlProps } from "./field-frame.tsx";
 
 export interface TextAreaFieldProps extends Omit<TextareaHTMLAttributes<HTMLTextAreaElement>, "id"> {
   label: string;
@@ -15,15 +14,9 @@ export function TextAreaField({ label, hint, error, className, ref, rows = 3, ..
   return (
     <FieldFrame id={id} label={label} hint={hint} error={error} className={className}>
       <textarea
-        id={id}
         ref={ref}
         rows={rows}
-        aria-invalid={error ? true : undefined}
-        aria-describedby={fieldDescribedBy(id, { hint, error })}
-        className={cn(
-          "rounded-md border bg-ink-800 px-3 py-2 text-base text-ink-100 placeholder:text-ink-400",
-          error ? "border-stop-400" : "border-ink-600 hover:border-ink-400",
-        )}
+        {...fieldControlProps(id, { hint, error }, "rounded-md border bg-ink-800 px-3 py-2 text-base text-ink-100 placeholder:text-ink-400")}
         {...area}
       />
     </FieldFrame>

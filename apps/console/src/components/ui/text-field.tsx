@@ -1,6 +1,5 @@
 import { useId, type InputHTMLAttributes, type ReactNode, type Ref } from "react";
-import { cn } from "../../lib/cn.ts";
-import { FieldFrame, fieldDescribedBy } from "./field-frame.tsx";
+import { FieldFrame, fieldControlProps } from "./field-frame.tsx";
 
 export interface TextFieldProps extends Omit<InputHTMLAttributes<HTMLInputElement>, "id"> {
   label: string;
@@ -14,17 +13,7 @@ export function TextField({ label, hint, error, className, ref, ...input }: Text
   const id = useId();
   return (
     <FieldFrame id={id} label={label} hint={hint} error={error} className={className}>
-      <input
-        id={id}
-        ref={ref}
-        aria-invalid={error ? true : undefined}
-        aria-describedby={fieldDescribedBy(id, { hint, error })}
-        className={cn(
-          "h-10 rounded-md border bg-ink-800 px-3 text-base text-ink-100 placeholder:text-ink-400",
-          error ? "border-stop-400" : "border-ink-600 hover:border-ink-400",
-        )}
-        {...input}
-      />
+      <input ref={ref} {...fieldControlProps(id, { hint, error }, "h-10 rounded-md border bg-ink-800 px-3 text-base text-ink-100 placeholder:text-ink-400")} {...input} />
     </FieldFrame>
   );
 }

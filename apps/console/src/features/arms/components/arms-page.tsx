@@ -4,7 +4,7 @@ import type { ColumnDef } from "@tanstack/react-table";
 import { Plus, Upload } from "lucide-react";
 import type { Arm, User } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
-import { DataTable, TableFilter, useSortableFilterableTable } from "../../../components/ui/data-table.tsx";
+import { FilterableTable, nameLinkColumn } from "../../../components/ui/data-table.tsx";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
 import { formatDateTime } from "../../../lib/format.ts";
 import { useArms } from "../../../lib/queries/arms.ts";
@@ -43,17 +43,7 @@ export function ArmsPage({ user }: { user: User }) {
 function ArmsTable({ arms }: { arms: Arm[] }) {
   const columns = useMemo<ColumnDef<Arm>[]>(
     () => [
-      {
-        id: "name",
-        accessorKey: "name",
-        header: "Name",
-        cell: (c) => (
-          <Link to={`/arms/${c.row.original.id}`} className="font-semibold text-iris-300 hover:underline">
-            {c.row.original.name}
-          </Link>
-        ),
-        meta: { isRowHeader: true, className: "font-normal" },
-      },
+      nameLinkColumn((arm) => `/arms/${arm.id}`, { isRowHeader: true, className: "font-normal" }),
       {
         id: "joints",
         accessorFn: (a) => a.model.joints.length,
@@ -90,17 +80,18 @@ function ArmsTable({ arms }: { arms: Arm[] }) {
     ],
     [],
   );
-  const { table, filter } = useSortableFilterableTable({ data: arms, columns, initialSort: [{ id: "name", desc: false }] });
   return (
-    <div className="flex flex-col gap-3">
-      <TableFilter table={table} label="Filter arms" placeholder="Filter by name, convention or description" rowsNoun="arms" />
-      <DataTable
-        table={table}
-        testId="arms-table"
-        verticalAlign="top"
-        caption="Arms. Select a column heading to sort by it."
-        emptyMessage={arms.length === 0 ? "No arm is defined yet." : `No arm matches “${filter}”.`}
-      />
-    </div>
+    <FilterableTable
+      data={arms}
+      columns={columns}
+      sortBy="name"
+      testId="arms-table"
+      verticalAlign="top"
+      caption="Arms. Select a column heading to sort by it."
+      filterLabel="Filter arms"
+      placeholder="Filter by name, convention or description"
+      rowsNoun="arms"
+      emptyMessage={(filter) => (arms.length === 0 ? "No arm is defined yet." : `No arm matches “${filter}”.`)}
+    />
   );
 }

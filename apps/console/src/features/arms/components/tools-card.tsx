@@ -9,7 +9,7 @@ import { Button } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
 import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
-import { Message } from "../../../components/ui/message.tsx";
+import { FailureMessage, Message } from "../../../components/ui/message.tsx";
 import { NumberField } from "../../../components/ui/number-field.tsx";
 import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
@@ -136,23 +136,20 @@ function ToolForm({ armId, revisionId, tool, onDone }: { armId: number; revision
     );
   });
   const number = (key: keyof ToolFormValues, label: string, unit: string) => (
-    <NumberField label={label} unit={unit} error={errors[key]?.message} {...register(key, { valueAsNumber: true })} />
+    <NumberField key={key} label={label} unit={unit} error={errors[key]?.message} {...register(key, { valueAsNumber: true })} />
+  );
+  /** Three numbers in one unit under a legend: the TCP's x, y, z or its roll, pitch, yaw. */
+  const triple = (legend: string, unit: string, fields: [keyof ToolFormValues, string][]) => (
+    <fieldset className="grid grid-cols-3 gap-3">
+      <legend className="mb-1 text-sm font-semibold">{legend}</legend>
+      {fields.map(([key, label]) => number(key, label, unit))}
+    </fieldset>
   );
   return (
     <form onSubmit={onSubmit} noValidate className="flex flex-col gap-4" aria-label="Tool">
       <TextField label="Name" autoComplete="off" error={errors.name?.message} {...register("name")} />
-      <fieldset className="grid grid-cols-3 gap-3">
-        <legend className="mb-1 text-sm font-semibold">TCP position</legend>
-        {number("xMm", "x", "mm")}
-        {number("yMm", "y", "mm")}
-        {number("zMm", "z", "mm")}
-      </fieldset>
-      <fieldset className="grid grid-cols-3 gap-3">
-        <legend className="mb-1 text-sm font-semibold">TCP orientation</legend>
-        {number("rollDeg", "Roll", "deg")}
-        {number("pitchDeg", "Pitch", "deg")}
-        {number("yawDeg", "Yaw", "deg")}
-      </fieldset>
+      {triple("TCP position", "mm", [["xMm", "x"], ["yMm", "y"], ["zMm", "z"]])}
+      {triple("TCP orientation", "deg", [["rollDeg", "Roll"], ["pitchDeg", "Pitch"], ["yawDeg", "Yaw"]])}
       <div className="grid grid-cols-3 gap-3">{number("massKg", "Mass", "kg")}</div>
       <TextAreaField label="Note" error={errors.note?.message} {...register("note")} />
       {messages.length > 0 ? (
@@ -181,11 +178,7 @@ function RetireToolDialog({ armId, tool, onClose: close }: { armId: number; tool
         }}
         className="flex flex-col gap-3"
       >
-        {retire.isError ? (
-          <Message tone="stop" title="Not retired">
-            {describeError(retire.error)}
-          </Message>
-        ) : null}
+        <FailureMessage error={retire.error} title="Not retired" />
         <DialogFormActions onCancel={onClose} isPending={retire.isPending} submitLabel="Retire tool" pendingLabel="Retiring…" submitVariant="danger" />
       </form>
     </Dialog>

@@ -7,7 +7,7 @@ import { AUDIT_ACTIONS, label, type AuditEntry } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { DataTable } from "../../../components/ui/data-table.tsx";
-import { SelectField } from "../../../components/ui/select-field.tsx";
+import { Options, SelectField } from "../../../components/ui/select-field.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
 import { capitalized, formatDateTime } from "../../../lib/format.ts";
 import type { AuditEntity, AuditFilters } from "../../../lib/queries/audit.ts";
@@ -109,19 +109,11 @@ export function AuditPage({ isAdmin }: { isAdmin: boolean }) {
       <form onSubmit={onFilter} className="mb-4 grid items-end gap-3 md:grid-cols-6" aria-label="Filter the audit trail" key={searchParams.toString()}>
         <SelectField label="About" name="entity" defaultValue={searchParams.get("entity") ?? ""}>
           <option value="">Anything</option>
-          {AUDIT_ENTITIES.map((e) => (
-            <option key={e} value={e}>
-              {label("auditEntity", e)}
-            </option>
-          ))}
+          <Options items={AUDIT_ENTITIES} labelOf={(e) => label("auditEntity", e)} />
         </SelectField>
         <SelectField label="Action" name="action" defaultValue={searchParams.get("action") ?? ""}>
           <option value="">Any action</option>
-          {AUDIT_ACTIONS.map((a) => (
-            <option key={a} value={a}>
-              {label("auditAction", a)}
-            </option>
-          ))}
+          <Options items={AUDIT_ACTIONS} labelOf={(a) => label("auditAction", a)} />
         </SelectField>
         <SelectField label="Actor" name="actorId" defaultValue={searchParams.get("actorId") ?? ""}>
           <option value="">Anyone</option>

@@ -9,10 +9,9 @@ import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { Checkbox } from "../../../components/ui/checkbox.tsx";
-import { Message } from "../../../components/ui/message.tsx";
+import { FailureMessage } from "../../../components/ui/message.tsx";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
-import { describeError } from "../../../lib/api-client.ts";
 import { formatDateTime } from "../../../lib/format.ts";
 import { profileDetailQueryOptions, useProfiles } from "../../../lib/queries/profiles.ts";
 import { recordingListQueryOptions } from "../../../lib/queries/recordings.ts";
@@ -212,11 +211,7 @@ export function BenchPage() {
               }}
             />
           ) : null}
-          {run.isError ? (
-            <Message tone="stop" title="The runs failed">
-              {describeError(run.error)}
-            </Message>
-          ) : null}
+          <FailureMessage error={run.error} title="The runs failed" />
         </Card>
         {run.data ? <RunComparison a={run.data.a} b={run.data.b} arm={arms.data?.find((x) => x.id === run.data.a.runs[0]?.armId)} /> : null}
         {a && armId !== null ? <SingularityMapPanel armId={armId} version={a} /> : null}

@@ -9,9 +9,9 @@ import { Plot } from "../../../components/charts/plot.tsx";
 import { Button } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
-import { Message } from "../../../components/ui/message.tsx";
+import { FailureMessage, Message } from "../../../components/ui/message.tsx";
 import { NumberField } from "../../../components/ui/number-field.tsx";
-import { SelectField } from "../../../components/ui/select-field.tsx";
+import { Options, SelectField } from "../../../components/ui/select-field.tsx";
 import { describeError } from "../../../lib/api-client.ts";
 import { useInvalidateProfiles } from "../../../lib/queries/profiles.ts";
 import { runSweep, saveDraft } from "../api/bench-api.ts";
@@ -33,11 +33,7 @@ function AxisFields({ title, axis, onChange }: { title: string; axis: AxisDraft;
     <fieldset className="grid gap-3 md:grid-cols-4">
       <legend className="mb-1 text-sm font-semibold text-ink-100">{title}</legend>
       <SelectField label="Parameter" value={axis.parameter} onChange={(e) => onChange({ ...axis, parameter: e.target.value as SweepParameter })}>
-        {PARAMETERS.map((p) => (
-          <option key={p} value={p}>
-            {SWEEP_PARAMETERS[p].label}
-          </option>
-        ))}
+        <Options items={PARAMETERS} labelOf={(p) => SWEEP_PARAMETERS[p].label} />
       </SelectField>
       <NumberField label="From" unit={d.unit} step="any" value={+(axis.from * d.factor).toPrecision(6)} onChange={(e) => onChange({ ...axis, from: e.target.valueAsNumber / d.factor })} />
       <NumberField label="To" unit={d.unit} step="any" value={+(axis.to * d.factor).toPrecision(6)} onChange={(e) => onChange({ ...axis, to: e.target.valueAsNumber / d.factor })} />
@@ -109,18 +105,10 @@ export function SweepPanel({ version, latestVersionId, trials, trialCount }: { v
         )}
         <div className="grid gap-3 md:grid-cols-2">
           <SelectField label="Trade-off: across" value={x} onChange={(e) => setX(e.target.value as SweepObjective)}>
-            {OBJECTIVES.map((o) => (
-              <option key={o} value={o}>
-                {SWEEP_OBJECTIVES[o].label}
-              </option>
-            ))}
+            <Options items={OBJECTIVES} labelOf={(o) => SWEEP_OBJECTIVES[o].label} />
           </SelectField>
           <SelectField label="Trade-off: up" value={y} onChange={(e) => setY(e.target.value as SweepObjective)}>
-            {OBJECTIVES.map((o) => (
-              <option key={o} value={o}>
-                {SWEEP_OBJECTIVES[o].label}
-              </option>
-            ))}
+            <Options items={OBJECTIVES} labelOf={(o) => SWEEP_OBJECTIVES[o].label} />
           </SelectField>
         </div>
         <div className="flex items-center gap-3">
@@ -151,11 +139,7 @@ export function SweepPanel({ version, latestVersionId, trials, trialCount }: { v
             {draft.data.note}
           </Message>
         ) : null}
-        {draft.isError ? (
-          <Message tone="stop" title="Could not save the draft">
-            {describeError(draft.error)}
-          </Message>
-        ) : null}
+        <FailureMessage error={draft.error} title="Could not save the draft" />
         {points.some((p) => p.invalid) ? (
           <p className="text-xs text-ink-400">{points.filter((p) => p.invalid).length} combinations are not valid profiles and did not run.</p>
         ) : null}

@@ -1,4 +1,4 @@
-import { useMemo, useState } from "react";
+import { useMemo, useState, type ReactNode } from "react";
 import { Link } from "react-router";
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
@@ -24,6 +24,28 @@ import { useUpdateCeilings } from "../hooks/use-ceilings.ts";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
 
 /** Server issues name request paths ("ceilings.tcpLinearMaxMPerS", "note"); the form shows them on its UI fields. */
+/** The numeric ceilings as the form shows them, in this order: the form field (UI units), its label, unit and hint. */
+const NUMBER_CEILINGS: { field: NumberCeilingField; label: string; unit: string; hint?: ReactNode }[] = [
+  { field: "tcpLinearMaxMmPerS", label: "TCP linear speed, at most", unit: "mm/s", hint: <>Default 250 mm/s. Reference: {ISO_CEILING_CITATION}.</> },
+  { field: "tcpAngularMaxDegPerS", label: "TCP angular speed, at most", unit: "deg/s" },
+  { field: "jointSpeedFractionMaxPercent", label: "Joint rate cap, at most", unit: "%", hint: "Of each joint's rated speed (the arm's maxSpeed)." },
+  { field: "watchdogMaxMs", label: "Input watchdog, at most", unit: "ms", hint: "The longest time without input before a controlled stop." },
+  {
+    field: "stoppingDistanceMaxMm",
+    label: "Controlled stop, at most",
+    unit: "mm",
+    hint: "From a version's top TCP speed (linear cap at its maximum override) at its linear deceleration, v²/2a. Default 50 mm: common practice, no source.",
+  },
+  {
+    field: "decelerationMinMPerS2",
+    label: "Linear deceleration, at least",
+    unit: "m/s²",
+    hint: "The smallest linear acceleration limit a version may use; it also sets the controlled-stop ramp. Default 0.5 m/s²: common practice, no source.",
+  },
+  { field: "lambdaMaxMinMm", label: "Damping at the singularity, at least", unit: "mm", hint: "The smallest λmax (or λ0, or fixed λ) a profile may use near singularities." },
+];
+type NumberCeilingField = "tcpLinearMaxMmPerS" | "tcpAngularMaxDegPerS" | "jointSpeedFractionMaxPercent" | "watchdogMaxMs" | "stoppingDistanceMaxMm" | "decelerationMinMPerS2" | "lambdaMaxMinMm";
+
 const fieldOfServerIssue = (path: string): keyof CeilingsFormValues | undefined =>
   path === "note" ? "note" : path.startsWith("ceilings.") ? uiFieldOfCeilingsPath(path.slice("ceilings.".length)) : undefined;
 
@@ -95,61 +117,17 @@ function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: 
       >
         <form onSubmit={onSubmit} noValidate className={cn("flex flex-col gap-5", SCROLL_ABOVE_FORM_FOOTER)} aria-label="Site ceilings">
           <div className="grid gap-4 md:grid-cols-2">
-            <NumberField
-              label="TCP linear speed, at most"
-              unit="mm/s"
-              hint={<>Default 250 mm/s. Reference: {ISO_CEILING_CITATION}.</>}
-              disabled={!canEdit}
-              error={errors.tcpLinearMaxMmPerS?.message}
-              {...register("tcpLinearMaxMmPerS", { valueAsNumber: true })}
-            />
-            <NumberField
-              label="TCP angular speed, at most"
-              unit="deg/s"
-              disabled={!canEdit}
-              error={errors.tcpAngularMaxDegPerS?.message}
-              {...register("tcpAngularMaxDegPerS", { valueAsNumber: true })}
-            />
-            <NumberField
-              label="Joint rate cap, at most"
-              unit="%"
-              hint="Of each joint's rated speed (the arm's maxSpeed)."
-              disabled={!canEdit}
-              error={errors.jointSpeedFractionMaxPercent?.message}
-              {...register("jointSpeedFractionMaxPercent", { valueAsNumber: true })}
-            />
-            <NumberField
-              label="Input watchdog, at most"
-              unit="ms"
-              hint="The longest time without input before a controlled stop."
-              disabled={!canEdit}
-              error={errors.watchdogMaxMs?.message}
-              {...register("watchdogMaxMs", { valueAsNumber: true })}
-            />
-            <NumberField
-              label="Controlled stop, at most"
-              unit="mm"
-              hint="From a version's top TCP speed (linear cap at its maximum override) at its linear deceleration, v²/2a. Default 50 mm: common practice, no source."
-              disabled={!canEdit}
-              error={errors.stoppingDistanceMaxMm?.message}
-              {...register("stoppingDistanceMaxMm", { valueAsNumber: true })}
-            />
-            <NumberField
-              label="Linear deceleration, at least"
-              unit="m/s²"
-              hint="The smallest linear acceleration limit a version may use; it also sets the controlled-stop ramp. Default 0.5 m/s²: common practice, no source."
-              disabled={!canEdit}
-              error={errors.decelerationMinMPerS2?.message}
-              {...register("decelerationMinMPerS2", { valueAsNumber: true })}
-            />
-            <NumberField
-              label="Damping at the singularity, at least"
-              unit="mm"
-              hint="The smallest λmax (or λ0, or fixed λ) a profile may use near singularities."
-              disabled={!canEdit}
-              error={errors.lambdaMaxMinMm?.message}
-              {...register("lambdaMaxMinMm", { valueAsNumber: true })}
-            />
+            {NUMBER_CEILINGS.map(({ field, label, unit, hint }) => (
+              <NumberField
+                key={field}
+                label={label}
+                unit={unit}
+                hint={hint}
+                disabled={!canEdit}
+                error={errors[field]?.message}
+                {...register(field, { valueAsNumber: true })}
+              />
+            ))}
             <SelectField
               label="Evidence before submission"
               hint="The built-in trials of the arm, run with the version (the server runs any the engineer did not attach): none stalled (a stop-before hold counts as finished), none stopping farther than the stopping-distance ceiling."

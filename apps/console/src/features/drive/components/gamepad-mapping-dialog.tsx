@@ -10,8 +10,7 @@ import {
 import { Button } from "../../../components/ui/button.tsx";
 import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
 import { Dialog } from "../../../components/ui/dialog.tsx";
-import { Message } from "../../../components/ui/message.tsx";
-import { describeError } from "../../../lib/api-client.ts";
+import { FailureMessage, Message } from "../../../components/ui/message.tsx";
 import { driveKeys, saveGamepadMapping } from "../api/drive-api.ts";
 import { firstGamepad } from "../input/shaping.ts";
 
@@ -65,6 +64,16 @@ function IndexInput({ label, value, max, onChange, children }: { label: string; 
       <input type="number" min={0} max={max} aria-label={label} className={numberClass} value={value} onChange={(event) => onChange(Number(event.target.value))} />
       {children}
     </span>
+  );
+}
+
+/** One number of the stick shaping (deadband, expo), from 0 to `max`, labelled on its left. */
+function ShapingInput({ label, max, step, value, onChange }: { label: string; max: number; step: number; value: number; onChange: (value: number) => void }) {
+  return (
+    <label className="flex items-center justify-between gap-2">
+      {label}
+      <input type="number" min={0} max={max} step={step} className={numberClass} value={value} onChange={(event) => onChange(Number(event.target.value))} />
+    </label>
   );
 }
 
@@ -134,75 +143,81 @@ function GamepadMappingForm({ onClose, mapping }: { onClose: () => void; mapping
       <CaptureButton target={captureAs} current={capture} onToggle={toggleCapture} />
     </IndexInput>
   );
+  /** A column whose cell edits one motion's entry (undefined while the motion is not mapped). */
+  const entryColumn = (id: string, header: string, cell: (target: Target, entry: Entry | undefined) => ReactNode): ColumnDef<Target> => ({
+    id,
+    header,
+    cell: ({ row: { original: target } }) => cell(target, entryFor(target)),
+  });
   const columns: ColumnDef<Target>[] = [
     { id: "motion", header: "Motion", meta: { isRowHeader: true }, cell: (c) => TARGET_LABELS[c.row.original] },
-    {
-      id: "source",
-      header: "Source",
-      cell: ({ row: { original: target } }) => {
-        const entry = entryFor(target);
-        return (
-          <select
-            aria-label={`${TARGET_LABELS[target]} source`}
-            className={selectClass}
-            value={entry?.source.kind ?? "none"}
-            onChange={(event) => {
-              const k = event.target.value;
-              const invert = entry?.invert ?? false;
-              if (k === "none") setEntry(target, null);
-              else if (k === "axis") setEntry(target, { target, source: { kind: "axis", index: 0 }, invert });
-              else setEntry(target, { target, source: { kind: "buttons", positive: 12, negative: 13 }, invert });
-            }}
-          >
-            <option value="none">Not used</option>
-            <option value="axis">Stick axis</option>
-            <option value="buttons">Button pair</option>
-          </select>
+    entryColumn("source", "Source", (target, entry) => (
+      <select
+        aria-label={`${TARGET_LABELS[target]} source`}
+        className={selectClass}
+        value={entry?.source.kind ?? "none"}
+        onChange={(event) => {
+          const k = event.target.value;
+          const invert = entry?.invert ?? false;
+          if (k === "none") setEntry(target, null);
+          else if (k === "axis") setEntry(target, { target, source: { kind: "axis", index: 0 }, invert });
+          else setEntry(target, { target, source: { kind: "buttons", positive: 12, negative: 13 }, invert });
+        }}
+      >
+        <option value="none">Not used</option>
+        <option value="axis">Stick axis</option>
+        <option value="buttons">Button pair</option>
+      </select>
+    )),
+    entryColumn("index", "Index", (target, entry) => {
+      const source = entry?.source;
+      if (!entry || !source) return <span className="text-xs text-ink-400">—</span>;
+      if (source.kind === "axis") {
+        return indexInput(`${TARGET_LABELS[target]} axis index`, source.index, 15, { kind: "axis", target }, (index) =>
+          setEntry(target, { ...entry, source: { kind: "axis", index } }),
         );
-      },
-    },
-    {
-      id: "index",
-      header: "Index",
-      cell: ({ row: { original: target } }) => {
-        const entry = entryFor(target);
-        const source = entry?.source;
-        if (!entry || !source) return <span className="text-xs text-ink-400">—</span>;
-        if (source.kind === "axis") {
-          return indexInput(`${TARGET_LABELS[target]} axis index`, source.index, 15, { kind: "axis", target }, (index) =>
-            setEntry(target, { ...entry, source: { kind: "axis", index } }),
-          );
-        }
-        const side = (which: "positive" | "negative") =>
-          indexInput(`${TARGET_LABELS[target]} ${which} button`, source[which], 31, { kind: "button", field: `${target}.${which}` }, (index) =>
-            setEntry(target, { ...entry, source: { ...source, [which]: index } }),
-          );
-        return (
-          <span className="flex flex-wrap items-center gap-1 text-xs text-ink-300">
-            +{side("positive")}−{side("negative")}
-          </span>
+      }
+      const side = (which: "positive" | "negative") =>
+        indexInput(`${TARGET_LABELS[target]} ${which} button`, source[which], 31, { kind: "button", field: `${target}.${which}` }, (index) =>
+          setEntry(target, { ...entry, source: { ...source, [which]: index } }),
         );
-      },
-    },
-    {
-      id: "invert",
-      header: "Invert",
-      cell: ({ row: { original: target } }) => {
-        const entry = entryFor(target);
-        return (
-          <input
-            type="checkbox"
-            aria-label={`Invert ${TARGET_LABELS[target]}`}
-            className="size-4 accent-iris-400"
-            disabled={!entry}
-            checked={entry?.invert ?? false}
-            onChange={(event) => entry && setEntry(target, { ...entry, invert: event.target.checked })}
-          />
-        );
-      },
-    },
+      return (
+        <span className="flex flex-wrap items-center gap-1 text-xs text-ink-300">
+          +{side("positive")}−{side("negative")}
+        </span>
+      );
+    }),
+    entryColumn("invert", "Invert", (target, entry) => (
+      <input
+        type="checkbox"
+        aria-label={`Invert ${TARGET_LABELS[target]}`}
+        className="size-4 accent-iris-400"
+        disabled={!entry}
+        checked={entry?.invert ?? false}
+        onChange={(event) => entry && setEntry(target, { ...entry, invert: event.target.checked })}
+      />
+    )),
   ];
   const table = useDataTable({ data: TARGET_ROWS, columns, getRowId: (target) => target });
+  /** The enabling or e-stop button by number, with its Assign button; an optional one may be left empty ("none"). */
+  const buttonRow = (field: "enablingButton" | "estopButton", id: string, label: string, { isOptional = false } = {}) => (
+    <div className="flex items-center justify-between gap-2">
+      <label htmlFor={id}>{label}</label>
+      <span className="flex items-center gap-1">
+        <input
+          id={id}
+          type="number"
+          min={0}
+          max={31}
+          placeholder={isOptional ? "none" : undefined}
+          className={numberClass}
+          value={draft[field] ?? ""}
+          onChange={(event) => setDraft((d) => ({ ...d, [field]: isOptional && event.target.value === "" ? null : Number(event.target.value) }))}
+        />
+        <CaptureButton target={{ kind: "button", field }} current={capture} onToggle={toggleCapture} />
+      </span>
+    </div>
+  );
 
 
   return (
@@ -215,61 +230,10 @@ function GamepadMappingForm({ onClose, mapping }: { onClose: () => void; mapping
     >
       <DataTable table={table} caption="Which stick or button pair drives each motion" emptyMessage="No motions" />
       <div className="grid grid-cols-2 gap-4 text-sm">
-        <label className="flex items-center justify-between gap-2">
-          Deadband (%)
-          <input
-            type="number"
-            min={0}
-            max={50}
-            step={1}
-            className={numberClass}
-            value={Math.round(draft.deadband * 100)}
-            onChange={(event) => setDraft((d) => ({ ...d, deadband: Number(event.target.value) / 100 }))}
-          />
-        </label>
-        <label className="flex items-center justify-between gap-2">
-          Expo (0 linear … 1 cubic)
-          <input
-            type="number"
-            min={0}
-            max={1}
-            step={0.05}
-            className={numberClass}
-            value={draft.expo}
-            onChange={(event) => setDraft((d) => ({ ...d, expo: Number(event.target.value) }))}
-          />
-        </label>
-        <div className="flex items-center justify-between gap-2">
-          <label htmlFor="enabling-button">Enabling button (hold to run)</label>
-          <span className="flex items-center gap-1">
-            <input
-              id="enabling-button"
-              type="number"
-              min={0}
-              max={31}
-              className={numberClass}
-              value={draft.enablingButton}
-              onChange={(event) => setDraft((d) => ({ ...d, enablingButton: Number(event.target.value) }))}
-            />
-            <CaptureButton target={{ kind: "button", field: "enablingButton" }} current={capture} onToggle={toggleCapture} />
-          </span>
-        </div>
-        <div className="flex items-center justify-between gap-2">
-          <label htmlFor="estop-button">Emergency-stop button</label>
-          <span className="flex items-center gap-1">
-            <input
-              id="estop-button"
-              type="number"
-              min={0}
-              max={31}
-              placeholder="none"
-              className={numberClass}
-              value={draft.estopButton ?? ""}
-              onChange={(event) => setDraft((d) => ({ ...d, estopButton: event.target.value === "" ? null : Number(event.target.value) }))}
-            />
-            <CaptureButton target={{ kind: "button", field: "estopButton" }} current={capture} onToggle={toggleCapture} />
-          </span>
-        </div>
+        <ShapingInput label="Deadband (%)" max={50} step={1} value={Math.round(draft.deadband * 100)} onChange={(percent) => setDraft((d) => ({ ...d, deadband: percent / 100 }))} />
+        <ShapingInput label="Expo (0 linear … 1 cubic)" max={1} step={0.05} value={draft.expo} onChange={(expo) => setDraft((d) => ({ ...d, expo }))} />
+        {buttonRow("enablingButton", "enabling-button", "Enabling button (hold to run)")}
+        {buttonRow("estopButton", "estop-button", "Emergency-stop button", { isOptional: true })}
       </div>
       <p className="text-xs text-ink-400">
         Standard layout: axes 0/1 left stick x/y, 2/3 right stick x/y; buttons 4/5 bumpers, 6/7 triggers, 12–15 d-pad.
@@ -277,11 +241,7 @@ function GamepadMappingForm({ onClose, mapping }: { onClose: () => void; mapping
       {!parsed.success ? (
         <Message tone="warn">{parsed.error.issues.map((i) => i.message).join("; ")}</Message>
       ) : null}
-      {save.isError ? (
-        <Message tone="stop" title="Could not save the mapping">
-          {describeError(save.error)}
-        </Message>
-      ) : null}
+      <FailureMessage error={save.error} title="Could not save the mapping" />
       <div className="flex justify-between gap-2">
         <Button variant="ghost" onClick={() => setDraft(DEFAULT_GAMEPAD_MAPPING)}>
           Restore defaults

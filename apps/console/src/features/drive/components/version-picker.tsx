@@ -1,9 +1,10 @@
-import { useId } from "react";
+import { useId, type ReactNode } from "react";
 import { useQuery } from "@tanstack/react-query";
 import { label, type DriveableVersion } from "@jogwright/shared";
 import { Button } from "../../../components/ui/button.tsx";
 import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
+import { Options } from "../../../components/ui/select-field.tsx";
 import { describeError } from "../../../lib/api-client.ts";
 import { driveableVersionsQueryOptions } from "../api/drive-api.ts";
 
@@ -20,6 +21,25 @@ export interface PickedVersion {
 }
 
 const selectClass = "h-9 min-w-64 rounded-md border border-ink-600 bg-ink-800 px-3 text-sm text-ink-100 hover:border-ink-400 disabled:text-ink-400";
+
+/** One of the picker's two selects (profile, version): its value an id, or null while none is picked (""). */
+function PickerSelect({ id, labelText, value, disabled, onChange, children }: {
+  id: string;
+  labelText: string;
+  value: number | null;
+  disabled?: boolean;
+  onChange: (value: number | null) => void;
+  children: ReactNode;
+}) {
+  return (
+    <div className="flex flex-col gap-1 text-sm font-semibold text-ink-100">
+      <label htmlFor={id}>{labelText}</label>
+      <select id={id} className={selectClass} value={value ?? ""} disabled={disabled} onChange={(event) => onChange(event.target.value === "" ? null : Number(event.target.value))}>
+        {children}
+      </select>
+    </div>
+  );
+}
 
 export function versionLabel(v: Pick<DriveableVersion, "number" | "state" | "kind" | "exceedsCeilings">): string {
   if (v.kind === "approved") return `Version ${v.number} · approved`;
@@ -87,42 +107,19 @@ export function VersionPicker({ isEngineer, picked, onPick, onStart, isDriving, 
 
   return (
     <div className="flex flex-wrap items-end gap-3">
-      <div className="flex flex-col gap-1 text-sm font-semibold text-ink-100">
-        <label htmlFor={`${id}-profile`}>Profile</label>
-        <select
-          id={`${id}-profile`}
-          className={selectClass}
-          value={picked.profileId ?? ""}
-          onChange={(event) => {
-            const profileId = event.target.value === "" ? null : Number(event.target.value);
-            onPick({ profileId, versionId: defaultVersionOf(choices.find((c) => c.profileId === profileId)) });
-          }}
-        >
-          <option value="">Pick a profile…</option>
-          {choices.map((c) => (
-            <option key={c.profileId} value={c.profileId}>
-              {c.label}
-            </option>
-          ))}
-        </select>
-      </div>
-      <div className="flex flex-col gap-1 text-sm font-semibold text-ink-100">
-        <label htmlFor={`${id}-version`}>Version</label>
-        <select
-          id={`${id}-version`}
-          className={selectClass}
-          value={picked.versionId ?? ""}
-          disabled={!profile}
-          onChange={(event) => onPick({ ...picked, versionId: event.target.value === "" ? null : Number(event.target.value) })}
-        >
-          {versions.length === 0 ? <option value="">—</option> : null}
-          {versions.map((v) => (
-            <option key={v.id} value={v.id}>
-              {versionLabel(v)}
-            </option>
-          ))}
-        </select>
-      </div>
+      <PickerSelect
+        id={`${id}-profile`}
+        labelText="Profile"
+        value={picked.profileId}
+        onChange={(profileId) => onPick({ profileId, versionId: defaultVersionOf(choices.find((c) => c.profileId === profileId)) })}
+      >
+        <option value="">Pick a profile…</option>
+        <Options items={choices} valueFor={(c) => c.profileId} labelOf={(c) => c.label} />
+      </PickerSelect>
+      <PickerSelect id={`${id}-version`} labelText="Version" value={picked.versionId} disabled={!profile} onChange={(versionId) => onPick({ ...picked, versionId })}>
+        {versions.length === 0 ? <option value="">—</option> : null}
+        <Options items={versions} valueFor={(v) => v.id} labelOf={versionLabel} />
+      </PickerSelect>
       <Button
         variant="primary"
         onClick={onStart}

@@ -1,6 +1,7 @@
 import { useSyncExternalStore } from "react";
 import { DEFAULT_GAMEPAD_MAPPING, TWIST_TARGETS, type GamepadMapping } from "@jogwright/shared";
 import { jogClient } from "../../../lib/jog-socket.ts";
+import { SnapshotStore } from "../../../lib/snapshot-store.ts";
 import { createGamepadReading, readGamepad } from "./shaping.ts";
 
 /**
@@ -60,7 +61,19 @@ function isEditable(target: EventTarget | null): boolean {
   return false;
 }
 
-export class JogInputController {
+const INITIAL: JogInputSnapshot = {
+  isEnabling: false,
+  enablingSources: [],
+  gamepadId: null,
+  mode: "cartesian",
+  frame: "world",
+  overridePercent: 50,
+  maxOverridePercent: 100,
+  axes: new Array<number>(6).fill(0),
+  isActive: false,
+};
+
+export class JogInputController extends SnapshotStore<JogInputSnapshot> {
   private mapping: GamepadMapping = DEFAULT_GAMEPAD_MAPPING;
   private axisCount = 6;
   private enablingSources = new Set<string>();
@@ -78,45 +91,31 @@ export class JogInputController {
   private isKeyReleaseNeeded = false;
   private wasEstopPressed = false;
   private timer: ReturnType<typeof setInterval> | null = null;
+  /** Aborted to remove the keyboard, focus and gamepad listeners that start() added. */
+  private pageEvents: AbortController | null = null;
   private wasActive = false;
   private isReadOnly = true;
   private axes = new Array<number>(6).fill(0);
-  private snapshot: JogInputSnapshot = {
-    isEnabling: false,
-    enablingSources: [],
-    gamepadId: null,
-    mode: "cartesian",
-    frame: "world",
-    overridePercent: 50,
-    maxOverridePercent: 100,
-    axes: this.axes.slice(),
-    isActive: false,
-  };
-  private listeners = new Set<() => void>();
 
-  subscribe = (listener: () => void): (() => void) => {
-    this.listeners.add(listener);
-    return () => this.listeners.delete(listener);
-  };
-  getSnapshot = (): JogInputSnapshot => this.snapshot;
-
-  private publish(patch: Partial<JogInputSnapshot>): void {
-    this.snapshot = { ...this.snapshot, ...patch };
-    for (const listener of this.listeners) listener();
+  constructor() {
+    super(INITIAL);
   }
 
   /** Starts the loop and the keyboard/focus listeners. Call stop() when the page goes. */
   start(): void {
     if (this.timer) return;
     this.timer = setInterval(() => this.tick(), TICK_MS);
-    window.addEventListener("keydown", this.onKeyDown);
-    window.addEventListener("keyup", this.onKeyUp);
-    window.addEventListener("blur", this.onBlur);
-    window.addEventListener("focus", this.onFocus);
-    window.addEventListener("pointerdown", this.onPointerDown, true);
-    window.addEventListener("gamepadconnected", this.onGamepadEvent);
-    window.addEventListener("gamepaddisconnected", this.onGamepadEvent);
-    document.addEventListener("visibilitychange", this.onVisibility);
+    // One signal removes them all in stop(), so the two lists cannot drift apart.
+    this.pageEvents = new AbortController();
+    const { signal } = this.pageEvents;
+    window.addEventListener("keydown", this.onKeyDown, { signal });
+    window.addEventListener("keyup", this.onKeyUp, { signal });
+    window.addEventListener("blur", this.onBlur, { signal });
+    window.addEventListener("focus", this.onFocus, { signal });
+    window.addEventListener("pointerdown", this.onPointerDown, { capture: true, signal });
+    window.addEventListener("gamepadconnected", this.onGamepadEvent, { signal });
+    window.addEventListener("gamepaddisconnected", this.onGamepadEvent, { signal });
+    document.addEventListener("visibilitychange", this.onVisibility, { signal });
   }
 
   private readonly onBlur = (): void => {
@@ -157,14 +156,8 @@ export class JogInputController {
     this.releaseAll();
     if (this.timer) clearInterval(this.timer);
     this.timer = null;
-    window.removeEventListener("keydown", this.onKeyDown);
-    window.removeEventListener("keyup", this.onKeyUp);
-    window.removeEventListener("blur", this.onBlur);
-    window.removeEventListener("focus", this.onFocus);
-    window.removeEventListener("pointerdown", this.onPointerDown, true);
-    window.removeEventListener("gamepadconnected", this.onGamepadEvent);
-    window.removeEventListener("gamepaddisconnected", this.onGamepadEvent);
-    document.removeEventListener("visibilitychange", this.onVisibility);
+    this.pageEvents?.abort();
+    this.pageEvents = null;
   }
 
   /** Read-only (watching, no session, e-stop pending) sends nothing. */

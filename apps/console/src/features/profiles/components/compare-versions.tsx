@@ -1,7 +1,7 @@
 import { useState } from "react";
 import { label as labelOf, type JointKind, type ProfileVersion } from "@jogwright/shared";
 import { Checkbox } from "../../../components/ui/checkbox.tsx";
-import { SelectField } from "../../../components/ui/select-field.tsx";
+import { Options, SelectField } from "../../../components/ui/select-field.tsx";
 import { ParamsDiffTable } from "../../../components/profiles/params-table.tsx";
 
 export interface ComparePair {
@@ -25,18 +25,10 @@ export function CompareVersions({ versions, pair, onPairChange, jointKinds }: {
     <div className="flex flex-col gap-4">
       <div className="flex flex-wrap items-end gap-4">
         <SelectField label="From version" value={pair.fromId} onChange={(e) => onPairChange({ ...pair, fromId: Number(e.target.value) })} className="w-56">
-          {versions.map((v) => (
-            <option key={v.id} value={v.id}>
-              {label(v)}
-            </option>
-          ))}
+          <Options items={versions} valueFor={(v) => v.id} labelOf={label} />
         </SelectField>
         <SelectField label="To version" value={pair.toId} onChange={(e) => onPairChange({ ...pair, toId: Number(e.target.value) })} className="w-56">
-          {versions.map((v) => (
-            <option key={v.id} value={v.id}>
-              {label(v)}
-            </option>
-          ))}
+          <Options items={versions} valueFor={(v) => v.id} labelOf={label} />
         </SelectField>
         <div className="pb-2">
           <Checkbox label="Only changed parameters" checked={isOnlyChanged} onChange={(e) => setOnlyChanged(e.target.checked)} />

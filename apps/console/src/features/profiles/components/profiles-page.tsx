@@ -5,7 +5,7 @@ import type { ColumnDef } from "@tanstack/react-table";
 import { Plus } from "lucide-react";
 import type { ProfileSummary, User } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
-import { createdAtColumn, DataTable, TableFilter, useSortableFilterableTable } from "../../../components/ui/data-table.tsx";
+import { createdAtColumn, FilterableTable, nameLinkColumn } from "../../../components/ui/data-table.tsx";
 import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
 import { useProfiles } from "../../../lib/queries/profiles.ts";
 import { VersionLabel } from "../../../components/profiles/version-state-badge.tsx";
@@ -57,16 +57,7 @@ function DriveableCell({ profile }: { profile: ProfileSummary }) {
 function ProfilesTable({ profiles }: { profiles: ProfileSummary[] }) {
   const columns = useMemo<ColumnDef<ProfileSummary>[]>(
     () => [
-      {
-        id: "name",
-        accessorKey: "name",
-        header: "Name",
-        cell: (c) => (
-          <Link to={`/profiles/${c.row.original.id}`} className="font-semibold text-iris-300 hover:underline">
-            {c.row.original.name}
-          </Link>
-        ),
-      },
+      nameLinkColumn((profile) => `/profiles/${profile.id}`),
       { id: "operator", accessorKey: "operatorName", header: "Operator" },
       { id: "arm", accessorKey: "armName", header: "Arm" },
       {
@@ -87,16 +78,17 @@ function ProfilesTable({ profiles }: { profiles: ProfileSummary[] }) {
     ],
     [],
   );
-  const { table, filter } = useSortableFilterableTable({ data: profiles, columns, initialSort: [{ id: "name", desc: false }] });
   return (
-    <div className="flex flex-col gap-3">
-      <TableFilter table={table} label="Filter profiles" placeholder="Filter by name, operator or arm" rowsNoun="profiles" />
-      <DataTable
-        table={table}
-        testId="profiles-table"
-        caption="Profiles. Select a column heading to sort by it."
-        emptyMessage={profiles.length === 0 ? "No profiles yet." : `No profile matches “${filter}”.`}
-      />
-    </div>
+    <FilterableTable
+      data={profiles}
+      columns={columns}
+      sortBy="name"
+      testId="profiles-table"
+      caption="Profiles. Select a column heading to sort by it."
+      filterLabel="Filter profiles"
+      placeholder="Filter by name, operator or arm"
+      rowsNoun="profiles"
+      emptyMessage={(filter) => (profiles.length === 0 ? "No profiles yet." : `No profile matches “${filter}”.`)}
+    />
   );
 }

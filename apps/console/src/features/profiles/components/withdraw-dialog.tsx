@@ -1,8 +1,7 @@
 import { useState } from "react";
 import { withdrawVersionSchema, type ProfileVersion } from "@jogwright/shared";
-import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
-import { Message } from "../../../components/ui/message.tsx";
-import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
+import { Dialog } from "../../../components/ui/dialog.tsx";
+import { NoteForm } from "../../../components/ui/note-form.tsx";
 import { useWithdrawVersion } from "../hooks/use-profiles.ts";
 
 /**
@@ -23,25 +22,27 @@ function WithdrawForm({ version, onCancel, onDone }: { version: ProfileVersion; 
   const parsed = withdrawVersionSchema.safeParse({ note });
   const noteError = parsed.success ? undefined : parsed.error.issues[0]?.message;
   return (
-    <form
-      noValidate
-      className="flex flex-col gap-4"
-      onSubmit={(event) => {
-        event.preventDefault();
-        if (!parsed.success) return;
-        withdraw.mutate({ versionId: version.id, note: parsed.data.note }, { onSuccess: onDone });
+    <NoteForm
+      explanation={
+        <p className="text-sm text-ink-300">
+          It leaves the review queue and cannot be approved; submit it again as a new version if you change your mind.
+        </p>
+      }
+      label="Note"
+      hint="Optional. Why you take it back; shown in the version history."
+      note={note}
+      onNoteChange={setNote}
+      error={noteError}
+      refusal={withdraw.error}
+      refusalTitle="Not withdrawn"
+      onSubmit={() => {
+        if (parsed.success) withdraw.mutate({ versionId: version.id, note: parsed.data.note }, { onSuccess: onDone });
       }}
-    >
-      <p className="text-sm text-ink-300">
-        It leaves the review queue and cannot be approved; submit it again as a new version if you change your mind.
-      </p>
-      <TextAreaField label="Note" hint="Optional. Why you take it back; shown in the version history." error={noteError} value={note} onChange={(e) => setNote(e.target.value)} />
-      {withdraw.isError ? (
-        <Message tone="stop" title="Not withdrawn">
-          {withdraw.error.message}
-        </Message>
-      ) : null}
-      <DialogFormActions onCancel={onCancel} isPending={withdraw.isPending} submitLabel="Withdraw" pendingLabel="Withdrawing…" submitVariant="danger" />
-    </form>
+      onCancel={onCancel}
+      isPending={withdraw.isPending}
+      submitLabel="Withdraw"
+      pendingLabel="Withdrawing…"
+      submitVariant="danger"
+    />
   );
 }

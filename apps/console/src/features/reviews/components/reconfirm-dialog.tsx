@@ -1,8 +1,7 @@
 import { useState } from "react";
 import { reconfirmVersionSchema, type ProfileVersion } from "@jogwright/shared";
-import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
-import { Message } from "../../../components/ui/message.tsx";
-import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
+import { Dialog } from "../../../components/ui/dialog.tsx";
+import { NoteForm } from "../../../components/ui/note-form.tsx";
 import { useReconfirmVersion } from "../hooks/use-reviews.ts";
 
 /**
@@ -31,33 +30,29 @@ function ReconfirmForm({ version, onCancel, onDone }: { version: ProfileVersion;
   const parsed = reconfirmVersionSchema.safeParse({ comment });
   const error = isTouched && !parsed.success ? parsed.error.issues[0]?.message : undefined;
   return (
-    <form
-      noValidate
-      className="flex flex-col gap-4"
-      onSubmit={(event) => {
-        event.preventDefault();
+    <NoteForm
+      explanation={
+        <p className="text-sm text-ink-300">
+          The site ceilings were lowered below this version once. It complies with the ceilings in force now; re-confirming it lets its operator drive it again.
+          The flag stays in its history, beside your re-confirmation.
+        </p>
+      }
+      label="Comment"
+      hint="Required. Recorded with your name, the time and the ceilings revision; the author and operator are mailed."
+      note={comment}
+      onNoteChange={setComment}
+      onNoteBlur={() => setTouched(true)}
+      error={error}
+      refusal={reconfirm.error}
+      refusalTitle="Not re-confirmed"
+      onSubmit={() => {
         setTouched(true);
         if (parsed.success) reconfirm.mutate(parsed.data.comment, { onSuccess: onDone });
       }}
-    >
-      <p className="text-sm text-ink-300">
-        The site ceilings were lowered below this version once. It complies with the ceilings in force now; re-confirming it lets its operator drive it again.
-        The flag stays in its history, beside your re-confirmation.
-      </p>
-      <TextAreaField
-        label="Comment"
-        hint="Required. Recorded with your name, the time and the ceilings revision; the author and operator are mailed."
-        error={error}
-        value={comment}
-        onChange={(e) => setComment(e.target.value)}
-        onBlur={() => setTouched(true)}
-      />
-      {reconfirm.isError ? (
-        <Message tone="stop" title="Not re-confirmed">
-          {reconfirm.error.message}
-        </Message>
-      ) : null}
-      <DialogFormActions onCancel={onCancel} isPending={reconfirm.isPending} submitLabel="Re-confirm" pendingLabel="Re-confirming…" />
-    </form>
+      onCancel={onCancel}
+      isPending={reconfirm.isPending}
+      submitLabel="Re-confirm"
+      pendingLabel="Re-confirming…"
+    />
   );
 }

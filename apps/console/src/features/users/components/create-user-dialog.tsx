@@ -8,6 +8,7 @@ import { TextField } from "../../../components/ui/text-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
 import { useCreateUser } from "../hooks/use-users.ts";
 import { FormMessageList } from "./form-messages.tsx";
+import { NewPasswordField } from "./new-password-field.tsx";
 import { RoleCheckboxes } from "./role-checkboxes.tsx";
 import { applyServerIssues } from "../../../lib/server-issues.ts";
 
@@ -60,11 +61,9 @@ function CreateUserForm({ onCancel, onCreated }: { onCancel: () => void; onCreat
       />
       <TextField label="Display name" autoComplete="off" error={errors.displayName?.message} {...register("displayName")} />
       <TextField label="E-mail" type="email" autoComplete="off" error={errors.email?.message} {...register("email")} />
-      <TextField
+      <NewPasswordField
         label="Password"
-        type="password"
         hint="At least 10 characters. Hand it over in person; the user can be given a new one later."
-        autoComplete="new-password"
         error={errors.password?.message}
         {...register("password")}
       />

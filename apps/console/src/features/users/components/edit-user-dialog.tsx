@@ -9,6 +9,7 @@ import { TextField } from "../../../components/ui/text-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
 import { useUpdateUser } from "../hooks/use-users.ts";
 import { FormMessageList } from "./form-messages.tsx";
+import { NewPasswordField } from "./new-password-field.tsx";
 import { RoleCheckboxes } from "./role-checkboxes.tsx";
 import { applyServerIssues } from "../../../lib/server-issues.ts";
 
@@ -78,11 +79,9 @@ function EditUserForm({ user, onCancel, onSaved }: { user: User; onCancel: () =>
       <TextField label="Display name" autoComplete="off" error={errors.displayName?.message} {...register("displayName")} />
       <TextField label="E-mail" type="email" autoComplete="off" error={errors.email?.message} {...register("email")} />
       <RoleCheckboxes registration={register("roles")} error={errors.roles?.message ?? errors.roles?.root?.message} />
-      <TextField
+      <NewPasswordField
         label="New password (optional)"
-        type="password"
         hint="Leave empty to keep the current password; otherwise at least 10 characters."
-        autoComplete="new-password"
         error={errors.password?.message}
         {...register("password")}
       />

@@ -4,7 +4,7 @@ import { Pencil, UserCheck, UserX } from "lucide-react";
 import { ROLES, ROLE_LABELS, type User } from "@jogwright/shared";
 import { Badge } from "../../../components/ui/badge.tsx";
 import { Button } from "../../../components/ui/button.tsx";
-import { createdAtColumn, DataTable, TableFilter, useSortableFilterableTable } from "../../../components/ui/data-table.tsx";
+import { createdAtColumn, FilterableTable } from "../../../components/ui/data-table.tsx";
 
 interface UsersTableProps {
   users: User[];
@@ -82,11 +82,16 @@ export function UsersTable({ users, currentUserId, onEdit, onToggleActive }: Use
     [currentUserId, onEdit, onToggleActive],
   );
 
-  const { table, filter } = useSortableFilterableTable({ data: users, columns, initialSort: [{ id: "username", desc: false }] });
   return (
-    <div className="flex flex-col gap-3">
-      <TableFilter table={table} label="Filter users" placeholder="Filter by name, e-mail, role or status" rowsNoun="users" />
-      <DataTable table={table} caption="Users. Select a column heading to sort by it." emptyMessage={`No user matches “${filter}”.`} />
-    </div>
+    <FilterableTable
+      data={users}
+      columns={columns}
+      sortBy="username"
+      caption="Users. Select a column heading to sort by it."
+      filterLabel="Filter users"
+      placeholder="Filter by name, e-mail, role or status"
+      rowsNoun="users"
+      emptyMessage={(filter) => `No user matches “${filter}”.`}
+    />
   );
 }
