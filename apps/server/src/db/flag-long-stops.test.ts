@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import type { Arm, User } from "@jogwright/shared";
 import { createHarness, freshUser, type Harness } from "../test/harness.ts";
-import { approveWithSql, compliantParams, sixAxisArm, uniqueName } from "../test/profiles-fixture.ts";
+import { approveInDatabase, compliantParams, sixAxisArm, uniqueName } from "../test/profiles-fixture.ts";
 import { createProfile, findVersion } from "../modules/versions/service.ts";
 import { up as flagLongStops } from "./migrations/0013-flag-long-stops.ts";
 
@@ -32,7 +32,7 @@ async function approvedBeforeTheStopCeilings(linearAccelMPerS2: number): Promise
   const params = { ...compliantParams(arm), shaping: { ...compliantParams(arm).shaping, linearAccelMPerS2 } };
   const profile = await createProfile(h.ctx, engineer, { name: uniqueName("old approval"), operatorId: operator.id, armId: arm.id, params, note: "" });
   const id = profile.latestVersion.id;
-  await approveWithSql(h, id, officer.id);
+  await approveInDatabase(h, id, officer.id);
   return id;
 }
 

@@ -8,7 +8,7 @@ import { loadConfig } from "../config.ts";
 import { createSequelize } from "./connection.ts";
 import { prepareDatabase } from "./prepare.ts";
 import { call, createHarness, listenHarness, type Harness } from "../test/harness.ts";
-import { approveWithSql, createProfile, freshTeam, sixAxisArm } from "../test/profiles-fixture.ts";
+import { approveInDatabase, createProfile, freshTeam, sixAxisArm } from "../test/profiles-fixture.ts";
 import { JogTestClient, sleep } from "../modules/jog/jog-test-client.ts";
 
 /**
@@ -75,7 +75,7 @@ describe("MariaDB paused, then stopped, while two sessions jog", () => {
     for (const team of teams) {
       // Approved through SQL: the submission's trial evidence (minutes of CPU on a busy machine) is not what this tests.
       const profile = await createProfile(h, team, arm);
-      await approveWithSql(h, profile.latestVersion.id, team.officer.id);
+      await approveInDatabase(h, profile.latestVersion.id, team.officer.id);
       const version = profile.latestVersion;
       const client = await JogTestClient.connect(listener.wsUrl, { Cookie: team.operator.cookie, Origin: listener.baseUrl });
       client.send({ type: "start", versionId: version.id });

@@ -6,7 +6,7 @@ import { Redis } from "ioredis";
 import { Queue } from "bullmq";
 import { JOG_CLOSE_CODES, sweepResultSchema, takeStreamEvents } from "@jogwright/shared";
 import { createHarness, freshUser, type Harness } from "../test/harness.ts";
-import { approveWithSql, createProfile, freshTeam, sixAxisArm, type Team } from "../test/profiles-fixture.ts";
+import { approveInDatabase, createProfile, freshTeam, sixAxisArm, type Team } from "../test/profiles-fixture.ts";
 import { JogTestClient } from "../modules/jog/jog-test-client.ts";
 import { TRIAL_QUEUE } from "../modules/trials/trial-queue.ts";
 
@@ -97,7 +97,7 @@ beforeAll(async () => {
   const arm = await sixAxisArm(h);
   versionId = (await createProfile(h, team, arm)).latestVersion.id;
   approvedVersionId = (await createProfile(h, team, arm)).latestVersion.id;
-  await approveWithSql(h, approvedVersionId, team.officer.id);
+  await approveInDatabase(h, approvedVersionId, team.officer.id);
   const common = { DATABASE_URL: process.env.DATABASE_URL!, MIGRATION_DATABASE_URL: process.env.MIGRATION_DATABASE_URL ?? process.env.DATABASE_URL!, SEED_DEMO: "0" };
   // Together: the database is migrated already, so neither has a migration to race the other for.
   [a, b] = await Promise.all([

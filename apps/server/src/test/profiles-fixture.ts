@@ -1,5 +1,7 @@
-import { QueryTypes, type Sequelize } from "sequelize";
+import type { Sequelize } from "sequelize";
 import { defaultProfileParams, type Arm, type ProfileParams, type Role } from "@jogwright/shared";
+import { modelsOf } from "../db/models.ts";
+import { findArmIdBySlug } from "../modules/arms/service.ts";
 import { call, freshUser, signIn, type Harness } from "./harness.ts";
 
 /** Fresh people for one test: two engineers, two safety officers, an operator; each signed in. */
@@ -21,17 +23,17 @@ export type Team = Awaited<ReturnType<typeof freshTeam>>;
 /**
  * Deactivate a test's people when it is done with them, so "all active safety officers" (the submit
  * mail) stays what the file's later tests expect (each file has its own database: fresh-database.ts).
- * Plain SQL: this is test cleanup, not an audited change.
+ * Through the model, not the users service: this is test cleanup, not an audited change.
  */
 export async function retireTeam(h: Harness, team: Team | undefined): Promise<void> {
   if (!team) return;
   const ids = Object.values(team).map((p) => p.id);
-  await h.db.query("UPDATE users SET is_active = 0 WHERE id IN (?)", { replacements: [ids] });
+  await modelsOf(h.db).User.update({ isActive: false }, { where: { id: ids } });
 }
 
 export async function sixAxisArm(h: Harness): Promise<Arm> {
-  const rows = await h.db.query<{ id: number }>("SELECT id FROM arms WHERE slug = 'cell-arm-6'", { type: QueryTypes.SELECT });
-  const res = await call(h, "get", `/api/arms/${rows[0]!.id}`, (await adminlessCookie(h)));
+  const id = await findArmIdBySlug(h.db, "cell-arm-6");
+  const res = await call(h, "get", `/api/arms/${id}`, (await adminlessCookie(h)));
   return res.body.arm as Arm;
 }
 
@@ -82,20 +84,13 @@ export async function approvedProfile(h: Harness, team: Team, arm: Arm, params =
 }
 
 /**
- * Approve a version with plain SQL, as the database allows it (migration 0014): submit it if it is a
- * draft, then insert its approvals row, whose triggers lock it and set it approved. For tests that need
- * versions in a given state quickly; `approverId` must not be the author.
+ * Approve a version through the models, past the workflow service, as the database allows it (migration
+ * 0014): submit it if it is a draft, then insert its approvals row, whose triggers lock it and set it
+ * approved. For tests that need versions in a given state quickly; `approverId` must not be the author.
  */
-export async function approveWithSql(h: Harness, versionId: number, approverId: string, comment = "approved for a test"): Promise<void> {
-  await h.db.query("UPDATE version_status SET state = 'submitted', submitted_at = CURRENT_TIMESTAMP(3) WHERE version_id = ? AND state = 'draft'", {
-    replacements: [versionId],
-  });
-  // VALUES, not INSERT … SELECT FROM profile_versions: the trigger updates that table (MariaDB error 1442).
-  const [row] = await h.db.query<{ params_sha256: string }>("SELECT params_sha256 FROM profile_versions WHERE id = ?", {
-    replacements: [versionId],
-    type: QueryTypes.SELECT,
-  });
-  await h.db.query("INSERT INTO approvals (version_id, approver_id, comment, params_sha256) VALUES (?, ?, ?, ?)", {
-    replacements: [versionId, approverId, comment, row!.params_sha256],
-  });
+export async function approveInDatabase(h: Harness, versionId: number, approverId: string, comment = "approved for a test"): Promise<void> {
+  const { Version, VersionStatus, Approval } = modelsOf(h.db);
+  await VersionStatus.update({ state: "submitted", submittedAt: new Date() }, { where: { versionId, state: "draft" } });
+  const version = await Version.findByPk(versionId, { attributes: ["paramsSha256"] });
+  await Approval.create({ versionId, approverId, comment, paramsSha256: version!.paramsSha256 });
 }

@@ -4,7 +4,7 @@ import { demoArms } from "@jogwright/kinematics";
 import { randomUUID } from "node:crypto";
 import { armDetailSchema, armUploadPreviewSchema, profileDetailResponseSchema, recordingSchema, toolTransform, versionResponseSchema, type Arm, type ArmModel } from "@jogwright/shared";
 import { call, createHarness, type Harness } from "../../test/harness.ts";
-import { approveWithSql, compliantParams, createProfile, sixAxisArm, uniqueName, withTeam, closeWithTeam, type Team } from "../../test/profiles-fixture.ts";
+import { approveInDatabase, compliantParams, createProfile, sixAxisArm, uniqueName, withTeam, closeWithTeam, type Team } from "../../test/profiles-fixture.ts";
 import { loadVersionForDriving } from "../driving/service.ts";
 import { insertRecording } from "../recordings/service.ts";
 import type { ArmOfVersion } from "./service.ts";
@@ -217,7 +217,7 @@ describe("the API names the arm revision and tool each version drives", () => {
     ]);
 
     // The review read names both: the version's, and the approved version's it would replace.
-    await approveWithSql(h, v1, team.officer.id);
+    await approveInDatabase(h, v1, team.officer.id);
     const review = await call(h, "get", `/api/versions/${v2.id}`, team.officer.cookie);
     expect(review.status).toBe(200);
     expect(review.body.version).toMatchObject({ armRevisionId: rev2.id, armRevision: 2, toolName: "Long gripper" });

@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes, type Sequelize } from "sequelize";
 import { flaggedVersionsResponseSchema, updateCeilingsResponseSchema, versionDetailResponseSchema, type Arm, type Ceilings } from "@jogwright/shared";
 import { call, createMailHarness, freshUser, signIn, type Harness } from "../../test/harness.ts";
-import { approvedProfile, approveWithSql, compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
+import { approvedProfile, approveInDatabase, compliantParams, createProfile, freshTeam, retireTeam, sixAxisArm, type Team } from "../../test/profiles-fixture.ts";
 import { createOwnerDb } from "../../test/owner-db.ts";
 import type { FakeSmtp } from "../../mail/fake-smtp.ts";
 
@@ -171,7 +171,7 @@ describe("the flag in the database itself (migrations 0008, 0016)", () => {
   it("a flag is cleared only by inserting a re-confirmation row, in that statement; a bare UPDATE is refused, even naming a used row", async () => {
     const profile = await createProfile(h, team, arm);
     const id = profile.latestVersion.id;
-    await approveWithSql(h, id, team.officer.id);
+    await approveInDatabase(h, id, team.officer.id);
     await h.db.query("UPDATE version_status SET exceeds_ceilings = 1 WHERE version_id = ?", { replacements: [id] });
     await expect(h.db.query("UPDATE version_status SET exceeds_ceilings = 0 WHERE version_id = ?", { replacements: [id] })).rejects.toThrow(/flag stays/);
     // Not by the author, not without a comment.
@@ -198,7 +198,7 @@ describe("the flag in the database itself (migrations 0008, 0016)", () => {
     const profile = await createProfile(h, team, arm);
     const id = profile.latestVersion.id;
     await expect(insertEvent(id, "reconfirm", team.officer.id, "a draft")).rejects.toThrow(/only an approved version flagged/);
-    await approveWithSql(h, id, team.officer.id);
+    await approveInDatabase(h, id, team.officer.id);
     await expect(insertEvent(id, "reconfirm", team.officer.id, "not flagged")).rejects.toThrow(/only an approved version flagged/);
     await insertEvent(id, "flag", team.officer.id, "a flag row");
     await expect(h.db.query("UPDATE version_ceiling_events SET comment = 'changed' WHERE version_id = ?", { replacements: [id] })).rejects.toThrow(/never changed/);

@@ -11,7 +11,7 @@ import {
 } from "@jogwright/shared";
 import { call, createHarness, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
 import { JogTestClient } from "../jog/jog-test-client.ts";
-import { approveWithSql, compliantParams, sixAxisArm, uniqueName } from "../../test/profiles-fixture.ts";
+import { approveInDatabase, compliantParams, sixAxisArm, uniqueName } from "../../test/profiles-fixture.ts";
 import { AppError } from "../../errors.ts";
 import { findProfile } from "../profiles/service.ts";
 import { createProfile } from "../versions/service.ts";
@@ -64,7 +64,7 @@ beforeAll(async () => {
         const id = profile.latestVersion.id;
         // Straight from draft (the lifecycle trigger allows any other state from draft); approved only through
         // an approvals row by someone other than the author (migration 0014), which also locks the row.
-        if (state === "approved") await approveWithSql(h, id, people.safetyOfficer!.user.id);
+        if (state === "approved") await approveInDatabase(h, id, people.safetyOfficer!.user.id);
         else await h.db.query("UPDATE version_status SET state = ? WHERE version_id = ?", { replacements: [state, id] });
         if (flagged) await h.db.query("UPDATE version_status SET exceeds_ceilings = 1 WHERE version_id = ?", { replacements: [id] });
         versions.push({ id, profileId: profile.id, state, flagged, ownerId: owner.user.id });
