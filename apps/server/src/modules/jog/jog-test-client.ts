@@ -14,6 +14,9 @@ export interface InputState {
   overridePercent: number;
 }
 
+/** How a state frame's text names its last input (sim-worker.ts frameText writes it last). */
+const LAST_INPUT_SEQ_KEY = '"lastInputSeq":';
+
 export class JogTestClient {
   readonly messages: { at: number; msg: JogServerMessage }[] = [];
   readonly invalid: unknown[] = [];
@@ -38,8 +41,8 @@ export class JogTestClient {
       if (this.onStateSeq) {
         const text = data.toString();
         if (text.startsWith('{"type":"state"')) {
-          const i = text.lastIndexOf('"lastInputSeq":');
-          this.onStateSeq(i < 0 ? -1 : Number.parseInt(text.slice(i + 15), 10), at);
+          const i = text.lastIndexOf(LAST_INPUT_SEQ_KEY);
+          this.onStateSeq(i < 0 ? -1 : Number.parseInt(text.slice(i + LAST_INPUT_SEQ_KEY.length), 10), at);
           return;
         }
       }

@@ -182,16 +182,12 @@ export class TickScheduler {
       // re-phases the grid to itself, so a stream of inputs gets a frame per input and no grid frames in
       // between: an input never waits for a grid slot.
       const isDue = s.nextFrameMs <= now;
-      const tokens = s.frameTokens + ((now - s.tokensAtMs) * MAX_FRAMES_PER_S) / 1000;
-      s.frameTokens = tokens < FRAME_BURST ? tokens : FRAME_BURST;
-      s.tokensAtMs = now;
-      if ((isDue || client.isFrameWanted === true) && s.frameTokens >= 1) {
+      if ((isDue || client.isFrameWanted === true) && takeFrameToken(s, now)) {
         try {
           client.runFrame();
         } catch (error) {
           console.error("[jogwright] jog frame failed:", error);
         }
-        s.frameTokens -= 1;
         if (isDue) {
           s.frameIndex++;
           s.nextFrameMs = s.f0 + s.frameIndex * client.framePeriodMs;
@@ -216,4 +212,16 @@ export class TickScheduler {
     }
     return next;
   }
+}
+
+/** Refills the client's frame bucket up to `now` and takes one token; false (nothing taken) when empty. */
+function takeFrameToken(s: ClientSchedule, now: number): boolean {
+  const tokens = s.frameTokens + ((now - s.tokensAtMs) * MAX_FRAMES_PER_S) / 1000;
+  s.tokensAtMs = now;
+  if (tokens < 1) {
+    s.frameTokens = tokens;
+    return false;
+  }
+  s.frameTokens = (tokens < FRAME_BURST ? tokens : FRAME_BURST) - 1;
+  return true;
 }

@@ -38,6 +38,8 @@ export class RecordingWriter {
   private readonly pending = new Map<number, Pending>();
   private timer: NodeJS.Timeout | null = null;
   private flushing: Promise<void> | null = null;
+  /** The flush queued behind the running one (shared by every call made meanwhile). */
+  private next: Promise<void> | null = null;
   failures = 0;
   chunksWritten = 0;
   /** Frames dropped over all recordings because the database fell behind (each also in its summary). */
@@ -97,9 +99,18 @@ export class RecordingWriter {
     void this.flush();
   }
 
-  /** One flush at a time; a call during a flush waits for it and then flushes again. */
+  /**
+   * One flush at a time; a call during a flush waits for it and then flushes again, and the calls made
+   * during one flush share that next flush (many sessions ending at once do not chain a flush each).
+   */
   flush(): Promise<void> {
-    if (this.flushing) return this.flushing.then(() => this.flush());
+    if (this.flushing) {
+      this.next ??= this.flushing.then(() => {
+        this.next = null;
+        return this.flush();
+      });
+      return this.next;
+    }
     this.flushing = this.flushOnce().finally(() => {
       this.flushing = null;
     });
