@@ -1,6 +1,5 @@
-import type { MigrationFn } from "umzug";
-import { DataTypes, type Sequelize } from "sequelize";
-import { addForeignKey, NOW } from "./columns.ts";
+import { json, NULLABLE, primaryKey, text, unsigned, userRef } from "../columns.ts";
+import { addForeignKeys, schemaStep, timeNow } from "./columns.ts";
 
 /**
  * Site ceilings, one row per revision (history kept; the highest revision is in force). Revision 1 is
@@ -18,19 +17,16 @@ const REVISION_1 = {
   lambdaMaxMinM: 0.01,
 };
 
-export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
+export const up = schemaStep(async (qi) => {
   await qi.createTable("site_ceilings", {
-    revision: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, primaryKey: true },
-    ceilings: { type: DataTypes.JSON, allowNull: false },
-    note: { type: DataTypes.TEXT, allowNull: false },
-    updated_by: { type: DataTypes.STRING(40), allowNull: true },
-    updated_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    revision: primaryKey(unsigned()),
+    ceilings: json(),
+    note: text(),
+    updated_by: userRef(NULLABLE),
+    updated_at: timeNow(),
   });
-  await addForeignKey(qi, "site_ceilings", "site_ceilings_updated_by_fk", "updated_by", "users");
+  await addForeignKeys(qi, "site_ceilings", { updated_by: "users" });
   await qi.bulkInsert("site_ceilings", [{ revision: 1, ceilings: JSON.stringify(REVISION_1), note: "site defaults (ISO 10218-1 reduced speed)" }]);
-};
+});
 
-export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.getQueryInterface().dropTable("site_ceilings");
-};
+export const down = schemaStep((qi) => qi.dropTable("site_ceilings"));

@@ -1,6 +1,5 @@
-import type { MigrationFn } from "umzug";
-import { DataTypes, type Sequelize } from "sequelize";
-import { addForeignKey } from "./columns.ts";
+import { NULLABLE, primaryKey, serialId, string, time, unsigned, userRef } from "../columns.ts";
+import { addForeignKeys, schemaStep } from "./columns.ts";
 
 /**
  * Recordings of live jog sessions: one row per session (who, arm, profile version, start/end, why it
@@ -13,40 +12,35 @@ import { addForeignKey } from "./columns.ts";
  * `frames` is plain LONGTEXT (utf8mb4_unicode_ci, not JSON's utf8mb4_bin) checked as JSON — the writer
  * joins frame JSON it already has into the array text, and nothing ever queries inside it.
  */
-export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
+export const up = schemaStep(async (qi) => {
   await qi.createTable("jog_recordings", {
-    id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, autoIncrement: true, primaryKey: true },
-    session_id: { type: DataTypes.STRING(64), allowNull: false },
-    driver_id: { type: DataTypes.STRING(40), allowNull: false },
-    arm_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    profile_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    version_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    started_at: { type: DataTypes.DATE(3), allowNull: false },
-    ended_at: { type: DataTypes.DATE(3), allowNull: true },
-    end_reason: { type: DataTypes.STRING(60), allowNull: true },
+    id: serialId(),
+    session_id: string(64),
+    driver_id: userRef(),
+    arm_id: unsigned(),
+    profile_id: unsigned(),
+    version_id: unsigned(),
+    started_at: time(),
+    ended_at: time(NULLABLE),
+    end_reason: string(60, NULLABLE),
     summary: { type: "JSON CHECK (summary IS NULL OR JSON_VALID(summary))", allowNull: true },
   });
   await qi.addConstraint("jog_recordings", { type: "unique", name: "jog_recordings_session_unique", fields: ["session_id"] });
   await qi.addIndex("jog_recordings", ["driver_id", "started_at"], { name: "jog_recordings_driver" });
   await qi.addIndex("jog_recordings", ["started_at"], { name: "jog_recordings_started" });
-  await addForeignKey(qi, "jog_recordings", "jog_recordings_driver_fk", "driver_id", "users");
-  await addForeignKey(qi, "jog_recordings", "jog_recordings_arm_fk", "arm_id", "arms");
-  await addForeignKey(qi, "jog_recordings", "jog_recordings_profile_fk", "profile_id", "profiles");
-  await addForeignKey(qi, "jog_recordings", "jog_recordings_version_fk", "version_id", "profile_versions");
+  await addForeignKeys(qi, "jog_recordings", { driver_id: "users", arm_id: "arms", profile_id: "profiles", version_id: "profile_versions" });
 
   await qi.createTable("jog_recording_chunks", {
-    recording_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, primaryKey: true },
-    chunk_index: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, primaryKey: true },
-    frame_count: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+    recording_id: primaryKey(unsigned()),
+    chunk_index: primaryKey(unsigned()),
+    frame_count: unsigned(),
     // NOT NULL inside the text: MariaDB wants it before the CHECK, and Sequelize appends allowNull's after.
     frames: { type: "LONGTEXT NOT NULL CHECK (JSON_VALID(frames))" },
   });
-  await addForeignKey(qi, "jog_recording_chunks", "jog_recording_chunks_recording_fk", "recording_id", "jog_recordings", { onDelete: "CASCADE" });
-};
+  await addForeignKeys(qi, "jog_recording_chunks", { recording_id: "jog_recordings" }, { onDelete: "CASCADE" });
+});
 
-export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
+export const down = schemaStep(async (qi) => {
   await qi.dropTable("jog_recording_chunks");
   await qi.dropTable("jog_recordings");
-};
+});

@@ -1,6 +1,5 @@
-import type { MigrationFn } from "umzug";
-import { DataTypes, type Sequelize } from "sequelize";
-import { addForeignKey, NOW } from "./columns.ts";
+import { primaryKey, string, unsigned, userRef } from "../columns.ts";
+import { addForeignKeys, schemaStep, timeNow } from "./columns.ts";
 
 /**
  * The emergency-stop latch of each operator station (user and arm), so a latch survives a server
@@ -8,18 +7,14 @@ import { addForeignKey, NOW } from "./columns.ts";
  * (modules/jog/station-latches.ts); latches and resets are audited as entity "session",
  * id "station:<user id>:<arm id>".
  */
-export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
+export const up = schemaStep(async (qi) => {
   await qi.createTable("station_estop_latches", {
-    user_id: { type: DataTypes.STRING(40), allowNull: false, primaryKey: true },
-    arm_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, primaryKey: true },
-    latched_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
-    latched_by_session: { type: DataTypes.STRING(64), allowNull: false },
+    user_id: primaryKey(userRef()),
+    arm_id: primaryKey(unsigned()),
+    latched_at: timeNow(),
+    latched_by_session: string(64),
   });
-  await addForeignKey(qi, "station_estop_latches", "station_estop_latches_user_fk", "user_id", "users");
-  await addForeignKey(qi, "station_estop_latches", "station_estop_latches_arm_fk", "arm_id", "arms");
-};
+  await addForeignKeys(qi, "station_estop_latches", { user_id: "users", arm_id: "arms" });
+});
 
-export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  await db.getQueryInterface().dropTable("station_estop_latches");
-};
+export const down = schemaStep((qi) => qi.dropTable("station_estop_latches"));

@@ -1,5 +1,6 @@
 import type { MigrationFn } from "umzug";
 import { QueryTypes, type Sequelize } from "sequelize";
+import { schemaStep } from "./columns.ts";
 
 /**
  * Two site ceilings arrived after versions were approved: the longest controlled stop from a version's top
@@ -17,8 +18,7 @@ type Json = Record<string, unknown>;
 const num = (v: unknown) => (typeof v === "number" && Number.isFinite(v) ? v : Number.NaN);
 const parse = (v: unknown): Json => (typeof v === "string" ? JSON.parse(v) : (v as Json)) ?? {};
 
-export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
+export const up = schemaStep(async (qi, db) => {
   await db.transaction(async (transaction) => {
     // The two reads are SQL: queryInterface's select takes one table without order or limit, and a
     // migration must not use the app's models (they change with the code; this migration must not).
@@ -63,7 +63,7 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
       );
     }
   });
-};
+});
 
 /** Flags are sticky by design (trigger 0008): there is nothing to undo. */
 export const down: MigrationFn<Sequelize> = async () => {};

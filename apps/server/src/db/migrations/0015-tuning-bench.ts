@@ -1,6 +1,5 @@
-import type { MigrationFn } from "umzug";
-import { DataTypes, type Sequelize } from "sequelize";
-import { addForeignKey, NOW, NOW_ON_UPDATE, refuseEveryRow, refuseRowsWhen } from "./columns.ts";
+import { enumOf, json, longBlob, NULLABLE, primaryKey, serialId, sha256, string, unsigned, userRef } from "../columns.ts";
+import { addForeignKeys, createTrigger, refusal, refuseEveryRow, refuseRowsWhen, schemaStep, timeNow, timeNowOnUpdate, triggerBody } from "./columns.ts";
 
 /**
  * The tuning bench (issue 10):
@@ -19,73 +18,70 @@ import { addForeignKey, NOW, NOW_ON_UPDATE, refuseEveryRow, refuseRowsWhen } fro
  */
 const ENTITIES = ["user", "arm", "profile", "version", "ceilings", "approval", "session"];
 
-export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
+export const up = schemaStep(async (qi) => {
   // Custom trials are audited: the trail names a new entity.
-  await qi.changeColumn("audit_log", "entity", { type: DataTypes.ENUM(...ENTITIES, "trial"), allowNull: false });
+  await qi.changeColumn("audit_log", "entity", enumOf([...ENTITIES, "trial"]));
   await qi.createTable("trials", {
-    id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, autoIncrement: true, primaryKey: true },
-    arm_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    name: { type: DataTypes.STRING(120), allowNull: false },
-    definition: { type: DataTypes.JSON, allowNull: false },
-    created_by: { type: DataTypes.STRING(40), allowNull: false },
-    created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
-    updated_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW_ON_UPDATE },
+    id: serialId(),
+    arm_id: unsigned(),
+    name: string(120),
+    definition: json(),
+    created_by: userRef(),
+    created_at: timeNow(),
+    updated_at: timeNowOnUpdate(),
   });
   await qi.addConstraint("trials", { type: "unique", name: "trials_arm_name_unique", fields: ["arm_id", "name"] });
-  await addForeignKey(qi, "trials", "trials_arm_fk", "arm_id", "arms");
-  await addForeignKey(qi, "trials", "trials_created_by_fk", "created_by", "users");
+  await addForeignKeys(qi, "trials", { arm_id: "arms", created_by: "users" });
 
   await qi.createTable("trial_runs", {
-    id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, autoIncrement: true, primaryKey: true },
-    arm_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    profile_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    version_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
-    params: { type: DataTypes.JSON, allowNull: false },
+    id: serialId(),
+    arm_id: unsigned(),
+    profile_id: unsigned(),
+    version_id: unsigned(NULLABLE),
+    params: json(),
     /** A built-in kind, "custom" or "replay". */
-    trial_kind: { type: DataTypes.STRING(40), allowNull: false },
-    trial_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
-    recording_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
-    trial_name: { type: DataTypes.STRING(160), allowNull: false },
-    trial_definition: { type: DataTypes.JSON, allowNull: true },
-    metrics: { type: DataTypes.JSON, allowNull: false },
-    series: { type: DataTypes.BLOB("long"), allowNull: false },
-    series_hash: { type: DataTypes.CHAR(64), allowNull: false },
-    duration_ms: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    created_by: { type: DataTypes.STRING(40), allowNull: false },
-    created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    trial_kind: string(40),
+    trial_id: unsigned(NULLABLE),
+    recording_id: unsigned(NULLABLE),
+    trial_name: string(160),
+    trial_definition: json(NULLABLE),
+    metrics: json(),
+    series: longBlob(),
+    series_hash: sha256(),
+    duration_ms: unsigned(),
+    created_by: userRef(),
+    created_at: timeNow(),
   });
   await qi.addIndex("trial_runs", ["version_id", "created_at"], { name: "trial_runs_version" });
   await qi.addIndex("trial_runs", ["profile_id", "created_at"], { name: "trial_runs_profile" });
-  await addForeignKey(qi, "trial_runs", "trial_runs_arm_fk", "arm_id", "arms");
-  await addForeignKey(qi, "trial_runs", "trial_runs_profile_fk", "profile_id", "profiles");
-  await addForeignKey(qi, "trial_runs", "trial_runs_version_fk", "version_id", "profile_versions");
-  await addForeignKey(qi, "trial_runs", "trial_runs_trial_fk", "trial_id", "trials");
-  await addForeignKey(qi, "trial_runs", "trial_runs_recording_fk", "recording_id", "jog_recordings");
-  await addForeignKey(qi, "trial_runs", "trial_runs_created_by_fk", "created_by", "users");
+  await addForeignKeys(qi, "trial_runs", {
+    arm_id: "arms",
+    profile_id: "profiles",
+    version_id: "profile_versions",
+    trial_id: "trials",
+    recording_id: "jog_recordings",
+    created_by: "users",
+  });
 
   await qi.createTable("version_evidence", {
-    version_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, primaryKey: true },
-    run_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, primaryKey: true },
-    attached_by: { type: DataTypes.STRING(40), allowNull: false },
-    attached_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    version_id: primaryKey(unsigned()),
+    run_id: primaryKey(unsigned()),
+    attached_by: userRef(),
+    attached_at: timeNow(),
   });
-  await addForeignKey(qi, "version_evidence", "version_evidence_version_fk", "version_id", "profile_versions");
-  await addForeignKey(qi, "version_evidence", "version_evidence_run_fk", "run_id", "trial_runs");
-  await addForeignKey(qi, "version_evidence", "version_evidence_attached_by_fk", "attached_by", "users");
+  await addForeignKeys(qi, "version_evidence", { version_id: "profile_versions", run_id: "trial_runs", attached_by: "users" });
 
   await refuseEveryRow(qi, "trial_runs_before_update", "BEFORE UPDATE", "trial_runs", "a trial run is never changed");
-  await db.query(`
-    CREATE TRIGGER version_evidence_before_insert BEFORE INSERT ON version_evidence FOR EACH ROW
-    BEGIN
-      IF (SELECT state FROM version_status WHERE version_id = NEW.version_id) <> 'draft' THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'evidence is attached to a draft only';
-      END IF;
-      IF (SELECT version_id FROM trial_runs WHERE id = NEW.run_id) IS NULL
-         OR (SELECT version_id FROM trial_runs WHERE id = NEW.run_id) <> NEW.version_id THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'evidence must be a run of the same version';
-      END IF;
-    END`);
+  await createTrigger(qi, "version_evidence_before_insert", "BEFORE INSERT", "version_evidence", triggerBody(
+    refusal("(SELECT state FROM version_status WHERE version_id = NEW.version_id) <> 'draft'", "evidence is attached to a draft only"),
+    refusal(
+      [
+        "(SELECT version_id FROM trial_runs WHERE id = NEW.run_id) IS NULL",
+        "   OR (SELECT version_id FROM trial_runs WHERE id = NEW.run_id) <> NEW.version_id",
+      ],
+      "evidence must be a run of the same version",
+    ),
+  ));
   await refuseRowsWhen(
     qi,
     "version_evidence_before_delete",
@@ -95,15 +91,14 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
     "the evidence of a submitted version never changes",
   );
   await refuseEveryRow(qi, "version_evidence_before_update", "BEFORE UPDATE", "version_evidence", "evidence rows are never changed");
-};
+});
 
-export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
+export const down = schemaStep(async (qi, db) => {
   for (const t of ["version_evidence_before_update", "version_evidence_before_delete", "version_evidence_before_insert", "trial_runs_before_update"]) {
     await db.query(`DROP TRIGGER IF EXISTS ${t}`);
   }
   await qi.dropTable("version_evidence");
   await qi.dropTable("trial_runs");
   await qi.dropTable("trials");
-  await qi.changeColumn("audit_log", "entity", { type: DataTypes.ENUM(...ENTITIES), allowNull: false });
-};
+  await qi.changeColumn("audit_log", "entity", enumOf(ENTITIES));
+});

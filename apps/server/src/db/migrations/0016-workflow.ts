@@ -1,7 +1,7 @@
-import type { MigrationFn } from "umzug";
-import { DataTypes, QueryTypes, type Sequelize } from "sequelize";
-import { addForeignKey, NOW, refuseEveryRow, refuseRowsWhen } from "./columns.ts";
-import { VERSION_STATUS_BEFORE_UPDATE_BODY } from "./0008-version-status-guard.ts";
+import { QueryTypes } from "sequelize";
+import { enumOf, NULLABLE, serialId, text, unsigned, userRef } from "../columns.ts";
+import { addForeignKeys, createTrigger, readNewVersion, refusal, refuseEveryRow, refuseRowsWhen, schemaStep, timeNow, triggerBody, when } from "./columns.ts";
+import { APPROVED_MOVES_ON_ONLY, RETIRED_IS_FINAL, VERSION_STATUS_BEFORE_UPDATE_BODY } from "./0008-version-status-guard.ts";
 
 /**
  * The workflow pass (issue 13, items 3 and 4):
@@ -31,28 +31,26 @@ import { VERSION_STATUS_BEFORE_UPDATE_BODY } from "./0008-version-status-guard.t
  */
 const STATES_BEFORE = ["draft", "submitted", "approved", "rejected", "superseded", "retired"];
 
-export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
-  await qi.changeColumn("version_status", "state", { type: DataTypes.ENUM(...STATES_BEFORE, "withdrawn"), allowNull: false, defaultValue: "draft" });
+export const up = schemaStep(async (qi, db) => {
+  await qi.changeColumn("version_status", "state", enumOf([...STATES_BEFORE, "withdrawn"], "draft"));
 
   await qi.createTable("version_ceiling_events", {
-    id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, autoIncrement: true, primaryKey: true },
-    version_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    kind: { type: DataTypes.ENUM("flag", "reconfirm"), allowNull: false },
+    id: serialId(),
+    version_id: unsigned(),
+    kind: enumOf(["flag", "reconfirm"]),
     /** The site-ceilings revision the version was found above (flag) or checked against (reconfirm). */
-    ceilings_revision: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+    ceilings_revision: unsigned(),
     /** Who changed the ceilings (flag) or re-confirmed (reconfirm); NULL for a flag set by a migration. */
-    actor_id: { type: DataTypes.STRING(40), allowNull: true },
+    actor_id: userRef(NULLABLE),
     /** A flag: which ceilings the version exceeds; a re-confirmation: the safety officer's comment. */
-    comment: { type: DataTypes.TEXT, allowNull: false },
-    at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    comment: text(),
+    at: timeNow(),
   });
   await qi.addIndex("version_ceiling_events", ["version_id", "id"], { name: "version_ceiling_events_version" });
-  await addForeignKey(qi, "version_ceiling_events", "version_ceiling_events_version_fk", "version_id", "profile_versions");
-  await addForeignKey(qi, "version_ceiling_events", "version_ceiling_events_actor_fk", "actor_id", "users");
+  await addForeignKeys(qi, "version_ceiling_events", { version_id: "profile_versions", actor_id: "users" });
 
-  await qi.addColumn("version_status", "reconfirmation_id", { type: DataTypes.INTEGER.UNSIGNED, allowNull: true });
-  await addForeignKey(qi, "version_status", "version_status_reconfirmation_fk", "reconfirmation_id", "version_ceiling_events");
+  await qi.addColumn("version_status", "reconfirmation_id", unsigned(NULLABLE));
+  await addForeignKeys(qi, "version_status", { reconfirmation_id: "version_ceiling_events" });
 
   // The history of versions flagged before this migration: one flag row each, against the ceilings in force.
   // The read is SQL: queryInterface's select has no MAX or join (and a migration never uses the app's models).
@@ -76,78 +74,60 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
 
   await refuseEveryRow(qi, "version_ceiling_events_before_update", "BEFORE UPDATE", "version_ceiling_events", "the flag history is never changed");
   await refuseEveryRow(qi, "version_ceiling_events_before_delete", "BEFORE DELETE", "version_ceiling_events", "the flag history is never deleted");
-  await db.query(`
-    CREATE TRIGGER version_ceiling_events_before_insert BEFORE INSERT ON version_ceiling_events FOR EACH ROW
-    BEGIN
-      DECLARE v_state VARCHAR(20);
-      DECLARE v_flagged TINYINT;
-      DECLARE v_author VARCHAR(40);
-      SELECT s.state, s.exceeds_ceilings, v.author_id INTO v_state, v_flagged, v_author
-        FROM profile_versions v JOIN version_status s ON s.version_id = v.id
-        WHERE v.id = NEW.version_id;
-      IF NEW.kind = 'reconfirm' THEN
-        IF v_state IS NULL OR v_state <> 'approved' OR v_flagged <> 1 THEN
-          SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'only an approved version flagged above the ceilings can be re-confirmed';
-        END IF;
-        IF NEW.actor_id IS NULL OR NEW.actor_id <=> v_author THEN
-          SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a re-confirmation names its safety officer, who is not the author of the version';
-        END IF;
-        IF CHAR_LENGTH(TRIM(NEW.comment)) < 3 THEN
-          SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a re-confirmation needs a comment';
-        END IF;
-      END IF;
-      SET NEW.at = CURRENT_TIMESTAMP(3);
-    END`);
-  await db.query(`
-    CREATE TRIGGER version_ceiling_events_after_insert AFTER INSERT ON version_ceiling_events FOR EACH ROW
-    BEGIN
-      IF NEW.kind = 'reconfirm' THEN
-        UPDATE version_status SET exceeds_ceilings = 0, reconfirmation_id = NEW.id WHERE version_id = NEW.version_id;
-      END IF;
-    END`);
+  await createTrigger(qi, "version_ceiling_events_before_insert", "BEFORE INSERT", "version_ceiling_events", triggerBody(
+    ...readNewVersion({ v_state: ["VARCHAR(20)", "s.state"], v_flagged: ["TINYINT", "s.exceeds_ceilings"], v_author: ["VARCHAR(40)", "v.author_id"] }),
+    when(
+      "NEW.kind = 'reconfirm'",
+      refusal("v_state IS NULL OR v_state <> 'approved' OR v_flagged <> 1", "only an approved version flagged above the ceilings can be re-confirmed"),
+      refusal("NEW.actor_id IS NULL OR NEW.actor_id <=> v_author", "a re-confirmation names its safety officer, who is not the author of the version"),
+      refusal("CHAR_LENGTH(TRIM(NEW.comment)) < 3", "a re-confirmation needs a comment"),
+    ),
+    "SET NEW.at = CURRENT_TIMESTAMP(3);",
+  ));
+  await createTrigger(qi, "version_ceiling_events_after_insert", "AFTER INSERT", "version_ceiling_events", triggerBody(
+    when("NEW.kind = 'reconfirm'", "UPDATE version_status SET exceeds_ceilings = 0, reconfirmation_id = NEW.id WHERE version_id = NEW.version_id;"),
+  ));
 
   // Recreated where it stood: first of the BEFORE UPDATE triggers (PRECEDES 0014's guard), so a change both
   // refuse keeps the lifecycle's message (e.g. "a retired version stays retired").
   await db.query("DROP TRIGGER version_status_before_update");
-  await db.query(`
-    CREATE TRIGGER version_status_before_update BEFORE UPDATE ON version_status FOR EACH ROW PRECEDES version_status_approval_guard
-    BEGIN
-      IF OLD.state = 'approved' AND NEW.state NOT IN ('approved', 'superseded', 'retired') THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'an approved version can only be superseded or retired';
-      END IF;
-      IF OLD.state = 'retired' AND NEW.state <> 'retired' THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a retired version stays retired';
-      END IF;
-      IF OLD.state IN ('superseded', 'rejected', 'withdrawn') AND NEW.state NOT IN (OLD.state, 'retired') THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a superseded, rejected or withdrawn version can only be retired';
-      END IF;
-    END`);
-  await db.query(`
-    CREATE TRIGGER version_status_flag_guard BEFORE UPDATE ON version_status FOR EACH ROW
-    BEGIN
-      IF NOT (NEW.reconfirmation_id <=> OLD.reconfirmation_id) THEN
-        IF NOT (OLD.exceeds_ceilings = 1 AND NEW.exceeds_ceilings = 0) OR NEW.reconfirmation_id IS NULL
-           OR (OLD.reconfirmation_id IS NOT NULL AND NEW.reconfirmation_id <= OLD.reconfirmation_id)
-           OR NOT EXISTS (SELECT 1 FROM version_ceiling_events e
-                          WHERE e.id = NEW.reconfirmation_id AND e.version_id = NEW.version_id AND e.kind = 'reconfirm') THEN
-          SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a re-confirmation is recorded only by inserting its version_ceiling_events row';
-        END IF;
-      END IF;
-      IF OLD.exceeds_ceilings = 1 AND NEW.exceeds_ceilings = 0 AND NEW.reconfirmation_id <=> OLD.reconfirmation_id THEN
-        SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'a ceiling flag stays until a compliant version is approved or a safety officer re-confirms it (INSERT INTO version_ceiling_events)';
-      END IF;
-    END`);
+  await createTrigger(qi, "version_status_before_update", "BEFORE UPDATE", "version_status", triggerBody(
+    APPROVED_MOVES_ON_ONLY,
+    RETIRED_IS_FINAL,
+    refusal(
+      "OLD.state IN ('superseded', 'rejected', 'withdrawn') AND NEW.state NOT IN (OLD.state, 'retired')",
+      "a superseded, rejected or withdrawn version can only be retired",
+    ),
+  ), { precedes: "version_status_approval_guard" });
+  await createTrigger(qi, "version_status_flag_guard", "BEFORE UPDATE", "version_status", triggerBody(
+    when(
+      "NOT (NEW.reconfirmation_id <=> OLD.reconfirmation_id)",
+      refusal(
+        [
+          "NOT (OLD.exceeds_ceilings = 1 AND NEW.exceeds_ceilings = 0) OR NEW.reconfirmation_id IS NULL",
+          "   OR (OLD.reconfirmation_id IS NOT NULL AND NEW.reconfirmation_id <= OLD.reconfirmation_id)",
+          "   OR NOT EXISTS (SELECT 1 FROM version_ceiling_events e",
+          "                  WHERE e.id = NEW.reconfirmation_id AND e.version_id = NEW.version_id AND e.kind = 'reconfirm')",
+        ],
+        "a re-confirmation is recorded only by inserting its version_ceiling_events row",
+      ),
+    ),
+    refusal(
+      "OLD.exceeds_ceilings = 1 AND NEW.exceeds_ceilings = 0 AND NEW.reconfirmation_id <=> OLD.reconfirmation_id",
+      "a ceiling flag stays until a compliant version is approved or a safety officer re-confirms it (INSERT INTO version_ceiling_events)",
+    ),
+  ));
   await refuseRowsWhen(qi, "version_status_reconfirmation_insert_guard", "BEFORE INSERT", "version_status", "NEW.reconfirmation_id IS NOT NULL", "a version starts as a draft without a decision");
-};
+});
 
-export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
+export const down = schemaStep(async (qi, db) => {
   await db.query("DROP TRIGGER IF EXISTS version_status_reconfirmation_insert_guard");
   await db.query("DROP TRIGGER IF EXISTS version_status_flag_guard");
   await db.query("DROP TRIGGER IF EXISTS version_status_before_update");
   // 0008's trigger as it was.
-  await db.query(`
-    CREATE TRIGGER version_status_before_update BEFORE UPDATE ON version_status FOR EACH ROW PRECEDES version_status_approval_guard${VERSION_STATUS_BEFORE_UPDATE_BODY}`);
+  await createTrigger(qi, "version_status_before_update", "BEFORE UPDATE", "version_status", VERSION_STATUS_BEFORE_UPDATE_BODY, {
+    precedes: "version_status_approval_guard",
+  });
   await db.query("DROP TRIGGER IF EXISTS version_ceiling_events_after_insert");
   await db.query("DROP TRIGGER IF EXISTS version_ceiling_events_before_insert");
   await db.query("DROP TRIGGER IF EXISTS version_ceiling_events_before_delete");
@@ -157,5 +137,5 @@ export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
   await db.query("ALTER TABLE version_status DROP FOREIGN KEY version_status_reconfirmation_fk", { type: QueryTypes.RAW });
   await db.query("ALTER TABLE version_status DROP COLUMN reconfirmation_id", { type: QueryTypes.RAW });
   await qi.dropTable("version_ceiling_events");
-  await qi.changeColumn("version_status", "state", { type: DataTypes.ENUM(...STATES_BEFORE), allowNull: false, defaultValue: "draft" });
-};
+  await qi.changeColumn("version_status", "state", enumOf(STATES_BEFORE, "draft"));
+});

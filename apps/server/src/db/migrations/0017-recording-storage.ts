@@ -1,5 +1,6 @@
-import type { MigrationFn } from "umzug";
-import { DataTypes, literal, Op, QueryTypes, type Sequelize } from "sequelize";
+import { literal, Op, QueryTypes, type Sequelize } from "sequelize";
+import { counter, enumOf, longBlob, NULLABLE } from "../columns.ts";
+import { schemaStep } from "./columns.ts";
 
 /**
  * Compact recordings and their retention (issue 11, item 8: recordings grew 44 KB/s per session).
@@ -27,11 +28,10 @@ async function auditEntities(db: Sequelize): Promise<string[]> {
   return [...(row?.type ?? "").matchAll(/'((?:[^']|'')*)'/g)].map((m) => m[1]!.replaceAll("''", "'"));
 }
 
-export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
-  await qi.addColumn("jog_recording_chunks", "encoding", { type: DataTypes.ENUM(...ENCODINGS), allowNull: false, defaultValue: "json" });
-  await qi.addColumn("jog_recording_chunks", "data", { type: DataTypes.BLOB("long"), allowNull: true });
-  await qi.addColumn("jog_recording_chunks", "stored_bytes", { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 });
+export const up = schemaStep(async (qi, db) => {
+  await qi.addColumn("jog_recording_chunks", "encoding", enumOf(ENCODINGS, "json"));
+  await qi.addColumn("jog_recording_chunks", "data", longBlob(NULLABLE));
+  await qi.addColumn("jog_recording_chunks", "stored_bytes", counter());
   await qi.changeColumn("jog_recording_chunks", "frames", { type: "LONGTEXT CHECK (frames IS NULL OR JSON_VALID(frames))", allowNull: true });
   await qi.bulkUpdate("jog_recording_chunks", { stored_bytes: literal("OCTET_LENGTH(frames)") }, {});
   await qi.addConstraint("jog_recording_chunks", {
@@ -49,16 +49,15 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
 
   const entities = await auditEntities(db);
   if (!entities.includes("recording")) {
-    await qi.changeColumn("audit_log", "entity", { type: DataTypes.ENUM(...entities, "recording"), allowNull: false });
+    await qi.changeColumn("audit_log", "entity", enumOf([...entities, "recording"]));
   }
-};
+});
 
-export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
+export const down = schemaStep(async (qi, db) => {
   const [compact] = await db.query<{ n: number }>("SELECT COUNT(*) AS n FROM jog_recording_chunks WHERE encoding <> 'json'", { type: QueryTypes.SELECT });
   if (Number(compact?.n ?? 0) > 0) throw new Error("0017 cannot be undone while compact recording chunks exist (their frames would be lost)");
   const entities = await auditEntities(db);
-  await qi.changeColumn("audit_log", "entity", { type: DataTypes.ENUM(...entities.filter((e) => e !== "recording")), allowNull: false });
+  await qi.changeColumn("audit_log", "entity", enumOf(entities.filter((e) => e !== "recording")));
   await qi.removeIndex("jog_recording_chunks", "jog_recording_chunks_size");
   // SQL: queryInterface's removeConstraint drops an index of that name on MariaDB, not a CHECK.
   await db.query("ALTER TABLE jog_recording_chunks DROP CONSTRAINT jog_recording_chunks_payload", { type: QueryTypes.RAW });
@@ -66,4 +65,4 @@ export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
   // SQL: queryInterface's removeColumn first reads the column's foreign keys with an untyped query, which
   // the unpatched Sequelize cannot return from the mariadb driver (DEVELOPERS.md, "Known pins and patches").
   await db.query("ALTER TABLE jog_recording_chunks DROP COLUMN stored_bytes, DROP COLUMN data, DROP COLUMN encoding", { type: QueryTypes.RAW });
-};
+});

@@ -1,6 +1,6 @@
-import type { MigrationFn } from "umzug";
-import { DataTypes, QueryTypes, type Sequelize } from "sequelize";
-import { addForeignKey, NOW, NOW_ON_UPDATE, refuseEveryRow } from "./columns.ts";
+import { QueryTypes } from "sequelize";
+import { double, json, NULLABLE, primaryKey, serialId, string, text, time, unsigned, userRef } from "../columns.ts";
+import { addForeignKeys, refuseEveryRow, schemaStep, timeNow, timeNowOnUpdate } from "./columns.ts";
 
 /**
  * The arm library (issue 12):
@@ -16,48 +16,43 @@ import { addForeignKey, NOW, NOW_ON_UPDATE, refuseEveryRow } from "./columns.ts"
  * every existing version is bound to revision 1 of its profile's arm and that tool. Migrations do not use
  * the app's models (they change with the code): the reads are typed SELECTs, the writes bulkInsert.
  */
-export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
+export const up = schemaStep(async (qi, db) => {
   await qi.createTable("arm_revisions", {
-    id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, autoIncrement: true, primaryKey: true },
-    arm_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    revision: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    model: { type: DataTypes.JSON, allowNull: false },
-    ready_pose: { type: DataTypes.JSON, allowNull: false },
-    note: { type: DataTypes.TEXT, allowNull: false },
-    created_by: { type: DataTypes.STRING(40), allowNull: true },
-    created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    id: serialId(),
+    arm_id: unsigned(),
+    revision: unsigned(),
+    model: json(),
+    ready_pose: json(),
+    note: text(),
+    created_by: userRef(NULLABLE),
+    created_at: timeNow(),
   });
   await qi.addConstraint("arm_revisions", { type: "unique", name: "arm_revisions_arm_revision_unique", fields: ["arm_id", "revision"] });
-  await addForeignKey(qi, "arm_revisions", "arm_revisions_arm_fk", "arm_id", "arms");
-  await addForeignKey(qi, "arm_revisions", "arm_revisions_created_by_fk", "created_by", "users");
+  await addForeignKeys(qi, "arm_revisions", { arm_id: "arms", created_by: "users" });
 
   await qi.createTable("arm_tools", {
-    id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, autoIncrement: true, primaryKey: true },
-    arm_revision_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    name: { type: DataTypes.STRING(120), allowNull: false },
-    position_m: { type: DataTypes.JSON, allowNull: false },
-    rpy_rad: { type: DataTypes.JSON, allowNull: false },
-    mass_kg: { type: DataTypes.DOUBLE, allowNull: false },
-    note: { type: DataTypes.TEXT, allowNull: false },
-    created_by: { type: DataTypes.STRING(40), allowNull: true },
-    retired_at: { type: DataTypes.DATE(3), allowNull: true },
-    created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
-    updated_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW_ON_UPDATE },
+    id: serialId(),
+    arm_revision_id: unsigned(),
+    name: string(120),
+    position_m: json(),
+    rpy_rad: json(),
+    mass_kg: double(),
+    note: text(),
+    created_by: userRef(NULLABLE),
+    retired_at: time(NULLABLE),
+    created_at: timeNow(),
+    updated_at: timeNowOnUpdate(),
   });
   await qi.addConstraint("arm_tools", { type: "unique", name: "arm_tools_revision_name_unique", fields: ["arm_revision_id", "name"] });
-  await addForeignKey(qi, "arm_tools", "arm_tools_revision_fk", "arm_revision_id", "arm_revisions");
-  await addForeignKey(qi, "arm_tools", "arm_tools_created_by_fk", "created_by", "users");
+  await addForeignKeys(qi, "arm_tools", { arm_revision_id: ["arm_revisions", "revision"], created_by: "users" });
 
   await qi.createTable("version_arms", {
-    version_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, primaryKey: true },
-    arm_revision_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    tool_id: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
-    created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: NOW },
+    version_id: primaryKey(unsigned()),
+    arm_revision_id: unsigned(),
+    tool_id: unsigned(NULLABLE),
+    created_at: timeNow(),
   });
-  await addForeignKey(qi, "version_arms", "version_arms_version_fk", "version_id", "profile_versions");
-  await addForeignKey(qi, "version_arms", "version_arms_revision_fk", "arm_revision_id", "arm_revisions");
-  await addForeignKey(qi, "version_arms", "version_arms_tool_fk", "tool_id", "arm_tools");
+  await addForeignKeys(qi, "version_arms", { version_id: "profile_versions", arm_revision_id: ["arm_revisions", "revision"], tool_id: "arm_tools" });
 
   await refuseEveryRow(qi, "arm_revisions_before_update", "BEFORE UPDATE", "arm_revisions", "an arm revision is never changed: edit the arm to add a revision");
   await refuseEveryRow(qi, "arm_revisions_before_delete", "BEFORE DELETE", "arm_revisions", "an arm revision is never removed");
@@ -105,11 +100,10 @@ export const up: MigrationFn<Sequelize> = async ({ context: db }) => {
       await qi.bulkInsert("version_arms", versions.map((v) => ({ version_id: v.id, arm_revision_id: revision!.id, tool_id: toolId })));
     }
   }
-};
+});
 
-export const down: MigrationFn<Sequelize> = async ({ context: db }) => {
-  const qi = db.getQueryInterface();
+export const down = schemaStep(async (qi) => {
   await qi.dropTable("version_arms");
   await qi.dropTable("arm_tools");
   await qi.dropTable("arm_revisions");
-};
+});

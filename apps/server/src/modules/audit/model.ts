@@ -1,5 +1,7 @@
-import { DataTypes, Model, Op, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize, type WhereOptions } from "sequelize";
+import { Op, type CreationOptional, type InferAttributes, type Sequelize, type WhereOptions } from "sequelize";
 import { AUDIT_ENTITIES, type AuditEntry } from "@jogwright/shared";
+import { bigSerialId, enumOf, NULLABLE, sha256, string, text, userRef } from "../../db/columns.ts";
+import { bindModel, stampedByDatabase, TableModel, type IncludedUser, type Stamp } from "../../db/model-parts.ts";
 
 /**
  * The append-only audit trail (`audit_log`, migration 0006; its triggers refuse UPDATE and DELETE). The
@@ -19,11 +21,11 @@ export interface AuditFilter {
   to?: string;
 }
 
-export class AuditEntryModel extends Model<InferAttributes<AuditEntryModel, { omit: "actor" }>, InferCreationAttributes<AuditEntryModel, { omit: "actor" }>> {
+export class AuditEntryModel extends TableModel<AuditEntryModel, "actor"> {
   /** BIGINT: the driver hands it back as a bigint. */
   declare id: CreationOptional<number | bigint>;
   /** Stamped by the database (DEFAULT CURRENT_TIMESTAMP(3)). */
-  declare at: CreationOptional<Date>;
+  declare at: Stamp;
   declare actorId: string | null;
   declare entity: AuditEntity;
   declare entityId: string;
@@ -32,7 +34,7 @@ export class AuditEntryModel extends Model<InferAttributes<AuditEntryModel, { om
   declare sha256Before: string | null;
   declare sha256After: string | null;
   /** Included by the `withActorName` scope. */
-  declare actor?: NonAttribute<{ displayName: string } | null>;
+  declare actor?: IncludedUser;
 }
 
 /**
@@ -55,22 +57,17 @@ export function toAuditEntry(row: InferAttributes<AuditEntryModel, { omit: "acto
 }
 
 export function defineAuditModels(sequelize: Sequelize) {
-  const AuditEntry = class extends AuditEntryModel {};
-  AuditEntry.init(
-    {
-      id: { type: DataTypes.BIGINT.UNSIGNED, autoIncrement: true, primaryKey: true },
-      // NOT NULL with the database's default: left unset here, so Sequelize leaves it to the database.
-      at: { type: DataTypes.DATE(3) },
-      actorId: { type: DataTypes.STRING(40), allowNull: true },
-      entity: { type: DataTypes.ENUM(...AUDIT_ENTITIES), allowNull: false },
-      entityId: { type: DataTypes.STRING(64), allowNull: false },
-      action: { type: DataTypes.STRING(60), allowNull: false },
-      summary: { type: DataTypes.TEXT, allowNull: false },
-      sha256Before: { type: DataTypes.CHAR(64), allowNull: true },
-      sha256After: { type: DataTypes.CHAR(64), allowNull: true },
-    },
-    { sequelize, modelName: "AuditEntry", tableName: "audit_log", underscored: true, timestamps: false },
-  );
+  const AuditEntry = bindModel(sequelize, AuditEntryModel, { modelName: "AuditEntry", tableName: "audit_log" }, { timestamps: false }, {
+    id: bigSerialId(),
+    at: stampedByDatabase(),
+    actorId: userRef(NULLABLE),
+    entity: enumOf(AUDIT_ENTITIES),
+    entityId: string(64),
+    action: string(60),
+    summary: text(),
+    sha256Before: sha256(NULLABLE),
+    sha256After: sha256(NULLABLE),
+  });
   return { AuditEntry };
 }
 

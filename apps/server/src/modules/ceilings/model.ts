@@ -1,16 +1,18 @@
-import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
+import { DataTypes, type ForeignKey, type Sequelize } from "sequelize";
 import { ceilingsSchema, type Ceilings, type CeilingsRecord } from "@jogwright/shared";
+import { NULLABLE, primaryKey, text, unsigned, userRef } from "../../db/columns.ts";
+import { bindModel, jsonParsedBy, TableModel, type IncludedUser, type Stamp } from "../../db/model-parts.ts";
 
 /** Site ceilings (`site_ceilings`): one row per revision, never changed; the highest revision is in force. */
-export class CeilingsModel extends Model<InferAttributes<CeilingsModel, { omit: "updatedByUser" }>, InferCreationAttributes<CeilingsModel, { omit: "updatedByUser" }>> {
+export class CeilingsModel extends TableModel<CeilingsModel, "updatedByUser"> {
   declare revision: number;
   declare ceilings: Ceilings;
   declare note: string;
   declare updatedBy: ForeignKey<string> | null;
   /** When this revision was written. */
-  declare updatedAt: CreationOptional<Date>;
+  declare updatedAt: Stamp;
   /** Included through the association declared in db/models.ts. */
-  declare updatedByUser?: NonAttribute<{ displayName: string } | null>;
+  declare updatedByUser?: IncludedUser;
 
   /** The API shape (`ceilingsRecordSchema`); include `updatedByUser` for the name. */
   toApi(): CeilingsRecord {
@@ -25,24 +27,13 @@ export class CeilingsModel extends Model<InferAttributes<CeilingsModel, { omit: 
 }
 
 export function defineCeilingsModels(sequelize: Sequelize) {
-  const SiteCeilings = class extends CeilingsModel {};
-  SiteCeilings.init(
-    {
-      revision: { type: DataTypes.INTEGER.UNSIGNED, primaryKey: true },
-      ceilings: {
-        type: DataTypes.JSON,
-        allowNull: false,
-        // Older revisions lack later ceilings: they parse with their defaults (ceilingsSchema).
-        get() {
-          const raw = this.getDataValue("ceilings") as unknown;
-          return ceilingsSchema.parse(typeof raw === "string" ? JSON.parse(raw) : raw);
-        },
-      },
-      note: { type: DataTypes.TEXT, allowNull: false },
-      updatedBy: { type: DataTypes.STRING(40), allowNull: true },
-      updatedAt: DataTypes.DATE(3),
-    },
-    { sequelize, modelName: "SiteCeilings", tableName: "site_ceilings", underscored: true, timestamps: true, createdAt: false },
-  );
+  const SiteCeilings = bindModel(sequelize, CeilingsModel, { modelName: "SiteCeilings", tableName: "site_ceilings" }, { timestamps: true, createdAt: false }, {
+    revision: primaryKey(unsigned()),
+    // Older revisions lack later ceilings: they parse with their defaults (ceilingsSchema).
+    ceilings: jsonParsedBy("ceilings", ceilingsSchema),
+    note: text(),
+    updatedBy: userRef(NULLABLE),
+    updatedAt: DataTypes.DATE(3),
+  });
   return { SiteCeilings };
 }

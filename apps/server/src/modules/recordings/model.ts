@@ -1,6 +1,8 @@
-import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
+import { DataTypes, type CreationOptional, type NonAttribute, type Sequelize } from "sequelize";
 import { recordingSummarySchema, type Recording } from "@jogwright/shared";
 import { CHUNK_ENCODINGS, type ChunkEncoding } from "./chunk-codec.ts";
+import { enumOf, json, longBlob, NULLABLE, primaryKey, serialId, string, time, unsigned, userRef } from "../../db/columns.ts";
+import { bindModel, hasManyBothWays, readJson, TableModel, USER_NAME, type IncludedUser, type Named, type SerialId } from "../../db/model-parts.ts";
 
 /**
  * Recordings of live jog sessions (`jog_recordings` and `jog_recording_chunks`, migrations 0010 and 0017):
@@ -10,13 +12,8 @@ import { CHUNK_ENCODINGS, type ChunkEncoding } from "./chunk-codec.ts";
  * profile and version a recording names are associated in db/models.ts (`withNames`). The queries are in
  * service.ts.
  */
-type Named<K extends string, V> = NonAttribute<{ [key in K]: V } | null>;
-
-export class RecordingModel extends Model<
-  InferAttributes<RecordingModel, { omit: "driver" | "arm" | "profile" | "version" | "chunks" }>,
-  InferCreationAttributes<RecordingModel, { omit: "driver" | "arm" | "profile" | "version" | "chunks" }>
-> {
-  declare id: CreationOptional<number>;
+export class RecordingModel extends TableModel<RecordingModel, "driver" | "arm" | "profile" | "version" | "chunks"> {
+  declare id: SerialId;
   declare sessionId: string;
   declare driverId: string;
   declare armId: number;
@@ -28,7 +25,7 @@ export class RecordingModel extends Model<
   /** As stored; `toApi` parses it with the shared schema. */
   declare summary: CreationOptional<unknown>;
   /** Included by the `withNames` scope. */
-  declare driver?: Named<"displayName", string>;
+  declare driver?: IncludedUser;
   declare arm?: Named<"name", string>;
   declare profile?: Named<"name", string>;
   declare version?: Named<"number", number>;
@@ -56,7 +53,7 @@ export class RecordingModel extends Model<
   }
 }
 
-export class RecordingChunkModel extends Model<InferAttributes<RecordingChunkModel>, InferCreationAttributes<RecordingChunkModel>> {
+export class RecordingChunkModel extends TableModel<RecordingChunkModel> {
   declare recordingId: number;
   declare chunkIndex: number;
   declare frameCount: number;
@@ -74,68 +71,46 @@ export class RecordingChunkModel extends Model<InferAttributes<RecordingChunkMod
 }
 
 export function defineRecordingModels(sequelize: Sequelize) {
-  const Recording = class extends RecordingModel {};
-  Recording.init(
-    {
-      id: { type: DataTypes.INTEGER.UNSIGNED, autoIncrement: true, primaryKey: true },
-      sessionId: { type: DataTypes.STRING(64), allowNull: false, unique: "jog_recordings_session_unique" },
-      driverId: { type: DataTypes.STRING(40), allowNull: false },
-      armId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      profileId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      versionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      startedAt: { type: DataTypes.DATE(3), allowNull: false },
-      endedAt: { type: DataTypes.DATE(3), allowNull: true },
-      endReason: { type: DataTypes.STRING(60), allowNull: true },
-      summary: {
-        type: DataTypes.JSON,
-        allowNull: true,
-        // Its CHECK is "NULL or valid JSON", not MariaDB's own JSON check, so the server does not mark the
-        // column as JSON and the driver hands back text.
-        get() {
-          const raw = this.getDataValue("summary");
-          return typeof raw === "string" ? (JSON.parse(raw) as unknown) : raw;
-        },
+  const scopes = {
+    /** With the names the API shows (the associations are declared in db/models.ts). */
+    withNames: {
+      include: [
+        { association: "driver", attributes: USER_NAME },
+        { association: "arm", attributes: ["name"] },
+        { association: "profile", attributes: ["name"] },
+        { association: "version", attributes: ["number"] },
+      ],
+    },
+  };
+  const Recording = bindModel(sequelize, RecordingModel, { modelName: "Recording", tableName: "jog_recordings" }, { timestamps: false, scopes }, {
+    id: serialId(),
+    sessionId: { ...string(64), unique: "jog_recordings_session_unique" },
+    driverId: userRef(),
+    armId: unsigned(),
+    profileId: unsigned(),
+    versionId: unsigned(),
+    startedAt: time(),
+    endedAt: time(NULLABLE),
+    endReason: string(60, NULLABLE),
+    summary: {
+      ...json(NULLABLE),
+      // Its CHECK is "NULL or valid JSON", not MariaDB's own JSON check, so the server does not mark the
+      // column as JSON and the driver hands back text.
+      get() {
+        return readJson(this.getDataValue("summary"));
       },
     },
-    {
-      sequelize,
-      modelName: "Recording",
-      tableName: "jog_recordings",
-      underscored: true,
-      timestamps: false,
-      scopes: {
-        /** With the names the API shows (the associations are declared in db/models.ts). */
-        withNames: {
-          include: [
-            { association: "driver", attributes: ["displayName"] },
-            { association: "arm", attributes: ["name"] },
-            { association: "profile", attributes: ["name"] },
-            { association: "version", attributes: ["number"] },
-          ],
-        },
-      },
-    },
-  );
-  const RecordingChunk = class extends RecordingChunkModel {};
-  RecordingChunk.init(
-    {
-      recordingId: { type: DataTypes.INTEGER.UNSIGNED, primaryKey: true },
-      chunkIndex: { type: DataTypes.INTEGER.UNSIGNED, primaryKey: true },
-      frameCount: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      encoding: { type: DataTypes.ENUM(...CHUNK_ENCODINGS), allowNull: false, defaultValue: "json" },
-      frames: { type: DataTypes.TEXT("long"), allowNull: true },
-      data: { type: DataTypes.BLOB("long"), allowNull: true },
-      storedBytes: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-    },
-    { sequelize, modelName: "RecordingChunk", tableName: "jog_recording_chunks", underscored: true, timestamps: false },
-  );
+  });
+  const RecordingChunk = bindModel(sequelize, RecordingChunkModel, { modelName: "RecordingChunk", tableName: "jog_recording_chunks" }, { timestamps: false }, {
+    recordingId: primaryKey(unsigned()),
+    chunkIndex: primaryKey(unsigned()),
+    frameCount: unsigned(),
+    encoding: enumOf(CHUNK_ENCODINGS, "json"),
+    frames: { type: DataTypes.TEXT("long"), allowNull: true },
+    data: longBlob(NULLABLE),
+    storedBytes: unsigned(),
+  });
+  // The chunks go with their recording: ON DELETE CASCADE in the schema.
+  hasManyBothWays(Recording, RecordingChunk, { foreignKey: "recordingId", as: "chunks", inverseAs: "recording", onDelete: "CASCADE" });
   return { Recording, RecordingChunk };
-}
-
-type RecordingModels = ReturnType<typeof defineRecordingModels>;
-
-/** Recording–Chunk (the chunks go with their recording: ON DELETE CASCADE in the schema). */
-export function associateRecordingModels({ Recording, RecordingChunk }: RecordingModels): void {
-  Recording.hasMany(RecordingChunk, { as: "chunks", foreignKey: "recordingId", onDelete: "CASCADE" });
-  RecordingChunk.belongsTo(Recording, { as: "recording", foreignKey: "recordingId" });
 }

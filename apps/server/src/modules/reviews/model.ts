@@ -1,4 +1,6 @@
-import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
+import type { NonAttribute, Sequelize } from "sequelize";
+import { serialId, sha256, text, unsigned, userRef } from "../../db/columns.ts";
+import { bindModel, stampedByDatabase, TableModel, type SerialId, type Stamp } from "../../db/model-parts.ts";
 
 /**
  * Approvals (`approvals`): append-only (triggers of migration 0004). Inserting a row *is* the approval:
@@ -6,12 +8,12 @@ import { DataTypes, Model, type CreationOptional, type InferAttributes, type Inf
  * hash is the version's, stamp `approved_at`, lock the version row and move its status to approved —
  * in that one INSERT. The app never updates or deletes a row.
  */
-export class ApprovalModel extends Model<InferAttributes<ApprovalModel, { omit: "approver" }>, InferCreationAttributes<ApprovalModel, { omit: "approver" }>> {
-  declare id: CreationOptional<number>;
+export class ApprovalModel extends TableModel<ApprovalModel, "approver"> {
+  declare id: SerialId;
   declare versionId: number;
   declare approverId: string;
   /** Stamped by the BEFORE INSERT trigger. */
-  declare approvedAt: CreationOptional<Date>;
+  declare approvedAt: Stamp;
   declare comment: string;
   declare paramsSha256: string;
   /** Included through the association declared in db/models.ts. */
@@ -19,17 +21,13 @@ export class ApprovalModel extends Model<InferAttributes<ApprovalModel, { omit: 
 }
 
 export function defineReviewModels(sequelize: Sequelize) {
-  const Approval = class extends ApprovalModel {};
-  Approval.init(
-    {
-      id: { type: DataTypes.INTEGER.UNSIGNED, autoIncrement: true, primaryKey: true },
-      versionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, unique: "approvals_version_unique" },
-      approverId: { type: DataTypes.STRING(40), allowNull: false },
-      approvedAt: { type: DataTypes.DATE(3) },
-      comment: { type: DataTypes.TEXT, allowNull: false },
-      paramsSha256: { type: DataTypes.CHAR(64), allowNull: false },
-    },
-    { sequelize, modelName: "Approval", tableName: "approvals", underscored: true, timestamps: false },
-  );
+  const Approval = bindModel(sequelize, ApprovalModel, { modelName: "Approval", tableName: "approvals" }, { timestamps: false }, {
+    id: serialId(),
+    versionId: { ...unsigned(), unique: "approvals_version_unique" },
+    approverId: userRef(),
+    approvedAt: stampedByDatabase(),
+    comment: text(),
+    paramsSha256: sha256(),
+  });
   return { Approval };
 }

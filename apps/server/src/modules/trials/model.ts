@@ -1,5 +1,7 @@
-import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
+import { DataTypes, type Sequelize } from "sequelize";
 import { profileParamsSchema, trialDefinitionSchema, trialMetricsSchema, type CustomTrial, type TrialRun } from "@jogwright/shared";
+import { json, longBlob, NULLABLE, primaryKey, serialId, sha256, string, unsigned, userRef } from "../../db/columns.ts";
+import { bindModel, hasManyBothWays, readJson, TableModel, USER_NAME, type IncludedUser, type Named, type SerialId, type Stamp } from "../../db/model-parts.ts";
 
 /**
  * The tuning bench's tables (migration 0015): engineers' custom trials (`trials`), stored offline runs
@@ -7,27 +9,22 @@ import { profileParamsSchema, trialDefinitionSchema, trialMetricsSchema, type Cu
  * (`version_evidence`). The people, profile and version a run names are associated in db/models.ts
  * (`withNames`). The queries are in service.ts.
  */
-type Named<K extends string, V> = NonAttribute<{ [key in K]: V } | null>;
-
-/** JSON columns: MariaDB's JSON is LONGTEXT with a JSON_VALID check, which the driver hands back parsed or as text. */
-const json = (raw: unknown): unknown => (typeof raw === "string" ? JSON.parse(raw) : raw);
-
-export class TrialModel extends Model<InferAttributes<TrialModel, { omit: "creator" }>, InferCreationAttributes<TrialModel, { omit: "creator" }>> {
-  declare id: CreationOptional<number>;
+export class TrialModel extends TableModel<TrialModel, "creator"> {
+  declare id: SerialId;
   declare armId: number;
   declare name: string;
   declare definition: unknown;
   declare createdBy: string;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
-  declare creator?: Named<"displayName", string>;
+  declare createdAt: Stamp;
+  declare updatedAt: Stamp;
+  declare creator?: IncludedUser;
 
   toApi(): CustomTrial {
     return {
       id: this.id,
       armId: this.armId,
       name: this.name,
-      definition: trialDefinitionSchema.parse(json(this.definition)),
+      definition: trialDefinitionSchema.parse(readJson(this.definition)),
       createdBy: this.createdBy,
       createdByName: this.creator?.displayName ?? "",
       createdAt: this.createdAt.toISOString(),
@@ -36,11 +33,8 @@ export class TrialModel extends Model<InferAttributes<TrialModel, { omit: "creat
   }
 }
 
-export class TrialRunModel extends Model<
-  InferAttributes<TrialRunModel, { omit: "creator" | "profile" | "version" }>,
-  InferCreationAttributes<TrialRunModel, { omit: "creator" | "profile" | "version" }>
-> {
-  declare id: CreationOptional<number>;
+export class TrialRunModel extends TableModel<TrialRunModel, "creator" | "profile" | "version"> {
+  declare id: SerialId;
   declare armId: number;
   declare profileId: number;
   declare versionId: number | null;
@@ -55,8 +49,8 @@ export class TrialRunModel extends Model<
   declare seriesHash: string;
   declare durationMs: number;
   declare createdBy: string;
-  declare createdAt: CreationOptional<Date>;
-  declare creator?: Named<"displayName", string>;
+  declare createdAt: Stamp;
+  declare creator?: IncludedUser;
   declare profile?: Named<"name", string>;
   declare version?: Named<"number", number>;
 
@@ -69,12 +63,12 @@ export class TrialRunModel extends Model<
       profileName: this.profile?.name ?? "",
       versionId: this.versionId,
       versionNumber: this.version?.number ?? null,
-      params: profileParamsSchema.parse(json(this.params)),
+      params: profileParamsSchema.parse(readJson(this.params)),
       trialKind: this.trialKind as TrialRun["trialKind"],
       trialId: this.trialId,
       recordingId: this.recordingId,
       trialName: this.trialName,
-      metrics: trialMetricsSchema.parse(json(this.metrics)),
+      metrics: trialMetricsSchema.parse(readJson(this.metrics)),
       seriesHash: this.seriesHash,
       durationMs: this.durationMs,
       createdBy: this.createdBy,
@@ -84,86 +78,66 @@ export class TrialRunModel extends Model<
   }
 }
 
-export class VersionEvidenceModel extends Model<InferAttributes<VersionEvidenceModel>, InferCreationAttributes<VersionEvidenceModel>> {
+export class VersionEvidenceModel extends TableModel<VersionEvidenceModel> {
   declare versionId: number;
   declare runId: number;
   declare attachedBy: string;
-  declare attachedAt: CreationOptional<Date>;
+  declare attachedAt: Stamp;
 }
 
 export function defineTrialModels(sequelize: Sequelize) {
-  const Trial = class extends TrialModel {};
-  Trial.init(
-    {
-      id: { type: DataTypes.INTEGER.UNSIGNED, autoIncrement: true, primaryKey: true },
-      armId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      name: { type: DataTypes.STRING(120), allowNull: false },
-      definition: { type: DataTypes.JSON, allowNull: false },
-      createdBy: { type: DataTypes.STRING(40), allowNull: false },
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
-    },
-    { sequelize, modelName: "Trial", tableName: "trials", underscored: true, timestamps: true },
-  );
-  const TrialRun = class extends TrialRunModel {};
-  TrialRun.init(
-    {
-      id: { type: DataTypes.INTEGER.UNSIGNED, autoIncrement: true, primaryKey: true },
-      armId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      profileId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      versionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
-      params: { type: DataTypes.JSON, allowNull: false },
-      trialKind: { type: DataTypes.STRING(40), allowNull: false },
-      trialId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
-      recordingId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
-      trialName: { type: DataTypes.STRING(160), allowNull: false },
-      trialDefinition: { type: DataTypes.JSON, allowNull: true },
-      metrics: { type: DataTypes.JSON, allowNull: false },
-      series: { type: DataTypes.BLOB("long"), allowNull: false },
-      seriesHash: { type: DataTypes.CHAR(64), allowNull: false },
-      durationMs: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      createdBy: { type: DataTypes.STRING(40), allowNull: false },
-      createdAt: DataTypes.DATE(3),
-    },
-    {
-      sequelize,
-      modelName: "TrialRun",
-      tableName: "trial_runs",
-      underscored: true,
-      timestamps: true,
-      updatedAt: false,
-      // The series (up to a few MB for a long run) only where one run is read: scope("withNames") alone.
-      defaultScope: { attributes: { exclude: ["series"] } },
-      scopes: {
-        /** With the names the API shows (the associations are declared in db/models.ts). */
-        withNames: {
-          include: [
-            { association: "creator", attributes: ["displayName"] },
-            { association: "profile", attributes: ["name"] },
-            { association: "version", attributes: ["number"] },
-          ],
-        },
+  const Trial = bindModel(sequelize, TrialModel, { modelName: "Trial", tableName: "trials" }, { timestamps: true }, {
+    id: serialId(),
+    armId: unsigned(),
+    name: string(120),
+    definition: json(),
+    createdBy: userRef(),
+    createdAt: DataTypes.DATE(3),
+    updatedAt: DataTypes.DATE(3),
+  });
+  const runOptions = {
+    timestamps: true,
+    updatedAt: false,
+    // The series (up to a few MB for a long run) only where one run is read: scope("withNames") alone.
+    defaultScope: { attributes: { exclude: ["series"] } },
+    scopes: {
+      /** With the names the API shows (the associations are declared in db/models.ts). */
+      withNames: {
+        include: [
+          { association: "creator", attributes: USER_NAME },
+          { association: "profile", attributes: ["name"] },
+          { association: "version", attributes: ["number"] },
+        ],
       },
     },
-  );
-  const VersionEvidence = class extends VersionEvidenceModel {};
-  VersionEvidence.init(
-    {
-      versionId: { type: DataTypes.INTEGER.UNSIGNED, primaryKey: true },
-      runId: { type: DataTypes.INTEGER.UNSIGNED, primaryKey: true },
-      attachedBy: { type: DataTypes.STRING(40), allowNull: false },
-      attachedAt: DataTypes.DATE(3),
-    },
-    { sequelize, modelName: "VersionEvidence", tableName: "version_evidence", underscored: true, timestamps: true, createdAt: "attachedAt", updatedAt: false },
-  );
-  return { Trial, TrialRun, VersionEvidence };
-}
-
-type TrialModels = ReturnType<typeof defineTrialModels>;
-
-/** Trial–Run (a custom trial's runs) and Version–Evidence–Run. */
-export function associateTrialModels({ Trial, TrialRun, VersionEvidence }: TrialModels): void {
-  Trial.hasMany(TrialRun, { as: "runs", foreignKey: "trialId" });
-  TrialRun.belongsTo(Trial, { as: "trial", foreignKey: "trialId" });
+  };
+  const TrialRun = bindModel(sequelize, TrialRunModel, { modelName: "TrialRun", tableName: "trial_runs" }, runOptions, {
+    id: serialId(),
+    armId: unsigned(),
+    profileId: unsigned(),
+    versionId: unsigned(NULLABLE),
+    params: json(),
+    trialKind: string(40),
+    trialId: unsigned(NULLABLE),
+    recordingId: unsigned(NULLABLE),
+    trialName: string(160),
+    trialDefinition: json(NULLABLE),
+    metrics: json(),
+    series: longBlob(),
+    seriesHash: sha256(),
+    durationMs: unsigned(),
+    createdBy: userRef(),
+    createdAt: DataTypes.DATE(3),
+  });
+  const evidenceOptions = { timestamps: true, createdAt: "attachedAt", updatedAt: false };
+  const VersionEvidence = bindModel(sequelize, VersionEvidenceModel, { modelName: "VersionEvidence", tableName: "version_evidence" }, evidenceOptions, {
+    versionId: primaryKey(unsigned()),
+    runId: primaryKey(unsigned()),
+    attachedBy: userRef(),
+    attachedAt: DataTypes.DATE(3),
+  });
+  // A custom trial's runs; the run a piece of evidence is.
+  hasManyBothWays(Trial, TrialRun, { foreignKey: "trialId", as: "runs", inverseAs: "trial" });
   VersionEvidence.belongsTo(TrialRun, { as: "run", foreignKey: "runId" });
+  return { Trial, TrialRun, VersionEvidence };
 }

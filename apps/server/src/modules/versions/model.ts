@@ -1,4 +1,4 @@
-import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
+import { DataTypes, type CreationOptional, type NonAttribute, type Sequelize } from "sequelize";
 import {
   CEILING_EVENT_KINDS,
   profileParamsSchema,
@@ -8,6 +8,8 @@ import {
   type ProfileVersion,
   type VersionState,
 } from "@jogwright/shared";
+import { enumOf, flag, NULLABLE, primaryKey, serialId, sha256, text, time, unsigned, userRef } from "../../db/columns.ts";
+import { bindModel, hasOneBothWays, jsonParsedBy, stampedByDatabase, TableModel, type IncludedUser, type SerialId, type Stamp } from "../../db/model-parts.ts";
 
 type CeilingEventKind = (typeof CEILING_EVENT_KINDS)[number];
 
@@ -17,11 +19,8 @@ type CeilingEventKind = (typeof CEILING_EVENT_KINDS)[number];
  * triggers of 0008 and 0014). The classes give the types; `defineVersionModels` binds a copy of each to
  * one Sequelize instance (db/models.ts). Nothing here ever updates or deletes a profile_versions row.
  */
-export class VersionModel extends Model<
-  InferAttributes<VersionModel, { omit: "status" | "author" | "profile" }>,
-  InferCreationAttributes<VersionModel, { omit: "status" | "author" | "profile" }>
-> {
-  declare id: CreationOptional<number>;
+export class VersionModel extends TableModel<VersionModel, "status" | "author" | "profile"> {
+  declare id: SerialId;
   declare profileId: number;
   declare number: number;
   declare parentVersionId: number | null;
@@ -29,7 +28,7 @@ export class VersionModel extends Model<
   declare paramsSha256: string;
   declare note: string;
   declare authorId: string;
-  declare createdAt: CreationOptional<Date>;
+  declare createdAt: Stamp;
   /** Set by the approval (the approvals row's trigger), never by the app. */
   declare lockedAt: CreationOptional<Date | null>;
   declare status?: NonAttribute<VersionStatusModel>;
@@ -64,10 +63,7 @@ export class VersionModel extends Model<
   }
 }
 
-export class VersionStatusModel extends Model<
-  InferAttributes<VersionStatusModel, { omit: "decider" }>,
-  InferCreationAttributes<VersionStatusModel, { omit: "decider" }>
-> {
+export class VersionStatusModel extends TableModel<VersionStatusModel, "decider"> {
   declare versionId: number;
   declare state: CreationOptional<VersionState>;
   declare submittedAt: CreationOptional<Date | null>;
@@ -77,29 +73,26 @@ export class VersionStatusModel extends Model<
   declare exceedsCeilings: CreationOptional<boolean>;
   /** The re-confirmation that cleared the flag last; set only by its row's trigger (migration 0016). */
   declare reconfirmationId: CreationOptional<number | null>;
-  declare updatedAt: CreationOptional<Date>;
+  declare updatedAt: Stamp;
   /** Included through the association declared in db/models.ts. */
-  declare decider?: NonAttribute<{ displayName: string } | null>;
+  declare decider?: IncludedUser;
 }
 
 /**
  * A version's flag history (`version_ceiling_events`, migration 0016): append-only. Inserting a
  * `reconfirm` row *is* the re-confirmation: its trigger clears the version's flag in that statement.
  */
-export class VersionCeilingEventModel extends Model<
-  InferAttributes<VersionCeilingEventModel, { omit: "actor" }>,
-  InferCreationAttributes<VersionCeilingEventModel, { omit: "actor" }>
-> {
-  declare id: CreationOptional<number>;
+export class VersionCeilingEventModel extends TableModel<VersionCeilingEventModel, "actor"> {
+  declare id: SerialId;
   declare versionId: number;
   declare kind: CeilingEventKind;
   declare ceilingsRevision: number;
   declare actorId: string | null;
   declare comment: string;
   /** Stamped by the BEFORE INSERT trigger. */
-  declare at: CreationOptional<Date>;
+  declare at: Stamp;
   /** Included through the association declared in db/models.ts. */
-  declare actor?: NonAttribute<{ displayName: string } | null>;
+  declare actor?: IncludedUser;
 
   toApi(): CeilingEvent {
     return {
@@ -116,66 +109,42 @@ export class VersionCeilingEventModel extends Model<
 }
 
 export function defineVersionModels(sequelize: Sequelize) {
-  const Version = class extends VersionModel {};
-  Version.init(
-    {
-      id: { type: DataTypes.INTEGER.UNSIGNED, autoIncrement: true, primaryKey: true },
-      profileId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      number: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      parentVersionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
-      params: {
-        type: DataTypes.JSON,
-        allowNull: false,
-        get() {
-          const raw = this.getDataValue("params") as unknown;
-          return profileParamsSchema.parse(typeof raw === "string" ? JSON.parse(raw) : raw);
-        },
-      },
-      paramsSha256: { type: DataTypes.CHAR(64), allowNull: false },
-      note: { type: DataTypes.TEXT, allowNull: false },
-      authorId: { type: DataTypes.STRING(40), allowNull: false },
-      createdAt: DataTypes.DATE(3),
-      lockedAt: { type: DataTypes.DATE(3), allowNull: true },
-    },
-    { sequelize, modelName: "ProfileVersion", tableName: "profile_versions", underscored: true, timestamps: true, updatedAt: false },
-  );
-  const VersionStatus = class extends VersionStatusModel {};
-  VersionStatus.init(
-    {
-      versionId: { type: DataTypes.INTEGER.UNSIGNED, primaryKey: true },
-      state: { type: DataTypes.ENUM(...VERSION_STATES), allowNull: false, defaultValue: "draft" },
-      submittedAt: { type: DataTypes.DATE(3), allowNull: true },
-      decidedBy: { type: DataTypes.STRING(40), allowNull: true },
-      decidedAt: { type: DataTypes.DATE(3), allowNull: true },
-      decisionComment: { type: DataTypes.TEXT, allowNull: true },
-      exceedsCeilings: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
-      reconfirmationId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
-      updatedAt: DataTypes.DATE(3),
-    },
-    { sequelize, modelName: "VersionStatus", tableName: "version_status", underscored: true, timestamps: true, createdAt: false },
-  );
-  const CeilingEvent = class extends VersionCeilingEventModel {};
-  CeilingEvent.init(
-    {
-      id: { type: DataTypes.INTEGER.UNSIGNED, autoIncrement: true, primaryKey: true },
-      versionId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      kind: { type: DataTypes.ENUM(...CEILING_EVENT_KINDS), allowNull: false },
-      ceilingsRevision: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
-      actorId: { type: DataTypes.STRING(40), allowNull: true },
-      comment: { type: DataTypes.TEXT, allowNull: false },
-      at: { type: DataTypes.DATE(3) },
-    },
-    { sequelize, modelName: "VersionCeilingEvent", tableName: "version_ceiling_events", underscored: true, timestamps: false },
-  );
-  return { Version, VersionStatus, CeilingEvent };
-}
-
-type VersionModels = ReturnType<typeof defineVersionModels>;
-
-/** Version–Status (one each). The scopes that include people are added in db/models.ts. */
-export function associateVersionModels({ Version, VersionStatus, CeilingEvent }: VersionModels): void {
+  const Version = bindModel(sequelize, VersionModel, { modelName: "ProfileVersion", tableName: "profile_versions" }, { timestamps: true, updatedAt: false }, {
+    id: serialId(),
+    profileId: unsigned(),
+    number: unsigned(),
+    parentVersionId: unsigned(NULLABLE),
+    params: jsonParsedBy("params", profileParamsSchema),
+    paramsSha256: sha256(),
+    note: text(),
+    authorId: userRef(),
+    createdAt: DataTypes.DATE(3),
+    lockedAt: time(NULLABLE),
+  });
+  const VersionStatus = bindModel(sequelize, VersionStatusModel, { modelName: "VersionStatus", tableName: "version_status" }, { timestamps: true, createdAt: false }, {
+    versionId: primaryKey(unsigned()),
+    state: enumOf(VERSION_STATES, "draft"),
+    submittedAt: time(NULLABLE),
+    decidedBy: userRef(NULLABLE),
+    decidedAt: time(NULLABLE),
+    decisionComment: text(NULLABLE),
+    exceedsCeilings: flag(false),
+    reconfirmationId: unsigned(NULLABLE),
+    updatedAt: DataTypes.DATE(3),
+  });
+  const CeilingEvent = bindModel(sequelize, VersionCeilingEventModel, { modelName: "VersionCeilingEvent", tableName: "version_ceiling_events" }, { timestamps: false }, {
+    id: serialId(),
+    versionId: unsigned(),
+    kind: enumOf(CEILING_EVENT_KINDS),
+    ceilingsRevision: unsigned(),
+    actorId: userRef(NULLABLE),
+    comment: text(),
+    at: stampedByDatabase(),
+  });
+  // Version–Status (one each), the flag history, the parent version. The scopes that include people are
+  // added in db/models.ts.
   Version.hasMany(CeilingEvent, { as: "ceilingEvents", foreignKey: "versionId" });
-  Version.hasOne(VersionStatus, { as: "status", foreignKey: "versionId" });
-  VersionStatus.belongsTo(Version, { as: "version", foreignKey: "versionId" });
+  hasOneBothWays(Version, VersionStatus, { foreignKey: "versionId", as: "status", inverseAs: "version" });
   Version.belongsTo(Version, { as: "parent", foreignKey: "parentVersionId" });
+  return { Version, VersionStatus, CeilingEvent };
 }
