@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { armRefShape, operatorRefShape } from "./named-refs.ts";
 import { profileVersionSchema } from "./profile-api.ts";
 import { VERSION_STATES, type VersionState } from "./profile.ts";
 import type { Role } from "./roles.ts";
@@ -127,10 +128,8 @@ export function drivingRefusalMessage(decision: Extract<DrivingDecision, { isDri
 /** A version the signed-in person may drive, with what the picker shows. */
 export const driveableVersionSchema = profileVersionSchema.extend({
   profileName: z.string(),
-  operatorId: z.string(),
-  operatorName: z.string(),
-  armId: z.number().int(),
-  armName: z.string(),
+  ...operatorRefShape,
+  ...armRefShape,
   /** As isDriveable decided it: "test-drive" marks an engineer's drive of anything but the approved version. */
   kind: z.enum(DRIVING_KINDS),
 });

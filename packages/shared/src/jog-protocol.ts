@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { armRefShape, driverRefShape, profileRefShape, versionRefShape } from "./named-refs.ts";
 import { versionArmRefShape } from "./profile-api.ts";
 
 /**
@@ -123,22 +124,15 @@ export const GUARD_STATES = ["off", "clear", "stopped", "backing-out", "acknowle
 
 export const jogSessionInfoSchema = z.object({
   sessionId: z.string(),
-  versionId: z.number().int(),
-  versionNumber: z.number().int(),
+  ...versionRefShape,
   versionState: z.string(),
   /** True when an engineer drives a version that is not approved: the page marks it plainly. */
   isUnapproved: z.boolean(),
-  profileId: z.number().int(),
-  profileName: z.string(),
-  armId: z.number().int(),
-  armName: z.string(),
+  ...profileRefShape,
+  ...armRefShape,
   /** The arm revision and tool the version was saved on (issue 12); null where the server does not know them. */
-  armRevisionId: z.number().int().nullable().optional(),
-  armRevision: z.number().int().nullable().optional(),
-  toolId: z.number().int().nullable().optional(),
-  toolName: z.string().nullable().optional(),
-  driverId: z.string(),
-  driverName: z.string(),
+  ...versionArmRefShape,
+  ...driverRefShape,
   tickRateHz: z.number(),
   frameRateHz: z.number(),
   watchdogMs: z.number(),
@@ -299,11 +293,9 @@ export const JOG_CLOSE_CODES = {
 
 export const liveSessionSchema = z.object({
   sessionId: z.string(),
-  driverId: z.string(),
-  driverName: z.string(),
+  ...driverRefShape,
   profileName: z.string(),
-  versionId: z.number().int(),
-  versionNumber: z.number().int(),
+  ...versionRefShape,
   armName: z.string(),
   startedAt: z.string(),
   isUnapproved: z.boolean(),
@@ -339,14 +331,10 @@ export type RecordingSummary = z.infer<typeof recordingSummarySchema>;
 export const recordingSchema = z.object({
   id: z.number().int(),
   sessionId: z.string(),
-  driverId: z.string(),
-  driverName: z.string(),
-  armId: z.number().int(),
-  armName: z.string(),
-  profileId: z.number().int(),
-  profileName: z.string(),
-  versionId: z.number().int(),
-  versionNumber: z.number().int(),
+  ...driverRefShape,
+  ...armRefShape,
+  ...profileRefShape,
+  ...versionRefShape,
   startedAt: z.string(),
   endedAt: z.string().nullable(),
   endReason: z.string().nullable(),

@@ -3,7 +3,7 @@ import { AUDIT_ENTITIES, CEILING_EVENT_KINDS, mailMessageSchema } from "./profil
 import { ceilingsSchema, EVIDENCE_RULES, GUARD_POLICIES, GUARD_POLICY_LABELS, VERSION_STATES, type Ceilings, type VersionState } from "./profile.ts";
 import { DAMPING_KIND_LABELS } from "./profile-fields.ts";
 import { ROLE_LABELS, ROLES } from "./roles.ts";
-import { GUARD_STATES, JOG_END_REASONS, JOG_ERROR_CODES, STOP_KINDS, STOP_REASONS } from "./jog-protocol.ts";
+import { GUARD_STATES, JOG_END_REASONS, JOG_ERROR_CODES, jogInputSchema, STOP_KINDS, STOP_REASONS, type JogInput } from "./jog-protocol.ts";
 import { BUILTIN_TRIAL_KINDS, type BuiltinTrialKind } from "./trials.ts";
 
 /**
@@ -236,6 +236,18 @@ export const JOG_ERROR_LABELS: LabelMap<(typeof JOG_ERROR_CODES)[number]> = {
   account_deactivated: "Account deactivated",
 };
 
+/** What the jog axes command (the drive page's mode switch). */
+export const JOG_MODE_LABELS: LabelMap<JogInput["mode"]> = {
+  cartesian: "Cartesian",
+  joint: "Joint",
+};
+
+/** The frame a Cartesian jog's twist is in (the drive page's frame switch). */
+export const JOG_FRAME_LABELS: LabelMap<JogInput["frame"]> = {
+  world: "World frame",
+  tool: "Tool frame",
+};
+
 // ---------------------------------------------------------------------------------------------------
 // Workflow (helper "flow") — add maps below this line
 // ---------------------------------------------------------------------------------------------------
@@ -279,6 +291,8 @@ export const LABELLED_SETS = {
   stopKind: { values: STOP_KINDS, labels: STOP_KIND_LABELS },
   guardState: { values: GUARD_STATES, labels: GUARD_STATE_LABELS },
   jogError: { values: JOG_ERROR_CODES, labels: JOG_ERROR_LABELS },
+  jogMode: { values: jogInputSchema.shape.mode.options, labels: JOG_MODE_LABELS },
+  jogFrame: { values: jogInputSchema.shape.frame.options, labels: JOG_FRAME_LABELS },
   builtinTrial: { values: BUILTIN_TRIAL_KINDS, labels: BUILTIN_TRIAL_LABELS },
   // flow: workflow sets here
   ceilingEventKind: { values: CEILING_EVENT_KINDS, labels: CEILING_EVENT_KIND_LABELS },

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { trialRunSchema } from "./bench-api.ts";
+import { armRefShape, operatorRefShape, profileRefShape } from "./named-refs.ts";
 import { ceilingsSchema, profileParamsSchema, versionStateSchema } from "./profile.ts";
 import { singleLineName } from "./text.ts";
 
@@ -7,16 +8,24 @@ import { singleLineName } from "./text.ts";
 
 const note = z.string().trim().max(2000, "at most 2000 characters");
 
+/**
+ * The version a save makes, as both ways of saving one send it: its parameters, a note, and the arm
+ * revision (issue 12) and the tool on that revision it drives. An absent armRevisionId or toolId means the
+ * default each request below states; a null toolId means none (the revision's own tool transform).
+ */
+const savedVersionShape = {
+  params: profileParamsSchema,
+  note: note.default(""),
+  armRevisionId: z.number().int().positive().optional(),
+  toolId: z.number().int().positive().nullable().optional(),
+};
+
+/** A new profile and its v1; absent armRevisionId: the arm's latest revision; absent toolId: its first tool in service. */
 export const createProfileSchema = z.object({
   name: singleLineName({ requiredMessage: "a profile needs a name", max: 120 }),
   operatorId: z.string().min(1, "pick an operator"),
   armId: z.number().int().positive("pick an arm"),
-  params: profileParamsSchema,
-  note: note.default(""),
-  /** The arm revision v1 is made on (issue 12); absent: the arm's latest revision. */
-  armRevisionId: z.number().int().positive().optional(),
-  /** The tool on that revision; absent: its first tool in service; null: none (the revision's own tool transform). */
-  toolId: z.number().int().positive().nullable().optional(),
+  ...savedVersionShape,
 });
 export type CreateProfileInput = z.infer<typeof createProfileSchema>;
 
@@ -24,17 +33,13 @@ export type CreateProfileInput = z.infer<typeof createProfileSchema>;
  * Every save is a new version. parentVersionId is the version the edits started from (any version of the
  * profile); latestVersionId is the profile's latest version as the editor saw it (optimistic concurrency:
  * 409 stale_parent when another version was saved since). Without latestVersionId the parent must be the
- * latest version.
+ * latest version. An armRevisionId moves the profile to another revision of its arm; absent: the parent
+ * version's revision; absent toolId: the parent's tool (or, with a new revision, its first tool).
  */
 export const saveVersionSchema = z.object({
   parentVersionId: z.number().int().positive(),
   latestVersionId: z.number().int().positive().optional(),
-  params: profileParamsSchema,
-  note: note.default(""),
-  /** Move to another revision of the profile's arm (issue 12); absent: the parent version's revision. */
-  armRevisionId: z.number().int().positive().optional(),
-  /** The tool on that revision; absent: the parent's tool (or, with a new revision, its first tool); null: none. */
-  toolId: z.number().int().positive().nullable().optional(),
+  ...savedVersionShape,
 });
 export type SaveVersionInput = z.infer<typeof saveVersionSchema>;
 
@@ -94,10 +99,8 @@ export type ProfileVersion = z.infer<typeof profileVersionSchema>;
 export const profileSummarySchema = z.object({
   id: z.number().int(),
   name: z.string(),
-  operatorId: z.string(),
-  operatorName: z.string(),
-  armId: z.number().int(),
-  armName: z.string(),
+  ...operatorRefShape,
+  ...armRefShape,
   createdAt: z.string(),
   latestVersion: profileVersionSchema,
   /** The one version its operator may drive, if any (approved, not flagged by lowered ceilings). */
@@ -222,8 +225,7 @@ export type VersionDetail = z.infer<typeof versionDetailResponseSchema>;
 export const flaggedVersionSchema = z.object({
   versionId: z.number().int(),
   number: z.number().int(),
-  profileId: z.number().int(),
-  profileName: z.string(),
+  ...profileRefShape,
   operatorName: z.string(),
   /** "Olena — pack opening v5" */
   label: z.string(),

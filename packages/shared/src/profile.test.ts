@@ -124,17 +124,11 @@ describe("stopping-distance and deceleration ceilings", () => {
     expect(controlledStopDistanceM(0.1, 0)).toBe(Infinity);
   });
 
-  it("the stored revision-1 ceilings (written before these fields) parse with 50 mm and 0.5 m/s²", () => {
-    // Migration 0005's revision 1, as stored.
-    const revision1 = {
-      tcpLinearMaxMPerS: 0.25,
-      tcpAngularMaxRadPerS: Math.PI / 2,
-      jointSpeedFractionMax: 0.75,
-      watchdogMaxMs: 300,
-      allowedGuardPolicies: ["damp-through", "stop-before"],
-      lambdaMaxMinM: 0.01,
-    };
-    const parsed = ceilingsSchema.parse(revision1);
+  it("ceilings stored before these fields parse with 50 mm and 0.5 m/s²", () => {
+    // The defaults without the two later fields (the stored revision 1 itself: the server's ceilings.test.ts).
+    const { stoppingDistanceMaxM, decelerationMinMPerS2, ...older } = DEFAULT_CEILINGS;
+    expect([stoppingDistanceMaxM, decelerationMinMPerS2]).toEqual([0.05, 0.5]);
+    const parsed = ceilingsSchema.parse(older);
     expect(parsed.stoppingDistanceMaxM).toBe(0.05);
     expect(parsed.decelerationMinMPerS2).toBe(0.5);
     expect(parsed).toEqual(DEFAULT_CEILINGS);

@@ -1,12 +1,4 @@
 import { ArmsPage } from "../../features/arms/components/arms-page.tsx";
-import { useCurrentUser } from "../../lib/session.ts";
+import { titledRoute } from "./titled-route.tsx";
 
-export default function ArmsRoute() {
-  const user = useCurrentUser();
-  return (
-    <>
-      <title>Arms · Jogwright</title>
-      <ArmsPage user={user} />
-    </>
-  );
-}
+export default titledRoute("Arms", (user) => <ArmsPage user={user} />);

@@ -1,12 +1,4 @@
-import { useCurrentUser } from "../../lib/session.ts";
 import { AuditPage } from "../../features/audit/components/audit-page.tsx";
+import { titledRoute } from "./titled-route.tsx";
 
-export default function AuditRoute() {
-  const user = useCurrentUser();
-  return (
-    <>
-      <title>Audit · Jogwright</title>
-      <AuditPage isAdmin={user.roles.includes("admin")} />
-    </>
-  );
-}
+export default titledRoute("Audit", (user) => <AuditPage isAdmin={user.roles.includes("admin")} />);

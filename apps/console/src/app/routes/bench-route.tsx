@@ -1,10 +1,4 @@
 import { BenchPage } from "../../features/bench/components/bench-page.tsx";
+import { titledRoute } from "./titled-route.tsx";
 
-export default function BenchRoute() {
-  return (
-    <>
-      <title>Tuning bench · Jogwright</title>
-      <BenchPage />
-    </>
-  );
-}
+export default titledRoute("Tuning bench", () => <BenchPage />);

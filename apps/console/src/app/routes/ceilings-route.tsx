@@ -1,12 +1,4 @@
-import { useCurrentUser } from "../../lib/session.ts";
 import { CeilingsPage } from "../../features/ceilings/components/ceilings-page.tsx";
+import { titledRoute } from "./titled-route.tsx";
 
-export default function CeilingsRoute() {
-  const user = useCurrentUser();
-  return (
-    <>
-      <title>Ceilings · Jogwright</title>
-      <CeilingsPage canEdit={user.roles.includes("safety_officer")} />
-    </>
-  );
-}
+export default titledRoute("Ceilings", (user) => <CeilingsPage canEdit={user.roles.includes("safety_officer")} />);

@@ -1,10 +1,4 @@
 import { DrivePage } from "../../features/drive/components/drive-page.tsx";
+import { titledRoute } from "./titled-route.tsx";
 
-export default function DriveRoute() {
-  return (
-    <>
-      <title>Drive · Jogwright</title>
-      <DrivePage />
-    </>
-  );
-}
+export default titledRoute("Drive", () => <DrivePage />);

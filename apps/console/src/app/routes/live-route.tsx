@@ -1,10 +1,4 @@
 import { LivePage } from "../../features/drive/components/live-page.tsx";
+import { titledRoute } from "./titled-route.tsx";
 
-export default function LiveRoute() {
-  return (
-    <>
-      <title>Live sessions · Jogwright</title>
-      <LivePage />
-    </>
-  );
-}
+export default titledRoute("Live sessions", () => <LivePage />);

@@ -1,6 +1,7 @@
 import { Link } from "react-router";
 import { Lock } from "lucide-react";
 import { ROLES, ROLE_LABELS, type Role } from "@jogwright/shared";
+import { DocumentTitle } from "../../components/layout/document-title.tsx";
 
 const list = (roles: readonly Role[]) =>
   ROLES.filter((r) => roles.includes(r))
@@ -11,7 +12,7 @@ const list = (roles: readonly Role[]) =>
 export function NotAvailable({ pageRoles, userRoles }: { pageRoles: readonly Role[]; userRoles: readonly Role[] }) {
   return (
     <section className="flex max-w-2xl flex-col gap-4" aria-labelledby="not-available-title">
-      <title>Not available · Jogwright</title>
+      <DocumentTitle page="Not available" />
       <div className="flex items-center gap-3">
         <Lock aria-hidden className="size-6 text-warn-400" />
         <h1 id="not-available-title" className="text-2xl font-bold">

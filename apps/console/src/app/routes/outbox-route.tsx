@@ -1,10 +1,4 @@
 import { OutboxPage } from "../../features/outbox/components/outbox-page.tsx";
+import { titledRoute } from "./titled-route.tsx";
 
-export default function OutboxRoute() {
-  return (
-    <>
-      <title>Outbox · Jogwright</title>
-      <OutboxPage />
-    </>
-  );
-}
+export default titledRoute("Outbox", () => <OutboxPage />);

@@ -1,10 +1,4 @@
 import { RecordingsPage } from "../../features/recordings/components/recordings-page.tsx";
+import { titledRoute } from "./titled-route.tsx";
 
-export default function RecordingsRoute() {
-  return (
-    <>
-      <title>Recordings · Jogwright</title>
-      <RecordingsPage />
-    </>
-  );
-}
+export default titledRoute("Recordings", () => <RecordingsPage />);

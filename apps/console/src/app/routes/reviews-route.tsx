@@ -1,10 +1,4 @@
 import { ReviewsPage } from "../../features/reviews/components/reviews-page.tsx";
+import { titledRoute } from "./titled-route.tsx";
 
-export default function ReviewsRoute() {
-  return (
-    <>
-      <title>Reviews · Jogwright</title>
-      <ReviewsPage />
-    </>
-  );
-}
+export default titledRoute("Reviews", () => <ReviewsPage />);

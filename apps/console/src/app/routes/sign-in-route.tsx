@@ -5,6 +5,7 @@ import { Message } from "../../components/ui/message.tsx";
 import { SignInForm } from "../../features/auth/components/sign-in-form.tsx";
 import { useSession } from "../../lib/session.ts";
 import { Brand } from "../shell/brand.tsx";
+import { DocumentTitle } from "../../components/layout/document-title.tsx";
 
 /** Only same-site paths are followed after sign-in ("//host" would leave the site). */
 function safeNext(next: string | null): string {
@@ -21,7 +22,7 @@ export default function SignInRoute() {
 
   return (
     <div className="flex min-h-dvh flex-col">
-      <title>Sign in · Jogwright</title>
+      <DocumentTitle page="Sign in" />
       <CautionsBanner />
       <main className="flex flex-1 items-center justify-center p-6">
         <div className="w-full max-w-sm rounded-lg border border-ink-700 bg-ink-850 p-6 shadow-xl">

@@ -1,12 +1,4 @@
-import { useCurrentUser } from "../../lib/session.ts";
 import { UsersPage } from "../../features/users/components/users-page.tsx";
+import { titledRoute } from "./titled-route.tsx";
 
-export default function UsersRoute() {
-  const user = useCurrentUser();
-  return (
-    <>
-      <title>Users · Jogwright</title>
-      <UsersPage currentUserId={user.id} />
-    </>
-  );
-}
+export default titledRoute("Users", (user) => <UsersPage currentUserId={user.id} />);

@@ -11,7 +11,7 @@ import {
   type SortingState,
   type Table,
 } from "@tanstack/react-table";
-import { formatDateTime } from "../../lib/format.ts";
+import { capitalized, formatDateTime } from "../../lib/format.ts";
 import { ArrowDown, ArrowUp, ArrowUpDown, Search } from "lucide-react";
 import { cn } from "../../lib/cn.ts";
 import { EmptyTableRow, TableFrame, TableHeadCell } from "./table-frame.tsx";
@@ -224,14 +224,14 @@ export function TableFilter<Row>({ table, label, placeholder, rowsNoun }: TableF
 
 /**
  * A list page's table: sorted by the column `sortBy` at first (any heading re-sorts it), with the filter
- * box and count above it. `emptyMessage` gets the filter text: nothing matches it, or there are no rows.
+ * box and count above it. `rowsNoun` ("arms") names the rows in the count, the caption ("Arms. Select a
+ * column heading to sort by it.") and the filter box ("Filter arms"). `emptyMessage` gets the filter
+ * text: nothing matches it, or there are no rows.
  */
 export function FilterableTable<Row>({
   data,
   columns,
   sortBy,
-  caption,
-  filterLabel,
   placeholder,
   rowsNoun,
   emptyMessage,
@@ -240,8 +240,6 @@ export function FilterableTable<Row>({
   data: Row[];
   columns: ColumnDef<Row>[];
   sortBy: string;
-  caption: ReactNode;
-  filterLabel: string;
   placeholder: string;
   rowsNoun: string;
   emptyMessage: (filter: string) => ReactNode;
@@ -249,9 +247,10 @@ export function FilterableTable<Row>({
   verticalAlign?: keyof typeof ROW_CLASS;
 }) {
   const { table, filter } = useSortableFilterableTable({ data, columns, initialSort: [{ id: sortBy, desc: false }] });
+  const caption = `${capitalized(rowsNoun)}. Select a column heading to sort by it.`;
   return (
     <div className="flex flex-col gap-3">
-      <TableFilter table={table} label={filterLabel} placeholder={placeholder} rowsNoun={rowsNoun} />
+      <TableFilter table={table} label={`Filter ${rowsNoun}`} placeholder={placeholder} rowsNoun={rowsNoun} />
       <DataTable table={table} caption={caption} emptyMessage={emptyMessage(filter)} {...display} />
     </div>
   );

@@ -2,14 +2,14 @@ import { queryOptions, skipToken, useQuery, useQueryClient } from "@tanstack/rea
 import { armDetailSchema, armListResponseSchema } from "@jogwright/shared";
 import { apiRequest } from "../api-client.ts";
 import { auditKeys } from "./audit.ts";
+import { fetchMember, resourceKeys } from "./resource.ts";
 
 /**
  * The arms (read by the arms pages, profiles, reviews, drive, live and recordings): one key factory, the
  * list (each arm as its latest revision) and one arm with its revisions and tools.
  */
 export const armKeys = {
-  all: ["arms"] as const,
-  lists: () => [...armKeys.all, "list"] as const,
+  ...resourceKeys("arms"),
   details: () => [...armKeys.all, "detail"] as const,
   /** null: no arm picked yet (the query is skipped, never fetched with a placeholder id). */
   detail: (armId: number | null) => [...armKeys.details(), armId] as const,
@@ -18,7 +18,7 @@ export const armKeys = {
 export const armListQueryOptions = () =>
   queryOptions({
     queryKey: armKeys.lists(),
-    queryFn: async ({ signal }) => (await apiRequest("/api/arms", { schema: armListResponseSchema, signal })).arms,
+    queryFn: fetchMember("/api/arms", armListResponseSchema, "arms"),
     staleTime: 5 * 60_000,
   });
 

@@ -1,6 +1,7 @@
 import { queryOptions, useQuery } from "@tanstack/react-query";
 import { ceilingsRecordSchema, flaggedVersionsResponseSchema } from "@jogwright/shared";
 import { apiRequest } from "../api-client.ts";
+import { fetchMember } from "./resource.ts";
 
 /** The site ceilings in force (read by the ceilings page and every profile form): one key factory, one query. */
 
@@ -22,7 +23,7 @@ export const useCeilings = () => useQuery(ceilingsQueryOptions());
 export const flaggedVersionsQueryOptions = () =>
   queryOptions({
     queryKey: ceilingKeys.flagged(),
-    queryFn: async ({ signal }) => (await apiRequest("/api/ceilings/flagged", { schema: flaggedVersionsResponseSchema, signal })).versions,
+    queryFn: fetchMember("/api/ceilings/flagged", flaggedVersionsResponseSchema, "versions"),
   });
 
 export const useFlaggedVersions = () => useQuery(flaggedVersionsQueryOptions());

@@ -7,6 +7,7 @@ import {
 } from "@jogwright/shared";
 import { apiRequest } from "../api-client.ts";
 import { auditKeys } from "./audit.ts";
+import { fetchMember, resourceKeys } from "./resource.ts";
 import { reviewKeys } from "./reviews.ts";
 
 /**
@@ -15,8 +16,7 @@ import { reviewKeys } from "./reviews.ts";
  * mutation's invalidation of `profileKeys.all` / `versionKeys.all` reaches every screen.
  */
 export const profileKeys = {
-  all: ["profiles"] as const,
-  lists: () => [...profileKeys.all, "list"] as const,
+  ...resourceKeys("profiles"),
   details: () => [...profileKeys.all, "detail"] as const,
   /** null: nothing picked yet (the query is skipped, never fetched with a placeholder id). */
   detail: (profileId: number | null) => [...profileKeys.details(), profileId] as const,
@@ -33,14 +33,14 @@ export const versionKeys = {
 export const operatorListQueryOptions = () =>
   queryOptions({
     queryKey: profileKeys.operators(),
-    queryFn: async ({ signal }) => (await apiRequest("/api/operators", { schema: operatorListResponseSchema, signal })).operators,
+    queryFn: fetchMember("/api/operators", operatorListResponseSchema, "operators"),
     staleTime: 5 * 60_000,
   });
 
 export const profileListQueryOptions = () =>
   queryOptions({
     queryKey: profileKeys.lists(),
-    queryFn: async ({ signal }) => (await apiRequest("/api/profiles", { schema: profileListResponseSchema, signal })).profiles,
+    queryFn: fetchMember("/api/profiles", profileListResponseSchema, "profiles"),
   });
 
 /** GET /api/profiles/:id, or a skipped query while profileId is null. */

@@ -3,6 +3,7 @@ import { queryOptions } from "@tanstack/react-query";
 import { z } from "zod";
 import { recordedFrameSchema, recordingSchema } from "@jogwright/shared";
 import { apiRequest } from "../api-client.ts";
+import { fetchMember } from "./resource.ts";
 
 const recordingListSchema = z.object({ recordings: z.array(recordingSchema) });
 const recordingDetailSchema = z.object({ recording: recordingSchema, frames: z.array(recordedFrameSchema) });
@@ -16,7 +17,7 @@ export const recordingKeys = {
 export const recordingListQueryOptions = () =>
   queryOptions({
     queryKey: recordingKeys.list(),
-    queryFn: async ({ signal }) => (await apiRequest("/api/recordings", { schema: recordingListSchema, signal })).recordings,
+    queryFn: fetchMember("/api/recordings", recordingListSchema, "recordings"),
     staleTime: 10_000,
   });
 

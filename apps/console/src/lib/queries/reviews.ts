@@ -2,6 +2,7 @@ import { queryOptions, useQuery } from "@tanstack/react-query";
 import { z } from "zod";
 import { profileVersionSchema } from "@jogwright/shared";
 import { apiRequest } from "../api-client.ts";
+import { fetchMember } from "./resource.ts";
 
 /** The review queue's key factory: every change to a version's state invalidates `reviewKeys.all`. */
 export const reviewKeys = {
@@ -19,7 +20,7 @@ const reviewListSchema = z.object({ versions: z.array(reviewItemSchema) });
 export const reviewQueueQueryOptions = () =>
   queryOptions({
     queryKey: reviewKeys.queue(),
-    queryFn: async ({ signal }) => (await apiRequest("/api/reviews", { schema: reviewListSchema, signal })).versions,
+    queryFn: fetchMember("/api/reviews", reviewListSchema, "versions"),
   });
 
 /** How often the badge asks when nothing on this page changed a version (another officer's queue moves too). */

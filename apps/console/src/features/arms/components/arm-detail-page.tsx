@@ -18,6 +18,7 @@ import { LINK_BUTTON_SECONDARY } from "./arms-page.tsx";
 import { DhTable } from "./dh-table.tsx";
 import { BaseAndTool } from "./pose-facts.tsx";
 import { ToolsCard } from "./tools-card.tsx";
+import { DocumentTitle } from "../../../components/layout/document-title.tsx";
 
 /**
  * One arm: the revision viewed (`?revision=<id>`, else the current one) — its DH table, ranges, rated speeds
@@ -38,7 +39,7 @@ export function ArmDetailPage({ armId, user }: { armId: number; user: User }) {
 
   return (
     <>
-      <title>{`${arm?.name ?? "Arm"} · Jogwright`}</title>
+      <DocumentTitle page={arm?.name ?? "Arm"} />
       <Link to="/arms" className="mb-3 inline-flex items-center gap-1 text-sm font-semibold text-iris-300 hover:underline">
         <ArrowLeft aria-hidden className="size-4" /> All arms
       </Link>

@@ -21,6 +21,7 @@ import { useArmDetail } from "../../../lib/queries/arms.ts";
 import { applyServerIssues } from "../../../lib/server-issues.ts";
 import { armFieldOfPath, armFormCodec, armFormValuesOf, NEW_JOINT, type ArmFormOutput, type ArmFormValues } from "../forms/arm-form-codec.ts";
 import { useCreateArm, useEditArm } from "../hooks/use-arm-mutations.ts";
+import { DocumentTitle } from "../../../components/layout/document-title.tsx";
 
 /** Where the arm page says what the save did (the router's location state, read once by the arm page). */
 export interface ArmSavedState {
@@ -36,7 +37,7 @@ export function ArmFormPage({ armId, user }: { armId: number | null; user: User 
   const back = armId === null ? "/arms" : `/arms/${armId}`;
   return (
     <>
-      <title>{`${armId === null ? "New arm" : `Edit ${detail.data?.arm.name ?? "arm"}`} · Jogwright`}</title>
+      <DocumentTitle page={armId === null ? "New arm" : `Edit ${detail.data?.arm.name ?? "arm"}`} />
       <Link to={back} className="mb-3 inline-flex items-center gap-1 text-sm font-semibold text-iris-300 hover:underline">
         <ArrowLeft aria-hidden className="size-4" /> {armId === null ? "All arms" : "Back to the arm"}
       </Link>

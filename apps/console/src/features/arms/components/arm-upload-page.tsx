@@ -23,6 +23,7 @@ import { ArmPreview } from "./arm-preview.tsx";
 import type { ArmSavedState } from "./arm-form-page.tsx";
 import { DhTable } from "./dh-table.tsx";
 import { BaseAndTool } from "./pose-facts.tsx";
+import { DocumentTitle } from "../../../components/layout/document-title.tsx";
 
 // `/arms/upload` (engineers): an arm JSON or a CSV DH table. The server parses and checks it (nothing is
 // saved) and answers with the SI arm and σ at the zero pose, or 422 with every problem and its line and
@@ -48,7 +49,7 @@ export function ArmUploadPage({ user }: { user: User }) {
 
   return (
     <>
-      <title>Upload an arm · Jogwright</title>
+      <DocumentTitle page="Upload an arm" />
       <Link to="/arms" className="mb-3 inline-flex items-center gap-1 text-sm font-semibold text-iris-300 hover:underline">
         <ArrowLeft aria-hidden className="size-4" /> All arms
       </Link>

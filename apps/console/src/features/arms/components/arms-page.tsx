@@ -87,8 +87,6 @@ function ArmsTable({ arms }: { arms: Arm[] }) {
       sortBy="name"
       testId="arms-table"
       verticalAlign="top"
-      caption="Arms. Select a column heading to sort by it."
-      filterLabel="Filter arms"
       placeholder="Filter by name, convention or description"
       rowsNoun="arms"
       emptyMessage={(filter) => (arms.length === 0 ? "No arm is defined yet." : `No arm matches “${filter}”.`)}

@@ -2,7 +2,7 @@ import { queryOptions, skipToken } from "@tanstack/react-query";
 import { z } from "zod";
 import {
   armTrialsSchema, customTrialSchema, mapResponseSchema, runDetailSchema, runsResponseSchema, sweepProgressSchema, sweepResultSchema, takeStreamEvents, versionResponseSchema,
-  type MapRequest, type ProfileParams, type RunRequest, type SweepRequest, type SweepResult, type TrialDefinition,
+  type ApiError, type MapRequest, type ProfileParams, type RunRequest, type SweepRequest, type SweepResult, type TrialDefinition,
 } from "@jogwright/shared";
 import { ApiRequestError, apiEventStream, apiRequest } from "../../../lib/api-client.ts";
 
@@ -66,7 +66,7 @@ export async function runSweep(request: SweepRequest, onProgress: (done: number,
       } else if (event === "result") {
         return sweepResultSchema.parse(data);
       } else if (event === "error") {
-        const e = (data as { error: { code: string; message: string; issues?: { path: string; message: string }[] } }).error;
+        const e = (data as ApiError).error;
         throw new ApiRequestError(400, e.code, e.message, e.issues ?? []);
       }
     }

@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { z } from "zod";
 import type { TrialDefinition } from "@jogwright/shared";
+import { refusedPaths } from "../../../lib/form-codec.test-support.ts";
 import { trialFormCodec, uiPathOfTrialPath } from "./trial-form-codec.ts";
 
 // Conversions: 1 m = 1000 mm, 1 rad = 180/π deg (SI definitions).
@@ -35,7 +36,7 @@ describe("the trial form codec", () => {
     const bad = { ...ui, segments: [{ ...ui.segments[1]!, speedMmPerS: 5000 }] }; // 5 m/s, above the 2 m/s a trial may ask
     const result = z.safeDecode(codec, bad);
     expect(result.success).toBe(false);
-    expect(result.error!.issues.map((i) => i.path.join("."))).toContain("segments.0.speedMmPerS");
+    expect(refusedPaths(result)).toContain("segments.0.speedMmPerS");
   });
 
   it("maps the server's SI paths onto the form's fields", () => {

@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { z } from "zod";
 import { DEFAULT_CEILINGS } from "@jogwright/shared";
+import { messagesByPath } from "../../../lib/form-codec.test-support.ts";
 import { ceilingsFormCodec, ceilingsFormValuesOf, type CeilingsFormValues } from "./ceilings-form-codec.ts";
 
 // Conversions: 1 m/s = 1000 mm/s, 1 rad = 180/π deg, 1 = 100 % (derived, SI definitions).
@@ -8,11 +9,7 @@ import { ceilingsFormCodec, ceilingsFormValuesOf, type CeilingsFormValues } from
 const uiDefaults = (): CeilingsFormValues => ceilingsFormValuesOf(DEFAULT_CEILINGS, "");
 
 /** The form errors zodResolver would show: dotted UI path → message. */
-function fieldErrors(values: unknown): Record<string, string> {
-  const result = z.safeDecode(ceilingsFormCodec, values as CeilingsFormValues);
-  if (result.success) return {};
-  return Object.fromEntries(result.error.issues.map((i) => [i.path.join("."), i.message]));
-}
+const fieldErrors = (values: unknown): Record<string, string> => messagesByPath(z.safeDecode(ceilingsFormCodec, values as CeilingsFormValues));
 
 describe("the ceilings form codec", () => {
   it("encodes the stored SI ceilings into the units people set them in", () => {

@@ -3,6 +3,7 @@ import { z } from "zod";
 import { driveVersionsResponseSchema, gamepadMappingSchema, liveSessionSchema, type GamepadMapping } from "@jogwright/shared";
 import { apiRequest } from "../../../lib/api-client.ts";
 import { versionKeys } from "../../../lib/queries/profiles.ts";
+import { fetchMember } from "../../../lib/queries/resource.ts";
 
 const mappingResponseSchema = z.object({ mapping: gamepadMappingSchema });
 const liveListSchema = z.object({ sessions: z.array(liveSessionSchema) });
@@ -19,13 +20,13 @@ export const driveKeys = {
 export const driveableVersionsQueryOptions = () =>
   queryOptions({
     queryKey: versionKeys.driveable(),
-    queryFn: async ({ signal }) => (await apiRequest("/api/drive/versions", { schema: driveVersionsResponseSchema, signal })).versions,
+    queryFn: fetchMember("/api/drive/versions", driveVersionsResponseSchema, "versions"),
   });
 
 export const gamepadMappingQueryOptions = () =>
   queryOptions({
     queryKey: driveKeys.gamepadMapping(),
-    queryFn: async ({ signal }) => (await apiRequest("/api/gamepad-mapping", { schema: mappingResponseSchema, signal })).mapping,
+    queryFn: fetchMember("/api/gamepad-mapping", mappingResponseSchema, "mapping"),
     staleTime: Infinity,
   });
 
@@ -37,7 +38,7 @@ export const liveSessionsQueryOptions = () =>
   queryOptions({
     queryKey: driveKeys.liveSessions(),
     // Polled: marked as background, so watching alone does not keep the sign-in alive.
-    queryFn: async ({ signal }) => (await apiRequest("/api/jog/live", { schema: liveListSchema, signal, isBackground: true })).sessions,
+    queryFn: fetchMember("/api/jog/live", liveListSchema, "sessions", { isBackground: true }),
     refetchInterval: 5000,
     staleTime: 0,
   });

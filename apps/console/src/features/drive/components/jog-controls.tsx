@@ -1,6 +1,6 @@
 import { memo, useState, type KeyboardEvent, type PointerEvent } from "react";
 import { Gamepad2, Hand, OctagonX, RotateCcw, Settings2 } from "lucide-react";
-import type { RecordedFrame } from "@jogwright/shared";
+import { JOG_FRAME_LABELS, JOG_MODE_LABELS, type LabelMap, type RecordedFrame } from "@jogwright/shared";
 import { Button } from "../../../components/ui/button.tsx";
 import { cn } from "../../../lib/cn.ts";
 import { jogClient } from "../../../lib/jog-socket.ts";
@@ -98,29 +98,30 @@ export function EnablingButton({ disabled }: { disabled: boolean }) {
   );
 }
 
-function Segmented<T extends string>({ label, value, options, onChange, disabled }: {
+/** A choice of one value of a labelled set (labels.ts), its options in the map's order. */
+function Segmented<T extends string>({ label, labels, value, onChange, disabled }: {
   label: string;
+  labels: LabelMap<T>;
   value: T;
-  options: readonly { value: T; label: string }[];
   onChange: (value: T) => void;
   disabled?: boolean;
 }) {
   return (
     <div role="radiogroup" aria-label={label} className="inline-flex rounded-md border border-ink-600 bg-ink-800 p-0.5">
-      {options.map((o) => (
+      {(Object.keys(labels) as T[]).map((option) => (
         <button
-          key={o.value}
+          key={option}
           type="button"
           role="radio"
-          aria-checked={value === o.value}
+          aria-checked={value === option}
           disabled={disabled}
-          onClick={() => onChange(o.value)}
+          onClick={() => onChange(option)}
           className={cn(
             "h-7 rounded-sm px-3 text-xs font-semibold",
-            value === o.value ? "bg-iris-400 text-ink-950" : "text-ink-300 hover:text-ink-100",
+            value === option ? "bg-iris-400 text-ink-950" : "text-ink-300 hover:text-ink-100",
           )}
         >
-          {o.label}
+          {labels[option]}
         </button>
       ))}
     </div>
@@ -168,27 +169,9 @@ export const JogControls = memo(function JogControls({ jointCount, disabled, onE
   return (
     <Panel title="Jog">
       <div className="flex flex-wrap items-center gap-3">
-        <Segmented
-          label="Jog mode"
-          value={input.mode}
-          options={[
-            { value: "cartesian", label: "Cartesian" },
-            { value: "joint", label: "Joint" },
-          ]}
-          onChange={(m) => jogInput.setMode(m)}
-          disabled={disabled}
-        />
+        <Segmented label="Jog mode" labels={JOG_MODE_LABELS} value={input.mode} onChange={(m) => jogInput.setMode(m)} disabled={disabled} />
         {isCartesian ? (
-          <Segmented
-            label="Jog frame"
-            value={input.frame}
-            options={[
-              { value: "world", label: "World frame" },
-              { value: "tool", label: "Tool frame" },
-            ]}
-            onChange={(f) => jogInput.setFrame(f)}
-            disabled={disabled}
-          />
+          <Segmented label="Jog frame" labels={JOG_FRAME_LABELS} value={input.frame} onChange={(f) => jogInput.setFrame(f)} disabled={disabled} />
         ) : null}
         <span className="ml-auto flex items-center gap-2 text-xs text-ink-300" data-testid="gamepad-status">
           <Gamepad2 aria-hidden className={cn("size-4", input.gamepadId ? "text-iris-400" : "text-ink-600")} />

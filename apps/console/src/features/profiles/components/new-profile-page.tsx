@@ -17,6 +17,7 @@ import { useCreateProfile, useOperators } from "../hooks/use-profiles.ts";
 import { pickableTools } from "../forms/arm-choice.ts";
 import { ArmRevisionFields } from "./arm-revision-fields.tsx";
 import { ProfileParamsForm } from "./profile-params-form.tsx";
+import { DocumentTitle } from "../../../components/layout/document-title.tsx";
 
 const headSchema = createProfileSchema.pick({ name: true, operatorId: true });
 
@@ -77,7 +78,7 @@ export function NewProfilePage() {
 
   return (
     <>
-      <title>New profile · Jogwright</title>
+      <DocumentTitle page="New profile" />
       <Link to="/profiles" className="mb-3 inline-flex items-center gap-1 text-sm font-semibold text-iris-300 hover:underline">
         <ArrowLeft aria-hidden className="size-4" /> All profiles
       </Link>

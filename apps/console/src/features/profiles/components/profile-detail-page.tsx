@@ -36,6 +36,7 @@ import { VersionHistoryTable } from "./version-history-table.tsx";
 import { ImportVersionFileButton, useVersionFileImport, VersionFileImportOutcome } from "./version-file-import.tsx";
 import { ProfileFacts } from "../../../components/profiles/profile-facts.tsx";
 import { VersionLabel } from "../../../components/profiles/version-state-badge.tsx";
+import { DocumentTitle } from "../../../components/layout/document-title.tsx";
 
 export function ProfileDetailPage({ profileId, user }: { profileId: number; user: User }) {
   const profile = useProfile(profileId);
@@ -103,7 +104,7 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
 
   return (
     <>
-      <title>{`${profile.name} · Jogwright`}</title>
+      <DocumentTitle page={profile.name} />
       <Link to="/profiles" className="mb-3 inline-flex items-center gap-1 text-sm font-semibold text-iris-300 hover:underline">
         <ArrowLeft aria-hidden className="size-4" /> All profiles
       </Link>

@@ -10,6 +10,7 @@ import { profileDetailQueryOptions } from "../../../lib/queries/profiles.ts";
 import { useProfiles } from "../../../lib/queries/profiles.ts";
 import { VersionLabel } from "../../../components/profiles/version-state-badge.tsx";
 import { QueryStatus } from "../../../components/ui/query-status.tsx";
+import { DocumentTitle } from "../../../components/layout/document-title.tsx";
 
 const isPureOperator = (user: User) => user.roles.includes("operator") && !user.roles.some((r) => r === "engineer" || r === "safety_officer");
 
@@ -19,7 +20,7 @@ export function ProfilesPage({ user }: { user: User }) {
   const isOperatorOnly = isPureOperator(user);
   return (
     <>
-      <title>{`${isOperatorOnly ? "My profiles" : "Profiles"} · Jogwright`}</title>
+      <DocumentTitle page={isOperatorOnly ? "My profiles" : "Profiles"} />
       <PageHeader
         title={isOperatorOnly ? "My profiles" : "Profiles"}
         description={
@@ -84,8 +85,6 @@ function ProfilesTable({ profiles }: { profiles: ProfileSummary[] }) {
       columns={columns}
       sortBy="name"
       testId="profiles-table"
-      caption="Profiles. Select a column heading to sort by it."
-      filterLabel="Filter profiles"
       placeholder="Filter by name, operator or arm"
       rowsNoun="profiles"
       emptyMessage={(filter) => (profiles.length === 0 ? "No profiles yet." : `No profile matches “${filter}”.`)}

@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { z } from "zod";
 import { defaultProfileParams, type JointKind } from "@jogwright/shared";
+import { messagesByPath } from "../../../lib/form-codec.test-support.ts";
 import { profileFormCodec, profileFormValuesOf, type ProfileFormValues } from "./profile-form-codec.ts";
 
 // Conversions: 1 m/s = 1000 mm/s, 1 rad = 180/π deg, 1 = 100 % (derived, SI definitions). A six-joint arm
@@ -11,11 +12,7 @@ const codec = profileFormCodec(KINDS);
 const params = defaultProfileParams(RATED);
 const uiDefaults = (): ProfileFormValues => profileFormValuesOf(params, "", KINDS);
 
-function fieldErrors(values: ProfileFormValues): Record<string, string> {
-  const result = z.safeDecode(codec, values);
-  if (result.success) return {};
-  return Object.fromEntries(result.error.issues.map((i) => [i.path.join("."), i.message]));
-}
+const fieldErrors = (values: ProfileFormValues): Record<string, string> => messagesByPath(z.safeDecode(codec, values));
 
 describe("the profile form codec", () => {
   it("encodes SI parameters into UI units: mm/s, deg/s, %, and mm/s for a prismatic joint's cap", () => {

@@ -19,6 +19,7 @@ import { drivesText, movesArm, versionArmText } from "../../../lib/version-arm.t
 import type { Decision } from "../api/reviews-api.ts";
 import { DecisionDialog } from "./decision-dialog.tsx";
 import { ReconfirmDialog } from "./reconfirm-dialog.tsx";
+import { DocumentTitle } from "../../../components/layout/document-title.tsx";
 
 const DONE: Record<Decision, string> = { approve: "approved and locked", reject: "rejected", retire: "retired" };
 
@@ -58,7 +59,7 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
 
   return (
     <>
-      <title>{`Review ${label} · Jogwright`}</title>
+      <DocumentTitle page={`Review ${label}`} />
       <Link to="/reviews" className="mb-3 inline-flex items-center gap-1 text-sm font-semibold text-iris-300 hover:underline">
         <ArrowLeft aria-hidden className="size-4" /> Review queue
       </Link>

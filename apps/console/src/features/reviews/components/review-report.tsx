@@ -10,6 +10,7 @@ import { jointKindsOf } from "../../../lib/arm-joints.ts";
 import { formatDateTime } from "../../../lib/format.ts";
 import { useArms } from "../../../lib/queries/arms.ts";
 import { useVersionDetail } from "../../../lib/queries/profiles.ts";
+import { DocumentTitle } from "../../../components/layout/document-title.tsx";
 
 /**
  * The review report: one page to print or save as PDF from the browser (File → Print). What was reviewed
@@ -36,7 +37,7 @@ export function ReviewReport({ versionId }: { versionId: number }) {
   ];
   return (
     <article className="report mx-auto flex max-w-5xl flex-col gap-6" data-testid="review-report">
-      <title>{`Report ${label} · Jogwright`}</title>
+      <DocumentTitle page={`Report ${label}`} />
       <div className="flex items-center justify-between print:hidden">
         <Link to={`/reviews/${version.id}`} className="inline-flex items-center gap-1 text-sm font-semibold text-iris-300 hover:underline">
           <ArrowLeft aria-hidden className="size-4" /> Back to the review

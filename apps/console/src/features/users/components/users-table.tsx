@@ -87,8 +87,6 @@ export function UsersTable({ users, currentUserId, onEdit, onToggleActive }: Use
       data={users}
       columns={columns}
       sortBy="username"
-      caption="Users. Select a column heading to sort by it."
-      filterLabel="Filter users"
       placeholder="Filter by name, e-mail, role or status"
       rowsNoun="users"
       emptyMessage={(filter) => `No user matches “${filter}”.`}
