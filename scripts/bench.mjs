@@ -1,9 +1,9 @@
 // `pnpm bench` (or `npm run bench`): every benchmark of the project, each printing medians and ratios.
 // Not tests: figures depend on the machine and its load (check `uptime` first). Uses the private test
 // MariaDB (its own database, jogwright_bench) and the same set-up as `npm test`.
-import { spawn, spawnSync } from "node:child_process";
+import { spawnSync } from "node:child_process";
 import path from "node:path";
-import { buildConsole, DATA_DIR, databaseEnv, isPortFree, log, portFromEnv, prepare, ROOT, SetupError } from "./lib/setup.mjs";
+import { buildConsole, DATA_DIR, databaseEnv, log, portFromEnv, prepare, ROOT, SetupError, startServerForRun } from "./lib/setup.mjs";
 
 function run(what, cmd, args, cwd, env = {}) {
   log(`benchmark: ${what}`);
@@ -20,32 +20,15 @@ async function main() {
     run("live jogging load (50 sessions at 1 kHz)", path.join(ROOT, "apps/server/node_modules/.bin/tsx"), ["bench/jog-load.ts"], "apps/server", databaseEnv(db));
 
     buildConsole();
-    const port = portFromEnv("BENCH_PORT", 3110);
-    if (!(await isPortFree(port))) throw new SetupError(`BENCH_PORT ${port} is in use; set BENCH_PORT to a free port.`);
-    const serverDir = path.join(ROOT, "apps/server");
-    server = spawn(path.join(serverDir, "node_modules/.bin/tsx"), ["src/server.ts"], {
-      cwd: serverDir,
-      stdio: ["ignore", "ignore", "inherit"],
-      env: { ...process.env, ...databaseEnv(db), PORT: String(port), SMTP_PORT: "0", MAIL_DIR: path.join(DATA_DIR, "mail-bench"), NODE_ENV: "test" },
+    server = await startServerForRun({
+      what: "the benchmark server",
+      port: portFromEnv("BENCH_PORT", 3110),
+      portVar: "BENCH_PORT",
+      env: { ...databaseEnv(db), SMTP_PORT: "0", MAIL_DIR: path.join(DATA_DIR, "mail-bench"), NODE_ENV: "test" },
     });
-    const url = `http://127.0.0.1:${port}`;
-    const deadline = Date.now() + 60_000;
-    for (;;) {
-      if (server.exitCode !== null) throw new SetupError("the benchmark server exited early.");
-      if (Date.now() > deadline) throw new SetupError("the benchmark server did not start within 60 s.");
-      try {
-        if ((await fetch(`${url}/api/health`)).ok) break;
-      } catch {
-        /* not up yet */
-      }
-      await new Promise((r) => setTimeout(r, 250));
-    }
-    run("drive page frame rate in headless Chromium", path.join(ROOT, "apps/server/node_modules/.bin/tsx"), ["bench/drive-fps.ts"], "tests", { JOGWRIGHT_URL: url });
+    run("drive page frame rate in headless Chromium", path.join(ROOT, "apps/server/node_modules/.bin/tsx"), ["bench/drive-fps.ts"], "tests", { JOGWRIGHT_URL: server.url });
   } finally {
-    if (server && server.exitCode === null) {
-      server.kill("SIGTERM");
-      await new Promise((r) => server.once("exit", r));
-    }
+    await server?.stop();
     if (db.owned) await db.stop();
   }
 }

@@ -10,6 +10,15 @@
  */
 export function choleskyInto(A: ArrayLike<number>, k: number, L: Float64Array): boolean {
   if (k === 6) return cholesky6Into(A, L);
+  return choleskyLoopInto(A, k, L);
+}
+
+/**
+ * choleskyInto's loop, for any k (internal: choleskyInto runs it for k ≠ 6; the test that pins cholesky6Into
+ * to it runs it for k = 6). L may be A (in place): each entry of A's lower triangle is read before its
+ * place in L is written, and the strict upper triangle is not read.
+ */
+export function choleskyLoopInto(A: ArrayLike<number>, k: number, L: Float64Array): boolean {
   for (let j = 0; j < k; j++) {
     let d = A[j * k + j]!;
     const ajj = d;
@@ -96,10 +105,12 @@ export function cholesky6Into(A: ArrayLike<number>, L: Float64Array): boolean {
 
 /** Solves L Lᵀ x = b in place (b becomes x). */
 export function choleskySolveInPlace(L: ArrayLike<number>, k: number, b: Float64Array): void {
-  if (k === 6) {
-    choleskySolve6InPlace(L, b);
-    return;
-  }
+  if (k === 6) choleskySolve6InPlace(L, b);
+  else choleskySolveLoopInPlace(L, k, b);
+}
+
+/** choleskySolveInPlace's loop, for any k (internal; as choleskyLoopInto). */
+export function choleskySolveLoopInPlace(L: ArrayLike<number>, k: number, b: Float64Array): void {
   for (let i = 0; i < k; i++) {
     let s = b[i]!;
     for (let p = 0; p < i; p++) s -= L[i * k + p]! * b[p]!;
@@ -149,26 +160,27 @@ export function gramInto(J: ArrayLike<number>, rows: number, cols: number, G: Fl
     gram6Into(J, cols, G);
     return 6;
   }
-  if (rows <= cols) {
-    for (let i = 0; i < rows; i++) {
-      for (let j = i; j < rows; j++) {
-        let s = 0;
-        for (let c = 0; c < cols; c++) s += J[i * cols + c]! * J[j * cols + c]!;
-        G[i * rows + j] = s;
-        G[j * rows + i] = s;
-      }
-    }
-    return rows;
-  }
-  for (let i = 0; i < cols; i++) {
-    for (let j = i; j < cols; j++) {
+  return gramLoopInto(J, rows, cols, G);
+}
+
+/**
+ * gramInto's loop, for any shape (internal: gramInto runs it unless J is 6 x ≥6; the test that pins
+ * gram6Into to it runs it there too). The short side's k vectors of length m are J's rows (rows ≤ cols) or
+ * its columns, read with strides: vector i, entry c at J[i·step + c·stride]; G_ij = Σ_c J_ic·J_jc in c order.
+ */
+export function gramLoopInto(J: ArrayLike<number>, rows: number, cols: number, G: Float64Array): number {
+  const isWide = rows <= cols;
+  const k = isWide ? rows : cols, m = isWide ? cols : rows;
+  const step = isWide ? cols : 1, stride = isWide ? 1 : cols;
+  for (let i = 0; i < k; i++) {
+    for (let j = i; j < k; j++) {
       let s = 0;
-      for (let r = 0; r < rows; r++) s += J[r * cols + i]! * J[r * cols + j]!;
-      G[i * cols + j] = s;
-      G[j * cols + i] = s;
+      for (let c = 0; c < m; c++) s += J[i * step + c * stride]! * J[j * step + c * stride]!;
+      G[i * k + j] = s;
+      G[j * k + i] = s;
     }
   }
-  return cols;
+  return k;
 }
 
 /**

@@ -545,6 +545,22 @@ function measure(ws: ControlWorkspace, state: ControlState, report: ControlStepR
 }
 
 /**
+ * The start of every step: a fresh report in `mode`, dt and the command (`length` numbers) checked, then
+ * J, pose and G at state.q (measure). False after a fault, which the report names.
+ */
+function startStep(
+  ws: ControlWorkspace, state: ControlState, report: ControlStepReport, mode: "cartesian" | "joint",
+  command: ArrayLike<number>, length: number, dt: number,
+): boolean {
+  beginReport(report, mode);
+  if (!validDt(dt)) fail(state, report, "invalid-dt");
+  else if (!commandIsFinite(command, length)) fail(state, report, "invalid-command");
+  else if (!measure(ws, state, report)) fail(state, report, "non-finite-result");
+  else return true;
+  return false;
+}
+
+/**
  * σ_min, w and the tracker's factor for the Gram matrix of measure(), into the report. With `rhs` (a
  * 6-row J with n ≥ 6, undamped solve possible), the estimator also solves (G + δI) ws.y = rhs with its
  * factor (estimateSigmaMinSolve6), valid when tracker.factorValid.
@@ -1018,10 +1034,7 @@ export function controlStep(
   ws: ControlWorkspace, state: ControlState, params: ControlParams, twist: ArrayLike<number>, dt: number,
   report: ControlStepReport,
 ): ControlStepReport {
-  beginReport(report, "cartesian");
-  if (!validDt(dt)) return fail(state, report, "invalid-dt");
-  if (!commandIsFinite(twist, 6)) return fail(state, report, "invalid-command");
-  if (!measure(ws, state, report)) return fail(state, report, "non-finite-result");
+  if (!startStep(ws, state, report, "cartesian", twist, 6, dt)) return report;
   const n = ws.n;
   const cmd = ws.cmd;
   const pose = report.pose;
@@ -1162,10 +1175,7 @@ export function jointJogStep(
   ws: ControlWorkspace, state: ControlState, params: ControlParams, jointRates: ArrayLike<number>, dt: number,
   report: ControlStepReport,
 ): ControlStepReport {
-  beginReport(report, "joint");
-  if (!validDt(dt)) return fail(state, report, "invalid-dt");
-  if (!commandIsFinite(jointRates, ws.n)) return fail(state, report, "invalid-command");
-  if (!measure(ws, state, report)) return fail(state, report, "non-finite-result");
+  if (!startStep(ws, state, report, "joint", jointRates, ws.n, dt)) return report;
   estimateSigma(ws, report, null);
   const n = ws.n;
   const target = ws.target, J = ws.J, ct = report.commandedTwist, sv = report.solvedTwist;

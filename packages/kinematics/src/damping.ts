@@ -34,31 +34,33 @@ export function dampingForScheme(scheme: DampingScheme, sigmaMin: number, manipu
 
 /**
  * dampingForScheme with its numbers in a typed array — the one implementation of the schedules, which
- * the control step calls: reads σ_min from io[0] and w from io[1], writes λ into io[2]. Each branch stores
- * its λ directly, so no number crosses a call or merges as a heap number (the step stays allocation-free
- * whether or not V8 inlines this). NaN σ (or w) gives the scheme's maximum λ — the safe answer. Never throws.
+ * the control step calls: reads σ_min from io[0] and w from io[1], writes λ into io[2]. No number crosses
+ * a call or is boxed (the step stays allocation-free whether or not V8 inlines this). NaN σ (or w) gives the
+ * scheme's maximum λ — the safe answer. Never throws.
  */
 export function dampingForSchemeInto(scheme: DampingScheme, io: Float64Array): void {
   if (scheme.kind === "fixed") {
     io[2] = scheme.lambda;
-  } else if (scheme.kind === "singular-value") {
-    const sigmaMin = io[0]!;
-    if (Number.isNaN(sigmaMin)) io[2] = scheme.lambdaMax;
-    else if (sigmaMin >= scheme.epsilon) io[2] = 0;
-    else {
-      const r = sigmaMin > 0 ? sigmaMin / scheme.epsilon : 0;
-      io[2] = scheme.lambdaMax * Math.sqrt(1 - r * r);
-    }
+    return;
+  }
+  // The two schedules alike: the measure x (σ_min, or w) against its threshold x0 (ε, or w0), from the
+  // maximum λ at x = 0 down to none at x0; r = x/x0. Singular-value: λ = λ_max·sqrt(1 − r²); manipulability:
+  // λ = λ0·(1 − r).
+  let x: number, x0: number, max: number;
+  const isSigma = scheme.kind === "singular-value";
+  if (isSigma) {
+    x = io[0]!; x0 = scheme.epsilon; max = scheme.lambdaMax;
   } else if (scheme.kind === "manipulability") {
-    const w = io[1]!;
-    if (Number.isNaN(w)) io[2] = scheme.lambda0;
-    else if (w >= scheme.w0) io[2] = 0;
-    else {
-      const r = w > 0 ? w / scheme.w0 : 0;
-      io[2] = scheme.lambda0 * (1 - r);
-    }
+    x = io[1]!; x0 = scheme.w0; max = scheme.lambda0;
   } else {
     io[2] = NaN; // not a scheme (validateDampingScheme refuses it); the step faults with "invalid-params"
+    return;
+  }
+  if (Number.isNaN(x)) io[2] = max;
+  else if (x >= x0) io[2] = 0;
+  else {
+    const r = x > 0 ? x / x0 : 0;
+    io[2] = isSigma ? max * Math.sqrt(1 - r * r) : max * (1 - r);
   }
 }
 

@@ -23,6 +23,15 @@ function svdForm(J: Float64Array, rows: number, cols: number, twist: number[], g
 
 const twistB = [0.02, -0.01, 0.03, 0.1, 0, 0.05];
 
+/** u_m, the left singular direction of σ_min of a 6 x 6 J, as the control step's σ estimator finds it (cold start). */
+function smallestDirection(J: Float64Array): Float64Array {
+  const t = createSigmaTracker(6);
+  const G = new Float64Array(36);
+  gramInto(J, 6, 6, G);
+  estimateSigmaMin(t, G);
+  return t.x1;
+}
+
 describe("dampedLeastSquares", () => {
   it("with λ = 0 equals the plain inverse J⁻¹·twist where J is invertible", () => {
     // Reference library: mathjs inv and lusolve.
@@ -126,13 +135,10 @@ describe("numerical filtering (damping only the smallest singular direction)", (
   it("equals Σ_{i<m} v_i u_iᵀ/σ_i + σ_m/(σ_m² + λ²)·v_m u_mᵀ", () => {
     // Maciejewski & Klein 1988 (from memory; METHODS.md §2d); SVD by ml-matrix.
     const JB = geometricJacobian(arm6, qB);
-    const t = createSigmaTracker(6);
-    const G = new Float64Array(36);
-    gramInto(JB, 6, 6, G);
-    estimateSigmaMin(t, G);
+    const u = smallestDirection(JB);
     const lambda = 0.049937240;
     const out = new Float64Array(6);
-    expect(dampedLeastSquaresInto(JB, 6, 6, twistB, lambda, out, t.x1)).toBe(true);
+    expect(dampedLeastSquaresInto(JB, 6, 6, twistB, lambda, out, u)).toBe(true);
     const ref = svdForm(JB, 6, 6, twistB, (s, i) => (i === 5 ? s / (s * s + lambda * lambda) : 1 / s));
     expect(maxAbsDiff(out, ref)).toBeLessThan(1e-10);
     // METHODS.md §2d [CALC], secondary.
@@ -142,16 +148,12 @@ describe("numerical filtering (damping only the smallest singular direction)", (
   it("leaves a well-conditioned arm's solution equal to the plain inverse up to the last direction", () => {
     // Derived: at q_A with a twist orthogonal to u_m the filtered solution is the exact inverse.
     const J = geometricJacobian(arm6, qA);
-    const t = createSigmaTracker(6);
-    const G = new Float64Array(36);
-    gramInto(J, 6, 6, G);
-    estimateSigmaMin(t, G);
-    const u = Array.from(t.x1);
+    const u = smallestDirection(J);
     const tw = [0.1, 0.2, -0.1, 0.3, 0, 0.1];
     const dot = tw.reduce((a, v, i) => a + v * u[i]!, 0);
     const twPerp = tw.map((v, i) => v - dot * u[i]!);
     const out = new Float64Array(6);
-    dampedLeastSquaresInto(J, 6, 6, twPerp, 0.5, out, t.x1);
+    dampedLeastSquaresInto(J, 6, 6, twPerp, 0.5, out, u);
     expect(maxAbsDiff(out, dampedLeastSquares(J, 6, 6, twPerp, 0))).toBeLessThan(1e-12);
   });
 });

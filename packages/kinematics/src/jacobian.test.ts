@@ -1,7 +1,8 @@
 import { describe, expect, it } from "vitest";
 import { det } from "mathjs";
-import { demoArms, forwardPose, geometricJacobian, singularValues } from "./index.ts";
+import { compileArm, demoArms, forwardPose, forwardPoseInto, geometricJacobian, geometricJacobianInto, gramInto, singularValues } from "./index.ts";
 import type { ArmModel } from "./index.ts";
+import { jacobianPoseGramInto } from "./jacobian.ts";
 import { anthropomorphic3R, arm6, matVec, maxAbsDiff, mixedArm, norm, planar2R, qA, rng, toRows } from "./test-fixtures.ts";
 
 /** Central finite difference of forwardPose: linear part d p/dq_i, angular part vee(dR/dq_i · Rᵀ). */
@@ -157,5 +158,34 @@ describe("geometricJacobian", () => {
       [1, 0, 0, -0.995004, -0.029503, -0.624809],
     ];
     expect(maxAbsDiff(geometricJacobian(arm6, qA), expected.flat())).toBeLessThan(6e-7);
+  });
+});
+
+describe("the control step's fused pass", () => {
+  it("jacobianPoseGramInto gives forwardPoseInto's pose, geometricJacobianInto's J and gramInto's G, bit for bit", () => {
+    // Pinning test (README "Deliberate copies"): jacobianPoseGramInto writes out forwardPoseInto's link
+    // products and gram6Into's sums; derived to do the same operations in the same order. Both conventions,
+    // prismatic joints, base and tool, n < 6 (gramInto's loop) and n ≥ 6 (the fused Gram sums).
+    const arms: ArmModel[] = [...demoArms.map((d) => d.model), arm6, mixedArm("standard"), mixedArm("modified"), planar2R(), anthropomorphic3R()];
+    const next = rng(61);
+    for (const arm of arms) {
+      const kernel = compileArm(arm);
+      const n = kernel.n;
+      const k = Math.min(6, n);
+      const J = new Float64Array(6 * n), pose = new Float64Array(16), G = new Float64Array(k * k);
+      const Jref = new Float64Array(6 * n), poseRef = new Float64Array(16), Gref = new Float64Array(k * k), poseFk = new Float64Array(16);
+      for (let trial = 0; trial < 300; trial++) {
+        const q = arm.joints.map((j) => (j.type === "prismatic" ? 0.3 : 4) * (2 * next() - 1));
+        if (trial % 25 === 0) q.fill(0);
+        jacobianPoseGramInto(kernel, q, J, pose, G);
+        geometricJacobianInto(kernel, q, Jref, poseRef);
+        gramInto(Jref, 6, n, Gref);
+        forwardPoseInto(kernel, q, poseFk);
+        expect(Array.from(J)).toEqual(Array.from(Jref));
+        expect(Array.from(pose)).toEqual(Array.from(poseRef));
+        expect(Array.from(pose)).toEqual(Array.from(poseFk));
+        expect(Array.from(G)).toEqual(Array.from(Gref));
+      }
+    }
   });
 });

@@ -123,6 +123,13 @@ class Rig {
     return { ticks, distance };
   }
 
+  /** From a released control: held with these axes for `ticks` (as hold), then the motion reached. */
+  jogFromRelease(axes: number[], ticks: number, override: number): { lin: number; ang: number; qdot: number[] } {
+    this.release();
+    this.hold(axes, ticks, override);
+    return this.motion();
+  }
+
   /** Linear and angular TCP speed and q̇ of the latest step. */
   motion(): { lin: number; ang: number; qdot: number[] } {
     const a = this.report.achievedTwist;
@@ -156,10 +163,8 @@ describe("the enabling control", () => {
 
   it("after requireRelease (a device reconnected) a moving arm makes a controlled stop and needs a fresh press", () => {
     const rig = new Rig(arm6, gateConfig(arm6));
-    rig.release();
-    rig.hold([0, 0, 1, 0, 0, 0], 300, 0.4);
+    const m = rig.jogFromRelease([0, 0, 1, 0, 0, 0], 300, 0.4);
     expect(rig.isAtRest()).toBe(false);
-    const m = rig.motion();
     rig.gate.requireRelease("the input device reconnected");
     let sawStop = false;
     const r = rig.runToRest(1000, () => {
@@ -184,9 +189,7 @@ describe("controlled stops ramp the achieved motion", () => {
     // 4 × maxSpeed (arm.ts default) so the TCP bound binds: T = v/a = 0.1 s, d = v²/2a = 5 mm (derived).
     const cfg = gateConfig(arm6, {}, 1);
     const rig = new Rig(arm6, cfg);
-    rig.release();
-    rig.hold([0, 0, 1, 0, 0, 0], 300, 0.4);
-    const m = rig.motion();
+    const m = rig.jogFromRelease([0, 0, 1, 0, 0, 0], 300, 0.4);
     expect(m.lin).toBeCloseTo(0.1, 6);
     const T = expectedStopTime(m, cfg);
     expect(T).toBeCloseTo(m.lin / cfg.linearAccel, 12); // the TCP deceleration binds
@@ -227,9 +230,7 @@ describe("controlled stops ramp the achieved motion", () => {
     // d ≤ v·T/2 (+ one tick) (derived).
     const cfg = gateConfig(arm6);
     const rig = new Rig(arm6, cfg);
-    rig.release();
-    rig.hold([1, 1, 1, 0, 0, 0], 1000, 1);
-    const m = rig.motion();
+    const m = rig.jogFromRelease([1, 1, 1, 0, 0, 0], 1000, 1);
     expect(m.lin).toBeGreaterThan(0.05); // still moving briskly at the release
     const T = expectedStopTime(m, cfg);
     rig.release();
@@ -248,9 +249,7 @@ describe("controlled stops ramp the achieved motion", () => {
     // Joint caps at 10 % of rated (instead of 50 %) so a joint cap binds on a plain +z move at 250 mm/s.
     const cfg = gateConfig(arm6, { jointRateCaps: arm6.model.joints.map((j) => 0.1 * j.maxSpeed!) });
     const rig = new Rig(arm6, cfg);
-    rig.release();
-    rig.hold([0, 0, 1, 0, 0, 0], 500, 1);
-    const m = rig.motion();
+    const m = rig.jogFromRelease([0, 0, 1, 0, 0, 0], 500, 1);
     expect(rig.report.binding).toBe("joint-rate");
     expect(m.lin).toBeLessThan(0.2); // achieved well under the 250 mm/s asked for: the command is wound up
     let ticks = 0;
@@ -263,9 +262,7 @@ describe("controlled stops ramp the achieved motion", () => {
     // ramps: time ≤ Tw + T (+ one tick), distance ≤ v·Tw + v·T/2 (+ one tick) (derived).
     const cfg = gateConfig(arm6);
     const rig = new Rig(arm6, cfg);
-    rig.release();
-    rig.hold([0, 0, 1, 0, 0, 0], 300, 0.4);
-    const m = rig.motion();
+    const m = rig.jogFromRelease([0, 0, 1, 0, 0, 0], 300, 0.4);
     const T = expectedStopTime(m, cfg);
     rig.gate.setInput(true, "cartesian", "world", 0.4, [0, 0, 1, 0, 0, 0]); // the last input, then silence
     let tripTick = -1;

@@ -5,7 +5,8 @@ import { arm6, qA, rng } from "./test-fixtures.ts";
 import { choleskySolveInPlace } from "./cholesky.ts";
 import { jacobianPoseGramInto } from "./jacobian.ts";
 import { compileArm } from "./arm.ts";
-import { estimateSigmaMinSolve6 } from "./sigma-estimate.ts";
+import { estimateSigmaMinByLoop, estimateSigmaMinSolve6 } from "./sigma-estimate.ts";
+import type { SigmaTracker } from "./sigma-estimate.ts";
 
 /** Walks q smoothly (random slowly varying joint rates) and compares the estimate with the full SVD. */
 function trackAlongPath(arm: ArmModel, q0: number[], steps: number, seed: number, dq: number): number {
@@ -70,6 +71,35 @@ describe("estimateSigmaMin (warm-started block inverse iteration)", () => {
     estimateSigmaMin(t, G);
     const prod = singularValues(J, 6, 6).reduce((a, b) => a * b, 1);
     expect(t.manipulability).toBeCloseTo(prod, 12);
+  });
+
+  it("the written-out k = 6 estimator gives the general loop's results bit for bit, factor and vectors included", () => {
+    // Pinning test (README "Deliberate copies"): estimate6 writes out the loop (Cholesky of G + δI, the
+    // two-vector iteration, the 2x2 Rayleigh–Ritz step) with the same operations in the same order (derived).
+    // Both demo arms along jog paths with jumps, through the wrist singularity (q5 = 0) and with refreshes.
+    const fields = (t: SigmaTracker) => [t.sigmaMin, t.sigmaSecond, t.manipulability, t.iterations, t.usedFullDecomposition, t.factorValid, t.shift, t.warm, t.callsSinceRefresh, ...t.x1, ...t.x2];
+    let iterated = 0, full = 0;
+    for (const arm of demoArms) {
+      const n = arm.model.joints.length;
+      const written = createSigmaTracker(6, 4, 97), loop = createSigmaTracker(6, 4, 97);
+      const G = new Float64Array(36);
+      const q = [...arm.readyPose];
+      const next = rng(29);
+      for (let s = 0; s < 1500; s++) {
+        const jump = s % 300 === 150 ? 0.3 : 0.004;
+        for (let i = 0; i < n; i++) q[i] = q[i]! + jump * (2 * next() - 1);
+        if (n === 6 && s >= 700 && s < 760) q[4] = (s - 730) * 1e-4; // through the wrist singularity
+        gramInto(geometricJacobian(arm.model, q), 6, n, G);
+        estimateSigmaMin(written, G);
+        estimateSigmaMinByLoop(loop, G);
+        expect(fields(written)).toEqual(fields(loop));
+        if (written.factorValid) expect(Array.from(written.L)).toEqual(Array.from(loop.L));
+        if (written.usedFullDecomposition) full++;
+        else iterated++;
+      }
+    }
+    expect(iterated).toBeGreaterThan(2500);
+    expect(full).toBeGreaterThan(30);
   });
 
   it("the control step's fused calls give bit-identical results to the separate ones", () => {

@@ -21,7 +21,7 @@
  * Units: those of J (σ in m/rad-mixed units for the geometric Jacobian).
  */
 
-import { choleskySolveInPlace } from "./cholesky.ts";
+import { choleskyLoopInto, choleskySolveLoopInPlace } from "./cholesky.ts";
 import { symmetricEigenInto } from "./svd.ts";
 
 export interface SigmaTracker {
@@ -107,45 +107,52 @@ function fullDecomposition(t: SigmaTracker, G: ArrayLike<number>): void {
 }
 
 /**
+ * Counts the call; true when it must take the full decomposition: k < 2, a cold start, or the periodic
+ * refresh. Clears factorValid (a call that factors sets it again).
+ */
+function isFullDecompositionDue(t: SigmaTracker): boolean {
+  t.callsSinceRefresh++;
+  t.factorValid = false;
+  return t.k < 2 || !t.warm || (t.refreshInterval > 0 && t.callsSinceRefresh >= t.refreshInterval);
+}
+
+/**
  * Updates t.sigmaMin, t.sigmaSecond and t.x1 (direction of σ_min) for the Gram matrix G (k x k, row-major,
  * finite). Allocation-free (results in fields, so no number is boxed on return).
  */
 export function estimateSigmaMin(t: SigmaTracker, G: ArrayLike<number>): void {
+  if (isFullDecompositionDue(t)) fullDecomposition(t, G);
+  else if (t.k === 6) estimate6(t, G, null, null);
+  else iterate(t, G);
+}
+
+/**
+ * estimateSigmaMin by the general loop for every k, k = 6 included (internal, not exported from
+ * index.ts): the test that pins the written-out estimate6 to the loop, bit for bit, calls it.
+ */
+export function estimateSigmaMinByLoop(t: SigmaTracker, G: ArrayLike<number>): void {
+  if (isFullDecompositionDue(t)) fullDecomposition(t, G);
+  else iterate(t, G);
+}
+
+/** The warm-started iteration for any k (estimateSigmaMin without the full-decomposition cases). */
+function iterate(t: SigmaTracker, G: ArrayLike<number>): void {
   const k = t.k;
-  t.callsSinceRefresh++;
-  t.factorValid = false;
-  if (k < 2 || !t.warm || (t.refreshInterval > 0 && t.callsSinceRefresh >= t.refreshInterval)) {
-    fullDecomposition(t, G);
-    return;
-  }
-  if (k === 6) {
-    estimate6(t, G, null, null);
-    return;
-  }
   let trace = 0;
   for (let i = 0; i < k; i++) trace += G[i * k + i]!;
   // Shift δ keeps the factorisation defined at an exact singularity; it changes nothing measurable.
   const delta = 1e-14 * trace + 1e-300;
   t.shift = delta;
+  // Cholesky of G + δI (Golub & Van Loan 2013, Alg. 4.2.2): G + δI (lower triangle) into L, factored in
+  // place by cholesky.ts's loop (k ≠ 6 here, or the pinning test's k = 6 by the loop).
   const L = t.L;
-  // Cholesky of G + δI (Golub & Van Loan 2013, Alg. 4.2.2), inline to stay allocation-free.
-  for (let j = 0; j < k; j++) {
-    let d = G[j * k + j]! + delta;
-    const ajj = d;
-    for (let p = 0; p < j; p++) d -= L[j * k + p]! * L[j * k + p]!;
-    if (!(d > 1e-15 * ajj) || !(d < Infinity)) {
-      fullDecomposition(t, G);
-      return;
-    }
-    const ljj = Math.sqrt(d);
-    L[j * k + j] = ljj;
-    const inv = 1 / ljj;
-    for (let i = j + 1; i < k; i++) {
-      let s = G[i * k + j]!;
-      for (let p = 0; p < j; p++) s -= L[i * k + p]! * L[j * k + p]!;
-      L[i * k + j] = s * inv;
-      L[j * k + i] = 0;
-    }
+  for (let i = 0; i < k; i++) {
+    for (let j = 0; j < i; j++) L[i * k + j] = G[i * k + j]!;
+    L[i * k + i] = G[i * k + i]! + delta;
+  }
+  if (!choleskyLoopInto(L, k, L)) {
+    fullDecomposition(t, G);
+    return;
   }
   t.factorValid = true;
   // sqrt(det(G + δI)) = ∏ L_jj; δ changes it only where σ_j² is comparable to δ (σ_j ≲ 1e-7·σ_max).
@@ -159,8 +166,8 @@ export function estimateSigmaMin(t: SigmaTracker, G: ArrayLike<number>): void {
       y1[i] = x1[i]!;
       y2[i] = x2[i]!;
     }
-    choleskySolveInPlace(L, k, y1);
-    choleskySolveInPlace(L, k, y2);
+    choleskySolveLoopInPlace(L, k, y1);
+    choleskySolveLoopInPlace(L, k, y2);
     // Orthonormalise (modified Gram–Schmidt).
     let n1 = 0;
     for (let i = 0; i < k; i++) n1 += y1[i]! * y1[i]!;
@@ -251,7 +258,7 @@ export function estimateSigmaMinSolve6(t: SigmaTracker, G: ArrayLike<number>, b:
  * estimateSigmaMin for k = 6 (every arm with six or more joints): the same algorithm written out with the
  * factor, the two iterates and the Ritz vectors in locals. Every operation is the general loop's, in the
  * same order (JS has no fused multiply-add), so the results are bit-identical; only index arithmetic,
- * loop overhead and bounds checks go (derived; sigma-estimate.test.ts and control-step.test.ts cover it).
+ * loop overhead and bounds checks go (derived; pinned to the loop, estimateSigmaMinByLoop, in sigma-estimate.test.ts).
  * The scratch arrays y1, y2, g1, g2 are not written on this path. With b (and y) given, also solves
  * (G + δI) y = b (estimateSigmaMinSolve6).
  */

@@ -41,6 +41,27 @@ function sortDescending(values: Float64Array, k: number): void {
 }
 
 /**
+ * t = tan θ of the Jacobi rotation that zeroes the off-diagonal of [[a, b], [b, d]], from
+ * τ = (d − a)/(2b): t = sign(τ)/(|τ| + sqrt(1 + τ²)), the smaller root (Golub & Van Loan 2013, sect. 8.5.2;
+ * the one-sided form, sect. 8.6.3, with a = |b_i|², d = |b_j|², b = b_i·b_j). Then c = 1/sqrt(1 + t²), s = t·c.
+ */
+function jacobiTangent(tau: number): number {
+  return (tau >= 0 ? 1 : -1) / (Math.abs(tau) + Math.sqrt(1 + tau * tau));
+}
+
+/**
+ * Plane rotation of two strided vectors of X, x = X[xo + t·stride] and y = X[yo + t·stride] for t < count:
+ * x ← c·x − s·y, y ← s·x + c·y (in place).
+ */
+function rotatePair(X: Float64Array, xo: number, yo: number, stride: number, count: number, c: number, s: number): void {
+  for (let t = 0; t < count; t++) {
+    const x = X[xo + t * stride]!, y = X[yo + t * stride]!;
+    X[xo + t * stride] = c * x - s * y;
+    X[yo + t * stride] = s * x + c * y;
+  }
+}
+
+/**
  * Full SVD A = U Σ Vᵀ of a rows x cols row-major matrix. k = min(rows, cols).
  * Writes σ (k, descending) into outSigma; when given, U (rows x k) and V (cols x k) row-major, columns
  * the singular vectors (a column for σ = 0 is written as zeros in the long-side factor).
@@ -74,21 +95,12 @@ export function svdInto(
         }
         if (gamma === 0 || Math.abs(gamma) <= 1e-15 * Math.sqrt(alpha * beta)) continue;
         rotated = true;
-        // zeta = (β − α)/(2γ), t = sign(zeta)/(|zeta| + sqrt(1 + zeta²)) zeroes b_i·b_j (GVL 8.6.3).
-        const zeta = (beta - alpha) / (2 * gamma);
-        const tt = (zeta >= 0 ? 1 : -1) / (Math.abs(zeta) + Math.sqrt(1 + zeta * zeta));
+        // ζ = (β − α)/(2γ); the rotation by t zeroes b_i·b_j (GVL 8.6.3).
+        const tt = jacobiTangent((beta - alpha) / (2 * gamma));
         const c = 1 / Math.sqrt(1 + tt * tt);
         const s = c * tt;
-        for (let t = 0; t < p; t++) {
-          const bi = B[i * p + t]!, bj = B[j * p + t]!;
-          B[i * p + t] = c * bi - s * bj;
-          B[j * p + t] = s * bi + c * bj;
-        }
-        for (let t = 0; t < r; t++) {
-          const vi = V[i * r + t]!, vj = V[j * r + t]!;
-          V[i * r + t] = c * vi - s * vj;
-          V[j * r + t] = s * vi + c * vj;
-        }
+        rotatePair(B, i * p, j * p, 1, p, c, s);
+        rotatePair(V, i * r, j * r, 1, r, c, s);
       }
     }
     if (!rotated) break;
@@ -147,26 +159,13 @@ export function symmetricEigenInto(
       for (let q = p + 1; q < n; q++) {
         const apq = A[p * n + q]!;
         if (apq === 0) continue;
-        const tau = (A[q * n + q]! - A[p * n + p]!) / (2 * apq);
-        const t = (tau >= 0 ? 1 : -1) / (Math.abs(tau) + Math.sqrt(1 + tau * tau));
+        const t = jacobiTangent((A[q * n + q]! - A[p * n + p]!) / (2 * apq));
         const c = 1 / Math.sqrt(1 + t * t);
         const s = t * c;
-        // A ← A J, then A ← Jᵀ A, V ← V J with J = [[c, s], [−s, c]] in the (p, q) plane.
-        for (let k = 0; k < n; k++) {
-          const akp = A[k * n + p]!, akq = A[k * n + q]!;
-          A[k * n + p] = c * akp - s * akq;
-          A[k * n + q] = s * akp + c * akq;
-        }
-        for (let k = 0; k < n; k++) {
-          const apk = A[p * n + k]!, aqk = A[q * n + k]!;
-          A[p * n + k] = c * apk - s * aqk;
-          A[q * n + k] = s * apk + c * aqk;
-        }
-        for (let k = 0; k < n; k++) {
-          const vkp = V[k * n + p]!, vkq = V[k * n + q]!;
-          V[k * n + p] = c * vkp - s * vkq;
-          V[k * n + q] = s * vkp + c * vkq;
-        }
+        // A ← A J (columns p, q), then A ← Jᵀ A (rows p, q), V ← V J with J = [[c, s], [−s, c]] in the (p, q) plane.
+        rotatePair(A, p, q, n, n, c, s);
+        rotatePair(A, p * n, q * n, 1, n, c, s);
+        rotatePair(V, p, q, n, n, c, s);
       }
     }
   }

@@ -2,64 +2,60 @@ import { mkdtempSync, readFileSync } from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import nodemailer from "nodemailer";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { beforeAll, describe, expect, it } from "vitest";
 import { freePort } from "../test/free-port.ts";
-import { mailMessageSchema, type Arm } from "@jogwright/shared";
-import { call, createHarness, createMailHarness, DEMO_BY_ROLE, signIn, type Harness } from "../test/harness.ts";
-import { closeWithTeam, createProfile, withTeam, type Team } from "../test/profiles-fixture.ts";
+import { mailMessageSchema } from "@jogwright/shared";
+import { call, createHarness, createMailHarness, DEMO_BY_ROLE, signIn } from "../test/harness.ts";
+import { createProfile, teamForFile } from "../test/profiles-fixture.ts";
 import { startFakeSmtp, type FakeSmtp } from "./fake-smtp.ts";
 import { listActiveWithRole } from "../modules/users/service.ts";
 
-let h: Harness & { smtp: FakeSmtp };
-let team: Team;
-let arm: Arm;
+const cast = teamForFile(createMailHarness);
 let admin: string;
 beforeAll(async () => {
-  ({ h, team, arm } = await withTeam(await createMailHarness()));
-  admin = await signIn(h, DEMO_BY_ROLE.admin);
+  admin = await signIn(cast.h, DEMO_BY_ROLE.admin);
 });
-afterAll(() => closeWithTeam(h, team));
 
 const mailAbout = (smtp: FakeSmtp, name: string, subject: string) => smtp.messages.filter((m) => m.subject.includes(name) && m.subject.includes(subject));
 
 
 describe("workflow mail through the fake SMTP server", () => {
   it("a submitted version is mailed to every active safety officer", async () => {
-    const profile = await createProfile(h, team, arm);
-    await call(h, "post", `/api/versions/${profile.latestVersion.id}/submit`, team.engineer.cookie).expect(200);
-    await h.ctx.mailer.settled();
-    const [mail] = mailAbout(h.smtp, profile.name, "Review requested");
+    const profile = await createProfile(cast.h, cast.team, cast.arm);
+    await call(cast.h, "post", `/api/versions/${profile.latestVersion.id}/submit`, cast.team.engineer.cookie).expect(200);
+    await cast.h.ctx.mailer.settled();
+    const [mail] = mailAbout(cast.h.smtp, profile.name, "Review requested");
     expect(mail).toBeDefined();
-    const officers = (await listActiveWithRole(h.db, "safety_officer")).map((o) => o.email);
+    const officers = (await listActiveWithRole(cast.h.db, "safety_officer")).map((o) => o.email);
     expect([...mail!.to].sort()).toEqual([...new Set(officers)].sort());
-    expect(mail!.to).toEqual(expect.arrayContaining([team.officer.email, team.officer2.email, "sigrid@cell-b.example"]));
+    expect(mail!.to).toEqual(expect.arrayContaining([cast.team.officer.email, cast.team.officer2.email, "sigrid@cell-b.example"]));
     expect(mail!.text).toContain(profile.latestVersion.paramsSha256);
   });
 
   it("an approval is mailed to the version's author and the profile's operator", async () => {
-    const profile = await createProfile(h, team, arm);
+    const profile = await createProfile(cast.h, cast.team, cast.arm);
     const v = profile.latestVersion;
-    await call(h, "post", `/api/versions/${v.id}/submit`, team.engineer.cookie).expect(200);
-    await call(h, "post", `/api/versions/${v.id}/approve`, team.officer.cookie).send({ comment: "Wrist trial is clean.", paramsSha256: v.paramsSha256 }).expect(200);
-    await h.ctx.mailer.settled();
-    const [mail] = mailAbout(h.smtp, profile.name, "Approved");
-    expect([...mail!.to].sort()).toEqual([team.engineer.email, team.operator.email].sort());
+    await call(cast.h, "post", `/api/versions/${v.id}/submit`, cast.team.engineer.cookie).expect(200);
+    await call(cast.h, "post", `/api/versions/${v.id}/approve`, cast.team.officer.cookie).send({ comment: "Wrist trial is clean.", paramsSha256: v.paramsSha256 }).expect(200);
+    await cast.h.ctx.mailer.settled();
+    const [mail] = mailAbout(cast.h.smtp, profile.name, "Approved");
+    expect([...mail!.to].sort()).toEqual([cast.team.engineer.email, cast.team.operator.email].sort());
     expect(mail!.text).toContain("Wrist trial is clean.");
   });
 
   it("a rejection is mailed to the version's author and the profile's operator with the reason", async () => {
-    const profile = await createProfile(h, team, arm);
+    const profile = await createProfile(cast.h, cast.team, cast.arm);
     const v = profile.latestVersion;
-    await call(h, "post", `/api/versions/${v.id}/submit`, team.engineer.cookie).expect(200);
-    await call(h, "post", `/api/versions/${v.id}/reject`, team.officer2.cookie).send({ reason: "Damping too low at the wrist." }).expect(200);
-    await h.ctx.mailer.settled();
-    const [mail] = mailAbout(h.smtp, profile.name, "Rejected");
-    expect([...mail!.to].sort()).toEqual([team.engineer.email, team.operator.email].sort());
+    await call(cast.h, "post", `/api/versions/${v.id}/submit`, cast.team.engineer.cookie).expect(200);
+    await call(cast.h, "post", `/api/versions/${v.id}/reject`, cast.team.officer2.cookie).send({ reason: "Damping too low at the wrist." }).expect(200);
+    await cast.h.ctx.mailer.settled();
+    const [mail] = mailAbout(cast.h.smtp, profile.name, "Rejected");
+    expect([...mail!.to].sort()).toEqual([cast.team.engineer.email, cast.team.operator.email].sort());
     expect(mail!.text).toContain("Damping too low at the wrist.");
   });
 
   it("admins read the outbox, newest first", async () => {
-    const res = await call(h, "get", "/api/mail", admin);
+    const res = await call(cast.h, "get", "/api/mail", admin);
     expect(res.status).toBe(200);
     const messages = res.body.messages.map((m: unknown) => mailMessageSchema.parse(m));
     expect(messages.length).toBeGreaterThan(0);
@@ -72,8 +68,8 @@ describe("workflow mail through the fake SMTP server", () => {
     const down = createHarness({ SIGN_IN_MAX_FAILURES: "1000", SMTP_PORT: String(port) });
     let smtp: FakeSmtp | null = null;
     try {
-      const profile = await createProfile(down, team, arm);
-      const submitted = await call(down, "post", `/api/versions/${profile.latestVersion.id}/submit`, team.engineer.cookie);
+      const profile = await createProfile(down, cast.team, cast.arm);
+      const submitted = await call(down, "post", `/api/versions/${profile.latestVersion.id}/submit`, cast.team.engineer.cookie);
       expect(submitted.status).toBe(200);
       expect(submitted.body.version.state).toBe("submitted");
       await down.ctx.mailer.settled();

@@ -1,8 +1,8 @@
-import { defaultProfileParams, type User } from "@jogwright/shared";
+import { defaultProfileParams, type ProfileParams, type User } from "@jogwright/shared";
 import { findArm, listArms } from "../modules/arms/service.ts";
 import { JogTestClient } from "../modules/jog/jog-test-client.ts";
 import { createProfile } from "../modules/versions/service.ts";
-import { createHarness, freshUser, listenHarness, type Harness } from "./harness.ts";
+import { createHarness, freshUser, listenHarness, signedInUser, type Harness } from "./harness.ts";
 
 /** A harness's app listening with the live-jogging socket attached (listenHarness). */
 export type Listener = Awaited<ReturnType<typeof listenHarness>>;
@@ -39,3 +39,24 @@ export async function draftVersion(h: Harness, author: User, armId: number, oper
   const profile = await createProfile(h.ctx, author, { name, operatorId, armId, params, note: "" });
   return profile.latestVersion.id;
 }
+
+/**
+ * The draft the recording and replay files drive live: the six-axis demo arm with a smooth stick (deadband
+ * 0.05, expo 0.3), 60 % override and the damp-through guard, saved by a fresh signed-in engineer for a
+ * fresh operator under a unique `name`.
+ */
+export async function smoothStickDraft(h: Harness, name: string) {
+  const engineer = await signedInUser(h, ["engineer"]);
+  const operator = await freshUser(h, ["operator"]);
+  const arm = (await listArms(h.db)).find((a) => a.model.joints.length === 6)!;
+  const base = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
+  const params: ProfileParams = {
+    ...base,
+    shaping: { ...base.shaping, deadband: 0.05, expo: 0.3 },
+    speedOverride: { defaultPercent: 60, maxPercent: 100 },
+    guard: { ...base.guard, policy: "damp-through" },
+  };
+  const profile = await createProfile(h.ctx, engineer.user, { name: `${name} ${Date.now().toString(36)}`, operatorId: operator.user.id, armId: arm.id, params, note: "" });
+  return { engineer, arm, params, versionId: profile.latestVersion.id, profileId: profile.id };
+}
+export type SmoothStickDraft = Awaited<ReturnType<typeof smoothStickDraft>>;

@@ -1,8 +1,10 @@
 import type { Sequelize } from "sequelize";
+import { afterAll, beforeAll } from "vitest";
 import { defaultProfileParams, type Arm, type ProfileParams, type Role } from "@jogwright/shared";
 import { modelsOf } from "../db/models.ts";
 import { findArmIdBySlug } from "../modules/arms/service.ts";
 import { call, freshUser, signIn, type Harness } from "./harness.ts";
+import { createOwnerDb } from "./owner-db.ts";
 
 /** Fresh people for one test: two engineers, two safety officers, an operator; each signed in. */
 export async function freshTeam(h: Harness) {
@@ -57,6 +59,36 @@ export async function closeWithTeam(h: Harness | undefined, team: Team | undefin
   if (h) await retireTeam(h, team);
   await owner?.close();
   await h?.close();
+}
+
+/** A test file's cast from `teamForFile`, set before its tests run; `owner` only when asked for. */
+export interface TeamCast<H extends Harness> {
+  h: H;
+  team: Team;
+  arm: Arm;
+  owner: Sequelize | undefined;
+}
+
+/**
+ * The usual cast for a whole test file, as hooks: before its tests the harness (`makeHarness`:
+ * createHarness, createMailHarness), a fresh team and the six-axis arm (withTeam) and, with `owner`, the
+ * schema owner's connection; after them `beforeClose` (e.g. closeTrialPool), then closeWithTeam. Call it
+ * at the top of the file (its own hooks then run after this set-up and before this end).
+ */
+export function teamForFile<H extends Harness>(
+  makeHarness: () => H | Promise<H>,
+  options: { owner?: boolean; beforeClose?: () => Promise<void> } = {},
+): TeamCast<H> {
+  const cast = { owner: undefined } as TeamCast<H>;
+  beforeAll(async () => {
+    if (options.owner) cast.owner = createOwnerDb();
+    Object.assign(cast, await withTeam(await makeHarness()));
+  });
+  afterAll(async () => {
+    await options.beforeClose?.();
+    await closeWithTeam(cast.h, cast.team, cast.owner);
+  });
+  return cast;
 }
 
 /** Parameters within the default ceilings (half of each rated joint speed, 250 mm/s TCP). */

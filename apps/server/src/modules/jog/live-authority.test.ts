@@ -2,9 +2,10 @@ import { performance } from "node:perf_hooks";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { defaultProfileParams, JOG_CLOSE_CODES, type JogServerMessage, type JogState, type ProfileParams, type RecordedFrame, type Role, type User } from "@jogwright/shared";
-import { findArm, listArms } from "../arms/service.ts";
+import { findArm } from "../arms/service.ts";
 import { createProfile } from "../versions/service.ts";
-import { call, createHarness, DEMO_BY_ROLE, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
+import { call, DEMO_BY_ROLE, freshUser, signIn, type Harness } from "../../test/harness.ts";
+import { closeJogServer, openJogServer, type Listener } from "../../test/jog-fixture.ts";
 import { JogTestClient, sleep, upgradeOutcome } from "./jog-test-client.ts";
 
 /**
@@ -14,7 +15,7 @@ import { JogTestClient, sleep, upgradeOutcome } from "./jog-test-client.ts";
  * Real `ws` clients against the real server and MariaDB; every test has its own people.
  */
 let h: Harness;
-let net: Awaited<ReturnType<typeof listenHarness>>;
+let net: Listener;
 let admin: string;
 let officerCookie: string;
 let operatorId: string;
@@ -117,23 +118,16 @@ async function patchUser(id: string, body: object): Promise<number> {
 }
 
 beforeAll(async () => {
-  h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
-  net = await listenHarness(h);
+  ({ h, net, arm6Id: armId, operatorId } = await openJogServer());
   admin = await signIn(h, DEMO_BY_ROLE.admin);
   officerCookie = (await person(["safety_officer"])).cookie;
-  operatorId = (await freshUser(h, ["operator"])).user.id;
-  const arm6 = (await listArms(h.db)).find((a) => a.model.joints.length === 6 && a.name.includes("six"))!;
-  armId = arm6.id;
   const arm = (await findArm(h.db, armId))!;
   const base = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
   // As jog.test.ts: no deadband and a linear curve (axis 1 → the cap), 40 % override, 1 m/s² ramp (default).
   params = { ...base, shaping: { ...base.shaping, deadband: 0, expo: 0 }, speedOverride: { defaultPercent: 40, maxPercent: 100 } };
 });
 
-afterAll(async () => {
-  await net?.close();
-  await h?.close();
-});
+afterAll(() => closeJogServer(net, h));
 
 describe("a role change reaches the open socket at once", () => {
   it("an engineer whose engineer role was removed cannot start a draft on the socket that was already open", async () => {

@@ -79,27 +79,25 @@ interface Revocation {
   watcherMessage: string;
 }
 
+/** A revocation that signs the account out (the close code and end reason every sign-out shares). */
+const signedOut = (closeReason: string, driverMessage: string, watcherMessage: string): Revocation =>
+  ({ reason: "signed-out", code: JOG_CLOSE_CODES.signedOut, closeReason, driverMessage, watcherMessage });
+
 const REVOKED = {
   deactivated: {
     reason: "account-deactivated", code: JOG_CLOSE_CODES.accountDeactivated, closeReason: "account deactivated",
     driverMessage: END_MESSAGES["account-deactivated"].driver,
     watcherMessage: "An administrator deactivated your account, so you no longer watch this session.",
   },
-  signedOut: {
-    reason: "signed-out", code: JOG_CLOSE_CODES.signedOut, closeReason: "signed out",
-    driverMessage: "You signed out, so the arm made a controlled stop and the session ended. Sign in again to drive.",
-    watcherMessage: "You signed out, so you no longer watch this session.",
-  },
-  passwordChanged: {
-    reason: "signed-out", code: JOG_CLOSE_CODES.signedOut, closeReason: "signed out: password changed",
-    driverMessage: "Your password was changed, which signs you out everywhere: the arm made a controlled stop and the session ended. Sign in again.",
-    watcherMessage: "Your password was changed, which signs you out everywhere, so you no longer watch this session. Sign in again.",
-  },
-  gone: {
-    reason: "signed-out", code: JOG_CLOSE_CODES.signedOut, closeReason: "signed out",
-    driverMessage: "Your sign-in has ended (signed out elsewhere), so the arm made a controlled stop and the session ended. Sign in again.",
-    watcherMessage: "Your sign-in has ended (signed out elsewhere), so you no longer watch this session. Sign in again.",
-  },
+  signedOut: signedOut("signed out",
+    "You signed out, so the arm made a controlled stop and the session ended. Sign in again to drive.",
+    "You signed out, so you no longer watch this session."),
+  passwordChanged: signedOut("signed out: password changed",
+    "Your password was changed, which signs you out everywhere: the arm made a controlled stop and the session ended. Sign in again.",
+    "Your password was changed, which signs you out everywhere, so you no longer watch this session. Sign in again."),
+  gone: signedOut("signed out",
+    "Your sign-in has ended (signed out elsewhere), so the arm made a controlled stop and the session ended. Sign in again.",
+    "Your sign-in has ended (signed out elsewhere), so you no longer watch this session. Sign in again."),
   expired: {
     reason: "session-expired", code: JOG_CLOSE_CODES.signedOut, closeReason: "sign-in expired",
     driverMessage: END_MESSAGES["session-expired"].driver,

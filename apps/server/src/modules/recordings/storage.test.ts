@@ -1,14 +1,13 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { Op, QueryTypes } from "sequelize";
-import { defaultProfileParams, type Arm, type RecordedFrame, type User } from "@jogwright/shared";
+import { defaultProfileParams, type RecordedFrame } from "@jogwright/shared";
 import * as m0017 from "../../db/migrations/0017-recording-storage.ts";
 import { modelsOf } from "../../db/models.ts";
 import { createOwnerDb } from "../../test/owner-db.ts";
-import { call, createHarness, freshUser, listenHarness, signedInUser, type Harness } from "../../test/harness.ts";
-import { listArms } from "../arms/service.ts";
+import { call, createHarness, listenHarness, type Harness } from "../../test/harness.ts";
+import { smoothStickDraft, type SmoothStickDraft } from "../../test/jog-fixture.ts";
 import { JogSimulation } from "../jog/simulation.ts";
 import { JogTestClient, sleep } from "../jog/jog-test-client.ts";
-import { createProfile } from "../versions/service.ts";
 import { encodeChunk } from "./chunk-codec.ts";
 import { insertChunk, insertRecording } from "./service.ts";
 
@@ -21,22 +20,12 @@ import { insertChunk, insertRecording } from "./service.ts";
  */
 let h: Harness;
 let net: Awaited<ReturnType<typeof listenHarness>>;
-let engineer: { user: User; cookie: string };
-let arm: Arm;
-let versionId: number;
-let profileId: number;
+let draft: SmoothStickDraft;
 
 beforeAll(async () => {
   h = createHarness();
   net = await listenHarness(h);
-  engineer = await signedInUser(h, ["engineer"]);
-  const o = await freshUser(h, ["operator"]);
-  arm = (await listArms(h.db)).find((a) => a.model.joints.length === 6)!;
-  const base = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
-  const params = { ...base, shaping: { ...base.shaping, deadband: 0.05, expo: 0.3 }, speedOverride: { defaultPercent: 60, maxPercent: 100 }, guard: { ...base.guard, policy: "damp-through" as const } };
-  const profile = await createProfile(h.ctx, engineer.user, { name: `storage test ${Date.now().toString(36)}`, operatorId: o.user.id, armId: arm.id, params, note: "" });
-  versionId = profile.latestVersion.id;
-  profileId = profile.id;
+  draft = await smoothStickDraft(h, "storage test");
 });
 
 afterAll(async () => {
@@ -55,7 +44,7 @@ async function storedChunks(recordingId: number) {
 
 describe("recording storage, measured", () => {
   it("a session of several seconds of jogging the six-axis arm is stored in at most 100 bytes per frame", async () => {
-    const c = await JogTestClient.connect(net.wsUrl, { Cookie: engineer.cookie, Origin: net.baseUrl });
+    const c = await JogTestClient.connect(net.wsUrl, { Cookie: draft.engineer.cookie, Origin: net.baseUrl });
     try {
       await driveAndMeasure(c);
     } finally {
@@ -67,7 +56,7 @@ describe("recording storage, measured", () => {
 
 /** The measured session (the waits are generous: the machine may be busy; nothing here is timed). */
 async function driveAndMeasure(c: JogTestClient): Promise<void> {
-  c.send({ type: "start", versionId });
+  c.send({ type: "start", versionId: draft.versionId });
   await c.next((m) => m.type === "session", 10_000);
   const release = async () => {
     c.stopStream();
@@ -106,7 +95,7 @@ async function driveAndMeasure(c: JogTestClient): Promise<void> {
   await net.jog.hub.writer.drain();
 
   const chunks = await storedChunks(recordingId);
-  const frames = (await call(h, "get", `/api/recordings/${recordingId}`, engineer.cookie).expect(200)).body.frames as RecordedFrame[];
+  const frames = (await call(h, "get", `/api/recordings/${recordingId}`, draft.engineer.cookie).expect(200)).body.frames as RecordedFrame[];
   const frameCount = chunks.reduce((s, ch) => s + ch.frame_count, 0);
   const storedBytes = chunks.reduce((s, ch) => s + Number(ch.bytes), 0);
   // What a frame took as the JSON chunks before: the recorded body of the state frames this client got.
@@ -129,8 +118,8 @@ async function driveAndMeasure(c: JogTestClient): Promise<void> {
 describe("chunks written before migration 0017", () => {
   /** Real frames of the simulation, as the writer queues them. */
   function frameTexts(count: number): string[] {
-    const base = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
-    const sim = new JogSimulation({ arm: arm.model, readyPose: arm.readyPose, params: base, recordInputs: true });
+    const base = defaultProfileParams(draft.arm.model.joints.map((j) => j.maxSpeed!));
+    const sim = new JogSimulation({ arm: draft.arm.model, readyPose: draft.arm.readyPose, params: base, recordInputs: true });
     const out: string[] = [];
     sim.applyInput({ type: "input", seq: 0, clientTimeMs: 0, enabling: false, mode: "cartesian", frame: "world", axes: [0, 0, 0, 0, 0, 0], overridePercent: 40 });
     for (let k = 0; out.length < count; k++) {
@@ -144,7 +133,7 @@ describe("chunks written before migration 0017", () => {
   it("still read: a recording of JSON chunks, and one whose first chunk is JSON and the next compact", async () => {
     const texts = frameTexts(120);
     const old = texts.slice(0, 60);
-    const subject = { driverId: engineer.user.id, armId: arm.id, profileId, versionId };
+    const subject = { driverId: draft.engineer.user.id, armId: draft.arm.id, profileId: draft.profileId, versionId: draft.versionId };
     const legacyId = await insertRecording(h.db, { sessionId: `legacy-${Date.now()}`, ...subject, startedAt: new Date() });
     const mixedId = await insertRecording(h.db, { sessionId: `mixed-${Date.now()}`, ...subject, startedAt: new Date() });
     // As the writer wrote them before 0017: the JSON array text in `frames`, no encoding given (the column's default).
@@ -155,9 +144,9 @@ describe("chunks written before migration 0017", () => {
     await insertChunk(h.db, mixedId, 1, 60, await encodeChunk(texts.slice(60)));
     expect((await storedChunks(mixedId)).map((ch) => ch.encoding)).toEqual(["json", "columns-v1"]);
 
-    const legacy = (await call(h, "get", `/api/recordings/${legacyId}`, engineer.cookie).expect(200)).body.frames as RecordedFrame[];
+    const legacy = (await call(h, "get", `/api/recordings/${legacyId}`, draft.engineer.cookie).expect(200)).body.frames as RecordedFrame[];
     expect(legacy).toEqual(old.map((s) => JSON.parse(s) as unknown)); // exactly as recorded
-    const mixed = (await call(h, "get", `/api/recordings/${mixedId}`, engineer.cookie).expect(200)).body.frames as RecordedFrame[];
+    const mixed = (await call(h, "get", `/api/recordings/${mixedId}`, draft.engineer.cookie).expect(200)).body.frames as RecordedFrame[];
     expect(mixed.map((f) => f.t)).toEqual(texts.map((s) => (JSON.parse(s) as RecordedFrame).t)); // in order, times exact
     expect(mixed.slice(0, 60)).toEqual(legacy);
     mixed.slice(60).forEach((f, i) => {
@@ -181,13 +170,13 @@ describe("chunks written before migration 0017", () => {
       isDown = true;
       const texts = frameTexts(60);
       const json = `[${texts.join(",")}]`;
-      const id = await insertRecording(owner, { sessionId: `pre-0017-${Date.now()}`, driverId: engineer.user.id, armId: arm.id, profileId, versionId, startedAt: new Date() });
+      const id = await insertRecording(owner, { sessionId: `pre-0017-${Date.now()}`, driverId: draft.engineer.user.id, armId: draft.arm.id, profileId: draft.profileId, versionId: draft.versionId, startedAt: new Date() });
       await owner.getQueryInterface().bulkInsert("jog_recording_chunks", [{ recording_id: id, chunk_index: 0, frame_count: 60, frames: json }]);
       await m0017.up(migration);
       isDown = false;
 
       expect(await storedChunks(id)).toEqual([{ encoding: "json", bytes: Buffer.byteLength(json), stored_bytes: Buffer.byteLength(json), frame_count: 60, has_frames: 1 }]);
-      const read = (await call(h, "get", `/api/recordings/${id}`, engineer.cookie).expect(200)).body.frames as RecordedFrame[];
+      const read = (await call(h, "get", `/api/recordings/${id}`, draft.engineer.cookie).expect(200)).body.frames as RecordedFrame[];
       expect(read).toEqual(texts.map((t) => JSON.parse(t) as unknown));
     } finally {
       if (isDown) await m0017.up(migration); // the file's later tests get the full schema
@@ -196,7 +185,7 @@ describe("chunks written before migration 0017", () => {
   });
 
   it("the schema keeps each payload in its column: a json chunk has frames and no data, a compact one data and no frames", async () => {
-    const id = await insertRecording(h.db, { sessionId: `check-${Date.now()}`, driverId: engineer.user.id, armId: arm.id, profileId, versionId, startedAt: new Date() });
+    const id = await insertRecording(h.db, { sessionId: `check-${Date.now()}`, driverId: draft.engineer.user.id, armId: draft.arm.id, profileId: draft.profileId, versionId: draft.versionId, startedAt: new Date() });
     const { RecordingChunk } = modelsOf(h.db);
     const compact = await encodeChunk(frameTexts(3));
     await expect(RecordingChunk.create({ recordingId: id, chunkIndex: 0, frameCount: 3, storedBytes: 1 })).rejects.toThrow(/jog_recording_chunks_payload/);

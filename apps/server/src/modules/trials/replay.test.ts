@@ -1,8 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { defaultProfileParams, type Arm, type ProfileParams, type RecordedFrame, type User } from "@jogwright/shared";
-import { call, createHarness, freshUser, listenHarness, signedInUser, type Harness } from "../../test/harness.ts";
-import { listArms } from "../arms/service.ts";
-import { createProfile } from "../versions/service.ts";
+import type { RecordedFrame } from "@jogwright/shared";
+import { call, createHarness, listenHarness, type Harness } from "../../test/harness.ts";
+import { smoothStickDraft, type SmoothStickDraft } from "../../test/jog-fixture.ts";
 import { JogTestClient, sleep } from "../jog/jog-test-client.ts";
 import { replayInputOf, replayInputs, ReplayFormatError } from "./replay.ts";
 import { modelsOf } from "../../db/models.ts";
@@ -19,11 +18,7 @@ import { closeTrialPool, runInPool } from "./trial-pool.ts";
  */
 let h: Harness;
 let net: Awaited<ReturnType<typeof listenHarness>>;
-let engineer: { user: User; cookie: string };
-let arm: Arm;
-let params: ProfileParams;
-let versionId: number;
-let profileId: number;
+let draft: SmoothStickDraft;
 let recordingId: number;
 let frames: RecordedFrame[];
 
@@ -32,18 +27,11 @@ const INPUT_PERIOD_MS = 10;
 beforeAll(async () => {
   h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
   net = await listenHarness(h);
-  engineer = await signedInUser(h, ["engineer"]);
-  const o = await freshUser(h, ["operator"]);
-  arm = (await listArms(h.db)).find((a) => a.model.joints.length === 6)!;
-  const base = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
-  params = { ...base, shaping: { ...base.shaping, deadband: 0.05, expo: 0.3 }, speedOverride: { defaultPercent: 60, maxPercent: 100 }, guard: { ...base.guard, policy: "damp-through" } };
-  const profile = await createProfile(h.ctx, engineer.user, { name: `replay test ${Date.now().toString(36)}`, operatorId: o.user.id, armId: arm.id, params, note: "" });
-  versionId = profile.latestVersion.id;
-  profileId = profile.id;
+  draft = await smoothStickDraft(h, "replay test");
 
   // A live session: hold +y −z (toward the wrist region), a joint jog of joint 5, STOP, reset, a last push, release.
-  const c = await JogTestClient.connect(net.wsUrl, { Cookie: engineer.cookie, Origin: net.baseUrl });
-  c.send({ type: "start", versionId });
+  const c = await JogTestClient.connect(net.wsUrl, { Cookie: draft.engineer.cookie, Origin: net.baseUrl });
+  c.send({ type: "start", versionId: draft.versionId });
   await c.next((m) => m.type === "session");
   const hold = async (axes: number[], mode: "cartesian" | "joint", ms: number) => {
     c.input = { ...c.input, enabling: false, mode, axes: axes.map(() => 0) };
@@ -69,7 +57,7 @@ beforeAll(async () => {
   recordingId = ended.type === "ended" ? ended.recordingId! : 0;
   await c.close();
   await net.jog.hub.writer.drain();
-  frames = (await call(h, "get", `/api/recordings/${recordingId}`, engineer.cookie).expect(200)).body.frames as RecordedFrame[];
+  frames = (await call(h, "get", `/api/recordings/${recordingId}`, draft.engineer.cookie).expect(200)).body.frames as RecordedFrame[];
 }, 30_000);
 
 afterAll(async () => {
@@ -82,7 +70,7 @@ afterAll(async () => {
 function worstDifference(series: ReturnType<typeof replayInputs>, recorded: RecordedFrame[]): number {
   let worst = 0;
   for (const f of recorded) {
-    const k = Math.round(f.t * params.tickRateHz);
+    const k = Math.round(f.t * draft.params.tickRateHz);
     if (k >= series.count) continue;
     for (let i = 0; i < series.n; i++) worst = Math.max(worst, Math.abs(series.q[k * series.n + i]! - f.q[i]!));
   }
@@ -91,17 +79,17 @@ function worstDifference(series: ReturnType<typeof replayInputs>, recorded: Reco
 
 describe("replay of a live session's input", () => {
   it("the recording carries the operator's input events, the start first", () => {
-    const input = replayInputOf(frames, params.tickRateHz);
+    const input = replayInputOf(frames, draft.params.tickRateHz);
     expect(input.events[0]!.slice(0, 3)).toEqual([0, 0, 0]);
     expect(input.events.filter((e) => e[1] === 1).length).toBeGreaterThan(50);
     expect(input.events.some((e) => e[1] === 2)).toBe(true); // the e-stop
     expect(input.events.some((e) => e[1] === 3)).toBe(true); // its reset
-    expect(input.recordedTicks).toBeGreaterThan(params.tickRateHz); // over a second of driving
+    expect(input.recordedTicks).toBeGreaterThan(draft.params.tickRateHz); // over a second of driving
   });
 
   it("against the version it was driven with, reproduces every recorded joint position within 1e-9 rad", () => {
-    const input = replayInputOf(frames, params.tickRateHz);
-    const series = replayInputs(arm.model, arm.readyPose, params, input);
+    const input = replayInputOf(frames, draft.params.tickRateHz);
+    const series = replayInputs(draft.arm.model, draft.arm.readyPose, draft.params, input);
     const moved = frames.some((f) => f.q.some((q, i) => Math.abs(q - frames[0]!.q[i]!) > 0.01));
     expect(moved).toBe(true); // the session really moved the arm (more than 0.01 rad on some joint)
     // The issue's bound. The simulation is deterministic, so the replay is in fact exact.
@@ -109,29 +97,29 @@ describe("replay of a live session's input", () => {
   });
 
   it("against another version (a lower TCP cap) it takes another path", () => {
-    const input = replayInputOf(frames, params.tickRateHz);
-    const slower = { ...params, tcpLinearCapMPerS: params.tcpLinearCapMPerS / 2 };
-    expect(worstDifference(replayInputs(arm.model, arm.readyPose, slower, input), frames)).toBeGreaterThan(1e-3);
+    const input = replayInputOf(frames, draft.params.tickRateHz);
+    const slower = { ...draft.params, tcpLinearCapMPerS: draft.params.tcpLinearCapMPerS / 2 };
+    expect(worstDifference(replayInputs(draft.arm.model, draft.arm.readyPose, slower, input), frames)).toBeGreaterThan(1e-3);
   });
 
   it("refuses a recording without input events with a sentence", () => {
     const stripped = frames.map(({ inputEvents: _dropped, ...f }) => f);
-    expect(() => replayInputOf(stripped, params.tickRateHz)).toThrow(ReplayFormatError);
-    expect(() => replayInputOf(stripped, params.tickRateHz)).toThrow(/no operator input to replay/);
+    expect(() => replayInputOf(stripped, draft.params.tickRateHz)).toThrow(ReplayFormatError);
+    expect(() => replayInputOf(stripped, draft.params.tickRateHz)).toThrow(/no operator input to replay/);
   });
 
   it("through the API: a replay run of the recording with its own version, stored as a run of kind replay", async () => {
-    const res = await call(h, "post", "/api/bench/runs", engineer.cookie)
-      .send({ source: { kind: "version", versionId }, trials: [{ kind: "replay", recordingId }] })
+    const res = await call(h, "post", "/api/bench/runs", draft.engineer.cookie)
+      .send({ source: { kind: "version", versionId: draft.versionId }, trials: [{ kind: "replay", recordingId }] })
       .expect(201);
-    expect(res.body.runs[0]).toMatchObject({ trialKind: "replay", recordingId, versionId, profileId });
+    expect(res.body.runs[0]).toMatchObject({ trialKind: "replay", recordingId, versionId: draft.versionId, profileId: draft.profileId });
     expect(res.body.runs[0].trialName).toMatch(/^Replay of /);
   });
 
   it("a recording pruned by retention while its replay is computed: 409 in words, no run stored, the prune audited", async () => {
     // A second, short session, referenced by nothing (the one above is referenced by its stored run).
-    const c = await JogTestClient.connect(net.wsUrl, { Cookie: engineer.cookie, Origin: net.baseUrl });
-    c.send({ type: "start", versionId });
+    const c = await JogTestClient.connect(net.wsUrl, { Cookie: draft.engineer.cookie, Origin: net.baseUrl });
+    c.send({ type: "start", versionId: draft.versionId });
     await c.next((m) => m.type === "session");
     c.input = { ...c.input, enabling: false, mode: "cartesian", axes: [0, 0, 0, 0, 0, 0] };
     c.sendInput(); // released first: the enabling control must be pressed anew
@@ -158,8 +146,8 @@ describe("replay of a live session's input", () => {
       }
       return runInPool(job, signal);
     };
-    const request = { source: { kind: "version" as const, versionId }, trials: [{ kind: "builtin" as const, builtin: "wrist-line" as const }, { kind: "replay" as const, recordingId: shortId }] };
-    await expect(runTrials(h.db, engineer.user, request, undefined, pruneFirst)).rejects.toMatchObject({
+    const request = { source: { kind: "version" as const, versionId: draft.versionId }, trials: [{ kind: "builtin" as const, builtin: "wrist-line" as const }, { kind: "replay" as const, recordingId: shortId }] };
+    await expect(runTrials(h.db, draft.engineer.user, request, undefined, pruneFirst)).rejects.toMatchObject({
       status: 409,
       code: "conflict",
       message: `Recording ${shortId} was removed by the recording retention setting while the runs were computed, so nothing was stored. Run the trials again without it.`,

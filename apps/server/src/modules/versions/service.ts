@@ -156,14 +156,7 @@ export async function createProfile(ctx: WorkflowContext, actor: User, input: Cr
       summary: `created profile "${profile.name}" for ${profile.operatorName} on ${profile.armName}`,
       after: { id, name: profile.name, operatorId: profile.operatorId, armId: profile.armId, createdBy: actor.id },
     });
-    await recordAudit(db, t, {
-      actorId: actor.id,
-      entity: "version",
-      entityId: versionId,
-      action: "save",
-      summary: `saved ${versionLabel(profile, version)} as a draft (params ${version.paramsSha256.slice(0, 12)}…)`,
-      after: version,
-    });
+    await auditVersion(db, t, actor, "save", `saved ${versionLabel(profile, version)} as a draft (params ${version.paramsSha256.slice(0, 12)}…)`, undefined, version);
     return id;
   });
   return (await findProfile(db, profileId))!;
@@ -221,15 +214,7 @@ export async function saveVersion(ctx: WorkflowContext, actor: User, profileId: 
         authorId: actor.id,
       }, armChoice);
       const version = (await findVersion(db, versionId, t))!;
-      await recordAudit(db, t, {
-        actorId: actor.id,
-        entity: "version",
-        entityId: versionId,
-        action: "save",
-        summary: `saved ${versionLabel(profile, version)} from v${parent.number} as a draft`,
-        before: parent,
-        after: version,
-      });
+      await auditVersion(db, t, actor, "save", `saved ${versionLabel(profile, version)} from v${parent.number} as a draft`, parent, version);
       // The answer names what it drives, as GET /api/profiles/:id does (the audit row keeps the version alone).
       return { ...version, ...(await listVersionArmRefs(db, [versionId], t)).get(versionId) };
     });
@@ -279,9 +264,19 @@ export async function transition(
     const result = await change({ t, version, profile });
     const { summary, action } = typeof result === "string" ? { summary: result, action: ACTIONS[verb] ?? (verb as AuditAction) } : result;
     const after = (await findVersion(db, versionId, t))!;
-    await recordAudit(db, t, { actorId: actor.id, entity: "version", entityId: versionId, action, summary, before: version, after });
+    await auditVersion(db, t, actor, action, summary, version, after);
     return after;
   });
+}
+
+/**
+ * The audit row of a change to a version, in the change's transaction: the version as it was (`before`;
+ * none for a new one) and as it is now (`after`, whose id the row names).
+ */
+async function auditVersion(
+  db: Sequelize, t: Transaction, actor: User, action: AuditAction, summary: string, before: ProfileVersion | undefined, after: ProfileVersion,
+): Promise<void> {
+  await recordAudit(db, t, { actorId: actor.id, entity: "version", entityId: after.id, action, summary, before, after });
 }
 
 export async function retireVersion(ctx: WorkflowContext, actor: User, versionId: number, input: { reason: string }): Promise<ProfileVersion> {
@@ -322,15 +317,7 @@ export async function withdrawOlderSubmissions(db: Sequelize, t: Transaction, ac
     const note = `withdrawn: v${newer.number} was submitted in its place by ${actor.displayName}`;
     await setStatus(db, t, version.id, { state: "withdrawn", decidedBy: actor.id, decidedAt: new Date(), decisionComment: note });
     const after = (await findVersion(db, version.id, t))!;
-    await recordAudit(db, t, {
-      actorId: actor.id,
-      entity: "version",
-      entityId: version.id,
-      action: "withdraw",
-      summary: `${versionLabel(profile, version)} ${note}`,
-      before: version,
-      after,
-    });
+    await auditVersion(db, t, actor, "withdraw", `${versionLabel(profile, version)} ${note}`, version, after);
     withdrawn.push(after);
   }
   return withdrawn;
@@ -340,15 +327,7 @@ export async function withdrawOlderSubmissions(db: Sequelize, t: Transaction, ac
 export async function supersede(db: Sequelize, t: Transaction, actor: User, previous: ProfileVersion, profile: ProfileSummary, by: ProfileVersion): Promise<void> {
   await setStatus(db, t, previous.id, { state: "superseded" });
   const after = (await findVersion(db, previous.id, t))!;
-  await recordAudit(db, t, {
-    actorId: actor.id,
-    entity: "version",
-    entityId: previous.id,
-    action: "supersede",
-    summary: `${versionLabel(profile, previous)} superseded by v${by.number}`,
-    before: previous,
-    after,
-  });
+  await auditVersion(db, t, actor, "supersede", `${versionLabel(profile, previous)} superseded by v${by.number}`, previous, after);
 }
 
 // ---------------------------------------------------------------------------------------------------
@@ -386,7 +365,7 @@ export async function flagAboveCeilings(
   await setStatus(db, t, version.id, { exceedsCeilings: true });
   await modelsOf(db).CeilingEvent.create({ versionId: version.id, kind: "flag", ceilingsRevision, actorId: actor.id, comment: summary }, { transaction: t });
   const after = (await findVersion(db, version.id, t))!;
-  await recordAudit(db, t, { actorId: actor.id, entity: "version", entityId: version.id, action: "flag", summary, before: version, after });
+  await auditVersion(db, t, actor, "flag", summary, version, after);
   return after;
 }
 
