@@ -4,7 +4,7 @@
 import { spawn, spawnSync } from "node:child_process";
 import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import path from "node:path";
-import { DATA_DIR, databaseEnv, isPortFree, log, portFromEnv, prepare, recreateDatabase, ROOT, SetupError, startPrivateRedis } from "./lib/setup.mjs";
+import { DATA_DIR, databaseEnv, log, portFromEnv, prepare, recreateDatabase, ROOT, SetupError, startPrivateRedis, startServerForRun } from "./lib/setup.mjs";
 
 const REPORTS = path.join(DATA_DIR, "test-reports");
 const results = [];
@@ -55,16 +55,17 @@ async function vitestSuite(name, dir, env = {}, { buffered = false } = {}) {
 }
 
 /**
- * The browser tests: `playwright test` in tests/ (tests/playwright.config.ts), read from its JSON report;
+ * One project of the browser tests: `playwright test --project <project>` in tests/ (tests/playwright.config.ts:
+ * "pages" two at a time, then "driving" one at a time), read from its JSON report;
  * a crash without a report, or an error outside any test (a config or file that does not load), counts
  * as one failure. Traces and screenshots of failed tests stay in .data/test-reports/browser/.
  */
-function playwrightSuite(name, env = {}) {
-  const report = path.join(REPORTS, "browser.json");
+function playwrightSuite(name, project, env = {}) {
+  const report = path.join(REPORTS, `browser-${project}.json`);
   rmSync(report, { force: true });
   log(`suite: ${name}`);
   const dir = path.join(ROOT, "tests");
-  const run = spawnSync(path.join(dir, "node_modules/.bin/playwright"), ["test"], {
+  const run = spawnSync(path.join(dir, "node_modules/.bin/playwright"), ["test", "--project", project], {
     cwd: dir,
     stdio: "inherit",
     env: { ...process.env, ...env, BROWSER_TEST_REPORT: report },
@@ -103,21 +104,6 @@ async function buildConsoleJob() {
   log("console built");
 }
 
-async function waitForHealth(url, server, timeoutMs = 60_000) {
-  const deadline = Date.now() + timeoutMs;
-  while (Date.now() < deadline) {
-    if (server.exitCode !== null) throw new SetupError(`the test server exited early (code ${server.exitCode}).`);
-    try {
-      const res = await fetch(`${url}/api/health`);
-      if (res.ok) return;
-    } catch {
-      /* not up yet */
-    }
-    await new Promise((r) => setTimeout(r, 250));
-  }
-  throw new SetupError(`the test server did not answer ${url}/api/health within ${timeoutMs / 1000} s.`);
-}
-
 async function main() {
   mkdirSync(REPORTS, { recursive: true });
   const db = await prepare({ withChromium: true, withRedis: true, dbName: "mariadb-test", defaultDbPort: 3408, database: "jogwright_test", throwaway: true });
@@ -147,22 +133,17 @@ async function main() {
     await redis.stop();
     redis = null;
 
-    const port = portFromEnv("TEST_PORT", 3100);
-    if (!(await isPortFree(port))) throw new SetupError(`TEST_PORT ${port} is in use; set TEST_PORT to a free port.`);
-    const serverDir = path.join(ROOT, "apps/server");
-    server = spawn(path.join(serverDir, "node_modules/.bin/tsx"), ["src/server.ts"], {
-      cwd: serverDir,
-      stdio: ["ignore", "ignore", "inherit"],
-      env: { ...process.env, ...dbEnv, MAIL_DIR: path.join(DATA_DIR, "mail-test"), PORT: String(port), SMTP_PORT: String(portFromEnv("TEST_SMTP_PORT", 2626)), NODE_ENV: "test" },
+    server = await startServerForRun({
+      what: "the test server",
+      port: portFromEnv("TEST_PORT", 3100),
+      portVar: "TEST_PORT",
+      env: { ...dbEnv, MAIL_DIR: path.join(DATA_DIR, "mail-test"), SMTP_PORT: String(portFromEnv("TEST_SMTP_PORT", 2626)), NODE_ENV: "test" },
     });
-    const url = `http://127.0.0.1:${port}`;
-    await waitForHealth(url, server);
-    playwrightSuite("browser and whole-system", { ...dbEnv, JOGWRIGHT_URL: url, CHROMIUM_PATH: "/usr/bin/chromium" });
+    const browserEnv = { ...dbEnv, JOGWRIGHT_URL: server.url, CHROMIUM_PATH: "/usr/bin/chromium" };
+    playwrightSuite("browser: pages (two at a time)", "pages", browserEnv);
+    playwrightSuite("browser and whole-system: driving (one at a time)", "driving", browserEnv);
   } finally {
-    if (server && server.exitCode === null) {
-      server.kill("SIGTERM");
-      await new Promise((r) => server.once("exit", r));
-    }
+    await server?.stop();
     if (redis) await redis.stop();
     if (db.socket) await db.stop();
   }

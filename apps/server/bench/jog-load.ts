@@ -4,7 +4,8 @@
  * enabling control held. Prints per-client frames/s (min/median), tick lateness p50/p99 (server
  * histogram), input-to-state latency p50/p99 (client clock: send time of input seq → arrival of the first
  * state frame with lastInputSeq ≥ seq) and CPU use. Bounded: JOG_BENCH_CLIENTS (default 50, max 100),
- * JOG_BENCH_SECONDS (default 20, max 60).
+ * JOG_BENCH_SECONDS (default 20, max 60). JOG_BENCH_SERVER_FLAGS: extra node/V8 flags for the server's
+ * process, space-separated (e.g. "--single-threaded-gc"), to compare runtime settings.
  *   DATABASE_URL=… pnpm --filter @jogwright/server bench
  */
 import { fork } from "node:child_process";
@@ -17,7 +18,7 @@ const SECONDS = Math.min(60, Math.max(2, Number(process.env.JOG_BENCH_SECONDS ??
 const WARMUP_MS = 1500;
 
 type Ready = { type: "ready"; port: number; cookie: string; versionId: number };
-const child = fork(path.join(import.meta.dirname, "jog-server.ts"), [], { execArgv: ["--import", "tsx"], stdio: ["ignore", "inherit", "inherit", "ipc"] });
+const child = fork(path.join(import.meta.dirname, "jog-server.ts"), [], { execArgv: ["--import", "tsx", ...(process.env.JOG_BENCH_SERVER_FLAGS ?? "").split(" ").filter(Boolean)], stdio: ["ignore", "inherit", "inherit", "ipc"] });
 const messages: { type: string; [k: string]: unknown }[] = [];
 const waiting: ((m: { type: string }) => void)[] = [];
 child.on("message", (m: { type: string }) => {
