@@ -1,7 +1,10 @@
 import { findDemoArm, geometricJacobian } from "@jogwright/kinematics";
+import { defaultProfileParams, type TrialDefinition } from "@jogwright/shared";
 import { Matrix, SingularValueDecomposition } from "ml-matrix";
 import { describe, expect, it } from "vitest";
 import { dominates, paretoFront, type TradeOffPoint } from "./pareto.ts";
+import { runJob } from "./run-job.ts";
+import { runSweep, type RunFn } from "./sweep.ts";
 import { cartesianMap, jointMap } from "./singularity-map.ts";
 
 const six = findDemoArm("cell-arm-6")!;
@@ -33,6 +36,40 @@ describe("sweep trade-off: the Pareto front", () => {
   it("a hand-checked case: (1,5) (2,2) (3,3) (4,1) (2,2) → front (1,5) (2,2) (2,2) (4,1)", () => {
     const pts = [{ x: 1, y: 5 }, { x: 2, y: 2 }, { x: 3, y: 3 }, { x: 4, y: 1 }, { x: 2, y: 2 }];
     expect(paretoFront(pts)).toEqual([0, 1, 4, 3]);
+  });
+});
+
+describe("sweep runs on one cancel signal", () => {
+  it("many runs waiting on the sweep's signal at once log no MaxListenersExceededWarning (each listens, as a pool task does)", async () => {
+    const trial: TrialDefinition = {
+      name: "short push", description: "", startPose: six.readyPose,
+      segments: [{ kind: "twist", frame: "world", linearMPerS: [0.02, 0, 0], angularRadPerS: [0, 0, 0], durationS: 0.05 }],
+    };
+    // Like the pool: each queued run adds an abort listener to the signal and drops it when it ends.
+    const run: RunFn = (job, signal) =>
+      new Promise((resolve) => {
+        const onAbort = () => {};
+        signal?.addEventListener("abort", onAbort);
+        setImmediate(() => {
+          signal?.removeEventListener("abort", onAbort);
+          resolve(runJob(job));
+        });
+      });
+    const warnings: string[] = [];
+    const onWarning = (w: Error) => warnings.push(w.name);
+    process.on("warning", onWarning);
+    try {
+      const base = defaultProfileParams(six.model.joints.map((j) => j.maxSpeed!));
+      const result = await runSweep(
+        { arm: six.model, base, axes: [{ parameter: "damping.lambdaMaxM", from: 0.01, to: 0.05, steps: 4 }], trials: [trial, trial, trial, trial], x: "peakWristAccelRadPerS2", y: "maxDeviationM" },
+        run, () => {}, new AbortController().signal,
+      );
+      await new Promise((r) => setImmediate(r)); // warnings are emitted on the next tick
+      expect(result.points.every((p) => p.objectives !== null && p.finishedTrials === 4)).toBe(true);
+      expect(warnings).not.toContain("MaxListenersExceededWarning");
+    } finally {
+      process.off("warning", onWarning);
+    }
   });
 });
 

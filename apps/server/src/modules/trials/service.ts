@@ -16,7 +16,7 @@ import { checkTrial } from "./compile.ts";
 import { runJob, type RunJobResult } from "./run-job.ts";
 import { replayInputOf, ReplayFormatError, type ReplayInput } from "./replay.ts";
 import { decodeSeries, encodeSeries, seriesForDisplay, seriesHash } from "./series-codec.ts";
-import { runSweep } from "./sweep.ts";
+import { runSweep, shareSignal } from "./sweep.ts";
 import { mapInPool, runInPool } from "./trial-pool.ts";
 
 /**
@@ -210,6 +210,7 @@ export async function runTrials(
 async function runResolved(
   db: Sequelize, actor: User, source: ResolvedSource, trials: ResolvedTrial[], signal?: AbortSignal, run: typeof runInPool = runInPool,
 ): Promise<TrialRun[]> {
+  shareSignal(signal, trials.length);
   const results = await Promise.all(
     trials.map((t) => {
       const common = { arm: source.arm.model, params: source.params, withSeries: true };

@@ -1,3 +1,4 @@
+import { setMaxListeners } from "node:events";
 import type { ArmModel } from "@jogwright/kinematics";
 import {
   profileParamsSchema, withSweepParameter, type ProfileParams, type SweepAxis, type SweepObjective, type TrialDefinition,
@@ -89,6 +90,7 @@ export async function runSweep(
   }
   const total = jobs.length;
   let done = 0;
+  shareSignal(signal, total);
   onProgress(0, total);
   const metrics: TrialMetrics[][] = points.map(() => []);
   await Promise.all(
@@ -106,4 +108,13 @@ export async function runSweep(
   });
   const front = paretoFront(points.map((p) => (p.objectives ? { x: p.objectives[input.x], y: p.objectives[input.y] } : { x: Number.NaN, y: Number.NaN })));
   return { axes: input.axes, x: input.x, y: input.y, points, front };
+}
+
+/**
+ * Lets `jobs` runs wait on one cancel signal at the same time. Each queued run listens on it for an abort
+ * (the pool's task does), so a sweep's hundreds of runs would pass Node's default of 10 listeners and log a
+ * MaxListenersExceededWarning for what is no leak: every run drops its listener when it ends.
+ */
+export function shareSignal(signal: AbortSignal | undefined, jobs: number): void {
+  if (signal) setMaxListeners(Math.max(10, jobs + 10), signal);
 }
