@@ -3,7 +3,7 @@ import { RateLimiterRes, type RateLimiterAbstract } from "rate-limiter-flexible"
 import { hasAnyRole, type Arm, type DrivingKind, type JogEndReason, type JogInput, type JogSessionInfo, type LiveSession, type ProfileSummary, type ProfileVersion, type User } from "@jogwright/shared";
 import type { JogLimits } from "../../config.ts";
 import type { AppContext } from "../../context.ts";
-import { insertRecording } from "../recordings/service.ts";
+import { insertRecording, registerRecordingWriter } from "../recordings/service.ts";
 import { RecordingRetentionJob } from "../recordings/retention.ts";
 import { RecordingWriter } from "../recordings/writer.ts";
 import type { FrameText, FromWorker, SessionCommand, SimThreadStats } from "./sim-messages.ts";
@@ -350,6 +350,7 @@ export class JogHub {
     this.directory?.handleControl((msg) => void this.onControl(msg));
     // Chunks are encoded off the main thread, whose turns carry the live inputs and frames.
     this.writer = new RecordingWriter(ctx.db, undefined, undefined, { encodeOffThread: true });
+    registerRecordingWriter(ctx.db, this.writer);
     this.retention = new RecordingRetentionJob(ctx.db, ctx.config.recordingRetention, (id) => this.isRecordingLive(id));
     this.retention.start();
     this.thread = new SimulationThread((msg) => this.onWorkerMessage(msg), (error) => this.onWorkerFailure(error));

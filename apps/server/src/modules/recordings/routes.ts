@@ -5,7 +5,7 @@ import type { AppContext } from "../../context.ts";
 import { AppError } from "../../errors.ts";
 import { ApiRouter, requireAccount } from "../../http/api-router.ts";
 import { parseParams } from "../../http/validate.ts";
-import { findRecording, listRecordings, readFrames } from "./service.ts";
+import { findRecording, listRecordings, readFrames, settleRecording } from "./service.ts";
 import { streamRecordingCsv, streamRecordingJson } from "./export.ts";
 
 const exportParamsSchema = z.object({ id: z.coerce.number().int().positive("not a valid id"), format: z.enum(["csv", "json"]) });
@@ -26,6 +26,7 @@ export function recordingsRouter(ctx: AppContext): ApiRouter {
     .add("get", "/:id", ["operator", "engineer", "safety_officer"], async (req, res) => {
       const user = requireAccount(res);
       const { id } = parseParams(req, numericIdParamSchema);
+      await settleRecording(ctx.db, id);
       const recording = await findRecording(ctx.db, id);
       // Somebody else's recording is "not found" for an operator (no hint that it exists).
       if (!recording || (!seesAll(user) && recording.driverId !== user.id)) throw new AppError(404, "not_found", "No such recording.");
@@ -35,6 +36,7 @@ export function recordingsRouter(ctx: AppContext): ApiRouter {
     .add("get", "/:id/export.:format", ["operator", "engineer", "safety_officer"], async (req, res) => {
       const user = requireAccount(res);
       const { id, format } = parseParams(req, exportParamsSchema);
+      await settleRecording(ctx.db, id);
       const recording = await findRecording(ctx.db, id);
       if (!recording || (!seesAll(user) && recording.driverId !== user.id)) throw new AppError(404, "not_found", "No such recording.");
       const stream = format === "csv" ? await streamRecordingCsv(ctx.db, recording) : streamRecordingJson(ctx.db, recording);

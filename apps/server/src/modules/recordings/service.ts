@@ -56,6 +56,26 @@ export async function holdRecordings(db: Sequelize, transaction: Transaction, id
 }
 
 /** One recording, naming the arm revision and tool its version drove (the replay draws that revision). */
+/** What writes a database's live recordings (the jog hub's RecordingWriter registers itself). */
+interface PendingWrites {
+  settle(recordingId: number): Promise<void>;
+}
+const writers = new WeakMap<Sequelize, PendingWrites>();
+
+/** The live writer of `db`'s recordings on this server (jog/hub.ts registers its writer when it starts). */
+export function registerRecordingWriter(db: Sequelize, writer: PendingWrites): void {
+  writers.set(db, writer);
+}
+
+/**
+ * Waits (bounded) until this server has written what it holds of the recording: a replay or an export
+ * opened right after its session ended reads it whole and ended, not without its last chunk. A recording
+ * written by another instance, or by nobody any more, is read as stored.
+ */
+export async function settleRecording(db: Sequelize, recordingId: number): Promise<void> {
+  await writers.get(db)?.settle(recordingId);
+}
+
 export async function findRecording(db: Sequelize, id: number): Promise<Recording | null> {
   const recording = await modelsOf(db).Recording.scope("withNames").findByPk(id);
   if (!recording) return null;

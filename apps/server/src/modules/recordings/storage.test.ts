@@ -115,6 +115,43 @@ async function driveAndMeasure(c: JogTestClient): Promise<void> {
   expect(bytesPerFrame).toBeLessThanOrEqual(100); // the issue's target
 }
 
+describe("a recording read right after its session ends", () => {
+  it("is whole and ended: the replay and the CSV export have every frame, though the last chunk was still being written", async () => {
+    const c = await JogTestClient.connect(net.wsUrl, { Cookie: draft.engineer.cookie, Origin: net.baseUrl });
+    try {
+      c.send({ type: "start", versionId: draft.versionId });
+      await c.next((m) => m.type === "session", 10_000);
+      // The gate arms on a released enabling control first (PRODUCT.md step 2), as a console does.
+      c.input = { ...c.input, enabling: false, axes: c.input.axes.map(() => 0) };
+      c.sendInput();
+      await sleep(20);
+      c.input = { ...c.input, enabling: true, mode: "cartesian", axes: [0, 1, 0, 0, 0, 0] };
+      c.stream(16);
+      await c.nextState((s) => s.qdot.some((v) => v !== 0), 10_000);
+      await sleep(300);
+      c.stopStream();
+      c.send({ type: "stop" });
+      const ended = await c.next((m) => m.type === "ended", 10_000);
+      const recordingId = ended.type === "ended" ? ended.recordingId! : 0;
+      // No drain: read at once, as the drive page's "Open its recording" and a download do.
+      const [read, csv] = await Promise.all([
+        call(h, "get", `/api/recordings/${recordingId}`, draft.engineer.cookie).expect(200),
+        call(h, "get", `/api/recordings/${recordingId}/export.csv`, draft.engineer.cookie).expect(200),
+      ]);
+      const frames = read.body.frames as RecordedFrame[];
+      expect(read.body.recording.endedAt).not.toBeNull();
+      expect(frames.length).toBeGreaterThan(10); // ~0.3 s and more at 60 frames/s
+      const rows = csv.text.trim().split(/\r?\n/);
+      expect(rows.length - 1).toBe(frames.length); // the header, then one row a frame
+      const chunkFrames = (await storedChunks(recordingId)).reduce((s, ch) => s + ch.frame_count, 0);
+      expect(chunkFrames).toBe(frames.length);
+    } finally {
+      c.stopStream();
+      await c.close();
+    }
+  }, 60_000);
+});
+
 describe("chunks written before migration 0017", () => {
   /** Real frames of the simulation, as the writer queues them. */
   function frameTexts(count: number): string[] {

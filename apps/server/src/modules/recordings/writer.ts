@@ -13,6 +13,11 @@ import { finishRecording, insertChunk } from "./service.ts";
 
 export const FLUSH_INTERVAL_MS = 1000;
 /**
+ * How long a reader waits for a recording's queued frames to be written (settle): the 2 s within which the
+ * API answers 503 when the database is away (issue 11, item 5). Common practice, no source.
+ */
+export const SETTLE_TIMEOUT_MS = 2000;
+/**
  * Above this many frames per recording (queued plus being written) the oldest queued ones are dropped, and
  * counted: memory stays bounded. The count goes into the recording's summary (droppedFrames) and the log.
  */
@@ -97,6 +102,27 @@ export class RecordingWriter {
   end(recordingId: number, endedAt: Date, reason: string, summary: object): void {
     this.entry(recordingId).end = { endedAt, reason, summary };
     void this.flush();
+  }
+
+  /**
+   * Waits until what is queued for this recording now — its frames, and its end once the session ended —
+   * is written, at most `timeoutMs` (the database may be away: a reader then gets what is stored). At once
+   * when nothing of it is queued. A reader of a recording calls it first (recordings/service.ts
+   * settleRecording), so a replay or export opened right after a session ends sees it whole.
+   */
+  async settle(recordingId: number, timeoutMs = SETTLE_TIMEOUT_MS): Promise<void> {
+    if (!this.pending.has(recordingId)) return;
+    let timer: NodeJS.Timeout | undefined;
+    const timeout = new Promise<void>((resolve) => {
+      timer = setTimeout(resolve, timeoutMs);
+    });
+    try {
+      // A flush running now may have taken its batch before the last frames or the end: flush() then
+      // queues the next one and returns it (an ended recording drains in one flush).
+      await Promise.race([this.flush(), timeout]);
+    } finally {
+      clearTimeout(timer);
+    }
   }
 
   /**

@@ -8,7 +8,7 @@ import { modelsOf } from "../../db/models.ts";
 import { AppError } from "../../errors.ts";
 import { recordAudit } from "../audit/service.ts";
 import { findArm, findArmForVersion } from "../arms/service.ts";
-import { findRecording, holdRecordings, readFrames } from "../recordings/service.ts";
+import { findRecording, holdRecordings, readFrames, settleRecording } from "../recordings/service.ts";
 import { visibleProfile } from "../profiles/service.ts";
 import { checkParamsFitArm, findVersion } from "../versions/service.ts";
 import { builtinTrials, type BuiltinTrial, type BuiltinTrials } from "./builtin.ts";
@@ -145,6 +145,7 @@ interface ResolvedTrial {
 /** A recorded live session on the arm, its operator input ready to replay; 400 on the field when it cannot be. */
 async function resolveReplay(db: Sequelize, arm: Arm, recordingId: number, index: number): Promise<ResolvedTrial> {
   const refuse = (message: string) => new AppError(400, "validation_failed", `Recording ${recordingId} cannot be replayed: ${message}.`, [{ path: `trials.${index}.recordingId`, message }]);
+  await settleRecording(db, recordingId); // a session that just ended replays whole
   const recording = await findRecording(db, recordingId);
   if (!recording) throw refuse("there is no such recording");
   if (recording.armId !== arm.id) throw refuse(`it was driven on another arm (${recording.armName})`);
