@@ -48,8 +48,11 @@ export class Setup {
     let session = this.sessions.get(username);
     if (!session) {
       session = (async () => {
-        // State-changing requests must carry the console's Origin (the server's PUBLIC_ORIGIN).
-        const context = await request.newContext({ baseURL: this.baseURL, extraHTTPHeaders: { Origin: new URL(this.baseURL).origin } });
+        // State-changing requests must carry the console's Origin (the server's PUBLIC_ORIGIN). A connection
+        // each request (`Connection: close`): a kept-alive one left idle past the server's keep-alive timeout
+        // (5 s) may be closed by the server just as the next request goes out, and Playwright's request
+        // context answers that with ECONNRESET where a browser retries (seen once in CI, 3 Dec 2026).
+        const context = await request.newContext({ baseURL: this.baseURL, extraHTTPHeaders: { Origin: new URL(this.baseURL).origin, Connection: "close" } });
         await body(await context.post("/api/auth/sign-in", { data: { username, password } }), `sign-in as ${username}`);
         return context;
       })();
