@@ -140,7 +140,7 @@ async function main() {
       env: { ...dbEnv, MAIL_DIR: path.join(DATA_DIR, "mail-test"), SMTP_PORT: String(portFromEnv("TEST_SMTP_PORT", 2626)), NODE_ENV: "test" },
     });
     const browserEnv = { ...dbEnv, JOGWRIGHT_URL: server.url, CHROMIUM_PATH: "/usr/bin/chromium" };
-    playwrightSuite("browser: pages (two at a time)", "pages", browserEnv);
+    playwrightSuite("browser: pages", "pages", browserEnv);
     playwrightSuite("browser and whole-system: driving (one at a time)", "driving", browserEnv);
   } finally {
     await server?.stop();

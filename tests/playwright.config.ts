@@ -22,7 +22,7 @@ const reports = path.join(process.env.JOGWRIGHT_DATA_DIR ? path.resolve(process.
  *   (BROWSER_TEST_WORKERS overrides it; measured in DEVELOPERS.md "Test run time").
  */
 const DRIVING = ["arm-library.spec.ts", "drive-layout.spec.ts", "drive-session.spec.ts", "drive.spec.ts", "profiles-approval.spec.ts", "server-restart.spec.ts"];
-const pageWorkers = Number(process.env.BROWSER_TEST_WORKERS ?? 2);
+const pageWorkers = Number(process.env.BROWSER_TEST_WORKERS ?? 1);
 
 export default defineConfig({
   testDir: "e2e",
