@@ -56,7 +56,7 @@ async function vitestSuite(name, dir, env = {}, { buffered = false } = {}) {
 
 /**
  * One project of the browser tests: `playwright test --project <project>` in tests/ (tests/playwright.config.ts:
- * "pages" two at a time, then "driving" one at a time), read from its JSON report;
+ * "pages", then "driving", each one test at a time), read from its JSON report;
  * a crash without a report, or an error outside any test (a config or file that does not load), counts
  * as one failure. Traces and screenshots of failed tests stay in .data/test-reports/browser/.
  */

@@ -18,8 +18,9 @@ const reports = path.join(process.env.JOGWRIGHT_DATA_DIR ? path.resolve(process.
  * - "driving": the specs that jog the arm. The drive page's input loop runs every 16 ms and the server's
  *   watchdog stops the arm after 200 ms without input; a second browser beside it on the 2-core machine
  *   starved that loop past the watchdog (measured), so these run one at a time;
- * - "pages": every other spec (forms, tables, reviews, the bench), which has no such clock: two at a time
- *   (BROWSER_TEST_WORKERS overrides it; measured in DEVELOPERS.md "Test run time").
+ * - "pages": every other spec (forms, tables, reviews, the bench). One at a time by default too:
+ *   BROWSER_TEST_WORKERS=2 runs it two at a time, but its review-count test reads a site-wide number that
+ *   another test's submissions change, and on 2 cores two gained little (DEVELOPERS.md).
  */
 const DRIVING = ["arm-library.spec.ts", "drive-layout.spec.ts", "drive-session.spec.ts", "drive.spec.ts", "profiles-approval.spec.ts", "server-restart.spec.ts"];
 const pageWorkers = Number(process.env.BROWSER_TEST_WORKERS ?? 1);
