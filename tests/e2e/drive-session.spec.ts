@@ -28,7 +28,10 @@ const PAD_DROPOUT_SCRIPT = `(() => {
   window.__jogTestPadConnected = true;
   Object.defineProperty(Navigator.prototype, "getGamepads", {
     configurable: true,
-    value: function () { return window.__jogTestPadConnected ? listed.call(this) : [null, null, null, null]; },
+    value: function () {
+      const pads = listed.call(this); // a poll all the same, which setGamepad() waits for
+      return window.__jogTestPadConnected ? pads : [null, null, null, null];
+    },
   });
 })();`;
 

@@ -15,7 +15,7 @@ const STANDARD_BUTTONS = 17;
  */
 export function fakeGamepadScript(): string {
   return `(() => {
-    const state = { axes: [0, 0, 0, 0], pressed: new Array(${STANDARD_BUTTONS}).fill(false) };
+    const state = { axes: [0, 0, 0, 0], pressed: new Array(${STANDARD_BUTTONS}).fill(false), readers: [] };
     window.__jogTestPad = state;
     const snapshot = () => ({
       id: "Jogwright test pad (STANDARD GAMEPAD)",
@@ -29,17 +29,39 @@ export function fakeGamepadScript(): string {
     });
     Object.defineProperty(Navigator.prototype, "getGamepads", {
       configurable: true,
-      value: () => [snapshot(), null, null, null],
+      value: () => {
+        // setGamepad() waits for this: the page has polled the pad since the change.
+        const readers = state.readers.splice(0);
+        for (const done of readers) queueMicrotask(done);
+        return [snapshot(), null, null, null];
+      },
     });
   })();`;
 }
 
+/** How long setGamepad() waits for the page to poll the pad (its input loop polls every 16 ms). */
+const PAD_READ_TIMEOUT_MS = 10_000;
+
+/**
+ * Changes the fake pad and waits until the page's input loop has polled it: a browser only learns of a
+ * gamepad's state by polling, so a press and release set back to back, between two polls, would never be
+ * seen — a real trigger is held longer than one poll. The wait is on the poll itself, never a fixed sleep.
+ */
 export async function setGamepad(page: Page, update: { axes?: number[]; pressed?: Record<number, boolean> }): Promise<void> {
-  await page.evaluate((u) => {
-    const pad = (window as unknown as { __jogTestPad: { axes: number[]; pressed: boolean[] } }).__jogTestPad;
-    if (u.axes) pad.axes = u.axes.slice();
-    for (const [i, p] of Object.entries(u.pressed ?? {})) pad.pressed[Number(i)] = p;
-  }, update);
+  await page.evaluate(
+    ([u, timeoutMs]) =>
+      new Promise<void>((resolve, reject) => {
+        const pad = (window as unknown as { __jogTestPad: { axes: number[]; pressed: boolean[]; readers: (() => void)[] } }).__jogTestPad;
+        if (u.axes) pad.axes = u.axes.slice();
+        for (const [i, p] of Object.entries(u.pressed ?? {})) pad.pressed[Number(i)] = p;
+        const timer = setTimeout(() => reject(new Error(`the page did not poll the gamepad within ${timeoutMs} ms`)), timeoutMs);
+        pad.readers.push(() => {
+          clearTimeout(timer);
+          resolve();
+        });
+      }),
+    [update, PAD_READ_TIMEOUT_MS] as const,
+  );
 }
 
 /** One state frame as the server sent it (the fields the tests read; jogStateSchema in packages/shared). */
