@@ -7,7 +7,7 @@ import { buildConsole, DATA_DIR, databaseEnv, log, portFromEnv, prepare, ROOT, S
 
 async function main() {
   const port = portFromEnv("PORT", 3000);
-  const db = await prepare({ withChromium: false, dbName: "mariadb", defaultDbPort: 3407, database: "jogwright" });
+  const db = await prepare({ withChromium: true, dbName: "mariadb", defaultDbPort: 3407, database: "jogwright" });
   let shuttingDown = false;
   const shutdownDb = async () => {
     if (!db.owned) return;
