@@ -377,15 +377,18 @@ export async function startServerForRun({ what, port, portVar, env }) {
     env: { ...process.env, ...env, PORT: String(port) },
   });
   const url = `http://127.0.0.1:${port}`;
+  // Exited: by itself (exitCode) or by a signal (exitCode null, signalCode set). Both are set when 'exit'
+  // is emitted, so a process not exited yet still emits it to a listener added now.
+  const exited = () => server.exitCode !== null || server.signalCode !== null;
   const stop = async () => {
-    if (server.exitCode !== null) return;
+    if (exited()) return;
     server.kill("SIGTERM");
     await new Promise((r) => server.once("exit", r));
   };
   try {
     const deadline = Date.now() + 60_000;
     for (;;) {
-      if (server.exitCode !== null) throw new SetupError(`${what} exited early (code ${server.exitCode}).`);
+      if (exited()) throw new SetupError(`${what} exited early (${server.signalCode ? `signal ${server.signalCode}` : `code ${server.exitCode}`}).`);
       if (Date.now() > deadline) throw new SetupError(`${what} did not answer ${url}/api/health within 60 s.`);
       try {
         if ((await fetch(`${url}/api/health`)).ok) return { url, stop };

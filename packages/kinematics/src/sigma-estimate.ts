@@ -107,13 +107,17 @@ function fullDecomposition(t: SigmaTracker, G: ArrayLike<number>): void {
 }
 
 /**
- * Counts the call; true when it must take the full decomposition: k < 2, a cold start, or the periodic
- * refresh. Clears factorValid (a call that factors sets it again).
+ * True when the call about to be made (not yet counted in callsSinceRefresh) must take the full
+ * decomposition: k < 2, a cold start, or the periodic refresh. Pure: reads the tracker, changes nothing.
  */
 function isFullDecompositionDue(t: SigmaTracker): boolean {
+  return t.k < 2 || !t.warm || (t.refreshInterval > 0 && t.callsSinceRefresh + 1 >= t.refreshInterval);
+}
+
+/** Counts a call and clears factorValid (a call that factors sets it again; the full decomposition resets the count). */
+function countCall(t: SigmaTracker): void {
   t.callsSinceRefresh++;
   t.factorValid = false;
-  return t.k < 2 || !t.warm || (t.refreshInterval > 0 && t.callsSinceRefresh >= t.refreshInterval);
 }
 
 /**
@@ -121,7 +125,9 @@ function isFullDecompositionDue(t: SigmaTracker): boolean {
  * finite). Allocation-free (results in fields, so no number is boxed on return).
  */
 export function estimateSigmaMin(t: SigmaTracker, G: ArrayLike<number>): void {
-  if (isFullDecompositionDue(t)) fullDecomposition(t, G);
+  const full = isFullDecompositionDue(t);
+  countCall(t);
+  if (full) fullDecomposition(t, G);
   else if (t.k === 6) estimate6(t, G, null, null);
   else iterate(t, G);
 }
@@ -131,7 +137,9 @@ export function estimateSigmaMin(t: SigmaTracker, G: ArrayLike<number>): void {
  * index.ts): the test that pins the written-out estimate6 to the loop, bit for bit, calls it.
  */
 export function estimateSigmaMinByLoop(t: SigmaTracker, G: ArrayLike<number>): void {
-  if (isFullDecompositionDue(t)) fullDecomposition(t, G);
+  const full = isFullDecompositionDue(t);
+  countCall(t);
+  if (full) fullDecomposition(t, G);
   else iterate(t, G);
 }
 
@@ -245,12 +253,11 @@ function iterate(t: SigmaTracker, G: ArrayLike<number>): void {
  * when the step then damps (λ > 0) the solve was wasted work (~50 flops). Otherwise as estimateSigmaMin.
  */
 export function estimateSigmaMinSolve6(t: SigmaTracker, G: ArrayLike<number>, b: Float64Array, y: Float64Array): void {
-  if (t.k !== 6 || !t.warm || (t.refreshInterval > 0 && t.callsSinceRefresh + 1 >= t.refreshInterval)) {
+  if (t.k !== 6 || isFullDecompositionDue(t)) {
     estimateSigmaMin(t, G); // cold start or refresh: the full decomposition, no factor
     return;
   }
-  t.callsSinceRefresh++;
-  t.factorValid = false;
+  countCall(t);
   estimate6(t, G, b, y);
 }
 

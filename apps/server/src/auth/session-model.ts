@@ -1,12 +1,14 @@
 import type { DatabaseSession } from "lucia";
-import { DataTypes, Model, type InferAttributes, type InferCreationAttributes, type Sequelize } from "sequelize";
+import type { Sequelize } from "sequelize";
+import { primaryKey, string, time, userRef } from "../db/columns.ts";
+import { bindModel, TableModel } from "../db/model-parts.ts";
 
 /**
  * lucia's sessions (`sessions`, migration 0001). The class gives the types; `defineSessionModels` binds a
  * copy of it to one Sequelize instance (db/models.ts), where Session belongs to User (`user`). lucia reaches
  * it through session-adapter.ts.
  */
-export class SessionModel extends Model<InferAttributes<SessionModel>, InferCreationAttributes<SessionModel>> {
+export class SessionModel extends TableModel<SessionModel> {
   declare id: string;
   declare userId: string;
   declare expiresAt: Date;
@@ -17,14 +19,10 @@ export class SessionModel extends Model<InferAttributes<SessionModel>, InferCrea
 }
 
 export function defineSessionModels(sequelize: Sequelize) {
-  const Session = class extends SessionModel {};
-  Session.init(
-    {
-      id: { type: DataTypes.STRING(64), primaryKey: true },
-      userId: { type: DataTypes.STRING(40), allowNull: false },
-      expiresAt: { type: DataTypes.DATE(3), allowNull: false },
-    },
-    { sequelize, modelName: "Session", tableName: "sessions", underscored: true, timestamps: false },
-  );
+  const Session = bindModel(sequelize, SessionModel, { modelName: "Session", tableName: "sessions" }, { timestamps: false }, {
+    id: primaryKey(string(64)),
+    userId: userRef(),
+    expiresAt: time(),
+  });
   return { Session };
 }

@@ -1,5 +1,5 @@
 import { defaultProfileParams, type ProfileParams, type User } from "@jogwright/shared";
-import { findArm, listArms } from "../modules/arms/service.ts";
+import { findArm, findArmIdBySlug } from "../modules/arms/service.ts";
 import { JogTestClient } from "../modules/jog/jog-test-client.ts";
 import { createProfile } from "../modules/versions/service.ts";
 import { createHarness, freshUser, listenHarness, signedInUser, type Harness } from "./harness.ts";
@@ -8,17 +8,26 @@ import { createHarness, freshUser, listenHarness, signedInUser, type Harness } f
 export type Listener = Awaited<ReturnType<typeof listenHarness>>;
 
 /**
+ * The id of the seeded demo arm `slug` (by slug, not by joint count: a test that adds another arm with
+ * as many joints cannot change which arm the others use).
+ */
+async function demoArmId(h: Harness, slug: "cell-arm-6" | "cell-arm-7"): Promise<number> {
+  const id = await findArmIdBySlug(h.db, slug);
+  if (id === null) throw new Error(`demo arm ${slug} is not seeded`);
+  return id;
+}
+
+/**
  * A live-jogging test file's server: a harness (`env` as for createHarness, sign-in failures relaxed)
- * listening with the jog socket, the demo arms' ids by joint count, and a fresh operator to assign the
- * file's drafts to. `closeJogServer` ends it.
+ * listening with the jog socket, the ids of the demo six-axis (cell-arm-6) and seven-axis (cell-arm-7)
+ * arms, and a fresh operator to assign the file's drafts to. `closeJogServer` ends it.
  */
 export async function openJogServer(env: Record<string, string> = {}) {
   const h = createHarness({ SIGN_IN_MAX_FAILURES: "1000", ...env });
   const net = await listenHarness(h);
-  const arms = await listArms(h.db);
-  const armWith = (joints: number) => arms.find((a) => a.model.joints.length === joints)!.id;
+  const [arm6Id, arm7Id] = await Promise.all([demoArmId(h, "cell-arm-6"), demoArmId(h, "cell-arm-7")]);
   const operatorId = (await freshUser(h, ["operator"])).user.id;
-  return { h, net, arm6Id: armWith(6), arm7Id: armWith(7), operatorId };
+  return { h, net, arm6Id, arm7Id, operatorId };
 }
 
 /** Ends what openJogServer opened: live sessions and the listener first (flushing recordings), then the harness. */
@@ -48,7 +57,7 @@ export async function draftVersion(h: Harness, author: User, armId: number, oper
 export async function smoothStickDraft(h: Harness, name: string) {
   const engineer = await signedInUser(h, ["engineer"]);
   const operator = await freshUser(h, ["operator"]);
-  const arm = (await listArms(h.db)).find((a) => a.model.joints.length === 6)!;
+  const arm = (await findArm(h.db, await demoArmId(h, "cell-arm-6")))!;
   const base = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
   const params: ProfileParams = {
     ...base,

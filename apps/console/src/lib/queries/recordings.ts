@@ -3,20 +3,19 @@ import { queryOptions } from "@tanstack/react-query";
 import { z } from "zod";
 import { recordedFrameSchema, recordingSchema } from "@jogwright/shared";
 import { apiRequest } from "../api-client.ts";
-import { fetchMember } from "./resource.ts";
+import { fetchMember, resourceKeys } from "./resource.ts";
 
 const recordingListSchema = z.object({ recordings: z.array(recordingSchema) });
 const recordingDetailSchema = z.object({ recording: recordingSchema, frames: z.array(recordedFrameSchema) });
 
 export const recordingKeys = {
-  all: ["recordings"] as const,
-  list: () => [...recordingKeys.all, "list"] as const,
+  ...resourceKeys("recordings"),
   detail: (id: number) => [...recordingKeys.all, "detail", id] as const,
 };
 
 export const recordingListQueryOptions = () =>
   queryOptions({
-    queryKey: recordingKeys.list(),
+    queryKey: recordingKeys.lists(),
     queryFn: fetchMember("/api/recordings", recordingListSchema, "recordings"),
     staleTime: 10_000,
   });

@@ -26,7 +26,7 @@ export const NOW = literal("CURRENT_TIMESTAMP(3)");
  * `DEFAULT CURRENT_TIMESTAMP(3) ON UPDATE CURRENT_TIMESTAMP(3)`. queryInterface has no column option for
  * MariaDB's ON UPDATE clause, so it rides on the default (Sequelize writes a literal default verbatim).
  */
-export const NOW_ON_UPDATE = literal("CURRENT_TIMESTAMP(3) ON UPDATE CURRENT_TIMESTAMP(3)");
+const NOW_ON_UPDATE = literal("CURRENT_TIMESTAMP(3) ON UPDATE CURRENT_TIMESTAMP(3)");
 
 /** DATETIME(3) NOT NULL DEFAULT CURRENT_TIMESTAMP(3): when the row was written. */
 export const timeNow = () => ({ ...time(), defaultValue: NOW });
@@ -40,7 +40,7 @@ export const timeNowOnUpdate = () => ({ ...time(), defaultValue: NOW_ON_UPDATE }
  * creates one under the constraint's name. No ON DELETE unless given: MariaDB fires no trigger for a
  * cascaded delete, so cascades stay off the guarded tables.
  */
-export async function addForeignKey(
+async function addForeignKey(
   queryInterface: QueryInterface,
   table: string,
   name: string,
