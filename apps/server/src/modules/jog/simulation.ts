@@ -130,8 +130,8 @@ export class JogSimulation {
     this.dt = 1 / params.tickRateHz;
     this.tickPeriodMs = 1000 / params.tickRateHz;
     this.worldParams = toControlParams(params, arm);
-    this.toolParams = { ...this.worldParams, twistFrame: "tool" };
-    this.holdParams = { ...this.worldParams, driftCorrection: null };
+    this.toolParams = toControlParams(params, arm, { twistFrame: "tool" });
+    this.holdParams = toControlParams(params, arm, { withDriftCorrection: false });
     this.overridePercent = Math.min(params.speedOverride.defaultPercent, params.speedOverride.maxPercent);
     this.jointCaps = new Float64Array(this.n);
     for (let i = 0; i < this.n; i++) {
