@@ -404,6 +404,10 @@ function allocate(tickRateHz: number, n: number, count: number): TrialSeries {
   };
 }
 
+/**
+ * The series at its length, in arrays of its own (copies: the scratch goes back to the thread). Each array
+ * owns its buffer, which the trial pool's thread transfers to the caller instead of copying (run-worker.mjs).
+ */
 function trim(s: TrialSeries, count: number): TrialSeries {
   const n = s.n;
   return {

@@ -1,12 +1,14 @@
 import { createHash } from "node:crypto";
 import { controlledStopTime, findDemoArm, forwardPose, type ArmModel } from "@jogwright/kinematics";
-import { INPUT_EVENT, defaultProfileParams, type ProfileParams } from "@jogwright/shared";
+import { INPUT_EVENT, defaultProfileParams, type ProfileParams, type TrialDefinition } from "@jogwright/shared";
 import { Matrix, SingularValueDecomposition } from "ml-matrix";
-import { describe, expect, it } from "vitest";
+import { afterAll, describe, expect, it } from "vitest";
 import { JogSimulation } from "../jog/simulation.ts";
 import { computeTrialMetrics } from "./metrics.ts";
 import { replayInputs } from "./replay.ts";
+import { runJob } from "./run-job.ts";
 import { runTrial, type CompiledTrial, type TrialSeries } from "./runner.ts";
+import { closeTrialPool, runInPool } from "./trial-pool.ts";
 
 const DEG = Math.PI / 180;
 const demo = findDemoArm("cell-arm-6")!.model;
@@ -440,5 +442,34 @@ describe("tuning bench: path deviation and lag on a path that comes back on itse
     expect(m.path.maxDeviationM).toBe(maxDev);
     expect(m.path.rmsDeviationM).toBe(Math.sqrt(sumSq / count));
     expect(m.path.lagM).toBe(lag);
+  });
+});
+
+describe("runs in the trial pool", () => {
+  afterAll(() => closeTrialPool());
+
+  it("hand back the same series and metrics as a run in this thread, bit for bit, run after run (the series' buffers are moved, not copied)", async () => {
+    const arm = findDemoArm("cell-arm-6")!;
+    const params = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
+    const trial: TrialDefinition = {
+      name: "pool", description: "", startPose: arm.readyPose,
+      segments: [{ kind: "twist", frame: "world", linearMPerS: [0.02, 0.01, 0], angularRadPerS: [0, 0, 0.05], durationS: 0.5 }],
+    };
+    const here = runJob({ arm: arm.model, params, trial });
+    const bytes = (a: ArrayBufferView) => Buffer.from(a.buffer, a.byteOffset, a.byteLength);
+    // Two in a row on the same thread: a buffer moved out must not be one the thread writes again.
+    const first = await runInPool({ arm: arm.model, params, trial });
+    const second = await runInPool({ arm: arm.model, params, trial });
+    for (const pooled of [first, second]) {
+      expect(pooled.metrics).toEqual(here.metrics);
+      const s = pooled.series!;
+      expect(s.count).toBe(here.series!.count);
+      for (const [key, value] of Object.entries(here.series!)) {
+        const other = (s as unknown as Record<string, unknown>)[key];
+        if (ArrayBuffer.isView(value)) expect(bytes(other as ArrayBufferView).equals(bytes(value)), key).toBe(true);
+        else expect(other, key).toEqual(value);
+      }
+    }
+    expect(first.series!.q.buffer).not.toBe(second.series!.q.buffer);
   });
 });
