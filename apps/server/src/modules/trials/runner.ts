@@ -158,21 +158,13 @@ export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTr
   rec.isWantedInTool = false;
   axes.fill(0);
   sim.applyInputValues(seq++, 0, false, "cartesian", "world", override, axes, 0);
-  runStop(sim, rec, Math.ceil(MAX_STOP_S / dt));
-  return rec.series();
-}
-
-/**
- * The controlled stop after the release, until the arm rests (at most `ticks`). A function of its own: in
- * runTrial's body this loop ran once per call after the long one, and V8 dropped runTrial's optimized code
- * there on every call (measured with --trace-deopt), so the next call's long loop started unoptimized again.
- */
-function runStop(sim: JogSimulation, rec: SeriesRecorder, ticks: number): void {
-  for (let j = 0; j < ticks && !rec.isFull; j++) {
+  const stopTicks = Math.ceil(MAX_STOP_S / dt);
+  for (let j = 0; j < stopTicks && !rec.isFull; j++) {
     sim.tick();
     rec.record();
     if (sim.isAtRest) break;
   }
+  return rec.series();
 }
 
 /**
