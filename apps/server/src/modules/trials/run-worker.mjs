@@ -12,8 +12,11 @@ export default function run(input) {
 
 /**
  * A run's series goes back to the caller moved, not copied: each of its typed arrays owns a buffer made
- * for this run (runner.ts, trim), so the buffers are transferred. Copying them cost ~10 ms for a 10-s trial
- * at 1 kHz (3.9 MB: 29–32 ms a run with the copy against 19–20 without, measured with bench/tuning-bench.ts).
+ * for this run (runner.ts, trim), so the buffers are transferred. A copy (3.9 MB for a 10-s trial at 1 kHz)
+ * would be read on the receiving side: the server's main thread, which also carries the live jog sockets.
+ * Measured with bench/tuning-bench.ts, copy and move interleaved: request to result 21.1–36.8 ms copied,
+ * 21.9–29.4 ms moved (better in 2 of 3 pairs); the worker's own time is ~1.5 ms longer moved (19.1–20.5
+ * against 21.2–21.6 ms), as the buffers it handed over are not there to be reused.
  */
 function moveSeries(result) {
   if (!result.series) return result;
