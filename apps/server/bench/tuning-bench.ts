@@ -32,8 +32,8 @@ function report(what: string, times: number[], goalMs: number): void {
 // run at a time. A pool thread runs trial after trial (a sweep: hundreds) and V8 reaches its steady code
 // only after ~20 runs of a trial (measured: ~200 ms for the first, which also compiles the trial, then
 // 20–40 ms, then steady), so 30 runs warm it first; they are printed too, so the warm-up is not hidden.
-// The time is the thread's own (RunJobResult.elapsedMs: simulation and metrics); the round trip adds the
-// copy of the series back to this thread and is printed beside it.
+// The time is the thread's own (RunJobResult.elapsedMs: simulation and metrics); the round trip adds
+// handing the series back to this thread (moved, run-worker.mjs) and is printed beside it.
 const tenSeconds: TrialDefinition = {
   name: "ten seconds", description: "", startPose: arm.readyPose,
   segments: [{ kind: "twist", frame: "world", linearMPerS: [0.02, 0.01, 0], angularRadPerS: [0, 0, 0.05], durationS: 10 }],
@@ -55,7 +55,7 @@ for (let i = 0; i < 30; i++) {
   roundTrip.push(total);
 }
 report("10-s trial at 1 kHz with metrics (a warm pool thread)", inThread, 20);
-console.log(`  the same with the series copied back to the caller: median ${median(roundTrip).toFixed(1)} ms`);
+console.log(`  the same from request to result (the series handed back): median ${median(roundTrip).toFixed(1)} ms`);
 
 // 2. Singularity maps, 200 × 200.
 for (const [what, make] of [

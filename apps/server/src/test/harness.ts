@@ -7,6 +7,7 @@ import { createApp, type BuiltApp } from "../app.ts";
 import { loadConfig } from "../config.ts";
 import { createSequelize } from "../db/connection.ts";
 import { DEMO_PASSWORD } from "../db/seed.ts";
+import { findArmIdBySlug } from "../modules/arms/service.ts";
 import { createUser } from "../modules/users/service.ts";
 import { attachJogSockets, JOG_SOCKET_PATH, type JogSockets } from "../modules/jog/socket.ts";
 import { startFakeSmtp, type FakeSmtp } from "../mail/fake-smtp.ts";
@@ -58,6 +59,16 @@ export async function createMailHarness(env: Record<string, string> = {}): Promi
       await smtp.close();
     },
   };
+}
+
+/**
+ * The id of the seeded demo arm `slug` (by slug, not by joint count: a test that adds another arm with
+ * as many joints cannot change which arm the others use).
+ */
+export async function demoArmId(h: Harness, slug: "cell-arm-6" | "cell-arm-7"): Promise<number> {
+  const id = await findArmIdBySlug(h.db, slug);
+  if (id === null) throw new Error(`demo arm ${slug} is not seeded`);
+  return id;
 }
 
 export const DEMO_BY_ROLE: Record<Role, string> = {

@@ -1,21 +1,11 @@
 import { defaultProfileParams, type ProfileParams, type User } from "@jogwright/shared";
-import { findArm, findArmIdBySlug } from "../modules/arms/service.ts";
+import { findArm } from "../modules/arms/service.ts";
 import { JogTestClient } from "../modules/jog/jog-test-client.ts";
 import { createProfile } from "../modules/versions/service.ts";
-import { createHarness, freshUser, listenHarness, signedInUser, type Harness } from "./harness.ts";
+import { createHarness, demoArmId, freshUser, listenHarness, signedInUser, type Harness } from "./harness.ts";
 
 /** A harness's app listening with the live-jogging socket attached (listenHarness). */
 export type Listener = Awaited<ReturnType<typeof listenHarness>>;
-
-/**
- * The id of the seeded demo arm `slug` (by slug, not by joint count: a test that adds another arm with
- * as many joints cannot change which arm the others use).
- */
-async function demoArmId(h: Harness, slug: "cell-arm-6" | "cell-arm-7"): Promise<number> {
-  const id = await findArmIdBySlug(h.db, slug);
-  if (id === null) throw new Error(`demo arm ${slug} is not seeded`);
-  return id;
-}
 
 /**
  * A live-jogging test file's server: a harness (`env` as for createHarness, sign-in failures relaxed)

@@ -2,8 +2,7 @@ import type { Sequelize } from "sequelize";
 import { afterAll, beforeAll } from "vitest";
 import { defaultProfileParams, type Arm, type ProfileParams, type Role } from "@jogwright/shared";
 import { modelsOf } from "../db/models.ts";
-import { findArmIdBySlug } from "../modules/arms/service.ts";
-import { call, freshUser, signIn, type Harness } from "./harness.ts";
+import { call, demoArmId, freshUser, signIn, type Harness } from "./harness.ts";
 import { createOwnerDb } from "./owner-db.ts";
 
 /** Fresh people for one test: two engineers, two safety officers, an operator; each signed in. */
@@ -34,7 +33,7 @@ export async function retireTeam(h: Harness, team: Team | undefined): Promise<vo
 }
 
 export async function sixAxisArm(h: Harness): Promise<Arm> {
-  const id = await findArmIdBySlug(h.db, "cell-arm-6");
+  const id = await demoArmId(h, "cell-arm-6");
   const res = await call(h, "get", `/api/arms/${id}`, (await adminlessCookie(h)));
   return res.body.arm as Arm;
 }
