@@ -29,33 +29,37 @@ function report(what: string, times: number[], goalMs: number): void {
 }
 
 // 1. A 10-second trial at 1 kHz, metrics included, where the product runs it: in a trial-pool thread, one
-// run at a time. A pool thread runs trial after trial (a sweep: hundreds) and V8 reaches its steady code
-// only after ~20 runs of a trial (measured: ~200 ms for the first, which also compiles the trial, then
-// 20–40 ms, then steady), so 30 runs warm it first; they are printed too, so the warm-up is not hidden.
-// The time is the thread's own (RunJobResult.elapsedMs: simulation and metrics); the round trip adds
-// handing the series back to this thread (moved, run-worker.mjs) and is printed beside it.
+// run at a time, its series encoded for storage there (output "stored", as the server asks). A pool thread
+// runs trial after trial (a sweep: hundreds) and V8 reaches its steady code only after ~20 runs of a trial
+// (measured: ~200 ms for the first, which also compiles the trial, then 20–40 ms, then steady), so 30 runs
+// warm it first; they are printed too, so the warm-up is not hidden. The time is the thread's own
+// (RunJobResult.elapsedMs: simulation and metrics); the round trip adds encoding the series (zlib, hash)
+// and handing the bytes back to this thread, and is printed beside it.
 const tenSeconds: TrialDefinition = {
   name: "ten seconds", description: "", startPose: arm.readyPose,
   segments: [{ kind: "twist", frame: "world", linearMPerS: [0.02, 0.01, 0], angularRadPerS: [0, 0, 0.05], durationS: 10 }],
 };
 const at1kHz = { ...base, tickRateHz: 1000 };
-const timeRun = async (): Promise<[number, number]> => {
+const timeRun = async (output: "stored" | "series"): Promise<[number, number]> => {
   const t0 = performance.now();
-  const result = await runInPool({ arm: arm.model, params: at1kHz, trial: tenSeconds });
+  const result = await runInPool({ arm: arm.model, params: at1kHz, trial: tenSeconds, output });
   return [result.elapsedMs, performance.now() - t0];
 };
 const warmUp: number[] = [];
-for (let i = 0; i < 30; i++) warmUp.push((await timeRun())[0]);
+for (let i = 0; i < 30; i++) warmUp.push((await timeRun("stored"))[0]);
 console.log(`10-s trial in a fresh pool thread: first ${warmUp[0]!.toFixed(0)} ms, runs 2–30 median ${median(warmUp.slice(1)).toFixed(1)} ms`);
 const inThread: number[] = [];
 const roundTrip: number[] = [];
+const roundTripSeries: number[] = [];
 for (let i = 0; i < 30; i++) {
-  const [own, total] = await timeRun();
+  const [own, total] = await timeRun("stored");
   inThread.push(own);
   roundTrip.push(total);
+  roundTripSeries.push((await timeRun("series"))[1]);
 }
 report("10-s trial at 1 kHz with metrics (a warm pool thread)", inThread, 20);
-console.log(`  the same from request to result (the series handed back): median ${median(roundTrip).toFixed(1)} ms`);
+console.log(`  the same from request to result, the series encoded for storage in the thread (as the server runs it): median ${median(roundTrip).toFixed(1)} ms`);
+console.log(`  the same from request to result, the series itself handed back (copied): median ${median(roundTripSeries).toFixed(1)} ms`);
 
 // 2. Singularity maps, 200 × 200.
 for (const [what, make] of [
@@ -79,7 +83,7 @@ const axes = [
   { parameter: "damping.epsilonM" as const, from: 0.02, to: 0.08, steps: 10 },
 ];
 // Warm the pool: every thread loads its modules and JIT-compiles the step once.
-await Promise.all(Array.from({ length: trialPoolSize() * 2 }, () => runInPool({ arm: arm.model, params: base, trial: trials[0]!, withSeries: false })));
+await Promise.all(Array.from({ length: trialPoolSize() * 2 }, () => runInPool({ arm: arm.model, params: base, trial: trials[0]!, output: "metrics" })));
 const sweepTimes: number[] = [];
 for (let i = 0; i < 3; i++) {
   const t0 = performance.now();

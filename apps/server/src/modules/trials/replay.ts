@@ -39,6 +39,11 @@ const FRAMES = ["world", "tool"] as const;
 
 /** Runs the recorded input on `arm` with `params`; the series covers the recorded session's duration. */
 export function replayInputs(arm: ArmModel, readyPose: readonly number[], params: ProfileParams, input: ReplayInput): TrialSeries {
+  return recordReplay(arm, readyPose, params, input).series();
+}
+
+/** replayInputs, handing back the recorder (runner.ts, recordTrial: `series()` or `use(fn)`). */
+export function recordReplay(arm: ArmModel, readyPose: readonly number[], params: ProfileParams, input: ReplayInput): SeriesRecorder {
   const start = input.events[0]!;
   const n = arm.joints.length;
   if (start.length !== 3 + n) throw new ReplayFormatError(`the recording's start has ${start.length - 3} joint positions; the arm has ${n}`);
@@ -94,5 +99,5 @@ export function replayInputs(arm: ArmModel, readyPose: readonly number[], params
     rec.record();
   }
   rec.markRelease();
-  return rec.series();
+  return rec;
 }

@@ -1,37 +1,20 @@
 // The trial pool's worker entry (plain JavaScript: Piscina imports it). It loads the TypeScript job through
 // tsx's scoped loader, as the jog simulation thread does (modules/jog/sim-thread.ts explains why).
-import { Piscina } from "piscina";
+//
+// A result goes back copied (structured clone), never moved: transferring a buffer detaches it in this
+// thread, and the first detach invalidates V8's ArrayBufferDetaching protector for the thread for good, after
+// which its optimised code checks every typed-array access for a detached buffer. Measured (3 Dec 2026,
+// --trace-protector-invalidation shows the invalidation): a 10-s trial at 1 kHz took 21.1–21.8 ms in a
+// thread that had moved a result (or had only imported Piscina's main module: the trace then shows one invalidation more), 18.5–19.7 ms
+// in one that never did. The server asks for the series encoded (run-job.ts, output "stored": ~1.6 MB copied
+// instead of 3.9 MB of channels).
 import { tsImport } from "tsx/esm/api";
 
 const job = await tsImport("./run-job.ts", import.meta.url);
 const maps = await tsImport("./map-job.ts", import.meta.url);
 
 export default function run(input) {
-  return moveSeries(job.runJob(input));
-}
-
-/**
- * A run's series goes back to the caller moved, not copied: each of its typed arrays owns a buffer made
- * for this run (runner.ts, trim), so the buffers are transferred. A copy (3.9 MB for a 10-s trial at 1 kHz)
- * would be read on the receiving side: the server's main thread, which also carries the live jog sockets.
- * Measured with bench/tuning-bench.ts, copy and move interleaved: request to result 21.1–36.8 ms copied,
- * 21.9–29.4 ms moved (better in 2 of 3 pairs); the worker's own time is ~1.5 ms longer moved (19.1–20.5
- * against 21.2–21.6 ms), as the buffers it handed over are not there to be reused.
- */
-function moveSeries(result) {
-  if (!result.series) return result;
-  const buffers = new Set();
-  for (const value of Object.values(result.series)) {
-    if (ArrayBuffer.isView(value) && value.byteOffset === 0 && value.byteLength === value.buffer.byteLength) buffers.add(value.buffer);
-  }
-  return Piscina.move({
-    get [Piscina.transferableSymbol]() {
-      return [...buffers];
-    },
-    get [Piscina.valueSymbol]() {
-      return result;
-    },
-  });
+  return job.runJob(input);
 }
 
 /** Piscina's named task `map`: a singularity map. */

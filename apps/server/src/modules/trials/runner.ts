@@ -75,8 +75,17 @@ const MAX_STOP_S = 5;
 /** The reference has reached a waypoint within this [m]; the arm's lag behind it is a metric. */
 const ARRIVED_M = 1e-9;
 
-/** Runs a compiled trial on the arm with a profile version's parameters. */
+/** Runs a compiled trial on the arm with a profile version's parameters: its series, in arrays of its own. */
 export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTrial, options: TrialRunOptions = {}): TrialSeries {
+  return recordTrial(arm, params, trial, options).series();
+}
+
+/**
+ * Runs a compiled trial and hands back its recorder, the run ended: `series()` copies the series out,
+ * `use(fn)` lends it to `fn` without a copy (the pool's thread computes the metrics and encodes the series
+ * for storage from the scratch itself).
+ */
+export function recordTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTrial, options: TrialRunOptions = {}): SeriesRecorder {
   const sim = new JogSimulation({ arm, readyPose: Array.from(trial.startPose), params });
   const dt = sim.dt;
   const maxDuration = options.maxDurationS ?? 600;
@@ -164,7 +173,7 @@ export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTr
     rec.record();
     if (sim.isAtRest) break;
   }
-  return rec.series();
+  return rec;
 }
 
 /**
@@ -186,7 +195,8 @@ export function runTrial(arm: ArmModel, params: ProfileParams, trial: CompiledTr
  *   ticks, so it asks the gate after each tick.
  *
  * The channels are recorded into a scratch series kept for the next run of the thread (up to
- * SCRATCH_SAMPLES samples: a sweep runs many trials in a row) and copied out at their length by series().
+ * SCRATCH_SAMPLES samples: a sweep runs many trials in a row), copied out at their length by series() or lent
+ * as views by use().
  */
 export class SeriesRecorder {
   /** The commanded pose, integrated from the gate's commanded twist. */
@@ -303,14 +313,24 @@ export class SeriesRecorder {
     this.k++;
   }
 
-  /** The series so far, at its length (the last sample settled from the current state). */
+  /** The series so far, at its length, in arrays of its own (the last sample settled from the current state). */
   series(): TrialSeries {
+    return this.use(copySeries);
+  }
+
+  /**
+   * The series so far, at its length, lent to `fn` as views of the thread's scratch (no copy), which goes
+   * back to the thread when `fn` returns: `fn` must not keep the series or any of its arrays. Once only.
+   */
+  use<T>(fn: (series: TrialSeries) => T): T {
     if (this.isDone) throw new Error("the series was taken already (its scratch went back to the thread)");
     if (this.pending >= 0) this.settlePending(false);
-    const s = trim(this.out, this.k);
     this.isDone = true;
-    giveScratch(this.out);
-    return s;
+    try {
+      return fn(viewAt(this.out, this.k));
+    } finally {
+      giveScratch(this.out);
+    }
   }
 
   /**
@@ -396,29 +416,51 @@ function allocate(tickRateHz: number, n: number, count: number): TrialSeries {
   };
 }
 
-/**
- * The series at its length, in arrays of its own (copies: the scratch goes back to the thread). Each array
- * owns its buffer, which the trial pool's thread transfers to the caller instead of copying (run-worker.mjs).
- */
-function trim(s: TrialSeries, count: number): TrialSeries {
+/** The first `count` samples of a series, as views of its arrays. */
+function viewAt(s: TrialSeries, count: number): TrialSeries {
   const n = s.n;
   return {
     ...s, count,
-    t: s.t.slice(0, count),
-    q: s.q.slice(0, count * n),
-    qdot: s.qdot.slice(0, count * n),
-    tcp: s.tcp.slice(0, count * 3),
-    reference: s.reference.slice(0, count * 3),
-    orientationError: s.orientationError.slice(0, count),
-    wanted: s.wanted.slice(0, count * 6),
-    commanded: s.commanded.slice(0, count * 6),
-    achieved: s.achieved.slice(0, count * 6),
-    sigmaMin: s.sigmaMin.slice(0, count),
-    lambda: s.lambda.slice(0, count),
-    stopDistance: s.stopDistance.slice(0, count),
-    capBound: s.capBound.slice(0, count),
-    guardHeld: s.guardHeld.slice(0, count),
-    fault: s.fault.slice(0, count),
+    t: s.t.subarray(0, count),
+    q: s.q.subarray(0, count * n),
+    qdot: s.qdot.subarray(0, count * n),
+    tcp: s.tcp.subarray(0, count * 3),
+    reference: s.reference.subarray(0, count * 3),
+    orientationError: s.orientationError.subarray(0, count),
+    wanted: s.wanted.subarray(0, count * 6),
+    commanded: s.commanded.subarray(0, count * 6),
+    achieved: s.achieved.subarray(0, count * 6),
+    sigmaMin: s.sigmaMin.subarray(0, count),
+    lambda: s.lambda.subarray(0, count),
+    stopDistance: s.stopDistance.subarray(0, count),
+    capBound: s.capBound.subarray(0, count),
+    guardHeld: s.guardHeld.subarray(0, count),
+    fault: s.fault.subarray(0, count),
+  };
+}
+
+/**
+ * A series in arrays of its own (copies of the views: the scratch goes back to the thread). Each array owns
+ * its buffer, which the trial pool's thread transfers to the caller instead of copying (run-worker.mjs).
+ */
+export function copySeries(s: TrialSeries): TrialSeries {
+  return {
+    ...s,
+    t: s.t.slice(),
+    q: s.q.slice(),
+    qdot: s.qdot.slice(),
+    tcp: s.tcp.slice(),
+    reference: s.reference.slice(),
+    orientationError: s.orientationError.slice(),
+    wanted: s.wanted.slice(),
+    commanded: s.commanded.slice(),
+    achieved: s.achieved.slice(),
+    sigmaMin: s.sigmaMin.slice(),
+    lambda: s.lambda.slice(),
+    stopDistance: s.stopDistance.slice(),
+    capBound: s.capBound.slice(),
+    guardHeld: s.guardHeld.slice(),
+    fault: s.fault.slice(),
   };
 }
 

@@ -47,7 +47,9 @@ export function encodeSeries(s: TrialSeries): Buffer {
   const parts: Uint8Array[] = [size, head];
   for (const c of FLOAT_CHANNELS) parts.push(bytesOf(s[c]));
   for (const c of BYTE_CHANNELS) parts.push(bytesOf(s[c]));
-  return deflateSync(Buffer.concat(parts), { level: 6 });
+  // Level 1: for a 10-s trial at 1 kHz (3.9 MB of channels) 36 ms and 1.59 MB, against 61 ms and 1.57 MB at
+  // the default level 6 (measured 3 Dec 2026, this machine). Inflating reads either.
+  return deflateSync(Buffer.concat(parts), { level: 1 });
 }
 
 export function decodeSeries(stored: Buffer): TrialSeries {

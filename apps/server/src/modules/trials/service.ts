@@ -15,7 +15,7 @@ import { builtinTrials, type BuiltinTrial, type BuiltinTrials } from "./builtin.
 import { checkTrial } from "./compile.ts";
 import { runJob, type RunJobResult } from "./run-job.ts";
 import { replayInputOf, ReplayFormatError, type ReplayInput } from "./replay.ts";
-import { decodeSeries, encodeSeries, seriesForDisplay, seriesHash } from "./series-codec.ts";
+import { decodeSeries, seriesForDisplay } from "./series-codec.ts";
 import { runSweep, shareSignal } from "./sweep.ts";
 import { mapInPool, runInPool } from "./trial-pool.ts";
 
@@ -214,7 +214,7 @@ async function runResolved(
   shareSignal(signal, trials.length);
   const results = await Promise.all(
     trials.map((t) => {
-      const common = { arm: source.arm.model, params: source.params, withSeries: true };
+      const common = { arm: source.arm.model, params: source.params, output: "stored" as const };
       return run(t.replay ? { ...common, replay: t.replay } : { ...common, trial: t.definition! }, signal);
     }),
   );
@@ -222,7 +222,7 @@ async function runResolved(
   return listRunsById(db, ids);
 }
 
-/** Stores finished runs (series compressed, hashed) in `transaction`; their ids in order. */
+/** Stores finished runs (their series compressed and hashed by the run itself: output "stored", run-job.ts) in `transaction`; their ids in order. */
 async function storeRuns(db: Sequelize, transaction: Transaction, source: ResolvedSource, trials: ResolvedTrial[], results: RunJobResult[], actorId: string): Promise<number[]> {
   const { TrialRun } = modelsOf(db);
   // A replayed recording may have been pruned by the retention setting while its run was computed (it was
@@ -237,12 +237,12 @@ async function storeRuns(db: Sequelize, transaction: Transaction, source: Resolv
   const out: number[] = [];
   for (const [i, t] of trials.entries()) {
     const r = results[i]!;
-    const series = r.series!;
+    const { bytes, hash } = r.stored!;
     const run = await TrialRun.create(
       {
         armId: source.arm.id, profileId: source.profileId, versionId: source.versionId, params: source.params,
         trialKind: t.kind, trialId: t.trialId, recordingId: t.recordingId, trialName: t.name, trialDefinition: t.definition,
-        metrics: r.metrics, series: encodeSeries(series), seriesHash: seriesHash(series), durationMs: Math.round(r.elapsedMs), createdBy: actorId,
+        metrics: r.metrics, series: Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength), seriesHash: hash, durationMs: Math.round(r.elapsedMs), createdBy: actorId,
       },
       { transaction },
     );
@@ -263,7 +263,7 @@ export async function attachBuiltinEvidence(
   const trials = builtinTrials({ model: arm.model, readyPose: arm.readyPose }).trials.map(builtinResolved);
   // On this thread, not the pool: the seed runs before the server listens, and a pool's first threads
   // take longer to start (their TypeScript loader) than these runs take (measured: ~0.6 s for 7 trials).
-  const results = trials.map((t) => runJob({ arm: arm.model, params: version.params, trial: t.definition!, withSeries: true }));
+  const results = trials.map((t) => runJob({ arm: arm.model, params: version.params, trial: t.definition!, output: "stored" }));
   const ids = await storeRuns(db, transaction, source, trials, results, actorId);
   await attachEvidence(db, transaction, version.id, ids, actorId);
   return ids;

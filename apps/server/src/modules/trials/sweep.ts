@@ -86,7 +86,7 @@ export async function runSweep(
     }
     points.push({ values, invalid, objectives: null, finishedTrials: 0, trials: input.trials.length });
     if (invalid) continue;
-    for (const trial of input.trials) jobs.push({ point: points.length - 1, job: { arm: input.arm, params, trial, withSeries: false } });
+    for (const trial of input.trials) jobs.push({ point: points.length - 1, job: { arm: input.arm, params, trial, output: "metrics" } });
   }
   const total = jobs.length;
   let done = 0;

@@ -8,6 +8,7 @@ import { computeTrialMetrics } from "./metrics.ts";
 import { replayInputs } from "./replay.ts";
 import { runJob } from "./run-job.ts";
 import { runTrial, type CompiledTrial, type TrialSeries } from "./runner.ts";
+import { decodeSeries, seriesHash } from "./series-codec.ts";
 import { closeTrialPool, runInPool } from "./trial-pool.ts";
 
 const DEG = Math.PI / 180;
@@ -448,7 +449,7 @@ describe("tuning bench: path deviation and lag on a path that comes back on itse
 describe("runs in the trial pool", () => {
   afterAll(() => closeTrialPool());
 
-  it("hand back the same series and metrics as a run in this thread, bit for bit, run after run (the series' buffers are moved, not copied)", async () => {
+  it("hand back the same series and metrics as a run in this thread, bit for bit, run after run, as the series itself or encoded for storage", async () => {
     const arm = findDemoArm("cell-arm-6")!;
     const params = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
     const trial: TrialDefinition = {
@@ -456,20 +457,30 @@ describe("runs in the trial pool", () => {
       segments: [{ kind: "twist", frame: "world", linearMPerS: [0.02, 0.01, 0], angularRadPerS: [0, 0, 0.05], durationS: 0.5 }],
     };
     const here = runJob({ arm: arm.model, params, trial });
+    expect(here.stored).toBeNull();
     const bytes = (a: ArrayBufferView) => Buffer.from(a.buffer, a.byteOffset, a.byteLength);
-    // Two in a row on the same thread: a buffer moved out must not be one the thread writes again.
-    const first = await runInPool({ arm: arm.model, params, trial });
-    const second = await runInPool({ arm: arm.model, params, trial });
-    for (const pooled of [first, second]) {
-      expect(pooled.metrics).toEqual(here.metrics);
-      const s = pooled.series!;
+    const expectSameSeries = (s: TrialSeries) => {
       expect(s.count).toBe(here.series!.count);
       for (const [key, value] of Object.entries(here.series!)) {
         const other = (s as unknown as Record<string, unknown>)[key];
         if (ArrayBuffer.isView(value)) expect(bytes(other as ArrayBufferView).equals(bytes(value)), key).toBe(true);
         else expect(other, key).toEqual(value);
       }
-    }
-    expect(first.series!.q.buffer).not.toBe(second.series!.q.buffer);
+    };
+    // Several in a row on the same thread: each result is the thread's scratch copied out, never a view of it.
+    const pooled = [await runInPool({ arm: arm.model, params, trial }), await runInPool({ arm: arm.model, params, trial, output: "stored" }), await runInPool({ arm: arm.model, params, trial })];
+    for (const r of pooled) expect(r.metrics).toEqual(here.metrics);
+    expectSameSeries(pooled[0]!.series!);
+    expectSameSeries(pooled[2]!.series!);
+    expect(pooled[0]!.series!.q.buffer).not.toBe(pooled[2]!.series!.q.buffer);
+    // Encoded in the thread: what the server stores (trial_runs.series and series_hash).
+    const stored = pooled[1]!;
+    expect(stored.series).toBeNull();
+    expect(stored.stored!.hash).toBe(seriesHash(here.series!));
+    expectSameSeries(decodeSeries(Buffer.from(stored.stored!.bytes.buffer, stored.stored!.bytes.byteOffset, stored.stored!.bytes.byteLength)));
+    // Metrics only (a sweep): nothing else crosses.
+    const metricsOnly = await runInPool({ arm: arm.model, params, trial, output: "metrics" });
+    expect(metricsOnly.metrics).toEqual(here.metrics);
+    expect([metricsOnly.series, metricsOnly.stored]).toEqual([null, null]);
   });
 });
