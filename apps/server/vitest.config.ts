@@ -7,9 +7,11 @@ import { defineConfig } from "vitest/config";
 //   upload parser, configuration), two at a time, without a database copy (about 2.5 s of set-up saved per
 //   file). Not `isolate: false`: with it Vitest 4 gave two "api" files the same VITEST_POOL_ID, so the same
 //   database slot, at the same time (tried);
-// - "timed": files that measure wall-clock time (the jog socket at 1 kHz, answers within 2 s under a
-//   database outage, the real MariaDB paused and stopped, two instances sharing a Redis), one file at a time
-//   so no other file competes for the 2 cores;
+// - "faults": the fault files (answers within 2 s under a database outage, the real MariaDB paused and
+//   stopped, two instances sharing a Redis), all three at once: each spends most of its time waiting out
+//   a timeout or an outage (about 10 s each, under half a core together), and their bounds are seconds;
+// - "timed": the files that measure milliseconds (the jog socket at 1 kHz against its 200 ms watchdog),
+//   one file at a time so no other file competes for the 2 cores;
 // - "api": everything else, two files at a time (measured on 14 of these files: 53 s one at a time,
 //   35 s two at a time). startup.test.ts is here: it checks start-up refusals, not time.
 const UNIT = [
@@ -23,7 +25,8 @@ const UNIT = [
   "src/modules/recordings/chunk-codec.test.ts",
   "src/modules/arms/upload.test.ts",
 ];
-const TIMED = ["src/modules/jog/**/*.test.ts", "src/db/database-outage.test.ts", "src/db/mariadb-fault.test.ts", "src/scale/**/*.test.ts"];
+const FAULTS = ["src/db/database-outage.test.ts", "src/db/mariadb-fault.test.ts", "src/scale/**/*.test.ts"];
+const TIMED = ["src/modules/jog/**/*.test.ts"];
 
 export default defineConfig({
   test: {
@@ -37,11 +40,15 @@ export default defineConfig({
       },
       {
         extends: true,
-        test: { name: "timed", include: TIMED, exclude: UNIT, setupFiles: ["src/test/fresh-database.ts"], fileParallelism: false, sequence: { groupOrder: 1 } },
+        test: { name: "faults", include: FAULTS, setupFiles: ["src/test/fresh-database.ts"], maxWorkers: FAULTS.length, sequence: { groupOrder: 1 } },
       },
       {
         extends: true,
-        test: { name: "api", include: ["src/**/*.test.ts"], exclude: [...TIMED, ...UNIT], setupFiles: ["src/test/fresh-database.ts"], maxWorkers: 2, sequence: { groupOrder: 2 } },
+        test: { name: "timed", include: TIMED, exclude: UNIT, setupFiles: ["src/test/fresh-database.ts"], fileParallelism: false, sequence: { groupOrder: 2 } },
+      },
+      {
+        extends: true,
+        test: { name: "api", include: ["src/**/*.test.ts"], exclude: [...FAULTS, ...TIMED, ...UNIT], setupFiles: ["src/test/fresh-database.ts"], maxWorkers: 2, sequence: { groupOrder: 3 } },
       },
     ],
   },

@@ -1,6 +1,6 @@
 import { readFile } from "node:fs/promises";
-import type { Locator, Page, TestInfo } from "@playwright/test";
-import { saveScreenshot, signIn } from "../support/browser.ts";
+import type { Locator } from "@playwright/test";
+import { keepScreenshot, signIn } from "../support/browser.ts";
 import { fakeGamepadScript, readTcpMm, recordStateFrames, setGamepad } from "../support/drive.ts";
 import { expect, test, uniqueTag } from "../support/fixtures.ts";
 
@@ -32,10 +32,6 @@ const ARM_CSV = [
 const ENABLING_BUTTON = 7;
 const FORWARD = [0, -0.9, 0, 0];
 
-async function keepScreenshot(page: Page, testInfo: TestInfo, name: string): Promise<void> {
-  const path = await saveScreenshot(page, `arms-${name}`);
-  await testInfo.attach(name, { path, contentType: "image/png" });
-}
 
 /** Moves a range input as a drag would: its value, then the input event React listens to. */
 async function setSlider(slider: Locator, value: number): Promise<void> {
@@ -66,7 +62,7 @@ test("an engineer uploads an arm file, previews and saves it, makes a profile on
   // Line 5 of the file: the second joint's row (two directive lines, the header, the first joint).
   await expect(issues.getByRole("row").filter({ hasText: "a_mm" })).toContainText(/5\s*a_mm\s*"35o" is not a number/);
   await expect(page.getByRole("button", { name: "Save arm" })).toHaveCount(0);
-  await keepScreenshot(page, testInfo, "upload-refused");
+  await keepScreenshot(page, testInfo, "arms-upload-refused", "upload-refused");
 
   // --- The valid file: previewed with σ at the zero pose and in the 3D view before it is saved.
   await page.getByTestId("arm-file").setInputFiles(csvFile("six-axis.csv", ARM_CSV));
@@ -82,7 +78,7 @@ test("an engineer uploads an arm file, previews and saves it, makes a profile on
   await expect(preview.locator("canvas")).toBeVisible();
   await expect.poll(async () => Number(await preview.getByTestId("arm-view").getAttribute("data-drawn-frames"))).toBeGreaterThan(0);
   await expect(page.getByTestId("dh-table").getByRole("row")).toHaveCount(7);
-  await keepScreenshot(page, testInfo, "upload-preview");
+  await keepScreenshot(page, testInfo, "arms-upload-preview", "upload-preview");
   // A slider moves the arm: σ_min is computed again at the new pose (joint 5 towards 0°, the wrist singularity).
   const drawn = Number(await preview.getByTestId("arm-view").getAttribute("data-drawn-frames"));
   await setSlider(page.getByTestId("preview-joint-5"), Math.PI / 2 - 0.01);
@@ -100,7 +96,7 @@ test("an engineer uploads an arm file, previews and saves it, makes a profile on
   await expect(page.getByTestId("tools-table")).toContainText("Flange tool");
   await expect(page.getByTestId("tools-table")).toContainText("(0.0, 0.0, 120.0) mm");
   await expect(page.getByTestId("base-and-tool")).toContainText("(0.0, 0.0, 120.0) mm · RPY (0.0, 0.0, 0.0) deg");
-  await keepScreenshot(page, testInfo, "detail");
+  await keepScreenshot(page, testInfo, "arms-detail", "detail");
 
   // --- A profile on the new arm's revision 1 and its tool.
   await page.goto("/profiles/new");
@@ -116,7 +112,7 @@ test("an engineer uploads an arm file, previews and saves it, makes a profile on
   await expect(page.getByLabel("Joint 1 rate cap")).toHaveValue("75");
   // A long watchdog: this test is about the arm, and a busy 2-core machine can stall the page's input loop past 200 ms.
   await page.getByLabel("Input watchdog").fill("1500");
-  await keepScreenshot(page, testInfo, "new-profile");
+  await keepScreenshot(page, testInfo, "arms-new-profile", "new-profile");
   await page.getByRole("button", { name: "Create profile" }).click();
   await page.waitForURL(/\/profiles\/\d+$/);
   await expect(page.getByRole("heading", { level: 1, name: profileName })).toBeVisible();
@@ -137,7 +133,7 @@ test("an engineer uploads an arm file, previews and saves it, makes a profile on
   await setGamepad(page, { pressed: { [ENABLING_BUTTON]: false }, axes: [0, 0, 0, 0] });
   await expect(page.getByTestId("motion-state")).toHaveText(/^Stopped/, { useInnerText: true, timeout: 5000 });
   await expect.poll(() => states.latest()?.t ?? 0).toBeGreaterThan(1);
-  await keepScreenshot(page, testInfo, "drive");
+  await keepScreenshot(page, testInfo, "arms-drive", "drive");
   await page.getByRole("button", { name: "End session" }).click();
   await page.getByRole("link", { name: "Open its recording" }).click();
   await expect(page.getByRole("heading", { level: 1, name: /Replay of recording/ })).toBeVisible();
@@ -156,7 +152,7 @@ test("an engineer uploads an arm file, previews and saves it, makes a profile on
     expect.arrayContaining(["t_s", "q1_rad", "q6_rad", "qdot1_rad_s", "tcp_x_m", "tcp_roll_rad", "sigma_min_m", "lambda_m", "binding_limit", "binding_joint"]),
   );
   expect(firstRow!.split(",").length).toBe(header!.split(",").length);
-  await keepScreenshot(page, testInfo, "recording-exports");
+  await keepScreenshot(page, testInfo, "arms-recording-exports", "recording-exports");
 });
 
 test("an engineer edits a used arm by form into a new revision and keeps its tools; others read the arm only", async ({ page, setup }, testInfo) => {
@@ -180,7 +176,7 @@ test("an engineer edits a used arm by form into a new revision and keeps its too
   // An edit needs a note saying what changed (editArmSchema), on its field.
   await expect(page.getByText("Say what changed (at least 3 characters)")).toBeVisible();
   await page.getByLabel("Revision note").fill("Longer upper arm: 420 mm.");
-  await keepScreenshot(page, testInfo, "edit-form");
+  await keepScreenshot(page, testInfo, "arms-edit-form", "edit-form");
   await page.getByRole("button", { name: "Save as revision 2" }).click();
   await page.waitForURL(new RegExp(`/arms/${arm.id}$`));
   await expect(page.getByTestId("arm-saved")).toHaveText("Saved revision 2: Longer upper arm: 420 mm. The profile version on revision 1 keeps driving it.");
@@ -197,7 +193,7 @@ test("an engineer edits a used arm by form into a new revision and keeps its too
   await dialog.getByLabel("z in mm", { exact: true }).fill("250");
   await dialog.getByLabel("Pitch").fill("30");
   await dialog.getByLabel("Mass").fill("0.8");
-  await keepScreenshot(page, testInfo, "tool-dialog");
+  await keepScreenshot(page, testInfo, "arms-tool-dialog", "tool-dialog");
   await dialog.getByRole("button", { name: "Add tool" }).click();
   const probeRow = page.getByTestId("tools-table").getByRole("row").filter({ hasText: "Angled probe" });
   await expect(probeRow).toContainText("(0.0, 0.0, 250.0) mm · RPY (0.0, 30.0, 0.0) deg");
@@ -208,7 +204,7 @@ test("an engineer edits a used arm by form into a new revision and keeps its too
   await page.getByRole("button", { name: "View revision 1" }).click();
   await expect(page.getByRole("status").filter({ hasText: "Viewing revision 1" })).toBeVisible();
   await expect(page.getByTestId("dh-table").getByRole("row").nth(2)).not.toContainText("420.0");
-  await keepScreenshot(page, testInfo, "old-revision");
+  await keepScreenshot(page, testInfo, "arms-old-revision", "old-revision");
 
   // An operator reads the arm: no edit, no tool actions.
   await page.getByRole("button", { name: "Sign out" }).click();
@@ -261,7 +257,7 @@ test("an engineer moves a profile to the arm's revision 2 and another tool by sa
   );
   await page.getByLabel("Note").fill("Onto revision 2 with the long gripper.");
   await page.getByTestId("arm-move").scrollIntoViewIfNeeded();
-  await keepScreenshot(page, testInfo, "version-moves-revision");
+  await keepScreenshot(page, testInfo, "arms-version-moves-revision", "version-moves-revision");
   await page.getByRole("button", { name: "Save new version" }).click();
   await expect(page.getByRole("status").filter({ hasText: "Saved as v2" })).toBeVisible();
 
@@ -273,7 +269,7 @@ test("an engineer moves a profile to the arm's revision 2 and another tool by sa
   await expect(toolSelect.locator("option:checked")).toHaveText("Long gripper");
   await expect(page.getByTestId("arm-move")).toHaveCount(0);
   await page.getByTestId("version-history").scrollIntoViewIfNeeded();
-  await keepScreenshot(page, testInfo, "version-list-revisions");
+  await keepScreenshot(page, testInfo, "arms-version-list-revisions", "version-list-revisions");
 
   // A safety officer reviewing v2 reads that it moves the profile away from the approved v1's revision and tool.
   const { versions } = (await (await emeka.get(`/api/profiles/${profile.id}`)).json()) as { versions: { id: number; number: number }[] };
@@ -284,7 +280,7 @@ test("an engineer moves a profile to the arm's revision 2 and another tool by sa
     await signIn(officer, "", "sigrid", `/reviews/${v2.id}`);
     await expect(officer.getByText("This version moves the profile to another arm revision or tool")).toBeVisible();
     await expect(officer.getByText('v2 drives revision 2 with tool "Long gripper"; the approved v1 drives revision 1 with tool "Flange tool".', { exact: false })).toBeVisible();
-    await keepScreenshot(officer, testInfo, "review-moves-revision");
+    await keepScreenshot(officer, testInfo, "arms-review-moves-revision", "review-moves-revision");
   } finally {
     await context.close();
   }

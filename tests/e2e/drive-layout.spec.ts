@@ -1,8 +1,6 @@
-import { mkdirSync } from "node:fs";
-import { join } from "node:path";
-import type { Locator, Page, TestInfo } from "@playwright/test";
+import type { Locator, Page } from "@playwright/test";
 import { STOP_KIND_LABELS, type StopKind } from "@jogwright/shared";
-import { ARTIFACTS_DIR, signIn } from "../support/browser.ts";
+import { keepScreenshot, signIn } from "../support/browser.ts";
 import { fakeGamepadScript, recordStateFrames, setGamepad, startDriving } from "../support/drive.ts";
 import { expect, test } from "../support/fixtures.ts";
 
@@ -22,13 +20,6 @@ test.use({ viewport: VIEWPORT });
 test.beforeEach(async ({ context }) => {
   await context.addInitScript(fakeGamepadScript());
 });
-
-async function shot(page: Page, testInfo: TestInfo, name: string): Promise<void> {
-  mkdirSync(ARTIFACTS_DIR, { recursive: true });
-  const path = join(ARTIFACTS_DIR, `layout-${name}.png`);
-  await page.screenshot({ path });
-  await testInfo.attach(name, { path, contentType: "image/png" });
-}
 
 /** The element lies wholly inside the 1440×900 viewport, the page not scrolled. */
 async function expectOnFirstScreen(locator: Locator, what: string): Promise<void> {
@@ -69,7 +60,7 @@ test.describe("drive workspace at 1440×900", () => {
     // The 3D view is given the room the rest leaves, not a sliver.
     const view = (await page.getByTestId("arm-view").boundingBox())!;
     expect(view.width * view.height, "3D view area [px²]").toBeGreaterThan(350 * 220);
-    await shot(page, testInfo, "drive-first-screen");
+    await keepScreenshot(page, testInfo, "layout-drive-first-screen", "drive-first-screen", { fullPage: false });
 
     // The other panels and charts sit below and fold to their title, and unfold again.
     for (const [panel, content] of [["stopping", "stopping-state"], ["joint-positions", "joint-positions"], ["chart-sigma", "chart-sigma"]] as const) {
@@ -81,7 +72,7 @@ test.describe("drive workspace at 1440×900", () => {
       await expect(page.getByTestId(content)).toHaveCount(0);
     }
     await page.getByTestId("panel-stopping").scrollIntoViewIfNeeded();
-    await shot(page, testInfo, "drive-panels-folded");
+    await keepScreenshot(page, testInfo, "layout-drive-panels-folded", "drive-panels-folded", { fullPage: false });
     for (const panel of ["stopping", "joint-positions", "chart-sigma"]) {
       await page.getByTestId(`panel-${panel}`).getByRole("button", { name: "Expand" }).click();
       await expect(page.getByTestId(`panel-${panel}`)).toHaveAttribute("data-collapsed", "false");
@@ -131,11 +122,11 @@ test.describe("drive workspace at 1440×900", () => {
       })
       .toBeGreaterThan(1);
     expect(isSensible(jogging), `jogging joint-rate ticks ${jogging.join(" ")}`).toBe(true);
-    await shot(page, testInfo, "charts-jogging");
+    await keepScreenshot(page, testInfo, "layout-charts-jogging", "charts-jogging", { fullPage: false });
     await setGamepad(page, { pressed: { [ENABLING_BUTTON]: false }, axes: [0, 0, 0, 0] });
     await expect(page.getByTestId("motion-state")).toHaveText(/^Stopped/, { useInnerText: true });
     await page.getByTestId("chart-sigma").scrollIntoViewIfNeeded();
-    await shot(page, testInfo, "charts-below");
+    await keepScreenshot(page, testInfo, "layout-charts-below", "charts-below", { fullPage: false });
     await page.getByRole("button", { name: "End session" }).click();
   });
 
@@ -179,7 +170,7 @@ test.describe("drive workspace at 1440×900", () => {
     const replayTime = page.getByTestId("replay-time");
     await stops.last().click();
     await expect(replayTime).not.toHaveText(/^0\.00 /, { useInnerText: true });
-    await shot(page, testInfo, "replay");
+    await keepScreenshot(page, testInfo, "layout-replay", "replay", { fullPage: false });
 
     // Speed: at 4× the first 2 s of the session play in well under 2 s.
     await page.getByRole("slider", { name: "Timeline" }).fill("0");

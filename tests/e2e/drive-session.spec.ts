@@ -1,6 +1,6 @@
-import type { Page, TestInfo } from "@playwright/test";
+import type { Page } from "@playwright/test";
 import type { ProfileParams } from "@jogwright/shared";
-import { saveScreenshot, signIn } from "../support/browser.ts";
+import { keepScreenshot, signIn } from "../support/browser.ts";
 import { fakeGamepadScript, recordStateFrames, setGamepad, startDriving } from "../support/drive.ts";
 import { expect, test, uniqueTag, type Person, type ProfileRef, type Setup } from "../support/fixtures.ts";
 
@@ -72,11 +72,6 @@ async function setPadConnected(page: Page, isConnected: boolean): Promise<void> 
   await page.evaluate((c) => ((window as unknown as { __jogTestPadConnected: boolean }).__jogTestPadConnected = c), isConnected);
 }
 
-/** A screenshot kept for every test, passing or not: tests/artifacts/ and the test's attachments. */
-async function keepScreenshot(page: Page, testInfo: TestInfo, name: string): Promise<void> {
-  const path = await saveScreenshot(page, `drive-session-${name}`);
-  await testInfo.attach(name, { path, contentType: "image/png" });
-}
 
 const motion = (page: Page) => page.getByTestId("motion-state");
 
@@ -126,7 +121,7 @@ test.describe("drive session", () => {
     await expect(page.getByTestId("enabling-control")).toHaveAttribute("aria-pressed", "false");
     await setGamepad(page, { pressed: { [ENABLING_BUTTON]: true } });
     await expect(motion(page)).toHaveText("Moving", { useInnerText: true });
-    await keepScreenshot(page, testInfo, "gamepad-returned");
+    await keepScreenshot(page, testInfo, "drive-session-gamepad-returned", "gamepad-returned");
     await setGamepad(page, { pressed: { [ENABLING_BUTTON]: false }, axes: [0, 0, 0, 0] });
   });
 
@@ -156,7 +151,7 @@ test.describe("drive session", () => {
     await page.keyboard.up("Shift");
     await page.keyboard.down("Shift");
     await expect(motion(page)).toHaveText("Moving", { useInnerText: true });
-    await keepScreenshot(page, testInfo, "focus-returned");
+    await keepScreenshot(page, testInfo, "drive-session-focus-returned", "focus-returned");
     await page.keyboard.up("KeyW");
     await page.keyboard.up("Shift");
   });
@@ -187,7 +182,7 @@ test.describe("drive session", () => {
     await expect(page.getByRole("button", { name: "Reset emergency stop" })).toHaveCount(0);
     // The words, never the codes.
     await expect(page.locator("main")).not.toContainText(/account-deactivated|account_deactivated|\(signed_out\)/);
-    await keepScreenshot(page, testInfo, "deactivated");
+    await keepScreenshot(page, testInfo, "drive-session-deactivated", "deactivated");
     await page.keyboard.up("KeyW");
     await page.keyboard.up("Shift");
     // The page opened one socket and, closed with "will not come back" (4403), no other since.
@@ -203,7 +198,7 @@ test.describe("drive session", () => {
     const answer = await page.request.post("/api/auth/sign-out", { headers: { Origin: new URL(baseURL!).origin } });
     expect(answer.ok()).toBe(true);
     await page.waitForURL(/\/sign-in\?next=%2Fdrive/);
-    await keepScreenshot(page, testInfo, "signed-out");
+    await keepScreenshot(page, testInfo, "drive-session-signed-out", "signed-out");
     await page.getByLabel("User name").fill(operator.username);
     await page.getByLabel("Password").fill(operator.password);
     await page.getByRole("button", { name: "Sign in" }).click();
@@ -223,13 +218,13 @@ test.describe("drive session", () => {
     await expect(page.getByTestId("session-info")).toContainText(profile.name);
     await expect(page.getByRole("button", { name: "Switch to this version" })).toBeDisabled();
     await expect(page.getByText("You are driving this version.")).toBeVisible();
-    await keepScreenshot(page, testInfo, "address-version");
+    await keepScreenshot(page, testInfo, "drive-session-address-version", "address-version");
 
     await page.goto(`/drive?version=${draft.id}`);
     await expect(page.getByTestId("address-version-refusal")).toHaveText(/is a draft; operators drive only the current approved version/);
     await page.goto("/drive?version=not-a-number");
     await expect(page.getByTestId("address-version-refusal")).toHaveText(/not a version number/);
-    await keepScreenshot(page, testInfo, "address-version-refused");
+    await keepScreenshot(page, testInfo, "drive-session-address-version-refused", "address-version-refused");
   });
 
   test("at the stop-before guard, Acknowledge stays visible after the push stops and the enabling control is released, until it is given", async ({ page, setup }, testInfo) => {
@@ -263,7 +258,7 @@ test.describe("drive session", () => {
     await expectStandsStill(states);
     await expect(acknowledge).toBeVisible();
     await expect(page.getByTestId("singularity-state")).toHaveText(/Held at the guard/);
-    await keepScreenshot(page, testInfo, "guard-held");
+    await keepScreenshot(page, testInfo, "drive-session-guard-held", "guard-held");
 
     // Given: the button goes, and the arm may pass through, damped.
     await acknowledge.click();
@@ -294,7 +289,7 @@ test.describe("drive session", () => {
       await expect(page.getByRole("button", { name: "Reset emergency stop" })).toHaveCount(0);
       await expect(page.getByTestId("stop-not-needed")).toBeVisible();
       await expect(page.locator("main")).not.toContainText("profile-not-driveable");
-      await keepScreenshot(page, testInfo, "ceiling-ended");
+      await keepScreenshot(page, testInfo, "drive-session-ceiling-ended", "ceiling-ended");
     } finally {
       const now = (await (await officer.get("/api/ceilings")).json()) as { revision: number };
       const restored = await officer.put("/api/ceilings", { data: { revision: now.revision, ceilings: before.ceilings, note: "browser test: restored" } });

@@ -3,7 +3,7 @@ import net from "node:net";
 import type { AddressInfo } from "node:net";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
-import { saveScreenshot, signIn } from "../support/browser.ts";
+import { keepScreenshot, signIn } from "../support/browser.ts";
 import { expect, Setup, test, uniqueTag } from "../support/fixtures.ts";
 
 // Issue 11, "Fault tests in CI": the server restarts while the drive page drives. This test starts a server
@@ -83,7 +83,7 @@ test("a server restart mid-drive: the page says why the session stopped, reconne
   // Backoff: 0.5, 1, 2, 4 s …; the attempt count climbs while nobody answers.
   await expect(connection).toContainText(/attempt [3-9]/, { timeout: 20_000 });
   await expect(page.getByTestId("motion-state")).not.toContainText(/moving/i);
-  await saveScreenshot(page, "server-restart-away").then((p) => testInfo.attach("away", { path: p, contentType: "image/png" }));
+  await keepScreenshot(page, testInfo, "server-restart-away", "away");
 
   // Back on the same address: the page reconnects by itself and can start again; the reason stays on screen.
   server = await startServer(port);
@@ -91,5 +91,5 @@ test("a server restart mid-drive: the page says why the session stopped, reconne
   await expect(page.getByTestId("session-ended")).toHaveAttribute("data-reason", "server-shutdown");
   await page.getByRole("button", { name: /Start driving/ }).click();
   await expect(page.getByTestId("session-info")).toBeVisible();
-  await saveScreenshot(page, "server-restart-back").then((p) => testInfo.attach("back", { path: p, contentType: "image/png" }));
+  await keepScreenshot(page, testInfo, "server-restart-back", "back");
 });

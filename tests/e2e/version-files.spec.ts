@@ -1,7 +1,6 @@
-import { mkdir, readFile } from "node:fs/promises";
-import { join } from "node:path";
+import { readFile } from "node:fs/promises";
 import type { Page, TestInfo } from "@playwright/test";
-import { ARTIFACTS_DIR, signIn } from "../support/browser.ts";
+import { keepScreenshot, SCREENSHOTS_WANTED, signIn } from "../support/browser.ts";
 import { expect, test, uniqueTag } from "../support/fixtures.ts";
 
 // Version files on the profile page (issue 12, "Export and import"): an engineer exports v1 as a download,
@@ -12,12 +11,11 @@ import { expect, test, uniqueTag } from "../support/fixtures.ts";
 
 test.use({ viewport: { width: 1440, height: 900 } });
 
-async function keepScreenshot(page: Page, testInfo: TestInfo, name: string): Promise<void> {
-  await mkdir(ARTIFACTS_DIR, { recursive: true });
-  const path = join(ARTIFACTS_DIR, `version-files-${name}.png`);
+/** The first screen (scrolled to the top) as tests/artifacts/version-files-<name>.png, when screenshots are wanted. */
+async function keepFirstScreen(page: Page, testInfo: TestInfo, name: string): Promise<void> {
+  if (!SCREENSHOTS_WANTED) return;
   await page.evaluate(() => window.scrollTo(0, 0));
-  await page.screenshot({ path });
-  await testInfo.attach(name, { path, contentType: "image/png" });
+  await keepScreenshot(page, testInfo, `version-files-${name}`, name, { fullPage: false });
 }
 
 const jsonFile = (name: string, text: string) => ({ name, mimeType: "application/json", buffer: Buffer.from(text, "utf8") });
@@ -64,7 +62,7 @@ test("an engineer exports v1, imports it as a new draft with the same hash, and 
   expect(afterImport[0]).toMatchObject({ state: "draft", paramsSha256: v1.paramsSha256 });
   // Compare versions opens on the new draft.
   await expect(page.getByLabel("To version").locator("option:checked")).toHaveText("v2 (draft)");
-  await keepScreenshot(page, testInfo, "imported");
+  await keepFirstScreen(page, testInfo, "imported");
 
   // --- A copy with one parameter changed (the TCP linear cap, +10 mm/s) and the old hash: refused, nothing saved.
   const changed = { ...exported, params: { ...exported.params, tcpLinearCapMPerS: exported.params.tcpLinearCapMPerS + 0.01 } };
@@ -76,7 +74,7 @@ test("an engineer exports v1, imports it as a new draft with the same hash, and 
   await expect(history.locator("tbody tr")).toHaveCount(2);
   await expect(history.locator("tr[data-selected]")).toHaveCount(0);
   expect((await versionsNow()).map((v) => v.number)).toEqual([2, 1]);
-  await keepScreenshot(page, testInfo, "hash-refused");
+  await keepFirstScreen(page, testInfo, "hash-refused");
 
   // --- Not a version file at all: refused in the browser, nothing sent.
   await page.getByTestId("version-file").setInputFiles(jsonFile("arm.json", JSON.stringify({ convention: "standard", joints: [] })));

@@ -1,5 +1,5 @@
-import type { Locator, Page, TestInfo } from "@playwright/test";
-import { signIn } from "../support/browser.ts";
+import type { Locator, Page } from "@playwright/test";
+import { keepScreenshot, signIn } from "../support/browser.ts";
 import { expect, test, uniqueTag, type Setup } from "../support/fixtures.ts";
 
 // Issue 13, items 9, 10 and 12 in a real browser against the real server: the outbox and the audit trail
@@ -9,10 +9,6 @@ import { expect, test, uniqueTag, type Setup } from "../support/fixtures.ts";
 // API and keeps a screenshot of what it checked.
 
 test.use({ viewport: { width: 1400, height: 900 } });
-
-async function keepScreenshot(page: Page, testInfo: TestInfo, name: string): Promise<void> {
-  await testInfo.attach(name, { body: await page.screenshot(), contentType: "image/png" });
-}
 
 /** The element's box lies inside the window (the feedback was once 2,500 px above the Save button). */
 async function expectInViewport(page: Page, locator: Locator): Promise<void> {
@@ -66,7 +62,7 @@ test.describe("words, units and feedback", () => {
     await expect(row).toContainText("Version submitted for review");
     await expect(table).not.toContainText(/\b(version|ceilings)-[a-z]+\b/);
     await expect(table.getByRole("columnheader", { name: "Kind" })).toHaveCount(0);
-    await keepScreenshot(page, testInfo, "outbox-labels");
+    await keepScreenshot(page, testInfo, "words-outbox-labels", "outbox-labels", { fullPage: false });
   });
 
   test("the audit trail names versions as v2 and entities and actions in words", async ({ page, setup }, testInfo) => {
@@ -84,7 +80,7 @@ test.describe("words, units and feedback", () => {
     await expect(page.getByLabel("About")).toContainText("Site ceilings");
     await expect(page.getByLabel("Action")).toContainText("Submitted for review");
     await expect(table).not.toContainText(/\b(ceilings|estop-latch|estop-reset)\b/);
-    await keepScreenshot(page, testInfo, "audit-labels");
+    await keepScreenshot(page, testInfo, "words-audit-labels", "audit-labels", { fullPage: false });
   });
 
   test("the audit filter refuses a period whose From day is after its To day, with a message", async ({ page }, testInfo) => {
@@ -95,7 +91,7 @@ test.describe("words, units and feedback", () => {
     await expect(page.getByText("The period ends before it starts")).toBeVisible();
     await expect(page.getByLabel("To day")).toHaveAttribute("aria-invalid", "true");
     expect(new URL(page.url()).searchParams.get("fromDay")).toBeNull();
-    await keepScreenshot(page, testInfo, "audit-period-refused");
+    await keepScreenshot(page, testInfo, "words-audit-period-refused", "audit-period-refused", { fullPage: false });
   });
 
   test("Save at the bottom of the long form answers beside the button, in view and focused; so does Submit", async ({ page, setup }, testInfo) => {
@@ -104,12 +100,12 @@ test.describe("words, units and feedback", () => {
     const form = page.getByRole("form", { name: "Profile parameters" });
     await form.getByLabel("Note").fill("Saved from the bottom of the form.");
     const feedback = await pressAndExpectFeedback(page, form, "Save new version", "Saved as v2 (draft)");
-    await keepScreenshot(page, testInfo, "save-feedback-in-view");
+    await keepScreenshot(page, testInfo, "words-save-feedback-in-view", "save-feedback-in-view", { fullPage: false });
 
     await feedback.getByRole("button", { name: "Submit v2 for review" }).click();
     // The submission runs the arm's built-in trials first (the evidence rule): slow on a busy machine.
     await expectFeedbackInView(page, "v2 is submitted for review", 120_000);
-    await keepScreenshot(page, testInfo, "submit-feedback-in-view");
+    await keepScreenshot(page, testInfo, "words-submit-feedback-in-view", "submit-feedback-in-view", { fullPage: false });
   });
 
   test("a save refused because a newer version exists says so beside the Save button, in view and focused", async ({ page, setup }, testInfo) => {
@@ -122,7 +118,7 @@ test.describe("words, units and feedback", () => {
     await form.getByLabel("Expo").fill("0.5");
     await pressAndExpectFeedback(page, form, "Save new version", "Not saved: a newer version exists (v2)");
     await expect(form.getByLabel("Expo")).toHaveValue("0.5");
-    await keepScreenshot(page, testInfo, "conflict-feedback-in-view");
+    await keepScreenshot(page, testInfo, "words-conflict-feedback-in-view", "conflict-feedback-in-view", { fullPage: false });
   });
 
   test("a decimal comma reads as a point (150,5 is 150.5 mm/s, never 1505), an ambiguous 1,500 is refused; damping is in mm", async ({ page, setup }, testInfo) => {
@@ -149,7 +145,7 @@ test.describe("words, units and feedback", () => {
     await tcp.blur();
     await expect(tcp).toHaveValue("150.5");
     await expect(form.getByText("Write 1.5 or 1500")).toHaveCount(0);
-    await keepScreenshot(page, testInfo, "comma-decimal");
+    await keepScreenshot(page, testInfo, "words-comma-decimal", "comma-decimal", { fullPage: false });
     await form.getByRole("button", { name: "Save new version" }).click();
     await expect(page.getByTestId("form-feedback")).toContainText("Saved as v2 (draft)");
     // The saved version reads 150.5 mm/s in the comparison of v1 and v2.
@@ -163,6 +159,6 @@ test.describe("words, units and feedback", () => {
     // The same values again: a new revision, nothing flagged.
     await form.getByLabel("Note").fill("Browser test: same values.");
     await pressAndExpectFeedback(page, form, "Save ceilings", "Ceilings saved");
-    await keepScreenshot(page, testInfo, "ceilings-feedback-in-view");
+    await keepScreenshot(page, testInfo, "words-ceilings-feedback-in-view", "ceilings-feedback-in-view", { fullPage: false });
   });
 });

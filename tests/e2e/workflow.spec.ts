@@ -1,5 +1,5 @@
-import type { APIRequestContext, Page, TestInfo } from "@playwright/test";
-import { saveScreenshot, signIn } from "../support/browser.ts";
+import type { APIRequestContext } from "@playwright/test";
+import { keepScreenshot, signIn } from "../support/browser.ts";
 import { expect, test, uniqueTag, type Person, type ProfileRef, type Setup, type VersionRef } from "../support/fixtures.ts";
 
 // Issue 13's workflow pass in a real browser against the real server: re-confirming a flagged version
@@ -10,10 +10,6 @@ import { expect, test, uniqueTag, type Person, type ProfileRef, type Setup, type
 
 test.use({ viewport: { width: 1400, height: 900 } });
 
-async function keepScreenshot(page: Page, testInfo: TestInfo, name: string): Promise<void> {
-  const path = await saveScreenshot(page, `workflow-${name}`);
-  await testInfo.attach(name, { path, contentType: "image/png" });
-}
 
 async function json<T>(response: Awaited<ReturnType<APIRequestContext["get"]>>, what: string): Promise<T> {
   if (!response.ok()) throw new Error(`${what}: ${response.status()} ${await response.text()}`);
@@ -67,7 +63,7 @@ test("a safety officer finds a flagged version by its name on the ceilings page 
   const entry = page.getByTestId("flagged-list").locator(`[data-version-id="${profile.latestVersion.id}"]`);
   await expect(entry.getByRole("link", { name: label, exact: true })).toBeVisible();
   await expect(entry).toContainText("Complies with the ceilings in force now.");
-  await keepScreenshot(page, testInfo, "flagged-on-ceilings-page");
+  await keepScreenshot(page, testInfo, "workflow-flagged-on-ceilings-page", "flagged-on-ceilings-page");
   await entry.getByRole("link", { name: `Re-confirm ${label}` }).click();
 
   await expect(page.getByRole("heading", { name: "Flagged above the site ceilings" })).toBeVisible();
@@ -82,7 +78,7 @@ test("a safety officer finds a flagged version by its name on the ceilings page 
   await expect(history).toHaveCount(2);
   await expect(history.nth(0)).toHaveAttribute("data-kind", "flag");
   await expect(history.nth(1)).toHaveAttribute("data-kind", "reconfirm");
-  await keepScreenshot(page, testInfo, "reconfirmed");
+  await keepScreenshot(page, testInfo, "workflow-reconfirmed", "reconfirmed");
   const detail = await json<{ profile: { driveableVersionId: number | null } }>(await sigrid.get(`/api/profiles/${profile.id}`), "read profile");
   expect(detail.profile.driveableVersionId).toBe(profile.latestVersion.id);
 });
@@ -106,7 +102,7 @@ test("approving a version older than the approved one asks for an explicit roll 
   await dialog.getByRole("button", { name: "Roll back to v2" }).click();
   await expect(dialog.getByRole("alert")).toHaveText("Tick “Roll back to v2” to confirm the rollback.");
   await dialog.getByRole("checkbox", { name: "Roll back to v2" }).check();
-  await keepScreenshot(page, testInfo, "rollback-confirm");
+  await keepScreenshot(page, testInfo, "workflow-rollback-confirm", "rollback-confirm");
   await dialog.getByRole("button", { name: "Roll back to v2" }).click();
   await expect(page.getByText(`${profile.name} v2 is approved and locked.`)).toBeVisible();
 
@@ -134,7 +130,7 @@ test("the author withdraws a submission with a note; it shows in the history and
   await expect(row).toContainText("Withdrawn");
   await expect(row).toContainText("Found a better deadband; will submit v2.");
   await expect(page.getByRole("button", { name: "Withdraw v1 from review" })).toHaveCount(0);
-  await keepScreenshot(page, testInfo, "withdrawn");
+  await keepScreenshot(page, testInfo, "workflow-withdrawn", "withdrawn");
   const queue = await json<{ versions: { id: number }[] }>(await (await setup.as("sigrid")).get("/api/reviews"), "read queue");
   expect(queue.versions.map((v) => v.id)).not.toContain(profile.latestVersion.id);
 });
@@ -148,7 +144,7 @@ test("a safety officer sees the number of submissions waiting beside Reviews in 
   await signIn(page, "", officer.username, "/", officer.password);
   const badge = page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: /^Reviews/ }).getByTestId("nav-count");
   await expect(badge).toHaveText(String(await waiting()));
-  await keepScreenshot(page, testInfo, "queue-badge");
+  await keepScreenshot(page, testInfo, "workflow-queue-badge", "queue-badge");
 
   // Another submission arrives; the badge follows (its background poll, or at once on a reload).
   const other = await profileFor(setup);
@@ -185,7 +181,7 @@ test("the new-version form starts from the approved version, not a newer rejecte
   await startFrom.selectOption(String(profile.latestVersion.id));
   await expect(watchdog).toHaveValue("250");
   await watchdog.fill("240");
-  await keepScreenshot(page, testInfo, "base-version");
+  await keepScreenshot(page, testInfo, "workflow-base-version", "base-version");
   await page.getByRole("button", { name: "Save new version" }).click();
   await expect(page.getByText("Saved as v3")).toBeVisible();
   const detail = await json<{ versions: { number: number; parentVersionId: number | null; params: { watchdogMs: number } }[] }>(
@@ -204,7 +200,7 @@ test("the profile page links each version its reader may drive to the drive page
   await signIn(page, "", "emeka", `/profiles/${profile.id}`);
   await expect(page.getByRole("link", { name: "Test-drive v2" })).toHaveAttribute("href", `/drive?version=${v2.id}`);
   await expect(page.getByRole("link", { name: "Test-drive v1" })).toHaveAttribute("href", `/drive?version=${profile.latestVersion.id}`);
-  await keepScreenshot(page, testInfo, "test-drive-links");
+  await keepScreenshot(page, testInfo, "workflow-test-drive-links", "test-drive-links");
 
   // The operator drives only the approved version; a safety officer drives none.
   const context = await page.context().browser()!.newContext({ baseURL: testInfo.project.use.baseURL });

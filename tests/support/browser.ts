@@ -14,11 +14,36 @@ export function launchBrowser(): Promise<Browser> {
 /** tests/artifacts/ (git-ignored): named screenshots of the states the browser tests walk through. */
 export const ARTIFACTS_DIR = join(dirname(fileURLToPath(import.meta.url)), "..", "artifacts");
 
-export async function saveScreenshot(page: Page, name: string): Promise<string> {
+/**
+ * Whether the named screenshots are written: only with JOGWRIGHT_SCREENSHOTS=1 (e.g.
+ * `JOGWRIGHT_SCREENSHOTS=1 npm test`), to look at the screens. A full-page screenshot costs the software-
+ * rendering Chromium about 0.6 s, and the 56 of them were 33 s of a plain `npm test` (measured 4 Dec 2026)
+ * that nothing read. A failed test's own screenshot and trace are kept either way (playwright.config.ts).
+ */
+export const SCREENSHOTS_WANTED = process.env.JOGWRIGHT_SCREENSHOTS === "1";
+
+/**
+ * Writes tests/artifacts/<name>.png (the full page, or with `fullPage: false` the window as it is) and
+ * returns its path; null when screenshots are not wanted.
+ */
+export async function saveScreenshot(page: Page, name: string, { fullPage = true } = {}): Promise<string | null> {
+  if (!SCREENSHOTS_WANTED) return null;
   mkdirSync(ARTIFACTS_DIR, { recursive: true });
   const path = join(ARTIFACTS_DIR, `${name}.png`);
-  await page.screenshot({ path, fullPage: true });
+  await page.screenshot({ path, fullPage });
   return path;
+}
+
+/** saveScreenshot, also attached to the test's report (a test's TestInfo) under `label`. */
+export async function keepScreenshot(
+  page: Page,
+  testInfo: { attach(name: string, options: { path: string; contentType: string }): Promise<void> },
+  name: string,
+  label: string,
+  options: { fullPage?: boolean } = {},
+): Promise<void> {
+  const path = await saveScreenshot(page, name, options);
+  if (path) await testInfo.attach(label, { path, contentType: "image/png" });
 }
 
 /** The demo accounts' password (README; printed by `npm start`). */
