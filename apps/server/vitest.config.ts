@@ -9,7 +9,7 @@ import { defineConfig } from "vitest/config";
 //   database slot, at the same time (tried);
 // - "faults": the fault files (answers within 2 s under a database outage, the real MariaDB paused and
 //   stopped, two instances sharing a Redis), all three at once: each spends most of its time waiting out
-//   a timeout or an outage (about 10 s each, under half a core together), and their bounds are seconds;
+//   a timeout or an outage (about 10 s each), and their bounds are seconds (28–31 s together, ~40 s in turn);
 // - "timed": the files that measure milliseconds (the jog socket at 1 kHz against its 200 ms watchdog),
 //   one file at a time so no other file competes for the 2 cores;
 // - "api": everything else, two files at a time (measured on 14 of these files: 53 s one at a time,

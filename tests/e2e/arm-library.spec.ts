@@ -7,7 +7,7 @@ import { expect, test, uniqueTag } from "../support/fixtures.ts";
 // The arm library in the browser (issue 12): an engineer uploads a CSV DH table, sees it refused with its
 // line and field when broken, previews the valid one (σ at the zero pose, the 3D view, σ at a moved pose),
 // saves it, creates a profile on its revision and tool, drives it briefly, and downloads the recording's
-// CSV export, whose header names the units. Screenshots at 1440×900 go to tests/artifacts/arms-*.png.
+// CSV export, whose header names the units. Screenshots at 1440×900 go to tests/artifacts/arms-*.png with JOGWRIGHT_SCREENSHOTS=1.
 
 test.use({ viewport: { width: 1440, height: 900 } });
 

@@ -8,7 +8,7 @@ import { expect, test } from "../support/fixtures.ts";
 // screen and the rest folds; the charts' axes, colours and threshold lines; the replay's event markers,
 // speed and title. An operator with an approved version of the console's default profile (ε 40 mm, the
 // stop-before guard at 20 mm) drives the simulated gamepad of tests/support/drive.ts. Every test keeps a
-// screenshot (tests/artifacts/layout-*.png, attached to the report too).
+// screenshot with JOGWRIGHT_SCREENSHOTS=1 (tests/artifacts/layout-*.png, attached to the report too).
 
 const VIEWPORT = { width: 1440, height: 900 };
 // Standard mapping (DEFAULT_GAMEPAD_MAPPING): left stick y (axis 1, inverted) → vx; button 7 enables.

@@ -9,7 +9,7 @@ import { expect, test, uniqueTag, type Person, type ProfileRef, type Setup } fro
 // (deactivation, sign-out, a ceiling change), with `?version=` in the address, and at the stop-before
 // guard. Each test makes its own people and profiles through the API and waits on what it expects — the
 // simulation time of the state frames the page receives, never a fixed sleep — and keeps a screenshot of
-// the state it ends in (tests/artifacts/drive-session-*.png, also attached to the test's report entry).
+// the state it ends in with JOGWRIGHT_SCREENSHOTS=1 (tests/artifacts/drive-session-*.png, also attached to the report).
 
 // Standard mapping as in DEFAULT_GAMEPAD_MAPPING: left stick y (axis 1, inverted) → vx, button 7 (right
 // trigger) is the enabling control.

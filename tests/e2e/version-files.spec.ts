@@ -7,7 +7,7 @@ import { expect, test, uniqueTag } from "../support/fixtures.ts";
 // imports that file back as a new draft with v1's hash, and sees a copy with one parameter changed refused
 // for its SHA-256 with nothing saved; a file that is not a version file is refused in the browser.
 // Screenshots of the first screen (1440×900: the version list and the import's outcome) go to
-// tests/artifacts/version-files-*.png.
+// tests/artifacts/version-files-*.png with JOGWRIGHT_SCREENSHOTS=1.
 
 test.use({ viewport: { width: 1440, height: 900 } });
 

@@ -6,7 +6,7 @@ import { expect, test, uniqueTag, type Setup } from "../support/fixtures.ts";
 // speak in labels, never codes; Save, Submit and a refused save answer beside the Save button, in view
 // and focused, however long the form; a decimal comma is read as a point; damping is entered in mm; a
 // period that ends before it starts is refused. Each test makes its own profile and people through the
-// API and keeps a screenshot of what it checked.
+// API and keeps a screenshot of what it checked (with JOGWRIGHT_SCREENSHOTS=1).
 
 test.use({ viewport: { width: 1400, height: 900 } });
 

@@ -6,7 +6,7 @@ import { expect, test, uniqueTag, type Person, type ProfileRef, type Setup, type
 // under the current ceilings (found on the ceilings page by its human name), the explicit "Roll back to vN"
 // confirmation, the author's withdrawal, the review queue's count in the navigation, the new-version
 // form's choice of base version, and the profile page's test-drive link. Each test makes its people and
-// profiles through the API (emeka writes, sigrid approves) and keeps a screenshot as an artefact.
+// profiles through the API (emeka writes, sigrid approves) and keeps a screenshot as an artefact (with JOGWRIGHT_SCREENSHOTS=1).
 
 test.use({ viewport: { width: 1400, height: 900 } });
 

@@ -17,8 +17,8 @@ export const ARTIFACTS_DIR = join(dirname(fileURLToPath(import.meta.url)), "..",
 /**
  * Whether the named screenshots are written: only with JOGWRIGHT_SCREENSHOTS=1 (e.g.
  * `JOGWRIGHT_SCREENSHOTS=1 npm test`), to look at the screens. A full-page screenshot costs the software-
- * rendering Chromium about 0.6 s, and the 56 of them were 33 s of a plain `npm test` (measured 4 Dec 2026)
- * that nothing read. A failed test's own screenshot and trace are kept either way (playwright.config.ts).
+ * rendering Chromium about 0.6 s: 42 of them took 25.3 s of the driving tests (from their traces, 4 Dec
+ * 2026), and nothing in a test run reads them. A failed test's own screenshot and trace are kept either way (playwright.config.ts).
  */
 export const SCREENSHOTS_WANTED = process.env.JOGWRIGHT_SCREENSHOTS === "1";
 
