@@ -1,4 +1,5 @@
 import type { ButtonHTMLAttributes } from "react";
+import type { LucideIcon } from "lucide-react";
 import { cn } from "../../lib/cn.ts";
 
 type Variant = "primary" | "secondary" | "ghost" | "danger";
@@ -28,5 +29,23 @@ export function Button({ variant = "secondary", size = "md", className, type = "
       )}
       {...rest}
     />
+  );
+}
+
+export interface SubmitButtonProps extends Omit<ButtonProps, "type" | "variant"> {
+  /** Its icon, before the label. */
+  icon: LucideIcon;
+  isPending: boolean;
+  /** Shown instead of the label, with the button disabled, while the request runs: "Saving…". */
+  pendingLabel: string;
+}
+
+/** A page form's primary submit button: icon and label, disabled and saying what it does while the request runs. */
+export function SubmitButton({ icon: Icon, isPending, pendingLabel, disabled, children, ...rest }: SubmitButtonProps) {
+  return (
+    <Button type="submit" variant="primary" disabled={disabled || isPending} {...rest}>
+      <Icon aria-hidden className="size-4" />
+      {isPending ? pendingLabel : children}
+    </Button>
   );
 }

@@ -5,7 +5,7 @@ import { zodResolver } from "@hookform/resolvers/zod";
 import { ArrowLeft, Plus, Save, Trash2 } from "lucide-react";
 import type { ArmDetail, User } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
-import { Button } from "../../../components/ui/button.tsx";
+import { Button, SubmitButton } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { FormFooter, SCROLL_ABOVE_FORM_FOOTER } from "../../../components/ui/form-footer.tsx";
 import { Message } from "../../../components/ui/message.tsx";
@@ -189,10 +189,9 @@ function ArmForm({ detail }: { detail: ArmDetail | null }) {
           }
           className="mt-5"
         >
-          <Button type="submit" variant="primary" disabled={save.isPending}>
-            <Save aria-hidden className="size-4" />
-            {save.isPending ? "Saving…" : isEdit ? `Save as revision ${(latest?.revision ?? 0) + 1}` : "Create arm"}
-          </Button>
+          <SubmitButton icon={Save} isPending={save.isPending} pendingLabel="Saving…">
+            {isEdit ? `Save as revision ${(latest?.revision ?? 0) + 1}` : "Create arm"}
+          </SubmitButton>
         </FormFooter>
       </Card>
     </form>

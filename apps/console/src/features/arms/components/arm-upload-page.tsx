@@ -8,7 +8,7 @@ import { ArrowLeft, Save } from "lucide-react";
 import { armUploadFieldsSchema, mToMm, type ArmUploadPreview, type User } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
 import { Badge } from "../../../components/ui/badge.tsx";
-import { Button } from "../../../components/ui/button.tsx";
+import { Button, SubmitButton } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { DataTable, useDataTable } from "../../../components/ui/data-table.tsx";
@@ -183,9 +183,9 @@ function PreviewAndSave({ file, preview }: { file: File; preview: ArmUploadPrevi
             </Message>
           ) : null}
           <div className="flex justify-end">
-            <Button type="submit" variant="primary" disabled={save.isPending}>
-              <Save aria-hidden className="size-4" /> {save.isPending ? "Saving…" : "Save arm"}
-            </Button>
+            <SubmitButton icon={Save} isPending={save.isPending} pendingLabel="Saving…">
+              Save arm
+            </SubmitButton>
           </div>
         </form>
       </Card>

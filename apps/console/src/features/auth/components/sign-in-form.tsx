@@ -2,7 +2,7 @@ import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { LogIn } from "lucide-react";
 import { signInSchema, type SignInInput } from "@jogwright/shared";
-import { Button } from "../../../components/ui/button.tsx";
+import { SubmitButton } from "../../../components/ui/button.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
@@ -54,10 +54,9 @@ export function SignInForm() {
           {error.message}
         </Message>
       ) : null}
-      <Button type="submit" variant="primary" disabled={signIn.isPending} className="mt-1 h-10">
-        <LogIn aria-hidden className="size-4" />
-        {signIn.isPending ? "Signing in…" : "Sign in"}
-      </Button>
+      <SubmitButton icon={LogIn} isPending={signIn.isPending} pendingLabel="Signing in…" className="mt-1 h-10">
+        Sign in
+      </SubmitButton>
     </form>
   );
 }

@@ -5,7 +5,7 @@ import { zodResolver } from "@hookform/resolvers/zod";
 import { Save } from "lucide-react";
 import { GUARD_POLICIES, GUARD_POLICY_LABELS, labelForProfilePath, type CeilingsRecord, type FlaggedVersion } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
-import { Button } from "../../../components/ui/button.tsx";
+import { Button, SubmitButton } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { FormFooter, SCROLL_ABOVE_FORM_FOOTER } from "../../../components/ui/form-footer.tsx";
 import { cn } from "../../../lib/cn.ts";
@@ -208,10 +208,9 @@ function CeilingsEditor({ latest, canEdit }: { latest: CeilingsRecord; canEdit: 
                   ) : null
                 }
               >
-                <Button type="submit" variant="primary" disabled={update.isPending}>
-                  <Save aria-hidden className="size-4" />
-                  {update.isPending ? "Saving…" : "Save ceilings"}
-                </Button>
+                <SubmitButton icon={Save} isPending={update.isPending} pendingLabel="Saving…">
+                  Save ceilings
+                </SubmitButton>
               </FormFooter>
             </>
           ) : null}

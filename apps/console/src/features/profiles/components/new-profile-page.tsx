@@ -3,7 +3,7 @@ import { Link, useNavigate } from "react-router";
 import { ArrowLeft, Plus } from "lucide-react";
 import { createProfileSchema, defaultProfileParams, type Arm, type ProfileParams } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
-import { Button } from "../../../components/ui/button.tsx";
+import { SubmitButton } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { Loading } from "../../../components/ui/loading.tsx";
 import { Message } from "../../../components/ui/message.tsx";
@@ -135,10 +135,9 @@ export function NewProfilePage() {
                   ) : null}
                   {isHeadTouched && !head.success ? <Message tone="stop">Give the profile a name and pick an operator above.</Message> : null}
                   <div className="flex justify-end gap-2">
-                    <Button type="submit" variant="primary" disabled={create.isPending} onClick={() => setHeadTouched(true)}>
-                      <Plus aria-hidden className="size-4" />
-                      {create.isPending ? "Creating…" : "Create profile"}
-                    </Button>
+                    <SubmitButton icon={Plus} isPending={create.isPending} pendingLabel="Creating…" onClick={() => setHeadTouched(true)}>
+                      Create profile
+                    </SubmitButton>
                   </div>
                 </div>
               )}

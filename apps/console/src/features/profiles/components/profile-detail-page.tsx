@@ -11,7 +11,7 @@ import {
   type User,
 } from "@jogwright/shared";
 import { PageHeader } from "../../../components/layout/page-header.tsx";
-import { Button } from "../../../components/ui/button.tsx";
+import { Button, SubmitButton } from "../../../components/ui/button.tsx";
 import { Card } from "../../../components/ui/card.tsx";
 import { FormFooter } from "../../../components/ui/form-footer.tsx";
 import { Loading } from "../../../components/ui/loading.tsx";
@@ -459,10 +459,9 @@ function NewVersionCard({
               // moved to it (issue 13, item 10): the footer stays at the bottom of the window.
               <FormFooter feedback={feedback?.node} feedbackKey={feedback?.key ?? null}>
                 {violations.length > 0 ? <span className="text-sm text-warn-400">Saves as a draft only; fix the ceilings before submitting.</span> : null}
-                <Button type="submit" variant="primary" disabled={save.isPending}>
-                  <Save aria-hidden className="size-4" />
-                  {save.isPending ? "Saving…" : "Save new version"}
-                </Button>
+                <SubmitButton icon={Save} isPending={save.isPending} pendingLabel="Saving…">
+                  Save new version
+                </SubmitButton>
               </FormFooter>
             )}
           />
