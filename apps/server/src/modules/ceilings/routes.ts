@@ -2,6 +2,7 @@ import { numericIdParamSchema, reconfirmVersionSchema, updateCeilingsSchema } fr
 import { ApiRouter, requireAccount } from "../../http/api-router.ts";
 import { parseBody, parseParams } from "../../http/validate.ts";
 import type { AppContext } from "../../context.ts";
+import { accountChangesFor } from "../users/account-changes.ts";
 import * as service from "./service.ts";
 
 export function ceilingsRouters(ctx: AppContext): ApiRouter[] {
@@ -11,7 +12,10 @@ export function ceilingsRouters(ctx: AppContext): ApiRouter[] {
     })
     .add("put", "/", ["safety_officer"], async (req, res) => {
       const input = parseBody(req, updateCeilingsSchema);
-      res.json(await service.updateCeilings(ctx, requireAccount(res), input));
+      const updated = await service.updateCeilings(ctx, requireAccount(res), input);
+      // Versions flagged by the change stop being driveable now: the sockets driving them find out at once.
+      if (updated.flaggedVersionIds.length > 0) accountChangesFor(ctx).publish({ kind: "versions", why: "ceilings-changed" });
+      res.json(updated);
     })
     .add("get", "/flagged", ["engineer", "safety_officer"], async (_req, res) => {
       res.json({ versions: await service.listFlaggedVersions(ctx.db) });

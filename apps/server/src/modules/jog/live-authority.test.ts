@@ -1,11 +1,12 @@
 import { performance } from "node:perf_hooks";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
-import { defaultProfileParams, JOG_CLOSE_CODES, type JogServerMessage, type JogState, type ProfileParams, type RecordedFrame, type Role, type User } from "@jogwright/shared";
+import { defaultProfileParams, JOG_CLOSE_CODES, type Ceilings, type JogServerMessage, type JogState, type ProfileParams, type RecordedFrame, type Role, type User } from "@jogwright/shared";
 import { findArm } from "../arms/service.ts";
 import { createProfile } from "../versions/service.ts";
 import { call, DEMO_BY_ROLE, freshUser, signIn, type Harness } from "../../test/harness.ts";
 import { closeJogServer, openJogServer, type Listener } from "../../test/jog-fixture.ts";
+import { approvedProfile, compliantParams, freshTeam, sixAxisArm } from "../../test/profiles-fixture.ts";
 import { JogTestClient, sleep, upgradeOutcome } from "./jog-test-client.ts";
 
 /**
@@ -339,5 +340,62 @@ describe("an idle page expires", () => {
     expect(await after(w, 0, isEnded, 1000)).toMatchObject({ sessionId, reason: "account-deactivated" });
     expect((await closing).code).toBe(JOG_CLOSE_CODES.accountDeactivated);
     await d.close();
+  });
+});
+
+describe("a change to what may be driven reaches the driving socket at once", () => {
+  // Before, only the periodic re-check (every 10 s) found these: the operator drove on for up to 10 s.
+  const AT_ONCE_MS = 1000;
+
+  async function operatorDrivingApproved() {
+    const team = await freshTeam(h);
+    const arm = await sixAxisArm(h);
+    const { profile, version } = await approvedProfile(h, team, arm);
+    const { c, sessionId } = await startDriving(team.operator.cookie, version.id);
+    return { team, arm, profile, version, c, sessionId };
+  }
+
+  it("a ceiling change that flags the operator's approved version ends the drive (`ended` profile-not-driveable) at once", async () => {
+    const { team, c, sessionId } = await operatorDrivingApproved();
+    const before = (await call(h, "get", "/api/ceilings", team.officer.cookie)).body as { revision: number; ceilings: Ceilings };
+    try {
+      // The default parameters run at 250 mm/s; a 200 mm/s ceiling flags the version.
+      const res = await call(h, "put", "/api/ceilings", team.officer.cookie).send({
+        revision: before.revision,
+        ceilings: { ...before.ceilings, tcpLinearMaxMPerS: 0.2 },
+        note: "test: lowered below the driven version",
+      });
+      expect(res.status).toBe(200);
+      expect(res.body.flaggedVersionIds.length).toBeGreaterThan(0);
+      const answeredAt = performance.now();
+      const ended = await after(c, 0, isEnded, AT_ONCE_MS);
+      expect(ended).toMatchObject({ sessionId, reason: "profile-not-driveable" });
+      expect(c.messages.find((m) => m.msg === ended)!.at - answeredAt).toBeLessThan(AT_ONCE_MS);
+      expect(net.jog.hub.sessions.has(sessionId)).toBe(false);
+    } finally {
+      const now = (await call(h, "get", "/api/ceilings", team.officer.cookie)).body as { revision: number };
+      await call(h, "put", "/api/ceilings", team.officer.cookie).send({ revision: now.revision, ceilings: before.ceilings, note: "test: restored" }).expect(200);
+      await c.close();
+    }
+  });
+
+  it("approving a newer version ends the operator's drive of the one it supersedes at once; retiring the new one ends that drive too", async () => {
+    const { team, arm, profile, version, c, sessionId } = await operatorDrivingApproved();
+    const saved = await call(h, "post", `/api/profiles/${profile.id}/versions`, team.engineer.cookie).send({
+      parentVersionId: version.id,
+      params: { ...compliantParams(arm), speedOverride: { defaultPercent: 30, maxPercent: 100 } },
+      note: "v2",
+    });
+    expect(saved.status).toBe(201);
+    const v2 = saved.body.version as { id: number; paramsSha256: string };
+    await call(h, "post", `/api/versions/${v2.id}/submit`, team.engineer.cookie).expect(200);
+    await call(h, "post", `/api/versions/${v2.id}/approve`, team.officer.cookie).send({ comment: "v2 looks right", paramsSha256: v2.paramsSha256 }).expect(200);
+    expect(await after(c, 0, isEnded, AT_ONCE_MS)).toMatchObject({ sessionId, reason: "profile-not-driveable" });
+    await c.close();
+
+    const second = await startDriving(team.operator.cookie, v2.id);
+    await call(h, "post", `/api/versions/${v2.id}/retire`, team.officer.cookie).send({ reason: "retired for a test" }).expect(200);
+    expect(await after(second.c, 0, isEnded, AT_ONCE_MS)).toMatchObject({ sessionId: second.sessionId, reason: "profile-not-driveable" });
+    await second.c.close();
   });
 });

@@ -450,6 +450,11 @@ class JogConnection implements FrameSink {
       if (change.sessionId === this.sessionId) void this.revoke(REVOKED.signedOut);
       return;
     }
+    if (change.kind === "versions") {
+      // The driven version may no longer be driveable: decided now, as the periodic re-check would.
+      if (this.driving) void this.recheck().catch((error: unknown) => console.error("[jogwright] jog re-check failed:", (error as Error).message));
+      return;
+    }
     if (change.user.id !== this.user.id) return;
     if (change.isPasswordChanged && change.user.isActive) return void this.revoke(REVOKED.passwordChanged);
     this.applyAccount(change.user, this.accounts.epochOf(change.user.id));

@@ -14,7 +14,7 @@ export function reviewsRouters(ctx: AppContext): ApiRouter[] {
     })
     // The body is optional: no body submits with the evidence the site's rule asks for.
     .add("post", "/:id/submit", ["engineer"], versionMove(ctx, submitVersionSchema, service.submitVersion, { isBodyOptional: true }))
-    .add("post", "/:id/approve", ["safety_officer"], versionMove(ctx, approveVersionSchema, service.approveVersion))
+    .add("post", "/:id/approve", ["safety_officer"], versionMove(ctx, approveVersionSchema, service.approveVersion, { drivingChange: "approved" }))
     .add("post", "/:id/reject", ["safety_officer"], versionMove(ctx, rejectVersionSchema, service.rejectVersion));
   const queue = new ApiRouter("/api/reviews").add("get", "/", ["safety_officer"], async (_req, res) => {
     res.json({ versions: await service.listReviewQueue(ctx.db) });

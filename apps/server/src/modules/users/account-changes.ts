@@ -5,9 +5,11 @@ import type { Scale } from "../../scale/redis.ts";
 /**
  * What open connections must learn the moment it happens (issue 11, item 2): an account's roles, active
  * flag or password changed (the users service publishes it from the admin's PATCH, after the commit), or
- * one cookie session was signed out (the sign-out route). The live-jogging sockets (jog/socket.ts)
+ * one cookie session was signed out (the sign-out route), or what may be driven changed (a ceiling change
+ * that flagged versions, an approval, a retirement: `versions`). The live-jogging sockets (jog/socket.ts)
  * subscribe and apply each change at once — a controlled stop and close for a deactivated account, a
- * downgrade for a role change — instead of finding out at their periodic re-check.
+ * downgrade for a role change, a re-check of the driven version for `versions` — instead of finding out at
+ * their periodic re-check.
  *
  * Each account also has an epoch, raised by every published change to it. A connection remembers the
  * epoch of the account it holds and compares it on every privileged message (a Map lookup): a mismatch —
@@ -30,7 +32,13 @@ export type AccountChange =
       /** The password was changed (its sessions were ended for that reason). */
       isPasswordChanged: boolean;
     }
-  | { kind: "signed-out"; userId: string; sessionId: string };
+  | { kind: "signed-out"; userId: string; sessionId: string }
+  /**
+   * Versions may have stopped being driveable: a ceiling change flagged approved versions, an approval
+   * superseded the profile's approved version, a version was retired. Not tied to one account: every
+   * connection that drives re-checks its version now, instead of at its periodic re-check.
+   */
+  | { kind: "versions"; why: "ceilings-changed" | "approved" | "retired" };
 
 export type AccountChangeListener = (change: AccountChange) => void;
 

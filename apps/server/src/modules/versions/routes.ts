@@ -23,7 +23,7 @@ export function versionsRouters(ctx: AppContext): ApiRouter[] {
       res.status(201).json({ version: await service.saveVersion(ctx, requireAccount(res), id, input) });
     });
   const retire = new ApiRouter("/api/versions")
-    .add("post", "/:id/retire", ["safety_officer"], versionMove(ctx, retireVersionSchema, service.retireVersion))
+    .add("post", "/:id/retire", ["safety_officer"], versionMove(ctx, retireVersionSchema, service.retireVersion, { drivingChange: "retired" }))
     // The author takes a submission back (the service refuses anyone else: 403).
     .add("post", "/:id/withdraw", ["engineer"], versionMove(ctx, withdrawVersionSchema, service.withdrawVersion, { isBodyOptional: true }));
   return [saves, retire];
