@@ -38,10 +38,15 @@ export async function sixAxisArm(h: Harness): Promise<Arm> {
   return res.body.arm as Arm;
 }
 
-let cachedCookie: string | null = null;
-async function adminlessCookie(h: Harness): Promise<string> {
-  cachedCookie ??= await signIn(h, "olena");
-  return cachedCookie;
+/** A demo operator's sign-in per harness (test files that share a worker each have their own database and harness). */
+const cachedCookies = new WeakMap<Harness, Promise<string>>();
+function adminlessCookie(h: Harness): Promise<string> {
+  let cookie = cachedCookies.get(h);
+  if (!cookie) {
+    cookie = signIn(h, "olena");
+    cachedCookies.set(h, cookie);
+  }
+  return cookie;
 }
 
 /**
