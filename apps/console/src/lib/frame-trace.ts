@@ -7,8 +7,9 @@ import type { RecordedFrame } from "@jogwright/shared";
  * joint), σ_min and λ in mm, TCP speeds in mm/s. Time is the simulation time t [s] of each frame.
  *
  * A FrameSource is anything that can feed the 3D view and the charts: the live socket client or a
- * recording being replayed. The view polls `frameSerial()` once per animation frame and redraws only
- * when it changed, so nothing here causes a React render.
+ * recording being replayed. The 3D view is told of each new frame (`onFrame`) and asks for a render only
+ * when the frame moved something; the charts read the trace on their own timer. Nothing here causes a
+ * React render.
  */
 export interface FrameSource {
   readonly trace: FrameTrace;
@@ -16,6 +17,8 @@ export interface FrameSource {
   latestFrame(): RecordedFrame | null;
   /** Increases by one for every frame received (or every scrub step in a replay). */
   frameSerial(): number;
+  /** Calls `listener` synchronously after every such increase; returns the unsubscribe. */
+  onFrame(listener: () => void): () => void;
 }
 
 

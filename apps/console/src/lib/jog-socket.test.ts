@@ -109,6 +109,21 @@ describe("the jog socket client when the server ends the session or closes", () 
     return { client, socket };
   }
 
+  it("tells its frame listeners of each frame of the live session as it arrives, not of frames it ignores (the 3D view renders on them)", () => {
+    const { client, socket } = driving();
+    const told: number[] = [];
+    const unsubscribe = client.onFrame(() => told.push(client.frameSerial()));
+    socket.serverSends(movingFrame("s1", 1.1));
+    socket.serverSends(movingFrame("s1", 1.2));
+    socket.serverSends(movingFrame("another session", 1.3));
+    expect(told).toHaveLength(2);
+    expect(told[1]).toBe(told[0]! + 1);
+    expect(client.latestFrame()).toMatchObject({ t: 1.2 });
+    unsubscribe();
+    socket.serverSends(movingFrame("s1", 1.4));
+    expect(told).toHaveLength(2);
+  });
+
   it("after a deactivation (4403) shows no state, says why in words and never reconnects", () => {
     const { client, socket } = driving();
     socket.serverSends({

@@ -12,6 +12,7 @@ import {
   type JogState,
   type RecordedFrame,
 } from "@jogwright/shared";
+import { FrameSignal } from "./frame-signal.ts";
 import { FrameTrace, type FrameSource } from "./frame-trace.ts";
 import { reportDatabaseUnavailable } from "./database-status.ts";
 import { SnapshotStore } from "./snapshot-store.ts";
@@ -159,6 +160,8 @@ export class JogSocketClient extends SnapshotStore<JogSnapshot> implements Frame
   private inputSeq = 0;
   private latest: JogState | null = null;
   private serial = 0;
+  private readonly frameSignal = new FrameSignal();
+  readonly onFrame = this.frameSignal.onFrame;
   private framesInSession = 0;
   private inputToStateMs: number | null = null;
   private lastSnapshotMs = 0;
@@ -348,6 +351,7 @@ export class JogSocketClient extends SnapshotStore<JogSnapshot> implements Frame
       case "session":
         this.latest = null;
         this.serial++;
+        this.frameSignal.notify();
         this.framesInSession = 0;
         this.inputToStateMs = null;
         this.publish({ session: message.session, state: null, frameCount: 0, ended: null, error: null });
@@ -391,6 +395,7 @@ export class JogSocketClient extends SnapshotStore<JogSnapshot> implements Frame
     this.serial++;
     this.framesInSession++;
     this.trace.push(state);
+    this.frameSignal.notify();
     const isUrgent =
       previous === null ||
       previous.estopLatched !== state.estopLatched ||

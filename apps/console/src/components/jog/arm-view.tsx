@@ -18,6 +18,8 @@ import type { RecordedFrame } from "@jogwright/shared";
 export interface ArmPoseSource {
   latestFrame(): Pick<RecordedFrame, "q" | "twistCommanded" | "twistAchieved"> | null;
   frameSerial(): number;
+  /** Calls `listener` synchronously whenever the serial moves; returns the unsubscribe. */
+  onFrame(listener: () => void): () => void;
 }
 
 /**
@@ -29,9 +31,12 @@ export interface ArmPoseSource {
  *
  * Scene units are metres. The robot's world frame is z-up; three.js is y-up, so everything robot sits
  * in a group turned −90° about x. Updates happen in useFrame from the FrameSource (no React render per
- * frame). The canvas renders on demand: a small requestAnimationFrame watcher asks for a render only
- * when a frame arrives that moves something (q or a twist changed) — an arm standing still costs no GPU
- * time, and a jogging one renders once per display frame.
+ * frame). The canvas renders on demand: the source tells the view of each new frame (`onFrame`), and the
+ * view asks for a render only when the frame moves something (q or a twist changed) — an arm standing
+ * still costs no rendering and schedules no animation frames, and a jogging one renders once per display
+ * frame. (Before, a requestAnimationFrame loop polled the serial: a frame was noticed at the next animation
+ * frame and drawn at the one after, a display frame later than now, and the loop ran 60 times a second on
+ * every page with a 3D view, arm moving or not.)
  */
 
 // Colours are the "Ink & Iris" tokens (DEVELOPERS.md, Visual identity): no state colours as decoration.
@@ -116,28 +121,25 @@ function ArmRig({ arm, restPose, source, statusRef }: ArmRigProps) {
 
   const invalidate = useThree((state) => state.invalidate);
   useEffect(() => {
-    let raf = 0;
     let seenSerial = -2;
     const last = new Float64Array(n + 12);
-    const watch = () => {
+    const check = () => {
       const serial = source.frameSerial();
-      if (serial !== seenSerial) {
-        seenSerial = serial;
-        const frame = source.latestFrame();
-        let changed = frame === null;
-        if (frame) {
-          for (let i = 0; i < n; i++) if (last[i] !== frame.q[i]) { last[i] = frame.q[i]!; changed = true; }
-          for (let i = 0; i < 6; i++) {
-            if (last[n + i] !== frame.twistCommanded[i]) { last[n + i] = frame.twistCommanded[i]!; changed = true; }
-            if (last[n + 6 + i] !== frame.twistAchieved[i]) { last[n + 6 + i] = frame.twistAchieved[i]!; changed = true; }
-          }
+      if (serial === seenSerial) return;
+      seenSerial = serial;
+      const frame = source.latestFrame();
+      let changed = frame === null;
+      if (frame) {
+        for (let i = 0; i < n; i++) if (last[i] !== frame.q[i]) { last[i] = frame.q[i]!; changed = true; }
+        for (let i = 0; i < 6; i++) {
+          if (last[n + i] !== frame.twistCommanded[i]) { last[n + i] = frame.twistCommanded[i]!; changed = true; }
+          if (last[n + 6 + i] !== frame.twistAchieved[i]) { last[n + 6 + i] = frame.twistAchieved[i]!; changed = true; }
         }
-        if (changed) invalidate();
       }
-      raf = requestAnimationFrame(watch);
+      if (changed) invalidate();
     };
-    raf = requestAnimationFrame(watch);
-    return () => cancelAnimationFrame(raf);
+    check();
+    return source.onFrame(check);
   }, [source, n, invalidate]);
 
   const unitCylinder = useMemo(() => new THREE.CylinderGeometry(1, 1, 1, 14), []);

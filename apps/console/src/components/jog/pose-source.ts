@@ -1,3 +1,4 @@
+import { FrameSignal } from "../../lib/frame-signal.ts";
 import type { ArmPoseSource } from "./arm-view.tsx";
 
 const STILL = [0, 0, 0, 0, 0, 0];
@@ -9,6 +10,8 @@ const STILL = [0, 0, 0, 0, 0, 0];
 export class StillPoseSource implements ArmPoseSource {
   private frame: { q: number[]; twistCommanded: number[]; twistAchieved: number[] };
   private serial = 0;
+  private readonly frameSignal = new FrameSignal();
+  readonly onFrame = this.frameSignal.onFrame;
 
   constructor(q: readonly number[]) {
     this.frame = { q: [...q], twistCommanded: STILL, twistAchieved: STILL };
@@ -17,6 +20,7 @@ export class StillPoseSource implements ArmPoseSource {
   setPose(q: readonly number[]): void {
     this.frame = { ...this.frame, q: [...q] };
     this.serial++;
+    this.frameSignal.notify();
   }
 
   latestFrame() {

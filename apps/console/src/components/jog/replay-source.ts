@@ -1,4 +1,5 @@
 import type { RecordedFrame } from "@jogwright/shared";
+import { FrameSignal } from "../../lib/frame-signal.ts";
 import { FrameTrace, type FrameSource } from "../../lib/frame-trace.ts";
 
 /** Seconds of history behind the cursor that the charts show (as live). */
@@ -13,6 +14,8 @@ export class ReplaySource implements FrameSource {
   private readonly frames: readonly RecordedFrame[];
   private cursor = -1;
   private serial = 0;
+  private readonly frameSignal = new FrameSignal();
+  readonly onFrame = this.frameSignal.onFrame;
 
   private readonly jointTypes: readonly ("revolute" | "prismatic")[];
 
@@ -57,6 +60,7 @@ export class ReplaySource implements FrameSource {
     }
     this.cursor = target;
     this.serial++;
+    this.frameSignal.notify();
   }
 
   /** The last frame index at or before simulation time t (binary search; frames are in time order). */
