@@ -98,12 +98,14 @@ test.describe("drive page", () => {
     await page.mouse.down();
     await expectMotion(page, "Moving");
     const zStart = (await readTcpMm(page)).z;
-    // Frame rate while jogging: requestAnimationFrame callbacks in the page over 3 s.
-    const fps = await measureFps(page, 3000);
-    console.log(`drive page frame rate while jogging in headless Chromium: ${fps.toFixed(1)} fps`);
-    // On a shared 2-core machine the rate swings with the other load (41–60 fps measured), so the ≥ 55 fps
-    // target is asserted only when asked for (DRIVE_FPS_MIN=55 on a quiet machine, as the benchmark does).
+    // Frame rate while jogging: requestAnimationFrame callbacks in the page. On a shared 2-core machine the
+    // rate swings with the other load (41–60 fps measured), so the ≥ 55 fps target is asserted only when
+    // asked for (DRIVE_FPS_MIN=55 on a quiet machine, over 3 s, as the benchmark does); otherwise it is
+    // printed over 1 s of the jog, still far more than the 20 mm checked below (the default profile jogs at
+    // 250 mm/s × its 50 % default override).
     const fpsMin = Number(process.env.DRIVE_FPS_MIN ?? "0");
+    const fps = await measureFps(page, fpsMin > 0 ? 3000 : 1000);
+    console.log(`drive page frame rate while jogging in headless Chromium: ${fps.toFixed(1)} fps`);
     if (fpsMin > 0) expect(fps).toBeGreaterThanOrEqual(fpsMin);
     const zEnd = (await readTcpMm(page)).z;
     expect(zEnd - zStart).toBeGreaterThan(20);

@@ -1,5 +1,5 @@
 import { randomBytes } from "node:crypto";
-import { test as base, expect, request, type APIRequestContext } from "@playwright/test";
+import { test as base, expect as playwrightExpect, request, type APIRequestContext } from "@playwright/test";
 import { defaultProfileParams, type Arm, type ProfileParams, type Role } from "@jogwright/shared";
 import { DEMO_PASSWORD } from "./browser.ts";
 
@@ -154,4 +154,18 @@ export const test = base.extend<{ setup: Setup }>({
   },
 });
 
-export { expect };
+/**
+ * How often `expect.poll` asks again: every 50, 100, then 200 ms. Playwright's own intervals (100, 250, 500,
+ * then 1000 ms) let a condition met just after a check wait up to a second for the next one; the drive
+ * tests poll simulation time, readouts and drawn frames 23 times. A call's own `intervals` still wins.
+ */
+const POLL_INTERVALS = [50, 100, 200];
+
+/** Playwright's `expect`, with `expect.poll` asking at POLL_INTERVALS. */
+export const expect = new Proxy(playwrightExpect, {
+  get(target, property, receiver) {
+    if (property !== "poll") return Reflect.get(target, property, receiver);
+    const poll: typeof playwrightExpect.poll = (generator, options) => target.poll(generator, { intervals: POLL_INTERVALS, ...options });
+    return poll;
+  },
+});
