@@ -115,7 +115,10 @@ async function main() {
   try {
     // The checks and tests that need no database, and the console build, run side by side (each job's
     // output printed whole when it ends): on the 2-core machine this takes about half the time of running
-    // them one after another, and none of them measures time.
+    // them one after another, and none of them measures time. The browser tests' server starts as soon as
+    // the console it serves is built (it migrates and seeds the test database, about 6 s, here rather than
+    // between the server's tests and the browser tests); it waits, idle, while the server's tests run on
+    // databases of their own.
     const jobs = await Promise.allSettled([
       typecheckSuite(),
       lintSuite(),
@@ -124,7 +127,15 @@ async function main() {
         await vitestSuite("shared", "packages/shared", {}, { buffered: true });
         await vitestSuite("console", "apps/console", {}, { buffered: true });
       })(),
-      buildConsoleJob(),
+      (async () => {
+        await buildConsoleJob();
+        server = await startServerForRun({
+          what: "the test server",
+          port: portFromEnv("TEST_PORT", 3100),
+          portVar: "TEST_PORT",
+          env: { ...dbEnv, MAIL_DIR: path.join(DATA_DIR, "mail-test"), SMTP_PORT: String(portFromEnv("TEST_SMTP_PORT", 2626)), NODE_ENV: "test" },
+        });
+      })(),
     ]);
     for (const job of jobs) if (job.status === "rejected") throw job.reason;
     // The scale-out tests (two instances sharing a Redis) get REDIS_TEST_URL; every other test runs embedded.
@@ -133,12 +144,6 @@ async function main() {
     await redis.stop();
     redis = null;
 
-    server = await startServerForRun({
-      what: "the test server",
-      port: portFromEnv("TEST_PORT", 3100),
-      portVar: "TEST_PORT",
-      env: { ...dbEnv, MAIL_DIR: path.join(DATA_DIR, "mail-test"), SMTP_PORT: String(portFromEnv("TEST_SMTP_PORT", 2626)), NODE_ENV: "test" },
-    });
     const browserEnv = { ...dbEnv, JOGWRIGHT_URL: server.url, CHROMIUM_PATH: "/usr/bin/chromium" };
     playwrightSuite("browser: pages", "pages", browserEnv);
     playwrightSuite("browser and whole-system: driving (one at a time)", "driving", browserEnv);

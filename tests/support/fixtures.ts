@@ -165,7 +165,7 @@ const POLL_INTERVALS = [50, 100, 200];
 export const expect = new Proxy(playwrightExpect, {
   get(target, property, receiver) {
     if (property !== "poll") return Reflect.get(target, property, receiver);
-    const poll: typeof playwrightExpect.poll = (generator, options) => target.poll(generator, { intervals: POLL_INTERVALS, ...options });
+    const poll: typeof playwrightExpect.poll = (generator, options) => target.poll(generator, { intervals: POLL_INTERVALS, ...(typeof options === "string" ? { message: options } : options) });
     return poll;
   },
 });
