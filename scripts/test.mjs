@@ -56,9 +56,9 @@ async function vitestSuite(name, dir, env = {}, { buffered = false } = {}) {
 
 /**
  * One project of the browser tests: `playwright test --project <project>` in tests/ (tests/playwright.config.ts:
- * "pages" beside "restart", then "driving"), read from its JSON report; with `buffered` its output is
- * printed whole when it ends (a project run beside another). A crash without a report, or an error outside
- * any test (a config or file that does not load), counts as one failure. Traces and screenshots of failed
+ * "pages", then "driving", each one test at a time), read from its JSON report; with `buffered` its output
+ * is printed whole when it ends. A crash without a report, or an error outside any test (a config or file
+ * that does not load), counts as one failure. Traces and screenshots of failed
  * tests stay in .data/test-reports/browser/<project>/.
  */
 async function playwrightSuite(name, project, env = {}, { buffered = false } = {}) {
@@ -155,11 +155,7 @@ async function main() {
     redis = null;
 
     const browserEnv = { ...dbEnv, JOGWRIGHT_URL: server.url, CHROMIUM_PATH: "/usr/bin/chromium" };
-    // The server-restart test mostly waits (reconnect backoff, its own server starting): beside the pages.
-    await Promise.all([
-      playwrightSuite("browser: pages", "pages", browserEnv),
-      playwrightSuite("whole-system: a server restart mid-drive", "restart", browserEnv, { buffered: true }),
-    ]);
+    await playwrightSuite("browser: pages", "pages", browserEnv);
     await playwrightSuite("browser and whole-system: driving (one at a time)", "driving", browserEnv);
   } finally {
     await server?.stop();

@@ -14,19 +14,15 @@ const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "..");
 const reports = path.join(process.env.JOGWRIGHT_DATA_DIR ? path.resolve(process.env.JOGWRIGHT_DATA_DIR) : path.join(root, ".data"), "test-reports");
 
 /**
- * Three projects, run by `npm test` (`--project pages` beside `--project restart`, then `--project driving`):
+ * Two projects, run one after the other by `npm test` (`--project pages`, then `--project driving`):
  * - "driving": the specs that jog the arm. The drive page's input loop runs every 16 ms and the server's
  *   watchdog stops the arm after 200 ms without input; a second browser beside it on the 2-core machine
- *   starved that loop past the watchdog (measured), so these run one at a time, alone;
- * - "restart": server-restart.spec.ts, a server of its own stopped and started under a drive page. It spends
- *   most of its ~20 s waiting (the page's reconnect backoff, the server's start), and its page drives with a
- *   1.5 s watchdog, so it runs beside "pages" rather than in the driving line (about 15 s less in all);
+ *   starved that loop past the watchdog (measured), so these run one at a time;
  * - "pages": every other spec (forms, tables, reviews, the bench). One at a time by default too:
  *   BROWSER_TEST_WORKERS=2 runs it two at a time, but its review-count test reads a site-wide number that
  *   another test's submissions change, and on 2 cores two gained little (DEVELOPERS.md).
  */
-const DRIVING = ["arm-library.spec.ts", "drive-layout.spec.ts", "drive-session.spec.ts", "drive.spec.ts", "profiles-approval.spec.ts"];
-const RESTART = ["server-restart.spec.ts"];
+const DRIVING = ["arm-library.spec.ts", "drive-layout.spec.ts", "drive-session.spec.ts", "drive.spec.ts", "profiles-approval.spec.ts", "server-restart.spec.ts"];
 const pageWorkers = Number(process.env.BROWSER_TEST_WORKERS ?? 1);
 
 export default defineConfig({
@@ -56,8 +52,7 @@ export default defineConfig({
   },
   projects: [
     // An output folder each: a run of one project empties only its own, so the first run's failures stay.
-    { name: "pages", testIgnore: [...DRIVING, ...RESTART].map((f) => `**/${f}`), workers: Math.max(1, pageWorkers), outputDir: path.join(reports, "browser", "pages") },
-    { name: "restart", testMatch: RESTART.map((f) => `**/${f}`), workers: 1, outputDir: path.join(reports, "browser", "restart") },
+    { name: "pages", testIgnore: DRIVING.map((f) => `**/${f}`), workers: Math.max(1, pageWorkers), outputDir: path.join(reports, "browser", "pages") },
     { name: "driving", testMatch: DRIVING.map((f) => `**/${f}`), workers: 1, outputDir: path.join(reports, "browser", "driving") },
   ],
 });
