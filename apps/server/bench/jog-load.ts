@@ -105,6 +105,10 @@ const cpuClient = process.cpuUsage(cpuClient0);
 for (const c of clients) clearInterval((c as unknown as { timer: NodeJS.Timeout }).timer);
 await Promise.all(clients.map((c) => c.close()));
 await sleep(200);
+// The server ends its sessions and flushes their recordings on "close", then exits: wait for that (at most
+// 30 s), so whoever runs this does not stop the database under the last chunks (seen on a slow run: the
+// recordings' final writes were refused once `pnpm bench` had moved on).
+const childExited = new Promise<void>((resolve) => child.once("exit", () => resolve()));
 child.send({ type: "close" });
 
 const fps = frameCounts.map((n) => n / elapsedS);
@@ -115,4 +119,5 @@ console.log(`tick lateness: p50 ${fmt(stats.latenessP50Ms as number)} ms, p99 ${
 console.log(`input-to-state latency: p50 ${fmt(quantile(latencies, 0.5))} ms, p90 ${fmt(quantile(latencies, 0.9))} ms, p99 ${fmt(quantile(latencies, 0.99))} ms, p99.9 ${fmt(quantile(latencies, 0.999))} ms over ${latencies.length} inputs, each changing the command (target p99 ≤ 10 ms, issue 11)`);
 console.log(`CPU: server ${fmt(stats.cpuPercent as number, 0)} % of one core; clients ${fmt(((cpuClient.user + cpuClient.system) / 1000 / (elapsedS * 1000 + WARMUP_MS)) * 100, 0)} % of one core`);
 console.log(`recording: ${stats.chunksWritten} chunks written, ${stats.recordingFailures} failed writes`);
+await Promise.race([childExited, sleep(30_000)]);
 process.exit(0);
