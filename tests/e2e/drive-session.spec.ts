@@ -76,11 +76,18 @@ async function setPadConnected(page: Page, isConnected: boolean): Promise<void> 
 const motion = (page: Page) => page.getByTestId("motion-state");
 
 /**
- * Waits for `simSeconds` of simulation time in the frames the page receives from now on and checks the
- * TCP did not move in them (the arm stands still; derived: a held arm's pose is exactly constant).
+ * Waits until the arm has come to rest (two frames in a row with the same pose: a stop under way, such as
+ * the guard's controlled stop, may still be finishing its ramp — CI once caught one 16 µm from its end),
+ * then for `simSeconds` of simulation time in the frames the page receives from then on, and checks the
+ * TCP did not move in them (the arm stands still; derived: a held arm's pose is exactly constant). An arm
+ * that creeps never shows two equal frames, and fails here.
  */
 async function expectStandsStill(states: ReturnType<typeof recordStateFrames>, simSeconds = 0.5): Promise<void> {
-  await expect.poll(() => states.latest()).toBeDefined();
+  const isAtRest = () => {
+    const [a, b] = states.frames.slice(-2);
+    return a !== undefined && b !== undefined && b.t > a.t && [3, 7, 11].every((i) => a.pose[i] === b.pose[i]);
+  };
+  await expect.poll(isAtRest).toBe(true);
   const from = states.latest()!;
   await expect.poll(() => states.latest()!.t - from.t).toBeGreaterThan(simSeconds);
   const drift = Math.max(...states.since(from.t).flatMap((f) => [3, 7, 11].map((i) => Math.abs(f.pose[i]! - from.pose[i]!))));
