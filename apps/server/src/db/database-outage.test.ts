@@ -201,7 +201,9 @@ describe("when the database stops answering under open connections (paused)", ()
       const { versions } = driveVersionsResponseSchema.parse((await call(h, "get", "/api/drive/versions", cookie)).body);
       client = await JogTestClient.connect(listener.wsUrl, { Cookie: cookie, Origin: listener.baseUrl });
       client.send({ type: "start", versionId: versions[0]!.id });
-      const started = await client.next((m) => m.type === "session" || m.type === "error");
+      // The file's first session starts the simulation thread; beside the other fault files (which start
+      // servers and a MariaDB of their own) that took over 3 s once in CI, so the start may take 10 s here.
+      const started = await client.next((m) => m.type === "session" || m.type === "error", 10_000);
       expect(started.type).toBe("session");
       // Hold the enabling control with one joint axis deflected, streaming at 100 Hz as the drive page does.
       client.input = { ...client.input, enabling: false, mode: "joint", axes: [0, 0, 0, 0, 0, 0] };
@@ -209,7 +211,7 @@ describe("when the database stops answering under open connections (paused)", ()
       await sleep(20);
       client.input = { ...client.input, enabling: true, mode: "joint", axes: [0.5, 0, 0, 0, 0, 0] };
       client.stream(10);
-      await client.nextState((s) => s.qdot[0] !== 0);
+      await client.nextState((s) => s.qdot[0] !== 0, 10_000);
 
       relay.freeze();
       const from = client.messages.length;

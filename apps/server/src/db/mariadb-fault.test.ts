@@ -79,8 +79,9 @@ describe("MariaDB paused, then stopped, while two sessions jog", () => {
       const version = profile.latestVersion;
       const client = await JogTestClient.connect(listener.wsUrl, { Cookie: team.operator.cookie, Origin: listener.baseUrl });
       client.send({ type: "start", versionId: version.id });
-      const session = await client.next((m) => m.type === "session");
-      await client.nextState();
+      // Starting the simulation thread beside the other fault files may take a few seconds (database-outage.test.ts).
+      const session = await client.next((m) => m.type === "session", 10_000);
+      await client.nextState(undefined, 10_000);
       // A fresh press, then hold a slow move (+x, then the stream keeps the watchdog fed).
       client.input = { ...client.input, enabling: false };
       client.sendInput();
