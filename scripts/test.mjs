@@ -56,12 +56,11 @@ async function vitestSuite(name, dir, env = {}, { buffered = false } = {}) {
 
 /**
  * One project of the browser tests: `playwright test --project <project>` in tests/ (tests/playwright.config.ts:
- * "pages", then "driving", each one test at a time), read from its JSON report; with `buffered` its output
- * is printed whole when it ends. A crash without a report, or an error outside any test (a config or file
- * that does not load), counts as one failure. Traces and screenshots of failed
- * tests stay in .data/test-reports/browser/<project>/.
+ * "pages", then "driving", each one test at a time), read from its JSON report. A crash without a report,
+ * or an error outside any test (a config or file that does not load), counts as one failure. Traces and
+ * screenshots of failed tests stay in .data/test-reports/browser/<project>/.
  */
-async function playwrightSuite(name, project, env = {}, { buffered = false } = {}) {
+async function playwrightSuite(name, project, env = {}) {
   const report = path.join(REPORTS, `browser-${project}.json`);
   rmSync(report, { force: true });
   log(`suite: ${name}`);
@@ -69,9 +68,7 @@ async function playwrightSuite(name, project, env = {}, { buffered = false } = {
   const run = await runJob(path.join(dir, "node_modules/.bin/playwright"), ["test", "--project", project], {
     cwd: dir,
     env: { ...env, BROWSER_TEST_REPORT: report },
-    buffered,
   });
-  if (buffered) log(`suite ${name} ended (its output is above)`);
   if (!existsSync(report)) {
     record(name, 0, 1, `playwright ended (exit ${run.status}) without a report`);
     return;

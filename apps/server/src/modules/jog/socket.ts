@@ -173,7 +173,7 @@ class JogConnection implements FrameSink {
     ws.on("close", () => this.onClose());
     ws.on("error", () => this.onClose());
     this.sendJson({ type: "welcome", userId: user.id, roles: user.roles });
-    if (isMaybeStale) void this.recheck().catch((error: unknown) => console.error("[jogwright] jog re-check failed:", (error as Error).message));
+    if (isMaybeStale) void this.recheckLogged();
   }
 
   sendText(text: string): boolean {
@@ -452,7 +452,7 @@ class JogConnection implements FrameSink {
     }
     if (change.kind === "versions") {
       // The driven version may no longer be driveable: decided now, as the periodic re-check would.
-      if (this.driving) void this.recheck().catch((error: unknown) => console.error("[jogwright] jog re-check failed:", (error as Error).message));
+      if (this.driving) void this.recheckLogged();
       return;
     }
     if (change.user.id !== this.user.id) return;
@@ -556,6 +556,11 @@ class JogConnection implements FrameSink {
     }
   }
 
+  /** recheck(), its failure logged rather than thrown (for callers that do not wait for it). */
+  recheckLogged(): Promise<void> {
+    return this.recheck().catch((error: unknown) => console.error("[jogwright] jog re-check failed:", (error as Error).message));
+  }
+
   close(code: number, reason: string): void {
     this.ws.close(code, reason);
   }
@@ -646,11 +651,10 @@ export function attachJogSockets(server: Server, ctx: AppContext): JogSockets {
     for (const c of [...connections]) c.onAccountChange(change);
   });
 
-  const recheckOne = (c: JogConnection) => c.recheck().catch((error: unknown) => console.error("[jogwright] jog re-check failed:", (error as Error).message));
-  const recheck = () => Promise.all([...connections].map(recheckOne)).then(() => undefined);
+  const recheck = () => Promise.all([...connections].map((c) => c.recheckLogged())).then(() => undefined);
   const revalidateTimer = setInterval(() => {
     for (const c of rota.next()) {
-      if (connections.has(c)) void recheckOne(c);
+      if (connections.has(c)) void c.recheckLogged();
       else rota.delete(c); // closed since
     }
   }, REVALIDATE_INTERVAL_MS / RECHECK_TURNS);
