@@ -28,6 +28,7 @@ const UNIT = [
   "src/modules/trials/trial-definitions.test.ts",
   "src/modules/trials/bench-analysis.test.ts",
   "src/modules/recordings/chunk-codec.test.ts",
+  "src/modules/recordings/frame-log.test.ts",
   "src/modules/arms/upload.test.ts",
 ];
 const FAULTS = ["src/db/database-outage.test.ts", "src/db/mariadb-fault.test.ts", "src/scale/**/*.test.ts"];

@@ -7,7 +7,7 @@
  */
 import http from "node:http";
 import type { AddressInfo } from "node:net";
-import { performance } from "node:perf_hooks";
+import { monitorEventLoopDelay, performance } from "node:perf_hooks";
 import { defaultProfileParams } from "@jogwright/shared";
 import { createApp } from "../src/app.ts";
 import { loadConfig } from "../src/config.ts";
@@ -43,6 +43,9 @@ const params = { ...defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!
 const profile = await createProfile(ctx, engineer, { name: `Bench 1 kHz ${stamp}`, operatorId: operator.id, armId: arm.id, params, note: "load benchmark" });
 const session = await ctx.lucia.createSession(engineer.id, {});
 
+// How long the main thread's event loop was held up (GC pauses, long tasks): every frame and input waits that long.
+const loopDelay = monitorEventLoopDelay({ resolution: 1 });
+loopDelay.enable();
 let cpuAt = process.cpuUsage();
 let wallAt = performance.now();
 process.on("message", async (msg: { type: string }) => {
@@ -50,6 +53,7 @@ process.on("message", async (msg: { type: string }) => {
   if (msg.type === "reset") {
     // The tick lateness histogram lives on the simulation thread: read-and-reset there.
     await hub.simulationStats(true);
+    loopDelay.reset();
     cpuAt = process.cpuUsage();
     wallAt = performance.now();
     process.send!({ type: "reset-done" });
@@ -70,6 +74,8 @@ process.on("message", async (msg: { type: string }) => {
       stalledMs: sim?.stalledMs ?? 0,
       wakes: sim?.wakes ?? 0,
       nice: sim?.nice ?? null,
+      loopDelayP99Ms: loopDelay.percentile(99) / 1e6,
+      loopDelayMaxMs: loopDelay.max / 1e6,
       cpuPercent: ((cpu.user + cpu.system) / 1000 / wallMs) * 100,
       recordingFailures: hub.writer.failures,
       chunksWritten: hub.writer.chunksWritten,

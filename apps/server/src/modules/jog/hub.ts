@@ -241,8 +241,8 @@ export class LiveJogSession {
 
   private record(text: string, bodyStart: number, bodyEnd: number): void {
     this.framesRecorded++;
-    // A slice of the sent text: nothing is serialised twice; the writer joins the chunk at flush time.
-    if (this.recordingId !== null) this.hub.writer.push(this.recordingId, "{" + text.slice(bodyStart, bodyEnd) + "}");
+    // The body inside the sent text: nothing is serialised twice; the writer copies it out as bytes.
+    if (this.recordingId !== null) this.hub.writer.push(this.recordingId, text, bodyStart, bodyEnd);
   }
 
   refuse(code: string, message: string): void {

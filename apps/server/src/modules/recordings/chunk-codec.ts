@@ -1,6 +1,7 @@
 import { promisify } from "node:util";
 import { deflate, inflate, inflateSync } from "node:zlib";
 import { BINDING_LIMITS, GUARD_STATES, STOP_KINDS, STOP_REASONS } from "@jogwright/shared";
+import { batchJson, type FrameBatch } from "./frame-log.ts";
 
 /**
  * How a chunk of recorded frames is stored (`jog_recording_chunks.encoding`, migration 0017; issue 11,
@@ -577,12 +578,12 @@ export interface EncodedChunk {
 }
 
 /**
- * The frames (each a recorded frame's JSON object text, as the writer queues them) as stored: columns-v1
- * when every frame has the state frame's shape, else the JSON array compressed. Compression runs on
- * libuv's thread pool (zlib's async API), not on the event loop.
+ * The frames (each a recorded frame's JSON object text, or the writer's queued batch of them,
+ * frame-log.ts) as stored: columns-v1 when every frame has the state frame's shape, else the JSON array
+ * compressed. Compression runs on libuv's thread pool (zlib's async API), not on the event loop.
  */
-export async function encodeChunk(frameTexts: readonly string[]): Promise<EncodedChunk> {
-  const json = `[${frameTexts.join(",")}]`;
+export async function encodeChunk(frames: readonly string[] | FrameBatch): Promise<EncodedChunk> {
+  const json = "text" in frames ? batchJson(frames) : `[${frames.join(",")}]`;
   let columns: Uint8Array | null = null;
   try {
     columns = writeColumns(JSON.parse(json) as Frame[]);

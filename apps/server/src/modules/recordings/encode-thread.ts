@@ -1,5 +1,6 @@
 import { Piscina } from "piscina";
 import { encodeChunk, type EncodedChunk } from "./chunk-codec.ts";
+import type { FrameBatch } from "./frame-log.ts";
 
 /**
  * Encodes recording chunks (chunk-codec.ts: JSON parse, columns, deflate) on a thread of their own, not on
@@ -19,7 +20,8 @@ export class ChunkEncoderThread {
   /** `workerFile`: the thread's entry (tests name one that cannot start). */
   constructor(private readonly workerFile: URL = new URL("./encode-worker.mjs", import.meta.url)) {}
 
-  async encode(frameTexts: readonly string[]): Promise<EncodedChunk> {
+  /** A batch's bytes cross to the thread as one copy (a structured clone of a Uint8Array). */
+  async encode(frames: readonly string[] | FrameBatch): Promise<EncodedChunk> {
     if (!this.hasFailed) {
       try {
         this.pool ??= new Piscina({
@@ -29,7 +31,7 @@ export class ChunkEncoderThread {
           idleTimeout: Infinity,
           name: "default",
         });
-        const r = (await this.pool.run(frameTexts)) as { encoding: EncodedChunk["encoding"]; data: Uint8Array };
+        const r = (await this.pool.run(frames)) as { encoding: EncodedChunk["encoding"]; data: Uint8Array };
         this.encodedOnThread++;
         // A Buffer crosses threads as a plain Uint8Array: the same bytes, viewed as a Buffer again.
         return { encoding: r.encoding, data: Buffer.from(r.data.buffer, r.data.byteOffset, r.data.byteLength) };
@@ -39,7 +41,7 @@ export class ChunkEncoderThread {
         void this.close();
       }
     }
-    return encodeChunk(frameTexts);
+    return encodeChunk(frames);
   }
 
   async close(): Promise<void> {

@@ -1,11 +1,12 @@
 import type { Sequelize } from "sequelize";
 import { encodeChunk, type EncodedChunk } from "./chunk-codec.ts";
 import { ChunkEncoderThread } from "./encode-thread.ts";
+import { FrameLog, type FrameBatch } from "./frame-log.ts";
 import { finishRecording, insertChunk } from "./service.ts";
 
 /**
  * Buffered recording writer: the simulation hands over each frame's JSON (a string, built anyway for the
- * socket) and never waits; a flush every ~1 s encodes (chunk-codec.ts: columns, zlib on libuv's thread
+ * socket; queued as bytes outside the JavaScript heap, frame-log.ts says why) and never waits; a flush every ~1 s encodes (chunk-codec.ts: columns, zlib on libuv's thread
  * pool; with `encodeOffThread`, on a thread of its own, encode-thread.ts) and writes one chunk per recording. When the database is slow
  * or down, frames stay queued and go out with a later flush (a failed chunk is retried, kept in order);
  * nothing here throws into the tick path. A recording's end (summary) is written after its last chunk.
@@ -27,12 +28,12 @@ interface Pending {
   recordingId: number;
   nextChunk: number;
   /** Frames not yet handed to a chunk write. */
-  frames: string[];
+  frames: FrameLog;
   /**
    * The chunk being written (or whose write failed): retried exactly as it was, under the same chunk index,
    * so a retry after a write that did land is idempotent (insertChunk).
    */
-  batch: string[] | null;
+  batch: FrameBatch | null;
   /** The batch as encoded for storage (chunk-codec.ts), kept for its retries. */
   encoded: EncodedChunk | null;
   dropped: number;
@@ -65,7 +66,7 @@ export class RecordingWriter {
   private entry(recordingId: number): Pending {
     let p = this.pending.get(recordingId);
     if (!p) {
-      p = { recordingId, nextChunk: 0, frames: [], batch: null, encoded: null, dropped: 0, end: null };
+      p = { recordingId, nextChunk: 0, frames: new FrameLog(), batch: null, encoded: null, dropped: 0, end: null };
       this.pending.set(recordingId, p);
     }
     this.ensureTimer();
@@ -78,12 +79,15 @@ export class RecordingWriter {
     this.timer.unref();
   }
 
-  /** Queues one recorded frame (JSON object text). O(1), never touches the database. */
-  push(recordingId: number, frameJson: string): void {
+  /**
+   * Queues one recorded frame: a JSON object's text, or with `bodyStart`/`bodyEnd` the object's body inside
+   * a larger text (FrameLog.push). O(1) amortised, never touches the database.
+   */
+  push(recordingId: number, text: string, bodyStart?: number, bodyEnd?: number): void {
     const p = this.entry(recordingId);
-    p.frames.push(frameJson);
-    if (p.frames.length + (p.batch?.length ?? 0) > this.maxQueuedFrames && p.frames.length > 0) {
-      p.frames.shift();
+    p.frames.push(text, bodyStart, bodyEnd);
+    if (p.frames.length + (p.batch?.count ?? 0) > this.maxQueuedFrames && p.frames.length > 0) {
+      p.frames.dropOldest();
       if (p.dropped === 0) console.warn(`[jogwright] recording ${recordingId}: the database is behind; dropping the oldest queued frames (counted in its summary).`);
       p.dropped++;
       this.droppedFrames++;
@@ -143,7 +147,7 @@ export class RecordingWriter {
     return this.flushing;
   }
 
-  private encode(batch: readonly string[]): Promise<EncodedChunk> {
+  private encode(batch: FrameBatch): Promise<EncodedChunk> {
     return this.encoder ? this.encoder.encode(batch) : encodeChunk(batch);
   }
 
@@ -153,17 +157,13 @@ export class RecordingWriter {
     // back, not one round trip per recording between the database writes (50 live sessions: one at a time,
     // a flush took longer than the flush interval and the queues grew). A failed encoding is left for the
     // write loop below, which tries again and counts the failure.
-    for (const p of entries) {
-      if (!p.batch && p.frames.length > 0) {
-        p.batch = p.frames;
-        p.frames = [];
-      }
-    }
+    for (const p of entries) p.batch ??= p.frames.take();
     await Promise.all(
       entries.map(async (p) => {
         if (!p.batch || p.encoded) return;
         try {
           p.encoded = await this.encode(p.batch);
+          p.frames.recycle(p.batch);
         } catch {
           // retried below
         }
@@ -174,13 +174,13 @@ export class RecordingWriter {
         while (p.batch || p.frames.length > 0) {
           // A failed batch first, exactly as it was; else everything queued now. Frames pushed during the
           // write queue behind it (and are never removed by it).
-          if (!p.batch) {
-            p.batch = p.frames;
-            p.frames = [];
+          p.batch ??= p.frames.take();
+          const batch = p.batch!;
+          if (!p.encoded) {
+            p.encoded = await this.encode(batch);
+            p.frames.recycle(batch); // its text is not read again: a retry writes p.encoded
           }
-          const batch = p.batch;
-          p.encoded ??= await this.encode(batch);
-          await insertChunk(this.db, p.recordingId, p.nextChunk, batch.length, p.encoded);
+          await insertChunk(this.db, p.recordingId, p.nextChunk, batch.count, p.encoded);
           p.batch = null;
           p.encoded = null;
           p.nextChunk++;
