@@ -91,6 +91,8 @@ const POLICY_CLOSES = [1008, 1009];
 
 describe("WebSocket fuzz", () => {
   it(`≥ ${MIN_FRAMES} generated frames: every state finite, bad sockets closed by policy, the driven session unharmed, nothing half-written`, async () => {
+    // First, so that a failure at any step below shows which run to replay (Vitest prints a failed test's output).
+    console.log(`socket fuzz: seed ${seed} (FUZZ_SEED=${seed} replays this run)`);
     // The driver: a real session, enabling held and moving in +x,+z the whole time.
     const driver = await connect();
     driver.send({ type: "start", versionId });
@@ -157,7 +159,7 @@ describe("WebSocket fuzz", () => {
     const replies = junkClients.reduce((n, c) => n + c.messages.length, 0);
     // Nearly every frame is answered (an error, a pong, a refusal): the frames were read, not lost.
     expect(replies).toBeGreaterThan(0.8 * sent);
-    console.log(`socket fuzz (seed ${seed}): ${sent} frames on ${junkClients.length} sockets, ${replies} replies, ${stormCloses.length} closed by the server (codes: ${[...new Set(stormCloses)].join(", ")})`);
+    console.log(`socket fuzz: ${sent} frames on ${junkClients.length} sockets, ${replies} replies, ${stormCloses.length} closed by the server (codes: ${[...new Set(stormCloses)].join(", ")})`);
     for (const c of junkClients) await c.close();
     driver.stopStream();
     await driver.close();
