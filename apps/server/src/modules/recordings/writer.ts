@@ -6,9 +6,10 @@ import { finishRecording, insertChunk } from "./service.ts";
 
 /**
  * Buffered recording writer: the simulation hands over each frame's JSON (a string, built anyway for the
- * socket; queued as bytes outside the JavaScript heap, frame-log.ts says why) and never waits; a flush every ~1 s encodes (chunk-codec.ts: columns, zlib on libuv's thread
- * pool; with `encodeOffThread`, on a thread of its own, encode-thread.ts) and writes one chunk per recording. When the database is slow
- * or down, frames stay queued and go out with a later flush (a failed chunk is retried, kept in order);
+ * socket; queued as bytes outside the JavaScript heap, frame-log.ts says why) and never waits. A flush
+ * every ~1 s encodes (chunk-codec.ts: columns, zlib on libuv's thread pool; with `encodeOffThread`, on a
+ * thread of its own, encode-thread.ts) and writes one chunk per recording. When the database is slow or
+ * down, frames stay queued and go out with a later flush (a failed chunk is retried, kept in order);
  * nothing here throws into the tick path. A recording's end (summary) is written after its last chunk.
  */
 
