@@ -148,8 +148,13 @@ export class RecordingWriter {
     return this.flushing;
   }
 
-  private encode(batch: FrameBatch): Promise<EncodedChunk> {
-    return this.encoder ? this.encoder.encode(batch) : encodeChunk(batch);
+  /**
+   * Encodes the recording's batch for storage (kept in `encoded` for its retries), then hands the batch's
+   * memory back to its FrameLog: its text is not read again, a retry writes `encoded`.
+   */
+  private async encodeBatch(p: Pending, batch: FrameBatch): Promise<void> {
+    p.encoded = await (this.encoder ? this.encoder.encode(batch) : encodeChunk(batch));
+    p.frames.recycle(batch);
   }
 
   private async flushOnce(): Promise<void> {
@@ -163,8 +168,7 @@ export class RecordingWriter {
       entries.map(async (p) => {
         if (!p.batch || p.encoded) return;
         try {
-          p.encoded = await this.encode(p.batch);
-          p.frames.recycle(p.batch);
+          await this.encodeBatch(p, p.batch);
         } catch {
           // retried below
         }
@@ -177,11 +181,8 @@ export class RecordingWriter {
           // write queue behind it (and are never removed by it).
           p.batch ??= p.frames.take();
           const batch = p.batch!;
-          if (!p.encoded) {
-            p.encoded = await this.encode(batch);
-            p.frames.recycle(batch); // its text is not read again: a retry writes p.encoded
-          }
-          await insertChunk(this.db, p.recordingId, p.nextChunk, batch.count, p.encoded);
+          if (!p.encoded) await this.encodeBatch(p, batch);
+          await insertChunk(this.db, p.recordingId, p.nextChunk, batch.count, p.encoded!);
           p.batch = null;
           p.encoded = null;
           p.nextChunk++;
