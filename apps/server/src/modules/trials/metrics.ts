@@ -205,9 +205,8 @@ class NearestOnPolyline {
   distance = 0;
   segment = 0;
   // The query in progress (fields, read by the helpers below).
-  private qx = 0;
-  private qy = 0;
-  private qz = 0;
+  /** The query point [m]. */
+  private readonly query = new Float64Array(3);
   private best2 = 0;
   private best = 0;
   private bestT = 0;
@@ -219,14 +218,12 @@ class NearestOnPolyline {
   private skipped = 0;
   private firstLeaf = 0;
   private lastLeaf = 0;
-  // The window: leaves windowFrom … windowTo−1, and D and p₀ (isWindow false: none).
+  // The window: leaves windowFrom … windowTo−1, D (windowBound) and p₀ (windowPoint) (isWindow false: none).
   private isWindow = false;
   private windowFrom = 0;
   private windowTo = 0;
   private windowBound = 0;
-  private wx = 0;
-  private wy = 0;
-  private wz = 0;
+  private readonly windowPoint = new Float64Array(3);
 
   constructor(private readonly r: Float64Array, count: number) {
     this.segments = Math.max(1, count - 1);
@@ -245,16 +242,17 @@ class NearestOnPolyline {
     const F = NearestOnPolyline.F;
     const lastPoint = this.segments; // segment j joins points j and j+1 ≤ lastPoint (one point: j = 0 … 0)
     const h = Math.min(hint, this.segments - 1);
-    const x = p[k * 3]!, y = p[k * 3 + 1]!, z = p[k * 3 + 2]!;
-    this.qx = x;
-    this.qy = y;
-    this.qz = z;
+    const q = this.query;
+    q[0] = p[k * 3]!;
+    q[1] = p[k * 3 + 1]!;
+    q[2] = p[k * 3 + 2]!;
     this.best2 = Infinity;
     this.bestSegment = h;
     this.scanSegments(h, h + 1, lastPoint);
     let isDone = false;
     if (this.isWindow) {
-      const dx = x - this.wx, dy = y - this.wy, dz = z - this.wz;
+      const w = this.windowPoint;
+      const dx = q[0]! - w[0]!, dy = q[1]! - w[1]!, dz = q[2]! - w[2]!;
       const reach = this.windowBound - Math.sqrt(dx * dx + dy * dy + dz * dz) - NearestOnPolyline.MARGIN_M;
       if (this.best < reach) {
         // The window's leaves, each skipped when its capsule is no nearer than the best (the hint's, first).
@@ -287,7 +285,7 @@ class NearestOnPolyline {
           sp = this.pushSurvivors(level - 1, node * F, Math.min(node * F + F, counts[level - 1]!), sp);
         }
       }
-      this.makeWindow(x, y, z);
+      this.makeWindow();
     }
     this.segment = this.bestSegment;
     this.distance = this.best;
@@ -303,10 +301,10 @@ class NearestOnPolyline {
   }
 
   /**
-   * After a full search from (x, y, z): the window of the leaves it scanned, one more on each side, and the
+   * After a full search from the query point: the window of the leaves it scanned, one more on each side, and the
    * least distance − radius of the capsules it skipped that are not inside the window.
    */
-  private makeWindow(x: number, y: number, z: number): void {
+  private makeWindow(): void {
     const F = NearestOnPolyline.F;
     const leaves = this.nodeCounts[0]!;
     this.isWindow = false;
@@ -328,9 +326,7 @@ class NearestOnPolyline {
     this.windowFrom = fromLeaf;
     this.windowTo = toLeaf;
     this.windowBound = bound;
-    this.wx = x;
-    this.wy = y;
-    this.wz = z;
+    this.windowPoint.set(this.query);
   }
 
   /**
@@ -342,7 +338,8 @@ class NearestOnPolyline {
    */
   private pushSurvivors(level: number, from: number, to: number, sp: number): number {
     const c = this.levels[level]!, stack = this.stack;
-    const x = this.qx, y = this.qy, z = this.qz;
+    const q = this.query;
+    const x = q[0]!, y = q[1]!, z = q[2]!;
     const best2 = this.best2, best = this.best;
     for (let i = to - 1; i >= from; i--) {
       const o = i * 8;
@@ -375,7 +372,8 @@ class NearestOnPolyline {
   private isFarther(level: number, i: number): boolean {
     const c = this.levels[level]!;
     const o = i * 8;
-    const px = this.qx - c[o]!, py = this.qy - c[o + 1]!, pz = this.qz - c[o + 2]!;
+    const q = this.query;
+    const px = q[0]! - c[o]!, py = q[1]! - c[o + 1]!, pz = q[2]! - c[o + 2]!;
     const ux = c[o + 3]!, uy = c[o + 4]!, uz = c[o + 5]!;
     let t = (px * ux + py * uy + pz * uz) * c[o + 6]!;
     t = t < 0 ? 0 : t > 1 ? 1 : t;
@@ -387,7 +385,8 @@ class NearestOnPolyline {
   /** Segments from … to−1 against the best so far (squared distances; strictly closer wins). */
   private scanSegments(from: number, to: number, lastPoint: number): void {
     const r = this.r;
-    const x = this.qx, y = this.qy, z = this.qz;
+    const q = this.query;
+    const x = q[0]!, y = q[1]!, z = q[2]!;
     let best2 = this.best2;
     for (let j = from; j < to; j++) {
       const a = j * 3, b = (j + 1 < lastPoint ? j + 1 : lastPoint) * 3;
