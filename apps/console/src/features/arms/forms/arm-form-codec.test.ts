@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { toolTransform, type ArmModel } from "@jogwright/shared";
-import { refusedPaths } from "../../../lib/form-codec.test-support.ts";
+import { itPutsServerPathsOnFields, refusedPaths } from "../../../lib/form-codec.test-support.ts";
 import { armFieldOfPath, armFormCodec, armFormValuesOf, armModelOfUi, NOT_GIVEN } from "./arm-form-codec.ts";
 import { poseUiOfTransform, transformOfPoseUi } from "./pose-units.ts";
 import { toolFieldOfPath, toolFormCodec, toolFormValuesOf } from "./tool-form-codec.ts";
@@ -86,12 +86,12 @@ describe("the arm form's units", () => {
     expect(refusedPaths(unnamed)).toContain("name");
   });
 
-  it("puts the server's issue paths on the form's fields", () => {
-    expect(armFieldOfPath("model.joints.2.maxSpeed")).toBe("joints.2.speed");
-    expect(armFieldOfPath("model.joints.0.min")).toBe("joints.0.min");
-    expect(armFieldOfPath("model.tool")).toBe("tool.xMm");
-    expect(armFieldOfPath("name")).toBe("name");
-    expect(armFieldOfPath("parentRevisionId")).toBeUndefined();
+  itPutsServerPathsOnFields(armFieldOfPath, {
+    "model.joints.2.maxSpeed": "joints.2.speed",
+    "model.joints.0.min": "joints.0.min",
+    "model.tool": "tool.xMm",
+    name: "name",
+    parentRevisionId: undefined,
   });
 });
 

@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { z } from "zod";
 import type { TrialDefinition } from "@jogwright/shared";
-import { refusedPaths } from "../../../lib/form-codec.test-support.ts";
+import { itPutsServerPathsOnFields, refusedPaths } from "../../../lib/form-codec.test-support.ts";
 import { trialFormCodec, uiPathOfTrialPath } from "./trial-form-codec.ts";
 
 // Conversions: 1 m = 1000 mm, 1 rad = 180/π deg (SI definitions).
@@ -39,10 +39,10 @@ describe("the trial form codec", () => {
     expect(refusedPaths(result)).toContain("segments.0.speedMmPerS");
   });
 
-  it("maps the server's SI paths onto the form's fields", () => {
-    expect(uiPathOfTrialPath("segments.2.linearMPerS.0")).toBe("segments.2.linearMmPerS.0");
-    expect(uiPathOfTrialPath("segments.1.positionM.2")).toBe("segments.1.positionMm.2");
-    expect(uiPathOfTrialPath("segments.0.linear.1")).toBe("segments.0.linear.1");
-    expect(uiPathOfTrialPath("startPose.3")).toBe("startPose.3");
+  itPutsServerPathsOnFields(uiPathOfTrialPath, {
+    "segments.2.linearMPerS.0": "segments.2.linearMmPerS.0",
+    "segments.1.positionM.2": "segments.1.positionMm.2",
+    "segments.0.linear.1": "segments.0.linear.1",
+    "startPose.3": "startPose.3",
   });
 });
