@@ -29,11 +29,14 @@ describe("the jog socket client's decisions", () => {
   });
 
   it("titles refusals in words: the socket's own codes, the API's, and unknown ones", () => {
-    expect(jogErrorTitle("start_rate_limited")).toBe("Too many starts in a short time");
-    expect(jogErrorTitle("account_session_limit")).toBe("You drive too many sessions");
-    expect(jogErrorTitle("no_session")).toBe("No session is running");
-    expect(jogErrorTitle("forbidden")).toBe("Not allowed");
-    expect(jogErrorTitle("brand_new_code")).toBe("Brand new code");
+    const titles = {
+      start_rate_limited: "Too many starts in a short time",
+      account_session_limit: "You drive too many sessions",
+      no_session: "No session is running",
+      forbidden: "Not allowed",
+      brand_new_code: "Brand new code",
+    };
+    for (const [code, title] of Object.entries(titles)) expect(jogErrorTitle(code), code).toBe(title);
   });
 });
 
