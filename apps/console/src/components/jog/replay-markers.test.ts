@@ -1,39 +1,14 @@
 import { describe, expect, it } from "vitest";
 import type { RecordedFrame } from "@jogwright/shared";
+import { frameAtRest } from "@jogwright/shared/test-support";
 import { countMarkers, extractReplayMarkers } from "./replay-markers.ts";
 
 // The replay timeline's markers, read from recorded frames (issue 13, item 13).
 
 const FRAME_S = 1 / 60;
 
-/** A frame at rest with nothing to mark; `patch` sets what a test needs. */
-function frame(i: number, patch: Partial<RecordedFrame> = {}): RecordedFrame {
-  const none = { timeS: 0, distanceM: 0 };
-  return {
-    t: i * FRAME_S,
-    q: [0, 0, 0, 0, 0, 0],
-    qdot: [0, 0, 0, 0, 0, 0],
-    pose: [1, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1],
-    twistCommanded: [0, 0, 0, 0, 0, 0],
-    twistAchieved: [0, 0, 0, 0, 0, 0],
-    sigmaMin: 0.18,
-    manipulability: 0.04,
-    lambda: 0,
-    scales: { jointRate: 1, tcpLinear: 1, tcpAngular: 1, jointLimit: 1 },
-    binding: "none",
-    bindingJoint: -1,
-    guardState: "clear",
-    enabled: false,
-    estopLatched: false,
-    stopReason: "none",
-    overridePercent: 50,
-    warnings: [],
-    stopping: { kind: "enabling-released", isActive: false, ...none },
-    stopPredictions: { "enabling-released": none, watchdog: none, "singularity-guard": none, "instant-halt": none },
-    jointAccelPeak: [],
-    ...patch,
-  };
-}
+/** Frame i of a recording at rest (nothing to mark); `patch` sets what a test needs. */
+const frame = (i: number, patch: Partial<RecordedFrame> = {}): RecordedFrame => frameAtRest({ t: i * FRAME_S, ...patch });
 
 const stopping = (kind: RecordedFrame["stopping"]["kind"]): Partial<RecordedFrame> => ({ stopping: { kind, isActive: true, timeS: 0.1, distanceM: 0.001 } });
 

@@ -4,6 +4,7 @@ import { runInNewContext } from "node:vm";
 import { QueryTypes } from "sequelize";
 import { parse } from "csv-parse/sync";
 import { recordedFrameSchema, toolPoseOf, toolTransform, type RecordedFrame } from "@jogwright/shared";
+import { frameAtRest } from "@jogwright/shared/test-support";
 import { call, createHarness, DEMO_BY_ROLE, signIn, type Harness } from "../../test/harness.ts";
 import { seededRecordingSubject, type RecordingSubject } from "../../test/recordings-fixture.ts";
 import { encodeChunk } from "./chunk-codec.ts";
@@ -31,26 +32,24 @@ const POSE_RPY = [0.1, -0.2, 0.3];
 function frameAt(i: number): RecordedFrame {
   const t = i / FRAME_RATE_HZ;
   const q = [0, 1, 2, 3, 4, 5].map((j) => 0.1 * j + 0.001 * Math.sin(t + j));
-  return recordedFrameSchema.parse({
-    t,
-    q,
-    qdot: q.map((v) => v * 0.5),
-    pose: toolTransform([0.5, 0.1, 0.6 + 0.0001 * i], POSE_RPY),
-    twistCommanded: [0.01, 0, 0, 0, 0, 0],
-    twistAchieved: [0.01, 0, 0, 0, 0, 0],
-    sigmaMin: 0.05,
-    manipulability: 0.01,
-    lambda: 0.02,
-    scales: { jointRate: 1, tcpLinear: 1, tcpAngular: 1, jointLimit: 1 },
-    binding: i % 2 ? "joint-rate" : "none",
-    bindingJoint: i % 2 ? 3 : -1,
-    guardState: "off",
-    enabled: true,
-    estopLatched: false,
-    stopReason: "none",
-    overridePercent: 100,
-    warnings: [],
-  });
+  return recordedFrameSchema.parse(
+    frameAtRest({
+      t,
+      q,
+      qdot: q.map((v) => v * 0.5),
+      pose: toolTransform([0.5, 0.1, 0.6 + 0.0001 * i], POSE_RPY),
+      twistCommanded: [0.01, 0, 0, 0, 0, 0],
+      twistAchieved: [0.01, 0, 0, 0, 0, 0],
+      sigmaMin: 0.05,
+      manipulability: 0.01,
+      lambda: 0.02,
+      binding: i % 2 ? "joint-rate" : "none",
+      bindingJoint: i % 2 ? 3 : -1,
+      guardState: "off",
+      enabled: true,
+      overridePercent: 100,
+    }),
+  );
 }
 
 /**

@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { FrameTrace } from "../../../lib/frame-trace.ts";
 import { shapeAxis } from "@jogwright/kinematics";
+import { frameAtRest } from "@jogwright/shared/test-support";
 
 describe("stick shaping (the shared shapeAxis, as the device calibration uses it)", () => {
   it("zeroes values inside the deadband and rescales the rest to reach full deflection", () => {
@@ -18,18 +19,8 @@ describe("stick shaping (the shared shapeAxis, as the device calibration uses it
 });
 
 describe("frame trace", () => {
-  const frame = (t: number) => ({
-    t, q: [0, 0], qdot: [Math.PI, 0], pose: new Array(16).fill(0), twistCommanded: [0.3, 0.4, 0, 0, 0, 0],
-    twistAchieved: [0, 0, 0, 0, 0, 0], sigmaMin: 0.05, manipulability: 0, lambda: 0.01,
-    scales: { jointRate: 1, tcpLinear: 1, tcpAngular: 1, jointLimit: 1 }, binding: "none" as const, bindingJoint: -1,
-    guardState: "off" as const, enabled: true, estopLatched: false, stopReason: "none" as const, overridePercent: 50, warnings: [],
-    stopping: { kind: "enabling-released" as const, isActive: false, timeS: 0, distanceM: 0 },
-    stopPredictions: {
-      "enabling-released": { timeS: 0, distanceM: 0 }, watchdog: { timeS: 0, distanceM: 0 },
-      "singularity-guard": { timeS: 0, distanceM: 0 }, "instant-halt": { timeS: 0, distanceM: 0 },
-    },
-    jointAccelPeak: [0, 0],
-  });
+  // Two joints, the second prismatic; what the trace reads: t, qdot, σ_min, λ and the twists.
+  const frame = (t: number) => frameAtRest({ t, q: [0, 0], qdot: [Math.PI, 0], twistCommanded: [0.3, 0.4, 0, 0, 0, 0], sigmaMin: 0.05, lambda: 0.01 });
 
   it("keeps the last window of frames in time order across the ring's wrap, in chart units", () => {
     const trace = new FrameTrace(8);
