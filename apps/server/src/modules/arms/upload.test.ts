@@ -125,6 +125,8 @@ describe("broken files are refused with the line and field of each problem", () 
   const HEADER = "type,a_mm,alpha_deg,d_mm,theta_deg,min_deg,max_deg";
   const ROW = "revolute,100,0,0,0,-90,90";
   const csv = (...lines: string[]) => ["# convention: standard", ...lines].join("\n");
+  /** A JSON file of these lines, so that a case's `line` is the place of its argument. */
+  const lines = (...text: string[]) => text.join("\n");
   const cases: { name: string; text: string; want: { line: number | null; field: string }[] }[] = [
     { name: "a missing column", text: csv("type,a_mm,d_mm,theta_deg", "revolute,1,0,0"), want: [{ line: 2, field: "alpha" }] },
     { name: "a column without its unit", text: csv("type,a,alpha_deg,d_mm,theta_deg", "revolute,1,0,0,0"), want: [{ line: 2, field: "a" }] },
@@ -144,15 +146,24 @@ describe("broken files are refused with the line and field of each problem", () 
     { name: "an unclosed quote", text: csv(HEADER, 'revolute,"100,0,0,0,-90,90'), want: [{ line: 3, field: "file" }] },
     {
       name: "JSON: a joint value that is not a number, on its line",
-      text: '{\n  "convention": "standard",\n  "joints": [\n    { "type": "revolute", "a": 0, "alpha": 0, "d": 0, "theta": 0 },\n    { "type": "revolute", "a": "0.4",\n      "alpha": 0, "d": 0, "theta": 0 }\n  ]\n}',
+      text: lines(
+        "{",
+        '  "convention": "standard",',
+        '  "joints": [',
+        '    { "type": "revolute", "a": 0, "alpha": 0, "d": 0, "theta": 0 },',
+        '    { "type": "revolute", "a": "0.4",',
+        '      "alpha": 0, "d": 0, "theta": 0 }',
+        "  ]",
+        "}",
+      ),
       want: [{ line: 5, field: "joints.1.a" }],
     },
     {
       name: "JSON: a range whose minimum is above its maximum",
-      text: '{"convention":"standard",\n"joints":[\n{"type":"revolute","a":0,"alpha":0,"d":0,"theta":0,\n "min":1,"max":-1}]}',
+      text: lines('{"convention":"standard",', '"joints":[', '{"type":"revolute","a":0,"alpha":0,"d":0,"theta":0,', ' "min":1,"max":-1}]}'),
       want: [{ line: 4, field: "joints.0.min" }],
     },
-    { name: "JSON: zero joints", text: '{\n"convention":"modified",\n"joints":[]\n}', want: [{ line: 3, field: "joints" }] },
+    { name: "JSON: zero joints", text: lines("{", '"convention":"modified",', '"joints":[]', "}"), want: [{ line: 3, field: "joints" }] },
     {
       name: "JSON: more than 12 joints",
       text: JSON.stringify({ convention: "standard", joints: Array.from({ length: 13 }, () => ({ type: "revolute", a: 0, alpha: 0, d: 0, theta: 0 })) }),
@@ -160,15 +171,15 @@ describe("broken files are refused with the line and field of each problem", () 
     },
     {
       name: "JSON: a tool that is not a rigid transform",
-      text: '{"convention":"standard",\n"joints":[{"type":"revolute","a":0,"alpha":0,"d":0,"theta":0}],\n"tool":[1,0,0,0, 0,1,0.5,0, 0,0,1,0.1, 0,0,0,1]}',
+      text: lines('{"convention":"standard",', '"joints":[{"type":"revolute","a":0,"alpha":0,"d":0,"theta":0}],', '"tool":[1,0,0,0, 0,1,0.5,0, 0,0,1,0.1, 0,0,0,1]}'),
       want: [{ line: 3, field: "tool" }],
     },
     {
       name: "JSON: an unknown field (a unit mistake that would otherwise be dropped)",
-      text: '{"convention":"standard",\n"joints":[{"type":"revolute","a":0,"alpha":0,"d":0,"theta":0,\n"maxSpeedDeg":150}]}',
+      text: lines('{"convention":"standard",', '"joints":[{"type":"revolute","a":0,"alpha":0,"d":0,"theta":0,', '"maxSpeedDeg":150}]}'),
       want: [{ line: 3, field: "joints.0.maxSpeedDeg" }],
     },
-    { name: "JSON: a syntax error", text: '{"convention":"standard",\n"joints":[\n}', want: [{ line: 3, field: "file" }] },
+    { name: "JSON: a syntax error", text: lines('{"convention":"standard",', '"joints":[', "}"), want: [{ line: 3, field: "file" }] },
   ];
   for (const c of cases) {
     it(`${c.name}: ${c.want.map((w) => `line ${w.line}, ${w.field}`).join("; ")}`, () => {
