@@ -1,6 +1,7 @@
 import { z } from "zod";
 import { profileParamsSchema } from "./profile.ts";
 import { BUILTIN_TRIAL_KINDS, trialDefinitionSchema } from "./trials.ts";
+import { creatorRefShape } from "./named-refs.ts";
 
 /**
  * The tuning bench's API (issue 10): trials of an arm, offline runs of them with a version's parameters (or
@@ -23,8 +24,7 @@ export const customTrialSchema = z.object({
   armId: id,
   name: z.string(),
   definition: trialDefinitionSchema,
-  createdBy: z.string(),
-  createdByName: z.string(),
+  ...creatorRefShape,
   createdAt: z.string(),
   updatedAt: z.string(),
 });
@@ -138,8 +138,7 @@ export const trialRunSchema = z.object({
   seriesHash: z.string(),
   /** Wall time of the simulation and metrics in the worker [ms]. */
   durationMs: z.number().int(),
-  createdBy: z.string(),
-  createdByName: z.string(),
+  ...creatorRefShape,
   createdAt: z.string(),
 });
 export type TrialRun = z.infer<typeof trialRunSchema>;

@@ -1,6 +1,6 @@
 import { z } from "zod";
 import { trialRunSchema } from "./bench-api.ts";
-import { armRefShape, operatorRefShape, profileRefShape } from "./named-refs.ts";
+import { armRefShape, nullablePersonRefShape, operatorRefShape, personRefShape, profileRefShape } from "./named-refs.ts";
 import { ceilingsSchema, profileParamsSchema, versionStateSchema } from "./profile.ts";
 import { singleLineName } from "./text.ts";
 
@@ -81,12 +81,10 @@ export const profileVersionSchema = z.object({
   params: profileParamsSchema,
   paramsSha256: z.string(),
   note: z.string(),
-  authorId: z.string(),
-  authorName: z.string(),
+  ...personRefShape("author"),
   createdAt: z.string(),
   submittedAt: z.string().nullable(),
-  decidedById: z.string().nullable(),
-  decidedByName: z.string().nullable(),
+  ...nullablePersonRefShape("decidedBy"),
   decidedAt: z.string().nullable(),
   /** The approval comment, the rejection reason or the retirement reason. */
   decisionComment: z.string().nullable(),
@@ -111,8 +109,7 @@ export type ProfileSummary = z.infer<typeof profileSummarySchema>;
 export const ceilingsRecordSchema = z.object({
   revision: z.number().int(),
   ceilings: ceilingsSchema,
-  updatedById: z.string().nullable(),
-  updatedByName: z.string().nullable(),
+  ...nullablePersonRefShape("updatedBy"),
   updatedAt: z.string(),
 });
 export type CeilingsRecord = z.infer<typeof ceilingsRecordSchema>;
@@ -127,8 +124,7 @@ export const updateCeilingsSchema = z.object({
 export const auditEntrySchema = z.object({
   id: z.number().int(),
   at: z.string(),
-  actorId: z.string().nullable(),
-  actorName: z.string().nullable(),
+  ...nullablePersonRefShape("actor"),
   entity: z.enum(AUDIT_ENTITIES),
   entityId: z.string(),
   /**
@@ -194,8 +190,7 @@ export const ceilingEventSchema = z.object({
   versionId: z.number().int(),
   kind: z.enum(CEILING_EVENT_KINDS),
   ceilingsRevision: z.number().int(),
-  actorId: z.string().nullable(),
-  actorName: z.string().nullable(),
+  ...nullablePersonRefShape("actor"),
   comment: z.string(),
   at: z.string(),
 });
