@@ -85,6 +85,15 @@ export const USER_NAME = ["displayName"];
 /** A user read through an include with `USER_NAME` attributes. */
 export type IncludedUser = Named<"displayName", string>;
 
+/**
+ * The shared `profileRefShape` fields of a row that names a profile (a recording, a trial run): its id, and
+ * its name from the `withNames` include ("" when the row was read without it).
+ */
+export const profileRefOf = (row: { profileId: number; profile?: Named<"name", string> }) => ({
+  profileId: row.profileId,
+  profileName: row.profile?.name ?? "",
+});
+
 /** A JSON column as read: MariaDB's JSON is LONGTEXT with a JSON_VALID check, which the driver hands back parsed or as text. */
 export const readJson = (raw: unknown): unknown => (typeof raw === "string" ? JSON.parse(raw) : raw);
 

@@ -2,7 +2,7 @@ import { DataTypes, type CreationOptional, type NonAttribute, type Sequelize } f
 import { recordingSummarySchema, type Recording } from "@jogwright/shared";
 import { CHUNK_ENCODINGS, type ChunkEncoding } from "./chunk-codec.ts";
 import { enumOf, json, longBlob, NULLABLE, primaryKey, serialId, string, time, unsigned, userRef } from "../../db/columns.ts";
-import { bindModel, hasManyBothWays, readJson, TableModel, USER_NAME, type IncludedUser, type Named, type SerialId } from "../../db/model-parts.ts";
+import { bindModel, hasManyBothWays, profileRefOf, readJson, TableModel, USER_NAME, type IncludedUser, type Named, type SerialId } from "../../db/model-parts.ts";
 
 /**
  * Recordings of live jog sessions (`jog_recordings` and `jog_recording_chunks`, migrations 0010 and 0017):
@@ -41,8 +41,7 @@ export class RecordingModel extends TableModel<RecordingModel, "driver" | "arm" 
       driverName: this.driver?.displayName ?? "",
       armId: this.armId,
       armName: this.arm?.name ?? "",
-      profileId: this.profileId,
-      profileName: this.profile?.name ?? "",
+      ...profileRefOf(this),
       versionId: this.versionId,
       versionNumber: this.version?.number ?? 0,
       startedAt: this.startedAt.toISOString(),

@@ -1,7 +1,7 @@
 import { DataTypes, type Sequelize } from "sequelize";
 import { profileParamsSchema, trialDefinitionSchema, trialMetricsSchema, type CustomTrial, type TrialRun } from "@jogwright/shared";
 import { json, longBlob, NULLABLE, primaryKey, serialId, sha256, string, unsigned, userRef } from "../../db/columns.ts";
-import { bindModel, hasManyBothWays, readJson, TableModel, USER_NAME, type IncludedUser, type Named, type SerialId, type Stamp } from "../../db/model-parts.ts";
+import { bindModel, hasManyBothWays, profileRefOf, readJson, TableModel, USER_NAME, type IncludedUser, type Named, type SerialId, type Stamp } from "../../db/model-parts.ts";
 
 /**
  * The tuning bench's tables (migration 0015): engineers' custom trials (`trials`), stored offline runs
@@ -59,8 +59,7 @@ export class TrialRunModel extends TableModel<TrialRunModel, "creator" | "profil
     return {
       id: this.id,
       armId: this.armId,
-      profileId: this.profileId,
-      profileName: this.profile?.name ?? "",
+      ...profileRefOf(this),
       versionId: this.versionId,
       versionNumber: this.version?.number ?? null,
       params: profileParamsSchema.parse(readJson(this.params)),
