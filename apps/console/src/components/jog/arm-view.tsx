@@ -53,10 +53,8 @@ const IRIS_400 = "#8f8cff";
 const ARROW_M_PER_M_PER_S = 1.2;
 /** Ellipsoid semi-axis per (m/s per rad/s) of J_P's singular values. */
 const ELLIPSOID_SCALE_M = 0.18;
-const LINK_RADIUS_M = 0.028;
-const JOINT_RADIUS_M = 0.042;
-const JOINT_LENGTH_M = 0.12;
-const TCP_AXIS_LENGTH_M = 0.1;
+/** Sizes of the drawn arm [m]: links and joints are cylinders, the TCP frame three axes. */
+const DRAWN_M = { linkRadius: 0.028, jointRadius: 0.042, jointLength: 0.12, tcpAxisLength: 0.1 } as const;
 
 const Y_UP = new THREE.Vector3(0, 1, 0);
 const dir = new THREE.Vector3();
@@ -173,8 +171,8 @@ function ArmRig({ arm, restPose, source, statusRef }: ArmRigProps) {
       }
       const first = links.current[2 * i];
       const second = links.current[2 * i + 1];
-      if (first) placeSegment(first, ox, oy, oz, px, py, pz, LINK_RADIUS_M);
-      if (second) placeSegment(second, px, py, pz, nx, ny, nz, LINK_RADIUS_M);
+      if (first) placeSegment(first, ox, oy, oz, px, py, pz, DRAWN_M.linkRadius);
+      if (second) placeSegment(second, px, py, pz, nx, ny, nz, DRAWN_M.linkRadius);
 
       // Joint i's axis: z of frame i (standard, = z_{i-1} in DH numbering) or of frame i+1 (modified).
       const g = kernel.modified ? f + 16 : f;
@@ -182,19 +180,19 @@ function ArmRig({ arm, restPose, source, statusRef }: ArmRigProps) {
       if (joint) {
         const zx = F[g + 2]!, zy = F[g + 6]!, zz = F[g + 10]!;
         const cx = F[g + 3]!, cy = F[g + 7]!, cz = F[g + 11]!;
-        const h = JOINT_LENGTH_M / 2;
-        placeSegment(joint, cx - h * zx, cy - h * zy, cz - h * zz, cx + h * zx, cy + h * zy, cz + h * zz, JOINT_RADIUS_M);
+        const h = DRAWN_M.jointLength / 2;
+        placeSegment(joint, cx - h * zx, cy - h * zy, cz - h * zz, cx + h * zx, cy + h * zy, cz + h * zz, DRAWN_M.jointRadius);
       }
     }
     const tx = pose[3]!, ty = pose[7]!, tz = pose[11]!;
     const last = 16 * n;
-    if (tool.current) placeSegment(tool.current, F[last + 3]!, F[last + 7]!, F[last + 11]!, tx, ty, tz, LINK_RADIUS_M * 0.6);
+    if (tool.current) placeSegment(tool.current, F[last + 3]!, F[last + 7]!, F[last + 11]!, tx, ty, tz, DRAWN_M.linkRadius * 0.6);
 
     // TCP frame: the columns of the pose's rotation.
     for (let c = 0; c < 3; c++) {
       const mesh = tcpAxes.current[c];
       if (!mesh) continue;
-      const L = TCP_AXIS_LENGTH_M;
+      const L = DRAWN_M.tcpAxisLength;
       placeSegment(mesh, tx, ty, tz, tx + L * pose[c]!, ty + L * pose[4 + c]!, tz + L * pose[8 + c]!, 0.006);
     }
 
