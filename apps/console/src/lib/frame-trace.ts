@@ -35,12 +35,12 @@ export class FrameTrace {
   readonly capacity: number;
   private jointCount = 0;
   private isPrismatic: boolean[] = [];
-  private t: Float64Array;
+  private readonly t: Float64Array;
   private rates: Float64Array[] = [];
-  private sigmaMm: Float64Array;
-  private lambdaMm: Float64Array;
-  private speedCommandedMmPerS: Float64Array;
-  private speedAchievedMmPerS: Float64Array;
+  private readonly sigmaMm: Float64Array;
+  private readonly lambdaMm: Float64Array;
+  private readonly speedCommandedMmPerS: Float64Array;
+  private readonly speedAchievedMmPerS: Float64Array;
   /** Index of the next write. */
   private head = 0;
   private size = 0;
