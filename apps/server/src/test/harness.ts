@@ -102,8 +102,16 @@ export async function freshUser(h: Harness, roles: Role[], password = "fresh-pas
   return { user, username, password };
 }
 
+/** A fresh account signed in: its user, its credentials and the session cookie. */
+export interface SignedInUser {
+  user: User;
+  username: string;
+  password: string;
+  cookie: string;
+}
+
 /** A fresh account with `roles`, signed in: its user and session cookie. */
-export async function signedInUser(h: Harness, roles: Role[]): Promise<{ user: User; username: string; password: string; cookie: string }> {
+export async function signedInUser(h: Harness, roles: Role[]): Promise<SignedInUser> {
   const u = await freshUser(h, roles);
   return { ...u, cookie: await signIn(h, u.username, u.password) };
 }

@@ -9,7 +9,7 @@ import {
   type User,
   type VersionState,
 } from "@jogwright/shared";
-import { call, createHarness, freshUser, listenHarness, signIn, type Harness } from "../../test/harness.ts";
+import { call, createHarness, listenHarness, signedInUser, type Harness, type SignedInUser } from "../../test/harness.ts";
 import { JogTestClient } from "../jog/jog-test-client.ts";
 import { approveInDatabase, compliantParams, sixAxisArm, uniqueName } from "../../test/profiles-fixture.ts";
 import { AppError } from "../../errors.ts";
@@ -25,8 +25,7 @@ import { driveableVersionsFor, drivingFacts, listDriveableVersions, loadVersionF
  */
 let h: Harness;
 let arm: Arm;
-type Person = { user: User; cookie: string };
-const people: Record<string, Person> = {};
+const people: Record<string, SignedInUser> = {};
 /** Every version made here: its profile, state, flag and the owner (the profile's operator). */
 const versions: { id: number; profileId: number; state: VersionState; flagged: boolean; ownerId: string }[] = [];
 
@@ -47,8 +46,7 @@ beforeAll(async () => {
   h = createHarness({ SIGN_IN_MAX_FAILURES: "1000" });
   arm = await sixAxisArm(h);
   for (const [key, roles] of Object.entries(ROLE_SETS)) {
-    const u = await freshUser(h, roles);
-    people[key] = { user: u.user, cookie: await signIn(h, u.username, u.password) };
+    people[key] = await signedInUser(h, roles);
   }
   // One profile per owner × state × flag (one approved version per profile, as the workflow keeps it).
   for (const owner of [people.ownerOperator!, people.ownerOperatorEngineer!]) {

@@ -1,10 +1,10 @@
 import { performance } from "node:perf_hooks";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
-import { defaultProfileParams, JOG_CLOSE_CODES, type Ceilings, type JogServerMessage, type JogState, type ProfileParams, type RecordedFrame, type Role, type User } from "@jogwright/shared";
+import { defaultProfileParams, JOG_CLOSE_CODES, type Ceilings, type JogServerMessage, type JogState, type ProfileParams, type RecordedFrame, type User } from "@jogwright/shared";
 import { findArm } from "../arms/service.ts";
 import { createProfile } from "../versions/service.ts";
-import { call, DEMO_BY_ROLE, freshUser, signIn, type Harness } from "../../test/harness.ts";
+import { call, DEMO_BY_ROLE, signedInUser, signIn, type Harness } from "../../test/harness.ts";
 import { closeJogServer, openJogServer, type Listener } from "../../test/jog-fixture.ts";
 import { approvedProfile, compliantParams, freshTeam, sixAxisArm } from "../../test/profiles-fixture.ts";
 import { JogTestClient, sleep, upgradeOutcome } from "./jog-test-client.ts";
@@ -34,18 +34,6 @@ const SPEED_MPS = 0.1;
 /** A controlled stop from 0.1 m/s at the profile's 1 m/s² TCP deceleration: T = v/a = 100 ms (derived). */
 const RAMP_MS = 100;
 
-interface Person {
-  user: User;
-  username: string;
-  password: string;
-  cookie: string;
-}
-
-async function person(roles: Role[]): Promise<Person> {
-  const u = await freshUser(h, roles);
-  return { ...u, cookie: await signIn(h, u.username, u.password) };
-}
-
 /** A draft by `engineer` on the six-axis arm with the jog.test parameters (no deadband, linear curve). */
 async function draft(engineer: User, forOperatorId = operatorId): Promise<number> {
   const p = await createProfile(h.ctx, engineer, {
@@ -72,9 +60,9 @@ async function startDriving(cookie: string, versionId: number): Promise<{ c: Jog
 /** Released, then held with +z deflected (a fresh press), streamed; resolves once moving at speed. */
 /** An engineer driving a draft of their own, and a fresh safety officer watching that session. */
 async function watchedDraftSession() {
-  const driver = await person(["engineer"]);
+  const driver = await signedInUser(h, ["engineer"]);
   const { c: d, sessionId } = await startDriving(driver.cookie, await draft(driver.user));
-  const officer = await person(["safety_officer"]);
+  const officer = await signedInUser(h, ["safety_officer"]);
   const w = await connect(officer.cookie);
   w.send({ type: "watch", sessionId });
   await w.next((m) => m.type === "session");
@@ -121,7 +109,7 @@ async function patchUser(id: string, body: object): Promise<number> {
 beforeAll(async () => {
   ({ h, net, arm6Id: armId, operatorId } = await openJogServer());
   admin = await signIn(h, DEMO_BY_ROLE.admin);
-  officerCookie = (await person(["safety_officer"])).cookie;
+  officerCookie = (await signedInUser(h, ["safety_officer"])).cookie;
   const arm = (await findArm(h.db, armId))!;
   const base = defaultProfileParams(arm.model.joints.map((j) => j.maxSpeed!));
   // As jog.test.ts: no deadband and a linear curve (axis 1 → the cap), 40 % override, 1 m/s² ramp (default).
@@ -132,7 +120,7 @@ afterAll(() => closeJogServer(net, h));
 
 describe("a role change reaches the open socket at once", () => {
   it("an engineer whose engineer role was removed cannot start a draft on the socket that was already open", async () => {
-    const e = await person(["engineer", "operator"]);
+    const e = await signedInUser(h, ["engineer", "operator"]);
     // A draft of a profile assigned to this very person, so the refusal is about the draft, not whose it is.
     const versionId = await draft(e.user, e.user.id);
     const c = await connect(e.cookie);
@@ -148,7 +136,7 @@ describe("a role change reaches the open socket at once", () => {
   });
 
   it("an engineer driving a draft who loses the engineer role: a controlled stop, `ended` roles-changed, the socket stays open", async () => {
-    const e = await person(["engineer", "operator"]);
+    const e = await signedInUser(h, ["engineer", "operator"]);
     const { c, sessionId } = await startDriving(e.cookie, await draft(e.user));
     await moveAlongZ(c);
     const patchedAt = await patchUser(e.user.id, { roles: ["operator"] });
@@ -183,7 +171,7 @@ describe("a role change reaches the open socket at once", () => {
 
 describe("deactivation", () => {
   it("a deactivated driver's arm makes a controlled stop at once; `ended` comes first, then the close (4403); the recording is complete", async () => {
-    const e = await person(["engineer"]);
+    const e = await signedInUser(h, ["engineer"]);
     const { c, sessionId } = await startDriving(e.cookie, await draft(e.user));
     const closing = closed(c);
     await moveAlongZ(c);
@@ -231,7 +219,7 @@ describe("deactivation", () => {
   });
 
   it("a changed password signs the socket out: `ended` signed-out first, then the close (4401)", async () => {
-    const e = await person(["engineer"]);
+    const e = await signedInUser(h, ["engineer"]);
     const { c, sessionId } = await startDriving(e.cookie, await draft(e.user));
     const closing = closed(c);
     await patchUser(e.user.id, { password: "another-long-password" });
@@ -246,14 +234,14 @@ describe("deactivation", () => {
 
 describe("signing out", () => {
   it("the driver's and the watcher's sockets of that sign-in get `ended` with the reason first, then close (4401); other sign-ins stay", async () => {
-    const e = await person(["engineer", "safety_officer"]);
+    const e = await signedInUser(h, ["engineer", "safety_officer"]);
     const { c: driving, sessionId } = await startDriving(e.cookie, await draft(e.user));
     // The same person signed in a second time (another browser), watching: unaffected by the first sign-out.
     const elsewhere = await signIn(h, e.username, e.password);
     const other = await connect(elsewhere);
     other.send({ type: "watch", sessionId });
     await other.next((m) => m.type === "session");
-    const officer = await person(["safety_officer"]);
+    const officer = await signedInUser(h, ["safety_officer"]);
     const watching = await connect(officer.cookie);
     watching.send({ type: "watch", sessionId });
     await watching.next((m) => m.type === "session");
@@ -319,7 +307,7 @@ describe("an idle page expires", () => {
   });
 
   it("the live page's poll (marked as a background request) does not extend the session either; a person's request does", async () => {
-    const officer = await person(["safety_officer"]);
+    const officer = await signedInUser(h, ["safety_officer"]);
     const id = sessionIdOf(officer.cookie);
     await h.db.query("UPDATE sessions SET expires_at = ? WHERE id = ?", { replacements: [new Date(Date.now() + 3600_000), id] });
     const before = await expiresAt(id);

@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
-import type { JogState, Role, User } from "@jogwright/shared";
-import { call, DEMO_BY_ROLE, freshUser, signIn, type Harness } from "../../test/harness.ts";
+import type { JogState } from "@jogwright/shared";
+import { call, DEMO_BY_ROLE, signedInUser, signIn, type Harness, type SignedInUser } from "../../test/harness.ts";
 import { closeJogServer, connectJog, draftVersion, openJogServer, type Listener } from "../../test/jog-fixture.ts";
 import { JogTestClient, sleep } from "./jog-test-client.ts";
 
@@ -19,21 +19,11 @@ let arm6Id: number;
 
 const INPUT_PERIOD_MS = 10;
 
-interface Person {
-  user: User;
-  cookie: string;
-}
-
-async function person(roles: Role[]): Promise<Person> {
-  const u = await freshUser(h, roles);
-  return { user: u.user, cookie: await signIn(h, u.username, u.password) };
-}
-
 const connect = (cookie: string) => connectJog(net, cookie);
 
 /** An engineer driving a fresh draft on the six-axis arm, moving along +z after a fresh press. */
-async function drivingAndMoving(): Promise<{ driver: Person; c: JogTestClient; sessionId: string; versionId: number }> {
-  const driver = await person(["engineer"]);
+async function drivingAndMoving(): Promise<{ driver: SignedInUser; c: JogTestClient; sessionId: string; versionId: number }> {
+  const driver = await signedInUser(h, ["engineer"]);
   const versionId = await draftVersion(h, driver.user, arm6Id, operatorId, `watched ${driver.user.username}`);
   const c = await connect(driver.cookie);
   c.send({ type: "start", versionId });
@@ -66,7 +56,7 @@ afterAll(() => closeJogServer(net, h));
 describe("a safety officer's STOP on a watched session", () => {
   it("halts the driver's arm at once and latches the driver's station; the watcher sees it too", async () => {
     const { driver, c, sessionId, versionId } = await drivingAndMoving();
-    const officer = await person(["safety_officer"]);
+    const officer = await signedInUser(h, ["safety_officer"]);
     const w = await watch(officer.cookie, sessionId);
     w.send({ type: "estop" });
     // The driver's frames: rates exactly zero, latched, the stop reason says so (the instant halt, jog.test.ts).
@@ -92,7 +82,7 @@ describe("a safety officer's STOP on a watched session", () => {
 
   it("is audited against the driver's station, with the officer as the one who pressed it", async () => {
     const { driver, c, sessionId } = await drivingAndMoving();
-    const officer = await person(["safety_officer"]);
+    const officer = await signedInUser(h, ["safety_officer"]);
     const w = await watch(officer.cookie, sessionId);
     w.send({ type: "estop" });
     await c.nextState(isHalted, 3000);
@@ -111,7 +101,7 @@ describe("a safety officer's STOP on a watched session", () => {
 
   it("an officer whose safety officer role was removed while watching can no longer stop it (roles checked on the message)", async () => {
     const { c, sessionId } = await drivingAndMoving();
-    const officer = await person(["safety_officer", "engineer"]);
+    const officer = await signedInUser(h, ["safety_officer", "engineer"]);
     const w = await watch(officer.cookie, sessionId);
     await call(h, "patch", `/api/users/${officer.user.id}`, admin).send({ roles: ["engineer"] }).expect(200);
     // Still an engineer, so still watching; but the STOP is refused and the driver drives on.
