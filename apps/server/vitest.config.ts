@@ -2,7 +2,9 @@ import { defineConfig } from "vitest/config";
 
 // API tests on the real MariaDB (DATABASE_URL, set by `npm test`). Each file that touches the database runs
 // on a database of its own, created, migrated and seeded for it (src/test/fresh-database.ts) and dropped
-// afterwards, so files share no data and may run at the same time. Four groups, one after the other:
+// afterwards, so files share no data and may run at the same time. Four groups, one after the other in a
+// plain `vitest run` (`npm test` runs "faults" in a run of its own beside the type check, lint and build,
+// then the other three: scripts/test.mjs):
 // - "unit": files with no database and no server (the simulation, the scheduler, trials, codecs, the
 //   upload parser, configuration), two at a time, without a database copy (about 2.5 s of set-up saved per
 //   file);
