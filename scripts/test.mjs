@@ -2,7 +2,7 @@
 // checks, unit tests, API tests against the real MariaDB, browser tests in real Chromium against the
 // real server — and one closing line with the totals: `N passed, N failed`.
 import { spawn } from "node:child_process";
-import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
+import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import path from "node:path";
 import { DATA_DIR, databaseEnv, log, portFromEnv, prepare, recreateDatabase, ROOT, SetupError, startPrivateRedis, startServerForRun } from "./lib/setup.mjs";
 
@@ -17,9 +17,10 @@ function record(name, passed, failed, note = "") {
  * Runs a command to its end without holding the event loop; with `buffered` its output is kept and printed
  * in one piece when it ends (jobs that run at the same time do not interleave their lines).
  */
-function runJob(cmd, args, { cwd = ROOT, env = {}, buffered = false } = {}) {
+function runJob(cmd, args, { cwd = ROOT, env = {}, buffered = false, onSpawn = () => {} } = {}) {
   return new Promise((resolve) => {
     const child = spawn(cmd, args, { cwd, env: { ...process.env, ...env }, stdio: buffered ? ["ignore", "pipe", "pipe"] : "inherit" });
+    onSpawn(child);
     let output = "";
     if (buffered) {
       child.stdout.on("data", (d) => (output += d));
@@ -59,20 +60,71 @@ async function vitestSuite(name, dir, env = {}, { buffered = false, args = [] } 
 }
 
 /**
+ * Linux schedules each session (setsid) as a group of its own (autogroup), and a process's nice value
+ * counts only inside its group. Playwright starts Chromium in a session of its own, so `nice` alone leaves
+ * Chromium an equal share beside the whole of `npm test`: measured, the timed files took 81 s beside the
+ * pages instead of 40. This gives every autogroup of `rootPid`'s descendants other than our own the nice
+ * value `nice` (/proc/<pid>/autogroup, sched(7)); nothing where the kernel has no autogroups.
+ */
+function niceAutogroupsBelow(rootPid, nice) {
+  const ownGroup = readProc("/proc/self/autogroup")?.split(" ")[0];
+  if (!ownGroup) return;
+  const children = new Map();
+  for (const entry of readdirSync("/proc")) {
+    if (!/^\d+$/.test(entry)) continue;
+    const stat = readProc(`/proc/${entry}/stat`);
+    const ppid = stat ? Number(stat.slice(stat.lastIndexOf(")") + 2).split(" ")[1]) : NaN;
+    if (!Number.isInteger(ppid)) continue;
+    if (!children.has(ppid)) children.set(ppid, []);
+    children.get(ppid).push(Number(entry));
+  }
+  const pending = [...(children.get(rootPid) ?? [])];
+  while (pending.length) {
+    const pid = pending.pop();
+    pending.push(...(children.get(pid) ?? []));
+    const [group, , value] = readProc(`/proc/${pid}/autogroup`)?.trim().split(" ") ?? [];
+    if (!group || group === ownGroup || Number(value) === nice) continue;
+    try {
+      writeFileSync(`/proc/${pid}/autogroup`, String(nice));
+    } catch {
+      // gone, or not ours to change: it keeps its share
+    }
+  }
+}
+
+function readProc(file) {
+  try {
+    return readFileSync(file, "utf8");
+  } catch {
+    return null;
+  }
+}
+
+/**
  * One project of the browser tests: `playwright test --project <project>` in tests/ (tests/playwright.config.ts:
  * "pages", then "driving", each one test at a time), read from its JSON report. A crash without a report,
  * or an error outside any test (a config or file that does not load), counts as one failure. Traces and
  * screenshots of failed tests stay in .data/test-reports/browser/<project>/.
  */
-async function playwrightSuite(name, project, env = {}) {
+async function playwrightSuite(name, project, env = {}, { buffered = false, nice = 0 } = {}) {
   const report = path.join(REPORTS, `browser-${project}.json`);
   rmSync(report, { force: true });
   log(`suite: ${name}`);
   const dir = path.join(ROOT, "tests");
-  const run = await runJob(path.join(dir, "node_modules/.bin/playwright"), ["test", "--project", project], {
+  const playwright = [path.join(dir, "node_modules/.bin/playwright"), "test", "--project", project];
+  // `nice -n N`: the runner and the Chromium it starts take the cores only when nothing else wants them.
+  const [cmd, ...args] = nice ? ["nice", "-n", String(nice), ...playwright] : playwright;
+  let timer = null;
+  const run = await runJob(cmd, args, {
     cwd: dir,
     env: { ...env, BROWSER_TEST_REPORT: report },
+    buffered,
+    onSpawn: (child) => {
+      if (nice) timer = setInterval(() => niceAutogroupsBelow(child.pid, nice), 500);
+    },
   });
+  if (timer) clearInterval(timer);
+  if (buffered) log(`suite ${name} ended (its output is above)`);
   if (!existsSync(report)) {
     record(name, 0, 1, `playwright ended (exit ${run.status}) without a report`);
     return;
@@ -160,16 +212,23 @@ async function main() {
       })(),
     ]);
     for (const job of jobs) if (job.status === "rejected") throw job.reason;
-    // The fault run migrated and seeded the template every test file's database is copied from; this run
-    // copies it as it is (global-setup.ts) instead of making it again.
-    await vitestSuite("server: unit, timed and API (on MariaDB)", "apps/server", { ...serverTestEnv, ...(templateReady ? { JOGWRIGHT_TEST_TEMPLATE: "ready" } : {}) }, {
-      args: ["--project", "unit", "--project", "timed", "--project", "api"],
-    });
+    // The fault run migrated and seeded the template every test file's database is copied from; these runs
+    // copy it as it is (global-setup.ts) instead of making it again.
+    const serverRunEnv = { ...serverTestEnv, ...(templateReady ? { JOGWRIGHT_TEST_TEMPLATE: "ready" } : {}) };
+    await vitestSuite("server: unit and API (on MariaDB)", "apps/server", serverRunEnv, { args: ["--project", "unit", "--project", "api"] });
     await redis.stop();
     redis = null;
 
+    // The files that measure milliseconds ("timed": the jog socket at 1 kHz against its 200 ms watchdog)
+    // leave the cores about half idle; the browser tests that do not drive the arm ("pages") fill that
+    // time at the lowest priority (nice 19), so the scheduler gives the timed files a core whenever they
+    // want one, and the pages go on at full speed once they end. The tests that drive the arm ("driving")
+    // run after both, alone.
     const browserEnv = { ...dbEnv, JOGWRIGHT_URL: server.url, CHROMIUM_PATH: "/usr/bin/chromium" };
-    await playwrightSuite("browser: pages", "pages", browserEnv);
+    await Promise.all([
+      vitestSuite("server: timed (on MariaDB)", "apps/server", serverRunEnv, { args: ["--project", "timed"] }),
+      playwrightSuite("browser: pages", "pages", browserEnv, { buffered: true, nice: 19 }),
+    ]);
     await playwrightSuite("browser and whole-system: driving (one at a time)", "driving", browserEnv);
   } finally {
     await server?.stop();

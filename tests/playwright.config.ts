@@ -14,7 +14,8 @@ const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "..");
 const reports = path.join(process.env.JOGWRIGHT_DATA_DIR ? path.resolve(process.env.JOGWRIGHT_DATA_DIR) : path.join(root, ".data"), "test-reports");
 
 /**
- * Two projects, run one after the other by `npm test` (`--project pages`, then `--project driving`):
+ * Two projects, run one after the other by `npm test` (`--project pages`, at nice 19 beside the server's
+ * timed files, then `--project driving`, alone):
  * - "driving": the specs that jog the arm. The drive page's input loop runs every 16 ms and the server's
  *   watchdog stops the arm after 200 ms without input; a second browser beside it on the 2-core machine
  *   starved that loop past the watchdog (measured), so these run one at a time;

@@ -4,7 +4,8 @@ import { defineConfig } from "vitest/config";
 // on a database of its own, created, migrated and seeded for it (src/test/fresh-database.ts) and dropped
 // afterwards, so files share no data and may run at the same time. Four groups, one after the other in a
 // plain `vitest run` (`npm test` runs "faults" in a run of its own beside the type check, lint and build,
-// then the other three: scripts/test.mjs):
+// then "unit" and "api", then "timed" beside the browser tests that do not drive the arm, which run at the
+// lowest priority: scripts/test.mjs):
 // - "unit": files with no database and no server (the simulation, the scheduler, trials, codecs, the
 //   upload parser, configuration), two at a time, without a database copy (about 2.5 s of set-up saved per
 //   file);
