@@ -1,5 +1,5 @@
 import { ERROR_CODES, type ErrorCode } from "./errors.ts";
-import { AUDIT_ENTITIES, CEILING_EVENT_KINDS, mailMessageSchema } from "./profile-api.ts";
+import { AUDIT_ENTITIES, CEILING_EVENT_KINDS, mailMessageSchema, type AuditEntityKind } from "./profile-api.ts";
 import { ceilingsSchema, EVIDENCE_RULES, GUARD_POLICIES, GUARD_POLICY_LABELS, VERSION_STATES, type Ceilings, type VersionState } from "./profile.ts";
 import { DAMPING_KIND_LABELS } from "./profile-fields.ts";
 import { ROLE_LABELS, ROLES } from "./roles.ts";
@@ -54,8 +54,6 @@ export const CEILING_LABELS: LabelMap<keyof Ceilings> = {
 // ---------------------------------------------------------------------------------------------------
 // Audit trail
 // ---------------------------------------------------------------------------------------------------
-
-export type AuditEntityKind = (typeof AUDIT_ENTITIES)[number];
 
 /** What an audit entry is about, as the audit page names it (an entity id follows: "Version v6"). */
 export const AUDIT_ENTITY_LABELS: LabelMap<AuditEntityKind> = {

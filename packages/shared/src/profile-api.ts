@@ -59,6 +59,7 @@ export const retireVersionSchema = z.object({ reason: z.string().trim().min(3, "
 
 /** What the audit trail records changes of. */
 export const AUDIT_ENTITIES = ["user", "arm", "profile", "version", "ceilings", "approval", "session", "trial", "recording"] as const;
+export type AuditEntityKind = (typeof AUDIT_ENTITIES)[number];
 
 /**
  * The arm revision and tool a version drives (issue 12), as GET /api/profiles/:id and the save name them
