@@ -68,6 +68,18 @@ export function Dialog({ open, onClose, title, description, children, className 
   );
 }
 
+/**
+ * What a dialog hands its form as the form's "done": the dialog closes (as Cancel would close it), then the
+ * page hears the result. A page's onDone / onSaved / onCreated so says only what follows (a notice, a
+ * selection), never that its dialog closes.
+ */
+export function closeThen<Result extends unknown[]>(onClose: () => void, onDone: (...result: Result) => void): (...result: Result) => void {
+  return (...result) => {
+    onClose();
+    onDone(...result);
+  };
+}
+
 interface DialogFormActionsProps {
   onCancel: () => void;
   isPending: boolean;

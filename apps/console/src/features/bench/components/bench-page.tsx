@@ -205,10 +205,7 @@ export function BenchPage() {
               open={editorOpen}
               from={null}
               onClose={() => setEditorOpen(false)}
-              onSaved={(trial) => {
-                setEditorOpen(false);
-                setPicked((s) => new Set([...s, `custom:${trial.id}`]));
-              }}
+              onSaved={(trial) => setPicked((s) => new Set([...s, `custom:${trial.id}`]))}
             />
           ) : null}
           <FailureMessage error={run.error} title="The runs failed" />

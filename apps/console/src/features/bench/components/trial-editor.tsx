@@ -5,7 +5,7 @@ import { useMutation, useQueryClient } from "@tanstack/react-query";
 import { Plus, Trash2 } from "lucide-react";
 import { TRIAL_FRAMES, type Arm, type CustomTrial, type TrialDefinition } from "@jogwright/shared";
 import { Button } from "../../../components/ui/button.tsx";
-import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
+import { closeThen, Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { NumberField } from "../../../components/ui/number-field.tsx";
 import { SelectField } from "../../../components/ui/select-field.tsx";
@@ -54,7 +54,7 @@ export function TrialEditorDialog({ arm, open, onClose, onSaved, from }: {
 }) {
   return (
     <Dialog open={open} onClose={onClose} title="New trial" description={`For ${arm.name}. Saved trials can be run by every engineer.`} className="w-[min(60rem,calc(100vw-2rem))]">
-      {open ? <TrialEditorForm arm={arm} onCancel={onClose} onSaved={onSaved} from={from} /> : null}
+      {open ? <TrialEditorForm arm={arm} onCancel={onClose} onSaved={closeThen(onClose, onSaved)} from={from} /> : null}
     </Dialog>
   );
 }

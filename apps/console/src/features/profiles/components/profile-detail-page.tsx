@@ -190,7 +190,6 @@ function ProfileDetail({ detail, arm, ceilings, user }: { detail: ProfileDetail;
           version={withdrawing}
           onClose={() => setWithdrawing(null)}
           onDone={(v) => {
-            setWithdrawing(null);
             setSubmitOrigin("history");
             setNotice(`v${v.number} is withdrawn from review. It stays in the history with your note.`);
           }}

@@ -1,6 +1,6 @@
 import { useState } from "react";
 import { withdrawVersionSchema, type ProfileVersion } from "@jogwright/shared";
-import { Dialog } from "../../../components/ui/dialog.tsx";
+import { closeThen, Dialog } from "../../../components/ui/dialog.tsx";
 import { NoteForm } from "../../../components/ui/note-form.tsx";
 import { useWithdrawVersion } from "../hooks/use-profiles.ts";
 
@@ -11,7 +11,7 @@ import { useWithdrawVersion } from "../hooks/use-profiles.ts";
 export function WithdrawDialog({ version, onClose, onDone }: { version: ProfileVersion | null; onClose: () => void; onDone: (version: ProfileVersion) => void }) {
   return (
     <Dialog open={version !== null} onClose={onClose} title={version ? `Withdraw v${version.number} from review` : ""}>
-      {version ? <WithdrawForm key={version.id} version={version} onCancel={onClose} onDone={onDone} /> : null}
+      {version ? <WithdrawForm key={version.id} version={version} onCancel={onClose} onDone={closeThen(onClose, onDone)} /> : null}
     </Dialog>
   );
 }

@@ -4,7 +4,7 @@ import { zodResolver } from "@hookform/resolvers/zod";
 import { z } from "zod";
 import { approveVersionSchema, rejectVersionSchema, retireVersionSchema, type ProfileVersion } from "@jogwright/shared";
 import { CAUTION_TEXT } from "../../../components/layout/cautions-banner.tsx";
-import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
+import { closeThen, Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
 import { Checkbox } from "../../../components/ui/checkbox.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { TextAreaField } from "../../../components/ui/text-area-field.tsx";
@@ -45,7 +45,7 @@ export function DecisionDialog({ decision, version, label, approvedVersion, onCl
   const title = rollbackFrom ? `Roll back to v${version.number}: ${label}` : decision ? `${TEXT[decision].title} ${label}` : "";
   return (
     <Dialog open={decision !== null} onClose={onClose} title={title}>
-      {decision ? <DecisionForm key={decision} decision={decision} version={version} rollbackFrom={rollbackFrom} onCancel={onClose} onDone={onDone} /> : null}
+      {decision ? <DecisionForm key={decision} decision={decision} version={version} rollbackFrom={rollbackFrom} onCancel={onClose} onDone={closeThen(onClose, onDone)} /> : null}
     </Dialog>
   );
 }

@@ -1,6 +1,6 @@
 import { useState } from "react";
 import { reconfirmVersionSchema, type ProfileVersion } from "@jogwright/shared";
-import { Dialog } from "../../../components/ui/dialog.tsx";
+import { closeThen, Dialog } from "../../../components/ui/dialog.tsx";
 import { NoteForm } from "../../../components/ui/note-form.tsx";
 import { useReconfirmVersion } from "../hooks/use-reviews.ts";
 
@@ -18,7 +18,7 @@ export function ReconfirmDialog({ open, version, label, onClose, onDone }: {
 }) {
   return (
     <Dialog open={open} onClose={onClose} title={`Re-confirm ${label} under the current ceilings`}>
-      {open ? <ReconfirmForm version={version} onCancel={onClose} onDone={onDone} /> : null}
+      {open ? <ReconfirmForm version={version} onCancel={onClose} onDone={closeThen(onClose, onDone)} /> : null}
     </Dialog>
   );
 }

@@ -234,20 +234,14 @@ export function ReviewPage({ versionId, user }: { versionId: number; user: User 
         label={label}
         approvedVersion={approvedVersion}
         onClose={() => setDecision(null)}
-        onDone={(d, v: ProfileVersion) => {
-          setDecision(null);
-          setNotice(`${profile.name} v${v.number} is ${DONE[d]}.`);
-        }}
+        onDone={(d, v: ProfileVersion) => setNotice(`${profile.name} v${v.number} is ${DONE[d]}.`)}
       />
       <ReconfirmDialog
         open={isReconfirming}
         version={version}
         label={label}
         onClose={() => setReconfirming(false)}
-        onDone={(v) => {
-          setReconfirming(false);
-          setNotice(`${profile.name} v${v.number} is re-confirmed under the current ceilings; its operator can drive it again.`);
-        }}
+        onDone={(v) => setNotice(`${profile.name} v${v.number} is re-confirmed under the current ceilings; its operator can drive it again.`)}
       />
     </>
   );

@@ -2,7 +2,7 @@ import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { createUserSchema, type CreateUserInput, type User } from "@jogwright/shared";
-import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
+import { closeThen, Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
@@ -17,7 +17,7 @@ const FIELDS = ["username", "displayName", "email", "password", "roles"] as cons
 export function CreateUserDialog({ open, onClose, onCreated }: { open: boolean; onClose: () => void; onCreated: (user: User) => void }) {
   return (
     <Dialog open={open} onClose={onClose} title="New user" description="The person signs in with this user name and password.">
-      <CreateUserForm onCancel={onClose} onCreated={onCreated} />
+      <CreateUserForm onCancel={onClose} onCreated={closeThen(onClose, onCreated)} />
     </Dialog>
   );
 }

@@ -3,7 +3,7 @@ import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { z } from "zod";
 import { passwordSchema, updateUserSchema, type UpdateUserInput, type User } from "@jogwright/shared";
-import { Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
+import { closeThen, Dialog, DialogFormActions } from "../../../components/ui/dialog.tsx";
 import { Message } from "../../../components/ui/message.tsx";
 import { TextField } from "../../../components/ui/text-field.tsx";
 import { isApiRequestError } from "../../../lib/api-client.ts";
@@ -32,7 +32,7 @@ const FIELDS = ["displayName", "email", "roles", "password"] as const;
 export function EditUserDialog({ user, onClose, onSaved }: { user: User | null; onClose: () => void; onSaved: (user: User) => void }) {
   return (
     <Dialog open={user !== null} onClose={onClose} title={user ? `Edit ${user.username}` : "Edit user"} description="The user name cannot change.">
-      {user ? <EditUserForm key={user.id} user={user} onCancel={onClose} onSaved={onSaved} /> : null}
+      {user ? <EditUserForm key={user.id} user={user} onCancel={onClose} onSaved={closeThen(onClose, onSaved)} /> : null}
     </Dialog>
   );
 }

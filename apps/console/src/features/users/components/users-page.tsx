@@ -44,18 +44,12 @@ export function UsersPage({ currentUserId }: { currentUserId: string }) {
       <CreateUserDialog
         open={isCreating}
         onClose={() => setCreating(false)}
-        onCreated={(user) => {
-          setCreating(false);
-          setNotice(`Created ${user.username} (${user.displayName}).`);
-        }}
+        onCreated={(user) => setNotice(`Created ${user.username} (${user.displayName}).`)}
       />
       <EditUserDialog
         user={editing}
         onClose={() => setEditing(null)}
-        onSaved={(user) => {
-          setEditing(null);
-          setNotice(`Saved changes to ${user.username}.`);
-        }}
+        onSaved={(user) => setNotice(`Saved changes to ${user.username}.`)}
       />
       <ConfirmActiveDialog user={toggling} onClose={() => setToggling(null)} />
     </>
