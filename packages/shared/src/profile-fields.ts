@@ -66,50 +66,65 @@ const num = (
   path: string,
   uiKey: string,
   label: string,
-  group: ProfileFieldGroup,
   unit: UnitConversion,
   decimals: number,
   extra: Partial<Pick<NumericProfileField, "dampingKind" | "hint">> = {},
-): NumericProfileField => ({ kind: "number", path, uiKey, label, group, decimals, ...unit, ...extra });
+): Omit<NumericProfileField, "group"> => ({ kind: "number", path, uiKey, label, decimals, ...unit, ...extra });
 
-/** Every scalar numeric parameter (the per-joint caps are JOINT_RATE_CAP_FIELD below), in form order. */
+/** The fields of one form group, in form order, each marked with the group. */
+const inGroup = (group: ProfileFieldGroup, fields: readonly Omit<NumericProfileField, "group">[]): NumericProfileField[] =>
+  fields.map((field) => ({ ...field, group }));
+
+/** Every scalar numeric parameter (the per-joint caps are JOINT_RATE_CAP_FIELD below), in form order: PROFILE_FIELD_GROUPS' order. */
 export const NUMERIC_PROFILE_FIELDS: readonly NumericProfileField[] = [
-  num("damping.lambdaM", "lambdaMm", "Damping λ", "Damping", UNITS.metresToMm, 1, { dampingKind: "fixed" }),
-  num("damping.epsilonM", "epsilonMm", "Damped region ε (σ_min below)", "Damping", UNITS.metresToMm, 1, { dampingKind: "singular-value" }),
-  num("damping.lambdaMaxM", "lambdaMaxMm", "Damping at the singularity λmax", "Damping", UNITS.metresToMm, 1, { dampingKind: "singular-value" }),
-  num("damping.w0M3", "w0M3", "Damped region w0 (w below)", "Damping", UNITS.cubicMetres, 6, { dampingKind: "manipulability" }),
-  num("damping.lambda0M", "lambda0Mm", "Damping at the singularity λ0", "Damping", UNITS.metresToMm, 1, { dampingKind: "manipulability" }),
-  num("tcpLinearCapMPerS", "tcpLinearCapMmPerS", "TCP linear cap", "Speed caps", UNITS.mPerSToMmPerS, 1),
-  num("tcpAngularCapRadPerS", "tcpAngularCapDegPerS", "TCP angular cap", "Speed caps", UNITS.radPerSToDegPerS, 2),
-  num("jointAccelFraction", "jointAccelPercent", "Joint acceleration, of rated", "Speed caps", UNITS.fractionToPercent, 0, {
-    hint: "Of each joint's rated acceleration; the whole change of joint rates is scaled by one factor.",
-  }),
-  num("jointLimitMarginRad", "jointLimitMarginDeg", "Joint-limit margin", "Joint limits", UNITS.radToDeg, 2, {
-    hint: "Stand-off from each limit that motion never enters.",
-  }),
-  num("jointLimitSlowZoneRad", "jointLimitSlowZoneDeg", "Slow-down zone", "Joint limits", UNITS.radToDeg, 2, {
-    hint: "Width of the zone before the stand-off where joints slow down.",
-  }),
-  num("guard.sigmaStopM", "sigmaStopMm", "Guard threshold σ", "Singularity guard", UNITS.metresToMm, 1, {
-    hint: "Stop-before holds when σ_min would fall below this.",
-  }),
-  num("watchdogMs", "watchdogMs", "Input watchdog", "Input", UNITS.milliseconds, 0, { hint: "No input for this long → controlled stop." }),
-  num("shaping.deadband", "deadbandPercent", "Stick deadband", "Input", UNITS.fractionToPercent, 1, { hint: "Of full deflection, rescaled; 5–15 % is common." }),
-  num("shaping.expo", "expo", "Expo", "Input", UNITS.unitless, 2, { hint: "0 linear … 1 cubic." }),
-  num("shaping.linearAccelMPerS2", "linearAccelMmPerS2", "Linear acceleration limit", "Input", UNITS.mPerS2ToMmPerS2, 0),
-  num("shaping.angularAccelRadPerS2", "angularAccelDegPerS2", "Angular acceleration limit", "Input", UNITS.radPerS2ToDegPerS2, 1),
-  num("speedOverride.defaultPercent", "overrideDefaultPercent", "Default override", "Override", UNITS.percent, 0),
-  num("speedOverride.maxPercent", "overrideMaxPercent", "Maximum override", "Override", UNITS.percent, 0),
-  num("tickRateHz", "tickRateHz", "Tick rate", "Loop", UNITS.hertz, 0),
-  num("driftCorrectionGainPerS", "driftCorrectionGainPerS", "Drift-correction gain K", "Loop", UNITS.perSecond, 2, {
-    hint: "0 = off; K·dt ≤ 1 (above 1 the discrete loop overshoots).",
-  }),
-  num("driftReanchorM", "driftReanchorMm", "Drift re-anchor distance", "Loop", UNITS.metresToMm, 1, {
-    hint: "A larger error than this re-anchors the reference pose instead of pulling back to it.",
-  }),
-  num("nullSpace.gainPerS", "nullSpaceGainPerS", "Null-space gain", "Redundancy", UNITS.perSecond, 2, {
-    hint: "Arms with more than six joints: how strongly spare motion keeps joints away from their limits (Liégeois 1977).",
-  }),
+  ...inGroup("Damping", [
+    num("damping.lambdaM", "lambdaMm", "Damping λ", UNITS.metresToMm, 1, { dampingKind: "fixed" }),
+    num("damping.epsilonM", "epsilonMm", "Damped region ε (σ_min below)", UNITS.metresToMm, 1, { dampingKind: "singular-value" }),
+    num("damping.lambdaMaxM", "lambdaMaxMm", "Damping at the singularity λmax", UNITS.metresToMm, 1, { dampingKind: "singular-value" }),
+    num("damping.w0M3", "w0M3", "Damped region w0 (w below)", UNITS.cubicMetres, 6, { dampingKind: "manipulability" }),
+    num("damping.lambda0M", "lambda0Mm", "Damping at the singularity λ0", UNITS.metresToMm, 1, { dampingKind: "manipulability" }),
+  ]),
+  ...inGroup("Speed caps", [
+    num("tcpLinearCapMPerS", "tcpLinearCapMmPerS", "TCP linear cap", UNITS.mPerSToMmPerS, 1),
+    num("tcpAngularCapRadPerS", "tcpAngularCapDegPerS", "TCP angular cap", UNITS.radPerSToDegPerS, 2),
+    num("jointAccelFraction", "jointAccelPercent", "Joint acceleration, of rated", UNITS.fractionToPercent, 0, {
+      hint: "Of each joint's rated acceleration; the whole change of joint rates is scaled by one factor.",
+    }),
+  ]),
+  ...inGroup("Joint limits", [
+    num("jointLimitMarginRad", "jointLimitMarginDeg", "Joint-limit margin", UNITS.radToDeg, 2, { hint: "Stand-off from each limit that motion never enters." }),
+    num("jointLimitSlowZoneRad", "jointLimitSlowZoneDeg", "Slow-down zone", UNITS.radToDeg, 2, {
+      hint: "Width of the zone before the stand-off where joints slow down.",
+    }),
+  ]),
+  ...inGroup("Singularity guard", [
+    num("guard.sigmaStopM", "sigmaStopMm", "Guard threshold σ", UNITS.metresToMm, 1, { hint: "Stop-before holds when σ_min would fall below this." }),
+  ]),
+  ...inGroup("Input", [
+    num("watchdogMs", "watchdogMs", "Input watchdog", UNITS.milliseconds, 0, { hint: "No input for this long → controlled stop." }),
+    num("shaping.deadband", "deadbandPercent", "Stick deadband", UNITS.fractionToPercent, 1, { hint: "Of full deflection, rescaled; 5–15 % is common." }),
+    num("shaping.expo", "expo", "Expo", UNITS.unitless, 2, { hint: "0 linear … 1 cubic." }),
+    num("shaping.linearAccelMPerS2", "linearAccelMmPerS2", "Linear acceleration limit", UNITS.mPerS2ToMmPerS2, 0),
+    num("shaping.angularAccelRadPerS2", "angularAccelDegPerS2", "Angular acceleration limit", UNITS.radPerS2ToDegPerS2, 1),
+  ]),
+  ...inGroup("Override", [
+    num("speedOverride.defaultPercent", "overrideDefaultPercent", "Default override", UNITS.percent, 0),
+    num("speedOverride.maxPercent", "overrideMaxPercent", "Maximum override", UNITS.percent, 0),
+  ]),
+  ...inGroup("Loop", [
+    num("tickRateHz", "tickRateHz", "Tick rate", UNITS.hertz, 0),
+    num("driftCorrectionGainPerS", "driftCorrectionGainPerS", "Drift-correction gain K", UNITS.perSecond, 2, {
+      hint: "0 = off; K·dt ≤ 1 (above 1 the discrete loop overshoots).",
+    }),
+    num("driftReanchorM", "driftReanchorMm", "Drift re-anchor distance", UNITS.metresToMm, 1, {
+      hint: "A larger error than this re-anchors the reference pose instead of pulling back to it.",
+    }),
+  ]),
+  ...inGroup("Redundancy", [
+    num("nullSpace.gainPerS", "nullSpaceGainPerS", "Null-space gain", UNITS.perSecond, 2, {
+      hint: "Arms with more than six joints: how strongly spare motion keeps joints away from their limits (Liégeois 1977).",
+    }),
+  ]),
 ];
 
 /** The per-joint rate caps: path `jointRateCapsRadPerS.<i>`, UI `jointRateCapsDegPerS.<i>` (revolute joints). */
