@@ -183,9 +183,9 @@ async function main() {
     // between the server's tests and the browser tests); it waits, idle, while the server's tests run on
     // databases of their own. The server's fault files (Vitest project "faults": a database outage, the
     // real MariaDB paused and stopped, two instances sharing a Redis) run beside them too: their bounds are
-    // seconds, not milliseconds, and the checks leave the cores partly idle towards their end (DEVELOPERS.md,
-    // "What makes `npm test` take the time it does"). The files that measure milliseconds ("timed") run
-    // later, with nothing beside them.
+    // seconds, not milliseconds, and their waits on outages and timeouts overlap the checks' work instead of
+    // following it (DEVELOPERS.md, "What makes `npm test` take the time it does"). The files that measure
+    // milliseconds ("timed") run later, with only lowest-priority work beside them.
     // The scale-out tests (two instances sharing a Redis) get REDIS_TEST_URL; every other test runs embedded.
     redis = await startPrivateRedis({ name: "redis-test", port: portFromEnv("REDIS_TEST_PORT", 6408) });
     const serverTestEnv = { ...dbEnv, NODE_ENV: "test", REDIS_TEST_URL: redis.url };
