@@ -10,8 +10,9 @@ import { defineConfig } from "vitest/config";
 //   upload parser, configuration), two at a time, without a database copy (about 2.5 s of set-up saved per
 //   file);
 // - "faults": the fault files (answers within 2 s under a database outage, the real MariaDB paused and
-//   stopped, two instances sharing a Redis), all three at once: each spends most of its time waiting out
-//   a timeout or an outage (about 10 s each), and their bounds are seconds (28–31 s together, ~40 s in turn);
+//   stopped, two instances sharing a Redis), all three at once: each waits out a timeout or an outage
+//   (about 10 s each) between bursts of work (a private MariaDB, two server instances: the cores were
+//   96–99 % busy while the three ran alone), and their bounds are seconds (28–31 s together, ~40 s in turn);
 // - "timed": the files that measure milliseconds (the jog socket at 1 kHz against its 200 ms watchdog),
 //   one file at a time so no other file competes for the 2 cores;
 // - "api": everything else, two files at a time (measured on 14 of these files: 53 s one at a time,
