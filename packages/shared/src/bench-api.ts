@@ -1,6 +1,6 @@
 import { z } from "zod";
 import { profileParamsSchema } from "./profile.ts";
-import { BUILTIN_TRIAL_KINDS, trialDefinitionSchema } from "./trials.ts";
+import { BUILTIN_TRIAL_KINDS, builtinTrialKindSchema, trialDefinitionSchema } from "./trials.ts";
 import { creatorRefShape } from "./named-refs.ts";
 
 /**
@@ -15,8 +15,6 @@ const num = z.number();
 // ---------------------------------------------------------------------------------------------------
 // Trials
 // ---------------------------------------------------------------------------------------------------
-
-export const builtinTrialKindSchema = z.enum(BUILTIN_TRIAL_KINDS);
 
 /** An engineer's saved trial. */
 export const customTrialSchema = z.object({

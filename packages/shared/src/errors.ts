@@ -1,17 +1,6 @@
 import { z } from "zod";
 
-/** The one error shape every API route answers with. */
-export const apiErrorSchema = z.object({
-  error: z.object({
-    code: z.string(),
-    message: z.string(),
-    issues: z
-      .array(z.object({ path: z.string(), message: z.string() }))
-      .optional(),
-  }),
-});
-export type ApiError = z.infer<typeof apiErrorSchema>;
-
+/** Every `error.code` the API answers with. */
 export const ERROR_CODES = [
   "bad_request",
   "validation_failed",
@@ -37,3 +26,15 @@ export const ERROR_CODES = [
   "database_unavailable",
 ] as const;
 export type ErrorCode = (typeof ERROR_CODES)[number];
+
+/** The one error shape every API route answers with; `code` is one of ERROR_CODES. */
+export const apiErrorSchema = z.object({
+  error: z.object({
+    code: z.string(),
+    message: z.string(),
+    issues: z
+      .array(z.object({ path: z.string(), message: z.string() }))
+      .optional(),
+  }),
+});
+export type ApiError = z.infer<typeof apiErrorSchema>;

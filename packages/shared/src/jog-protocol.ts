@@ -331,10 +331,8 @@ export type RecordingSummary = z.infer<typeof recordingSummarySchema>;
 export const recordingSchema = z.object({
   id: z.number().int(),
   sessionId: z.string(),
-  ...driverRefShape,
-  ...armRefShape,
-  ...profileRefShape,
-  ...versionRefShape,
+  // Who drove what: the driver, the arm, the profile and its version.
+  ...driverRefShape, ...armRefShape, ...profileRefShape, ...versionRefShape,
   startedAt: z.string(),
   endedAt: z.string().nullable(),
   endReason: z.string().nullable(),

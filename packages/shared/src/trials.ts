@@ -84,7 +84,7 @@ export const trialDefinitionSchema = z
 export type TrialDefinition = z.infer<typeof trialDefinitionSchema>;
 
 /** Built-in trials, generated from each arm's geometry (never hand-placed). */
-export const BUILTIN_TRIAL_KINDS = [
+export const builtinTrialKindSchema = z.enum([
   "wrist-line",
   "wrist-near-miss-3mm",
   "wrist-near-miss-10mm",
@@ -92,7 +92,8 @@ export const BUILTIN_TRIAL_KINDS = [
   "elbow-reach",
   "shoulder-pass",
   "guard-ramp",
-] as const;
+]);
+export const BUILTIN_TRIAL_KINDS = builtinTrialKindSchema.options;
 export type BuiltinTrialKind = (typeof BUILTIN_TRIAL_KINDS)[number];
 
 // ----------------------------------------------------------------------------------------------------
@@ -144,7 +145,7 @@ export const sweepRequestSchema = z
     versionId: z.number().int().positive(),
     axes: z.array(sweepAxisSchema).min(1, "sweep one or two parameters").max(2, "sweep one or two parameters"),
     /** Trials: built-in kinds of the version's arm and saved custom trial ids. */
-    builtins: z.array(z.enum(BUILTIN_TRIAL_KINDS)).default([]),
+    builtins: z.array(builtinTrialKindSchema).default([]),
     trialIds: z.array(z.number().int().positive()).default([]),
     x: sweepObjectiveSchema.default("peakWristAccelRadPerS2"),
     y: sweepObjectiveSchema.default("maxDeviationM"),

@@ -82,7 +82,6 @@ export function ReplayPlayer({ arm, frames, params }: { arm: Arm; frames: readon
   }
 
   const frame = source.frameAt(index);
-  const counts = countMarkers(markers);
   return (
     <DriveWorkspace
       arm={arm}
@@ -90,57 +89,91 @@ export function ReplayPlayer({ arm, frames, params }: { arm: Arm; frames: readon
       frame={frame}
       source={source}
       header={
-        <section aria-label="Replay" className="flex flex-col gap-2 rounded-lg border border-ink-700 bg-ink-850 p-3">
-          <div className="flex items-center gap-3">
-            <Button variant="primary" onClick={() => setPlaying((p) => !p)} aria-label={isPlaying ? "Pause" : "Play"}>
-              {isPlaying ? <Pause aria-hidden className="size-4" /> : <Play aria-hidden className="size-4" />}
-              {isPlaying ? "Pause" : "Play"}
-            </Button>
-            <label className="flex items-center gap-2 text-sm text-ink-300">
-              Speed
-              <select
-                aria-label="Playback speed"
-                data-testid="replay-speed"
-                value={rate}
-                onChange={(event) => setRate(Number(event.target.value))}
-                className="h-9 rounded-md border border-ink-600 bg-ink-800 px-2 text-sm text-ink-100 hover:border-ink-400"
-              >
-                {PLAYBACK_RATES.map((r) => (
-                  <option key={r} value={r}>
-                    {r}×
-                  </option>
-                ))}
-              </select>
-            </label>
-            <div className="flex flex-1 flex-col gap-0.5">
-              <MarkerTrack markers={markers} t0={t0} tEnd={tEnd} onSeek={seek} />
-              <input
-                type="range"
-                min={0}
-                max={frames.length - 1}
-                step={1}
-                value={index}
-                aria-label="Timeline"
-                className="w-full accent-iris-400"
-                onChange={(event) => seek(Number(event.target.value))}
-              />
-            </div>
-            <span className="num text-sm whitespace-nowrap text-ink-100" data-testid="replay-time">
-              {formatFixed((frame?.t ?? t0) - t0, 2)} / {formatFixed(tEnd - t0, 2)} s
-            </span>
-          </div>
-          <p className="flex flex-wrap gap-x-4 gap-y-1 text-xs text-ink-300" data-testid="replay-marker-legend">
-            {(Object.keys(MARKER_STYLE) as ReplayMarkerKind[]).map((kind) => (
-              <span key={kind} className="inline-flex items-center gap-1.5">
-                <span aria-hidden className={cn("inline-block w-1 rounded-sm", MARKER_STYLE[kind].className)} />
-                <span className="num text-ink-100">{counts[kind]}</span> {MARKER_STYLE[kind].word}
-              </span>
-            ))}
-            <span className="text-ink-400">Click a mark to go to it.</span>
-          </p>
-        </section>
+        <ReplayTransport
+          isPlaying={isPlaying}
+          onPlayToggle={() => setPlaying((p) => !p)}
+          rate={rate}
+          onRateChange={setRate}
+          markers={markers}
+          t0={t0}
+          tEnd={tEnd}
+          index={index}
+          lastIndex={frames.length - 1}
+          t={frame?.t ?? t0}
+          onSeek={seek}
+        />
       }
     />
+  );
+}
+
+/** The replay's transport: play/pause, speed, the timeline with its marks, the time, and the marks' legend. */
+function ReplayTransport({ isPlaying, onPlayToggle, rate, onRateChange, markers, t0, tEnd, index, lastIndex, t, onSeek }: {
+  isPlaying: boolean;
+  onPlayToggle: () => void;
+  rate: number;
+  onRateChange: (rate: number) => void;
+  markers: readonly ReplayMarker[];
+  t0: number;
+  tEnd: number;
+  /** The frame shown, and the last frame's index. */
+  index: number;
+  lastIndex: number;
+  /** The shown frame's time (s, on the recording's clock). */
+  t: number;
+  onSeek: (index: number) => void;
+}) {
+  const counts = countMarkers(markers);
+  return (
+    <section aria-label="Replay" className="flex flex-col gap-2 rounded-lg border border-ink-700 bg-ink-850 p-3">
+      <div className="flex items-center gap-3">
+        <Button variant="primary" onClick={onPlayToggle} aria-label={isPlaying ? "Pause" : "Play"}>
+          {isPlaying ? <Pause aria-hidden className="size-4" /> : <Play aria-hidden className="size-4" />}
+          {isPlaying ? "Pause" : "Play"}
+        </Button>
+        <label className="flex items-center gap-2 text-sm text-ink-300">
+          Speed
+          <select
+            aria-label="Playback speed"
+            data-testid="replay-speed"
+            value={rate}
+            onChange={(event) => onRateChange(Number(event.target.value))}
+            className="h-9 rounded-md border border-ink-600 bg-ink-800 px-2 text-sm text-ink-100 hover:border-ink-400"
+          >
+            {PLAYBACK_RATES.map((r) => (
+              <option key={r} value={r}>
+                {r}×
+              </option>
+            ))}
+          </select>
+        </label>
+        <div className="flex flex-1 flex-col gap-0.5">
+          <MarkerTrack markers={markers} t0={t0} tEnd={tEnd} onSeek={onSeek} />
+          <input
+            type="range"
+            min={0}
+            max={lastIndex}
+            step={1}
+            value={index}
+            aria-label="Timeline"
+            className="w-full accent-iris-400"
+            onChange={(event) => onSeek(Number(event.target.value))}
+          />
+        </div>
+        <span className="num text-sm whitespace-nowrap text-ink-100" data-testid="replay-time">
+          {formatFixed(t - t0, 2)} / {formatFixed(tEnd - t0, 2)} s
+        </span>
+      </div>
+      <p className="flex flex-wrap gap-x-4 gap-y-1 text-xs text-ink-300" data-testid="replay-marker-legend">
+        {(Object.keys(MARKER_STYLE) as ReplayMarkerKind[]).map((kind) => (
+          <span key={kind} className="inline-flex items-center gap-1.5">
+            <span aria-hidden className={cn("inline-block w-1 rounded-sm", MARKER_STYLE[kind].className)} />
+            <span className="num text-ink-100">{counts[kind]}</span> {MARKER_STYLE[kind].word}
+          </span>
+        ))}
+        <span className="text-ink-400">Click a mark to go to it.</span>
+      </p>
+    </section>
   );
 }
 

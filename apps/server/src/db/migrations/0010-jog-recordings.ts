@@ -16,10 +16,8 @@ export const up = schemaStep(async (qi) => {
   await qi.createTable("jog_recordings", {
     id: serialId(),
     session_id: string(64),
-    driver_id: userRef(),
-    arm_id: unsigned(),
-    profile_id: unsigned(),
-    version_id: unsigned(),
+    // Who drove what (the foreign keys below): the driver, the arm, the profile and its version.
+    driver_id: userRef(), arm_id: unsigned(), profile_id: unsigned(), version_id: unsigned(),
     started_at: time(),
     ended_at: time(NULLABLE),
     end_reason: string(60, NULLABLE),

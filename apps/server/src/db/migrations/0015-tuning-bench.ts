@@ -35,9 +35,8 @@ export const up = schemaStep(async (qi) => {
 
   await qi.createTable("trial_runs", {
     id: serialId(),
-    arm_id: unsigned(),
-    profile_id: unsigned(),
-    version_id: unsigned(NULLABLE),
+    // What ran (the foreign keys below): the arm, the profile, and its version (none for unsaved edits).
+    arm_id: unsigned(), profile_id: unsigned(), version_id: unsigned(NULLABLE),
     params: json(),
     /** A built-in kind, "custom" or "replay". */
     trial_kind: string(40),

@@ -56,11 +56,7 @@ export async function lockProfile(db: Sequelize, id: number, transaction: Transa
 }
 
 /** A new profile row (no version yet: the versions module writes version 1 in the same transaction). */
-export async function insertProfile(
-  db: Sequelize,
-  transaction: Transaction,
-  p: { name: string; operatorId: string; armId: number; createdBy: string },
-): Promise<number> {
+export async function insertProfile(db: Sequelize, transaction: Transaction, p: { name: string; operatorId: string; armId: number; createdBy: string }): Promise<number> {
   const profile = await modelsOf(db).Profile.create(p, { transaction });
   return profile.id;
 }

@@ -50,16 +50,25 @@ const fieldOfServerIssue = (path: string): keyof CeilingsFormValues | undefined 
   path === "note" ? "note" : path.startsWith("ceilings.") ? uiFieldOfCeilingsPath(path.slice("ceilings.".length)) : undefined;
 
 export function CeilingsPage({ canEdit }: { canEdit: boolean }) {
-  const record = useCeilings();
   return (
     <>
       <PageHeader
         title="Site ceilings"
         description="Limits no profile version may exceed. A version above a ceiling cannot be submitted or approved; lowering a ceiling marks approved versions above it, which then cannot be driven until a compliant version is approved."
       />
+      <CurrentCeilings canEdit={canEdit} />
+      <FlaggedVersionsCard canReconfirm={canEdit} />
+    </>
+  );
+}
+
+/** The ceilings in force, loaded here (the flagged versions' card loads its own list): the editor once they are in. */
+function CurrentCeilings({ canEdit }: { canEdit: boolean }) {
+  const record = useCeilings();
+  return (
+    <>
       <QueryStatus query={record} loading="Loading the ceilings…" failed="Could not load the ceilings" />
       {record.data ? <CeilingsEditor latest={record.data} canEdit={canEdit} /> : null}
-      <FlaggedVersionsCard canReconfirm={canEdit} />
     </>
   );
 }

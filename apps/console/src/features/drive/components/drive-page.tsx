@@ -197,14 +197,12 @@ export function DrivePage() {
             params={params}
             frame={frame}
             source={jogClient}
+            controls={<JogControls jointCount={arm.model.joints.length} disabled={!isDriving} onEditMapping={openMapping} />}
             side={
               <>
                 <StopControls frame={frame} isDriving={isDriving} onEndSession={endSession} />
                 <EnablingButton disabled={!isDriving} />
               </>
-            }
-            controls={
-              <JogControls jointCount={arm.model.joints.length} disabled={!isDriving} onEditMapping={openMapping} />
             }
           />
         ) : profiles.data && !session ? (
