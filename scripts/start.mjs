@@ -21,8 +21,13 @@ async function main() {
     throw error;
   }
   const serverDir = path.join(ROOT, "apps/server");
-  const server = spawn(path.join(serverDir, "node_modules/.bin/tsx"), ["src/server.ts"], {
+  // node itself (TypeScript through tsx's loader, no tsx CLI process between) in a session of its own
+  // (detached: setsid), so the server's process leads its autogroup and may favour it while live sessions
+  // run (apps/server/src/modules/jog/autogroup.ts). The terminal's Ctrl-C reaches this script, which passes
+  // it on.
+  const server = spawn(process.execPath, ["--import", "tsx", "src/server.ts"], {
     cwd: serverDir,
+    detached: true,
     stdio: "inherit",
     env: { MAIL_DIR: path.join(DATA_DIR, "mail"), ...process.env, PORT: String(port), ...databaseEnv(db), NODE_ENV: process.env.NODE_ENV ?? "production" },
   });
@@ -33,6 +38,8 @@ async function main() {
   };
   process.on("SIGINT", () => stop("SIGINT"));
   process.on("SIGTERM", () => stop("SIGTERM"));
+  // The terminal closed: the server, in its own session, would not hear of it.
+  process.on("SIGHUP", () => stop("SIGTERM"));
   const code = await new Promise((resolve) => server.on("exit", (c) => resolve(c ?? 0)));
   await shutdownDb();
   process.exit(shuttingDown ? 0 : code);

@@ -74,6 +74,9 @@ process.on("message", async (msg: { type: string }) => {
       stalledMs: sim?.stalledMs ?? 0,
       wakes: sim?.wakes ?? 0,
       nice: sim?.nice ?? null,
+      // Read while the sessions run: the server's group is favoured only then.
+      autogroup: hub.priority.describe(),
+      autogroupNice: hub.priority.currentNice(),
       loopDelayP99Ms: loopDelay.percentile(99) / 1e6,
       loopDelayMaxMs: loopDelay.max / 1e6,
       cpuPercent: ((cpu.user + cpu.system) / 1000 / wallMs) * 100,
@@ -88,4 +91,6 @@ process.on("message", async (msg: { type: string }) => {
     process.exit(0);
   }
 });
+// Started in a session of its own (jog-load.ts), a Ctrl-C at the terminal does not reach it: it ends with its parent.
+process.on("disconnect", () => process.exit(1));
 process.send!({ type: "ready", port, cookie: `jogwright_session=${session.id}`, versionId: profile.latestVersion.id });

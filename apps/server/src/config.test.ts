@@ -36,9 +36,20 @@ describe("loadConfig", () => {
     [{ ...good, RECORDING_RETENTION_MAX_MB: "1.5" }, /^RECORDING_RETENTION_MAX_MB must be a whole number$/],
     [{ ...good, RECORDING_RETENTION_MAX_MB: "20000000" }, /^RECORDING_RETENTION_MAX_MB must be 0-10000000$/],
     [{ ...good, RECORDING_PRUNE_INTERVAL_MIN: "0" }, /^RECORDING_PRUNE_INTERVAL_MIN must be 1-1440$/],
+    [{ ...good, SERVER_AUTOGROUP_NICE: "5" }, /^SERVER_AUTOGROUP_NICE must be -20 to 0$/],
+    [{ ...good, SERVER_AUTOGROUP_NICE: "-30" }, /^SERVER_AUTOGROUP_NICE must be -20 to 0$/],
+    [{ ...good, SERVER_AUTOGROUP_NICE: "high" }, /^SERVER_AUTOGROUP_NICE must be a whole number$/],
   ])("refuses %j with one clear sentence", (env, message) => {
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(ConfigError);
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(message);
+  });
+});
+
+describe("the server's autogroup priority", () => {
+  it("is nice -10 while live sessions run by default; 0 leaves it alone", () => {
+    expect(loadConfig(good).serverAutogroupNice).toBe(-10);
+    expect(loadConfig({ ...good, SERVER_AUTOGROUP_NICE: "0" }).serverAutogroupNice).toBe(0);
+    expect(loadConfig({ ...good, SERVER_AUTOGROUP_NICE: "-20" }).serverAutogroupNice).toBe(-20);
   });
 });
 

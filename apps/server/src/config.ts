@@ -114,6 +114,16 @@ const envSchema = z.object({
   /** `start` messages one account may send within JOG_START_WINDOW_S (refused ones beyond create nothing). */
   JOG_STARTS_PER_WINDOW: count(1, 10_000).default(5),
   JOG_START_WINDOW_S: count(1, 3600).default(10),
+  /**
+   * The nice value of the server's autogroup while it simulates live sessions (modules/jog/autogroup.ts):
+   * -20 to 0, default -10; 0 leaves the priority alone. Applies only where the server leads its own session.
+   */
+  SERVER_AUTOGROUP_NICE: z.coerce
+    .number({ error: "must be a whole number" })
+    .int("must be a whole number")
+    .min(-20, "must be -20 to 0")
+    .max(0, "must be -20 to 0")
+    .default(-10),
   /** Worker threads for the tuning bench's offline runs and maps (default: one per core). */
   TRIAL_POOL_THREADS: count(1, 64).optional(),
   /**
@@ -159,6 +169,8 @@ export type Config = {
   mail: { smtpHost: string; smtpPort: number; fakeSmtp: boolean; dir: string; from: string };
   /** Live jogging: state frames per second to each client. */
   jogFrameRateHz: number;
+  /** Live jogging: the autogroup nice value while live sessions run (0: leave it alone). */
+  serverAutogroupNice: number;
   /** Live jogging: caps on live sessions and the rate of `start` messages (issue 11, item 8). */
   jogLimits: JogLimits;
   /** How long recordings are kept (issue 11, item 8). */
@@ -218,6 +230,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
       from: v.MAIL_FROM,
     },
     jogFrameRateHz: v.JOG_FRAME_RATE_HZ,
+    serverAutogroupNice: v.SERVER_AUTOGROUP_NICE,
     trialPoolThreads: v.TRIAL_POOL_THREADS ?? null,
     redis: v.REDIS_URL ? { url: v.REDIS_URL, trialQueueConcurrency: v.TRIAL_QUEUE_CONCURRENCY ?? null } : null,
     jogLimits: {

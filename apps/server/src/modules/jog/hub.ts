@@ -6,6 +6,7 @@ import type { AppContext } from "../../context.ts";
 import { insertRecording, registerRecordingWriter } from "../recordings/service.ts";
 import { RecordingRetentionJob } from "../recordings/retention.ts";
 import { RecordingWriter } from "../recordings/writer.ts";
+import { AutogroupPriority } from "./autogroup.ts";
 import type { FrameText, FromWorker, SessionCommand, SimThreadStats } from "./sim-messages.ts";
 import { SimulationThread } from "./sim-thread.ts";
 import { checkInputAxes, type InputResult, type SimulationSummary } from "./simulation.ts";
@@ -329,6 +330,8 @@ export class JogHub {
   readonly thread: SimulationThread;
   /** The emergency-stop latch of every operator station (authoritative here; stored and audited after). */
   readonly stations: StationLatches;
+  /** The server's autogroup priority, favoured while the simulation thread runs any session (autogroup.ts). */
+  readonly priority: AutogroupPriority;
   /** Live sessions by id (ended ones leave at once). */
   readonly sessions = new Map<string, LiveJogSession>();
   /** Sessions the simulation thread knows, by key, until their end is finished. */
@@ -354,6 +357,7 @@ export class JogHub {
     this.retention = new RecordingRetentionJob(ctx.db, ctx.config.recordingRetention, (id) => this.isRecordingLive(id));
     this.retention.start();
     this.thread = new SimulationThread((msg) => this.onWorkerMessage(msg), (error) => this.onWorkerFailure(error));
+    this.priority = AutogroupPriority.open(ctx.config.serverAutogroupNice);
     this.stations = new StationLatches(sqlStationLatchStore(ctx.db));
     void this.stations.ready();
   }
@@ -495,6 +499,7 @@ export class JogHub {
     }
     this.sessions.set(session.id, session);
     this.byKey.set(key, session);
+    this.priority.setFavoured(true);
     if (this.thread.generation !== generation || !this.thread.isRunning) {
       // The simulation thread failed while the recording row was written: it never knew this session.
       void session.end("simulation-failed");
@@ -547,6 +552,7 @@ export class JogHub {
   forget(session: LiveJogSession): void {
     this.byKey.delete(session.key);
     this.sessions.delete(session.id);
+    this.priority.setFavoured(this.byKey.size > 0);
   }
 
   private onWorkerMessage(msg: FromWorker): void {
