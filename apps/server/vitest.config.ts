@@ -29,6 +29,7 @@ const UNIT = [
   "src/modules/jog/scheduler.test.ts",
   "src/modules/jog/recheck-rota.test.ts",
   "src/modules/jog/autogroup.test.ts",
+  "src/modules/jog/realtime.test.ts",
   "src/modules/trials/trials.test.ts",
   "src/modules/trials/trial-definitions.test.ts",
   "src/modules/trials/bench-analysis.test.ts",

@@ -120,7 +120,7 @@ child.send({ type: "close" });
 const fps = frameCounts.map((n) => n / elapsedS);
 const fmt = (v: number, d = 2) => (Number.isFinite(v) ? v.toFixed(d) : "n/a");
 console.log(`sessions live at the end: ${stats.sessions}; ticks measured: ${stats.ticks}; overrun (skipped) ticks: ${stats.overrunTicks}; simulation-thread wakes: ${stats.wakes}; stalls counted: ${fmt(stats.stalledMs as number, 1)} ms; simulation thread nice: ${stats.nice ?? "normal priority (JOG_SIM_NICE=0 or not permitted)"}`);
-console.log(`scheduling: ${stats.autogroup as string} (now: nice ${stats.autogroupNice ?? "n/a"})`);
+console.log(`scheduling: simulation thread ${stats.realtimePriority !== null ? `SCHED_RR priority ${stats.realtimePriority as number}` : `normal (${stats.realtimeNote as string})`}; ${stats.autogroup as string} (now: nice ${stats.autogroupNice ?? "n/a"})`);
 console.log(`frames per second per client: min ${fmt(Math.min(...fps), 1)}, median ${fmt(quantile(fps, 0.5), 1)}, max ${fmt(Math.max(...fps), 1)} (60 on the grid, up to 120 with frames sent at once after changed inputs)`);
 console.log(`tick lateness: p50 ${fmt(stats.latenessP50Ms as number)} ms, p99 ${fmt(stats.latenessP99Ms as number)} ms, p99.9 ${fmt(stats.latenessP999Ms as number)} ms, max ${fmt(stats.latenessMaxMs as number)} ms (target p99 ≤ 2 ms)`);
 console.log(`input-to-state latency: p50 ${fmt(quantile(latencies, 0.5))} ms, p90 ${fmt(quantile(latencies, 0.9))} ms, p99 ${fmt(quantile(latencies, 0.99))} ms, p99.9 ${fmt(quantile(latencies, 0.999))} ms over ${latencies.length} inputs, each changing the command (target p99 ≤ 10 ms, issue 11)`);

@@ -74,6 +74,8 @@ process.on("message", async (msg: { type: string }) => {
       stalledMs: sim?.stalledMs ?? 0,
       wakes: sim?.wakes ?? 0,
       nice: sim?.nice ?? null,
+      realtimePriority: sim?.realtimePriority ?? null,
+      realtimeNote: sim?.realtimeNote ?? null,
       // Read while the sessions run: the server's group is favoured only then.
       autogroup: hub.priority.describe(),
       autogroupNice: hub.priority.currentNice(),

@@ -39,6 +39,8 @@ describe("loadConfig", () => {
     [{ ...good, SERVER_AUTOGROUP_NICE: "5" }, /^SERVER_AUTOGROUP_NICE must be -20 to 0$/],
     [{ ...good, SERVER_AUTOGROUP_NICE: "-30" }, /^SERVER_AUTOGROUP_NICE must be -20 to 0$/],
     [{ ...good, SERVER_AUTOGROUP_NICE: "high" }, /^SERVER_AUTOGROUP_NICE must be a whole number$/],
+    [{ ...good, JOG_SIM_RT_PRIORITY: "100" }, /^JOG_SIM_RT_PRIORITY must be 0-99$/],
+    [{ ...good, JOG_SIM_RT_PRIORITY: "rr" }, /^JOG_SIM_RT_PRIORITY must be a whole number$/],
   ])("refuses %j with one clear sentence", (env, message) => {
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(ConfigError);
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(message);
@@ -50,6 +52,11 @@ describe("the server's autogroup priority", () => {
     expect(loadConfig(good).serverAutogroupNice).toBe(-10);
     expect(loadConfig({ ...good, SERVER_AUTOGROUP_NICE: "0" }).serverAutogroupNice).toBe(0);
     expect(loadConfig({ ...good, SERVER_AUTOGROUP_NICE: "-20" }).serverAutogroupNice).toBe(-20);
+  });
+
+  it("asks for SCHED_RR priority 5 for the simulation thread by default; 0 asks for none", () => {
+    expect(loadConfig(good).jogSimRealtimePriority).toBe(5);
+    expect(loadConfig({ ...good, JOG_SIM_RT_PRIORITY: "0" }).jogSimRealtimePriority).toBe(0);
   });
 });
 

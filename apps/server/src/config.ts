@@ -124,6 +124,11 @@ const envSchema = z.object({
     .min(-20, "must be -20 to 0")
     .max(0, "must be -20 to 0")
     .default(-10),
+  /**
+   * The SCHED_RR priority of the simulation thread's tick loop (modules/jog/sim-worker.ts): 1-99, default 5;
+   * 0 runs it under normal scheduling at nice -10. Needs CAP_SYS_NICE (root); without it, normal scheduling.
+   */
+  JOG_SIM_RT_PRIORITY: count(0, 99).default(5),
   /** Worker threads for the tuning bench's offline runs and maps (default: one per core). */
   TRIAL_POOL_THREADS: count(1, 64).optional(),
   /**
@@ -171,6 +176,8 @@ export type Config = {
   jogFrameRateHz: number;
   /** Live jogging: the autogroup nice value while live sessions run (0: leave it alone). */
   serverAutogroupNice: number;
+  /** Live jogging: the simulation thread's SCHED_RR priority (0: normal scheduling). */
+  jogSimRealtimePriority: number;
   /** Live jogging: caps on live sessions and the rate of `start` messages (issue 11, item 8). */
   jogLimits: JogLimits;
   /** How long recordings are kept (issue 11, item 8). */
@@ -231,6 +238,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     },
     jogFrameRateHz: v.JOG_FRAME_RATE_HZ,
     serverAutogroupNice: v.SERVER_AUTOGROUP_NICE,
+    jogSimRealtimePriority: v.JOG_SIM_RT_PRIORITY,
     trialPoolThreads: v.TRIAL_POOL_THREADS ?? null,
     redis: v.REDIS_URL ? { url: v.REDIS_URL, trialQueueConcurrency: v.TRIAL_QUEUE_CONCURRENCY ?? null } : null,
     jogLimits: {

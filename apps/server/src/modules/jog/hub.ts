@@ -356,7 +356,9 @@ export class JogHub {
     registerRecordingWriter(ctx.db, this.writer);
     this.retention = new RecordingRetentionJob(ctx.db, ctx.config.recordingRetention, (id) => this.isRecordingLive(id));
     this.retention.start();
-    this.thread = new SimulationThread((msg) => this.onWorkerMessage(msg), (error) => this.onWorkerFailure(error));
+    this.thread = new SimulationThread((msg) => this.onWorkerMessage(msg), (error) => this.onWorkerFailure(error), {
+      realtimePriority: ctx.config.jogSimRealtimePriority,
+    });
     this.priority = AutogroupPriority.open(ctx.config.serverAutogroupNice);
     this.stations = new StationLatches(sqlStationLatchStore(ctx.db));
     void this.stations.ready();

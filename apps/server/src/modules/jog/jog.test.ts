@@ -456,6 +456,16 @@ describe("jogging", () => {
 });
 
 describe("the simulation thread", () => {
+  it("runs its tick loop under real-time scheduling (SCHED_RR, JOG_SIM_RT_PRIORITY's default 5) where permitted, and says which", async () => {
+    const c = await startDriving(engineer.cookie, draftVersionId);
+    await c.nextState();
+    const stats = await net.jog.hub.simulationStats();
+    await c.close();
+    // Root (as npm test runs here) may set it; anyone else is refused, and the note says so (realtime.ts).
+    if (process.getuid?.() === 0) expect(stats).toMatchObject({ realtimePriority: 5, realtimeNote: null });
+    else expect(stats).toMatchObject({ realtimePriority: null, realtimeNote: expect.stringMatching(/^refused: /) });
+  });
+
   it("when it fails, its sessions end with the reason, the failure is logged, and the next session runs on a fresh thread", async () => {
     const c = await startDriving(engineer.cookie, draftVersionId);
     const errors: unknown[][] = [];

@@ -68,6 +68,16 @@ export interface SimThreadStats {
   sessions: number;
   /** The simulation thread's nice value when raising its priority succeeded, else null. */
   nice: number | null;
+  /** Its SCHED_RR priority while it runs under real-time scheduling, else null (not asked, refused or given up). */
+  realtimePriority: number | null;
+  /** Why it runs without real-time scheduling (null while it has it). */
+  realtimeNote: string | null;
+}
+
+/** What the simulation thread is started with (besides its ports). */
+export interface SimThreadOptions {
+  /** SCHED_RR priority to ask for (1–99); 0: none (sim-worker.ts "Real-time scheduling"). */
+  realtimePriority: number;
 }
 
 export type FromWorker =

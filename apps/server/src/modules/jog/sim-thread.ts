@@ -3,7 +3,7 @@ import { pathToFileURL } from "node:url";
 import { MessageChannel, Worker, type MessagePort } from "node:worker_threads";
 import {
   HEARTBEAT_PERIOD_MS, INPUT_HEADER, SIGNAL_DOORBELL, SIGNAL_HEARTBEAT, SIGNAL_SLOTS,
-  type FromWorker, type SimThreadStats, type ToWorker, type ToWorkerBatch,
+  type FromWorker, type SimThreadOptions, type SimThreadStats, type ToWorker, type ToWorkerBatch,
 } from "./sim-messages.ts";
 import type { JogInput } from "@jogwright/shared";
 
@@ -53,6 +53,7 @@ export class SimulationThread {
   constructor(
     private readonly onMessage: (msg: FromWorker) => void,
     private readonly onFailure: (error: Error) => void,
+    private readonly options: SimThreadOptions = { realtimePriority: 0 },
   ) {}
 
   get isRunning(): boolean {
@@ -67,7 +68,7 @@ export class SimulationThread {
     const signals = new Int32Array(new SharedArrayBuffer(SIGNAL_SLOTS * Int32Array.BYTES_PER_ELEMENT));
     const worker = new Worker(workerBootstrap(), {
       eval: true,
-      workerData: { inbox: port2, signals: signals.buffer },
+      workerData: { inbox: port2, signals: signals.buffer, options: this.options },
       transferList: [port2],
       name: "jogwright-simulation",
     });

@@ -4,8 +4,9 @@ import { parentPort, receiveMessageOnPort, workerData, type MessagePort } from "
 import { TickScheduler, STALL_THRESHOLD_MS, type ScheduledClient } from "./scheduler.ts";
 import {
   INPUT_HEADER, SIGNAL_DOORBELL, SIGNAL_HEARTBEAT,
-  type FromWorker, type SimThreadStats, type ToWorker, type ToWorkerBatch,
+  type FromWorker, type SimThreadOptions, type SimThreadStats, type ToWorker, type ToWorkerBatch,
 } from "./sim-messages.ts";
+import { RealtimeScheduling } from "./realtime.ts";
 import { JogSimulation } from "./simulation.ts";
 
 /**
@@ -43,7 +44,13 @@ function raisePriority(): number | null {
 }
 const niceInEffect = raisePriority();
 
-const { inbox, signals: signalBuffer } = workerData as { inbox: MessagePort; signals: SharedArrayBuffer };
+const { inbox, signals: signalBuffer, options } = workerData as { inbox: MessagePort; signals: SharedArrayBuffer; options: SimThreadOptions };
+// SCHED_RR for this thread where permitted (realtime.ts); nice −10 above stays for when it is refused or given up.
+const realtime = new RealtimeScheduling(options.realtimePriority);
+realtime.start();
+if (options.realtimePriority !== 0 && realtime.priority === null) {
+  console.warn(`[jogwright] the simulation thread runs without real-time scheduling (${realtime.note}); ticks may be late on a busy machine.`);
+}
 const signals = new Int32Array(signalBuffer);
 const out = parentPort!;
 
@@ -248,6 +255,8 @@ function stats(): SimThreadStats {
     wakes: scheduler.wakes,
     sessions: sessions.size,
     nice: niceInEffect,
+    realtimePriority: realtime.priority,
+    realtimeNote: realtime.note,
   };
 }
 
@@ -301,6 +310,7 @@ function flushFrames(): void {
 function loop(): void {
   const sliceEndMs = performance.now() + SLICE_MS;
   for (;;) {
+    const wokeMs = performance.now();
     const rung = Atomics.load(signals, SIGNAL_DOORBELL);
     drainInbox();
     flushFrames(); // an `ended` frame or a refusal never overtakes frames built before it
@@ -316,6 +326,7 @@ function loop(): void {
     // After the frames of this wake, so an `ended` never overtakes the stop's last frames.
     if (endingAfterStop.size > 0) endStoppedSessions(performance.now());
     const after = performance.now();
+    realtime.noteBusy(wokeMs, after);
     if (after >= sliceEndMs) {
       plannedWakeMs = Infinity;
       setImmediate(loop);
