@@ -9,8 +9,9 @@ import { readFileSync, writeFileSync } from "node:fs";
  * counts only against the threads of its own group (sched(7), "The autogroup feature"). So the simulation
  * thread's nice −10 (sim-worker.ts) did not help against a build started from another terminal: that build's
  * group got as much CPU as the whole server's. Measured on 2 cores with `vite build` looping in its own
- * session, 50 sessions at 1 kHz (DEVELOPERS.md "Live jogging"): tick lateness p99 4.5–8.2 ms and
- * input-to-state p99 88–247 ms with the server's group at nice 0, 1.6–2.5 ms and 10.6–16 ms at −10.
+ * session, 50 sessions at 1 kHz (DEVELOPERS.md "The server's autogroup and a real-time tick loop"): tick
+ * lateness p99 4.2–8.2 ms and input-to-state p99 65–247 ms with the server's group at nice 0, 1.6–4.2 ms
+ * and 10.6–19.6 ms at −10.
  *
  * The group's nice value is the session's, so the server changes it only when it leads a session of its
  * own (`npm start` and the load benchmark start it so); started inside someone else's session (a shell, the

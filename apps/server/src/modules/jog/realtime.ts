@@ -7,8 +7,8 @@ import { readlinkSync } from "node:fs";
  *
  * Under normal scheduling a waking thread waits for the task on its core to finish its time slice, however
  * favoured the thread is (nice −10, and the server's autogroup, autogroup.ts): measured, tick lateness p99
- * 1.5–4.1 ms beside the test suite. A SCHED_RR thread runs as soon as it wakes (sched(7)): 0.3–0.7 ms in
- * the same runs (DEVELOPERS.md "Live jogging"). Control loops commonly run so (common practice, no source).
+ * 1.4–4.1 ms beside the test suite. A SCHED_RR thread runs as soon as it wakes (sched(7)): 0.32–0.74 ms
+ * under the same load (DEVELOPERS.md "The server's autogroup and a real-time tick loop"). Control loops commonly run so (common practice, no source).
  * Node has no call for it, so util-linux's `chrt` (part of every Debian system) sets this thread's policy
  * by its thread id (/proc/thread-self). It needs CAP_SYS_NICE (root); refused, the loop keeps normal
  * scheduling and the reason is reported.
@@ -24,9 +24,12 @@ export const RT_MAX_BUSY_FRACTION = 0.9;
 /** Runs chrt with these arguments: null when it ran and succeeded, else what went wrong. */
 export type ChrtRunner = (args: string[]) => string | null;
 
+/** util-linux's chrt, by its full path (never whatever a PATH entry calls chrt: the server may run as root). */
+const CHRT = "/usr/bin/chrt";
+
 const runChrt: ChrtRunner = (args) => {
-  const r = spawnSync("chrt", args, { encoding: "utf8", timeout: 5000 });
-  if (r.error) return (r.error as NodeJS.ErrnoException).code === "ENOENT" ? "chrt (util-linux) is not installed" : r.error.message;
+  const r = spawnSync(CHRT, args, { encoding: "utf8", timeout: 5000 });
+  if (r.error) return (r.error as NodeJS.ErrnoException).code === "ENOENT" ? `${CHRT} (util-linux) is not installed` : r.error.message;
   if (r.status !== 0) return (r.stderr || `chrt exited with ${r.status}`).trim().replace(/^chrt: /, "");
   return null;
 };
