@@ -3,6 +3,7 @@ import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterEach, describe, expect, it } from "vitest";
+import { hasCapSysNice } from "../../test/capabilities.ts";
 import { AutogroupPriority } from "./autogroup.ts";
 
 // The /proc/<pid>/autogroup and /proc/<pid>/stat formats are the kernel's (proc(5), sched(7) "The autogroup
@@ -99,8 +100,8 @@ describe("the server's autogroup priority", () => {
   });
 
   // The real kernel, as `npm start` runs the server: a process that leads its own session (spawn detached,
-  // i.e. setsid) lowers its group's nice value and restores it. Needs autogroups and CAP_SYS_NICE (root).
-  it.runIf(existsSync("/proc/self/autogroup") && process.getuid?.() === 0)(
+  // i.e. setsid) lowers its group's nice value and restores it. Needs autogroups and CAP_SYS_NICE.
+  it.runIf(existsSync("/proc/self/autogroup") && hasCapSysNice())(
     "a process leading its own session lowers its autogroup's nice value on this kernel and restores it",
     () => {
       const script = `

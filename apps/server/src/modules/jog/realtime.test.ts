@@ -1,6 +1,7 @@
 import { spawnSync } from "node:child_process";
 import path from "node:path";
 import { describe, expect, it, vi } from "vitest";
+import { hasCapSysNice } from "../../test/capabilities.ts";
 import { RealtimeScheduling, RT_MAX_BUSY_FRACTION, RT_WINDOW_MS, type ChrtRunner } from "./realtime.ts";
 
 /** A chrt that records its calls and answers as told. */
@@ -81,7 +82,7 @@ describe("real-time scheduling of the tick loop", () => {
 
   // The real kernel and util-linux's chrt, in a child process (never this test runner's own thread): the
   // thread gets SCHED_RR at the priority asked, and loses it when it gives real time up. Needs CAP_SYS_NICE.
-  it.runIf(process.platform === "linux" && process.getuid?.() === 0)(
+  it.runIf(process.platform === "linux" && hasCapSysNice())(
     "sets and gives up SCHED_RR on this system's kernel for the calling thread alone",
     () => {
       const script = `
