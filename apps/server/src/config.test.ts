@@ -41,6 +41,8 @@ describe("loadConfig", () => {
     [{ ...good, SERVER_AUTOGROUP_NICE: "high" }, /^SERVER_AUTOGROUP_NICE must be a whole number$/],
     [{ ...good, JOG_SIM_RT_PRIORITY: "100" }, /^JOG_SIM_RT_PRIORITY must be 0-99$/],
     [{ ...good, JOG_SIM_RT_PRIORITY: "rr" }, /^JOG_SIM_RT_PRIORITY must be a whole number$/],
+    [{ ...good, JOG_SIM_NICE: "-21" }, /^JOG_SIM_NICE must be -20 to 19$/],
+    [{ ...good, JOG_SIM_NICE: "low" }, /^JOG_SIM_NICE must be a whole number$/],
   ])("refuses %j with one clear sentence", (env, message) => {
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(ConfigError);
     expect(() => loadConfig(env as NodeJS.ProcessEnv)).toThrow(message);
@@ -57,6 +59,11 @@ describe("the server's autogroup priority", () => {
   it("asks for SCHED_RR priority 5 for the simulation thread by default; 0 asks for none", () => {
     expect(loadConfig(good).jogSimRealtimePriority).toBe(5);
     expect(loadConfig({ ...good, JOG_SIM_RT_PRIORITY: "0" }).jogSimRealtimePriority).toBe(0);
+  });
+
+  it("asks for nice -10 for the simulation thread by default (what counts without real time); 0 leaves it alone", () => {
+    expect(loadConfig(good).jogSimNice).toBe(-10);
+    expect(loadConfig({ ...good, JOG_SIM_NICE: "0" }).jogSimNice).toBe(0);
   });
 });
 

@@ -129,6 +129,13 @@ const envSchema = z.object({
    * 0 runs it under normal scheduling at nice -10. Needs CAP_SYS_NICE (root); without it, normal scheduling.
    */
   JOG_SIM_RT_PRIORITY: count(0, 99).default(5),
+  /** The simulation thread's nice value, -20 to 19, default -10 (what counts without real time); 0 leaves it alone. */
+  JOG_SIM_NICE: z.coerce
+    .number({ error: "must be a whole number" })
+    .int("must be a whole number")
+    .min(-20, "must be -20 to 19")
+    .max(19, "must be -20 to 19")
+    .default(-10),
   /** Worker threads for the tuning bench's offline runs and maps (default: one per core). */
   TRIAL_POOL_THREADS: count(1, 64).optional(),
   /**
@@ -178,6 +185,8 @@ export type Config = {
   serverAutogroupNice: number;
   /** Live jogging: the simulation thread's SCHED_RR priority (0: normal scheduling). */
   jogSimRealtimePriority: number;
+  /** Live jogging: the simulation thread's nice value (0: leave it alone). */
+  jogSimNice: number;
   /** Live jogging: caps on live sessions and the rate of `start` messages (issue 11, item 8). */
   jogLimits: JogLimits;
   /** How long recordings are kept (issue 11, item 8). */
@@ -239,6 +248,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     jogFrameRateHz: v.JOG_FRAME_RATE_HZ,
     serverAutogroupNice: v.SERVER_AUTOGROUP_NICE,
     jogSimRealtimePriority: v.JOG_SIM_RT_PRIORITY,
+    jogSimNice: v.JOG_SIM_NICE,
     trialPoolThreads: v.TRIAL_POOL_THREADS ?? null,
     redis: v.REDIS_URL ? { url: v.REDIS_URL, trialQueueConcurrency: v.TRIAL_QUEUE_CONCURRENCY ?? null } : null,
     jogLimits: {

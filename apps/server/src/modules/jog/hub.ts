@@ -358,6 +358,7 @@ export class JogHub {
     this.retention.start();
     this.thread = new SimulationThread((msg) => this.onWorkerMessage(msg), (error) => this.onWorkerFailure(error), {
       realtimePriority: ctx.config.jogSimRealtimePriority,
+      nice: ctx.config.jogSimNice,
     });
     this.priority = AutogroupPriority.open(ctx.config.serverAutogroupNice);
     this.stations = new StationLatches(sqlStationLatchStore(ctx.db));

@@ -76,8 +76,10 @@ export interface SimThreadStats {
 
 /** What the simulation thread is started with (besides its ports). */
 export interface SimThreadOptions {
-  /** SCHED_RR priority to ask for (1–99); 0: none (sim-worker.ts "Real-time scheduling"). */
+  /** SCHED_RR priority to ask for (1–99); 0: none (realtime.ts). */
   realtimePriority: number;
+  /** The thread's nice value (−20 to 19); 0: leave it alone. Counts when real time is refused or given up. */
+  nice: number;
 }
 
 export type FromWorker =

@@ -24,17 +24,16 @@ const SLICE_MS = 200;
 /** Longest sleep when nothing is scheduled (ms); a doorbell wakes it sooner. */
 const IDLE_WAIT_MS = 100;
 
-/**
- * The nice value this thread asks for. On Linux nice is per thread (setpriority(2) with 0 applies to the
- * calling thread), so only the tick loop is favoured over the main thread and other processes; without the
- * privilege (CAP_SYS_NICE) the request fails and the thread runs at normal priority (both measured in
- * DEVELOPERS.md "Live jogging"). JOG_SIM_NICE overrides it (0: leave the priority alone).
- */
-const SIMULATION_NICE = -10;
+const { inbox, signals: signalBuffer, options } = workerData as { inbox: MessagePort; signals: SharedArrayBuffer; options: SimThreadOptions };
 
-function raisePriority(): number | null {
-  const nice = process.env.JOG_SIM_NICE ? Number(process.env.JOG_SIM_NICE) : SIMULATION_NICE;
-  if (!Number.isInteger(nice) || nice === 0) return null;
+/**
+ * The nice value this thread asks for (JOG_SIM_NICE, default −10; 0: leave it alone). On Linux nice is per
+ * thread (setpriority(2) with 0 applies to the calling thread), so only the tick loop is favoured over the
+ * main thread and other processes; without the privilege (CAP_SYS_NICE) the request fails and the thread
+ * runs at normal priority (both measured in DEVELOPERS.md "Live jogging").
+ */
+function raisePriority(nice: number): number | null {
+  if (nice === 0) return null;
   try {
     setPriority(0, nice);
     return getPriority(0);
@@ -42,9 +41,7 @@ function raisePriority(): number | null {
     return null;
   }
 }
-const niceInEffect = raisePriority();
-
-const { inbox, signals: signalBuffer, options } = workerData as { inbox: MessagePort; signals: SharedArrayBuffer; options: SimThreadOptions };
+const niceInEffect = raisePriority(options.nice);
 // SCHED_RR for this thread where permitted (realtime.ts); nice −10 above stays for when it is refused or given up.
 const realtime = new RealtimeScheduling(options.realtimePriority);
 realtime.start();
