@@ -21,6 +21,14 @@ const count = (min: number, max: number) =>
     .min(min, `must be ${min}-${max}`)
     .max(max, `must be ${min}-${max}`);
 
+/** A nice value (setpriority(2)): a whole number from -20 to `max`, with the range in the message. */
+const niceValue = (max: number) =>
+  z.coerce
+    .number({ error: "must be a whole number" })
+    .int("must be a whole number")
+    .min(-20, `must be -20 to ${max}`)
+    .max(max, `must be -20 to ${max}`);
+
 /**
  * A service's URL: it parses (else the message shows `shape`, the form expected), its scheme is one of
  * `schemes` (`schemeList` in the message), and `missing` names nothing it lacks (a host, a database).
@@ -118,24 +126,14 @@ const envSchema = z.object({
    * The nice value of the server's autogroup while it simulates live sessions (modules/jog/autogroup.ts):
    * -20 to 0, default -10; 0 leaves the priority alone. Applies only where the server leads its own session.
    */
-  SERVER_AUTOGROUP_NICE: z.coerce
-    .number({ error: "must be a whole number" })
-    .int("must be a whole number")
-    .min(-20, "must be -20 to 0")
-    .max(0, "must be -20 to 0")
-    .default(-10),
+  SERVER_AUTOGROUP_NICE: niceValue(0).default(-10),
   /**
    * The SCHED_RR priority of the simulation thread's tick loop (modules/jog/sim-worker.ts): 1-99, default 5;
    * 0 runs it under normal scheduling at nice -10. Needs CAP_SYS_NICE (root); without it, normal scheduling.
    */
   JOG_SIM_RT_PRIORITY: count(0, 99).default(5),
   /** The simulation thread's nice value, -20 to 19, default -10 (what counts without real time); 0 leaves it alone. */
-  JOG_SIM_NICE: z.coerce
-    .number({ error: "must be a whole number" })
-    .int("must be a whole number")
-    .min(-20, "must be -20 to 19")
-    .max(19, "must be -20 to 19")
-    .default(-10),
+  JOG_SIM_NICE: niceValue(19).default(-10),
   /** Worker threads for the tuning bench's offline runs and maps (default: one per core). */
   TRIAL_POOL_THREADS: count(1, 64).optional(),
   /**
