@@ -77,8 +77,8 @@ process.on("message", async (msg: { type: string }) => {
       realtimePriority: sim?.realtimePriority ?? null,
       realtimeNote: sim?.realtimeNote ?? null,
       // Read while the sessions run: the server's group is favoured only then.
-      autogroup: hub.priority.describe(),
-      autogroupNice: hub.priority.currentNice(),
+      autogroup: hub.autogroup.describe(),
+      autogroupNice: hub.autogroup.currentNice(),
       loopDelayP99Ms: loopDelay.percentile(99) / 1e6,
       loopDelayMaxMs: loopDelay.max / 1e6,
       cpuPercent: ((cpu.user + cpu.system) / 1000 / wallMs) * 100,

@@ -85,7 +85,7 @@ async function main(): Promise<void> {
     const takes = config.redis!.trialQueueConcurrency;
     console.log(`  Scaled out through Redis as instance ${ctx.scale.instanceId}; bench runs: ${takes === 0 ? "takes none (submits only)" : `takes up to ${takes ?? "one per pool thread"} at once`}.`);
   }
-  console.log(`  Scheduling: ${jogSockets.hub.priority.describe()}.`);
+  console.log(`  Scheduling: ${jogSockets.hub.autogroup.describe()}.`);
   if (fakeSmtp) console.log(`  Mail is caught by the local fake SMTP server on port ${fakeSmtp.port} (files in ${config.mail.dir}).`);
   console.log("  Simulation only: Jogwright never commands real hardware. Press Ctrl-C to stop.\n");
 

@@ -116,8 +116,9 @@ function ReplayTransport({ isPlaying, onPlayToggle, rate, onRateChange, markers,
   markers: readonly ReplayMarker[];
   t0: number;
   tEnd: number;
-  /** The frame shown, and the last frame's index. */
+  /** The index of the frame shown. */
   index: number;
+  /** The index of the recording's last frame (the timeline's end). */
   lastIndex: number;
   /** The shown frame's time (s, on the recording's clock). */
   t: number;

@@ -331,7 +331,7 @@ export class JogHub {
   /** The emergency-stop latch of every operator station (authoritative here; stored and audited after). */
   readonly stations: StationLatches;
   /** The server's autogroup priority, favoured while the simulation thread runs any session (autogroup.ts). */
-  readonly priority: AutogroupPriority;
+  readonly autogroup: AutogroupPriority;
   /** Live sessions by id (ended ones leave at once). */
   readonly sessions = new Map<string, LiveJogSession>();
   /** Sessions the simulation thread knows, by key, until their end is finished. */
@@ -360,7 +360,7 @@ export class JogHub {
       realtimePriority: ctx.config.jogSimRealtimePriority,
       nice: ctx.config.jogSimNice,
     });
-    this.priority = AutogroupPriority.open(ctx.config.serverAutogroupNice);
+    this.autogroup = AutogroupPriority.open(ctx.config.serverAutogroupNice);
     this.stations = new StationLatches(sqlStationLatchStore(ctx.db));
     void this.stations.ready();
   }
@@ -502,7 +502,7 @@ export class JogHub {
     }
     this.sessions.set(session.id, session);
     this.byKey.set(key, session);
-    this.priority.setFavoured(true);
+    this.autogroup.setFavoured(true);
     if (this.thread.generation !== generation || !this.thread.isRunning) {
       // The simulation thread failed while the recording row was written: it never knew this session.
       void session.end("simulation-failed");
@@ -555,7 +555,7 @@ export class JogHub {
   forget(session: LiveJogSession): void {
     this.byKey.delete(session.key);
     this.sessions.delete(session.id);
-    this.priority.setFavoured(this.byKey.size > 0);
+    this.autogroup.setFavoured(this.byKey.size > 0);
   }
 
   private onWorkerMessage(msg: FromWorker): void {

@@ -53,7 +53,7 @@ export class SimulationThread {
   constructor(
     private readonly onMessage: (msg: FromWorker) => void,
     private readonly onFailure: (error: Error) => void,
-    private readonly options: SimThreadOptions = { realtimePriority: 0, nice: 0 },
+    private readonly options: SimThreadOptions,
   ) {}
 
   get isRunning(): boolean {
